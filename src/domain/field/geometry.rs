@@ -1,0 +1,80 @@
+//! Conductor geometry in structure-of-arrays form, ready for the hot loop.
+//!
+//! Every conductor is a polyline of thin straight filaments. The kernel walks
+//! each polyline vertex by vertex, so the vertices of all conductors are kept in
+//! three flat coordinate arrays with an offset table, and the per-segment
+//! squared lengths are precomputed once (they serve the inside-conductor test).
+
+use nalgebra::Point3;
+
+/// One conductor as the field engine sees it: a polyline in metres and the
+/// radius in metres used to flag points that lie inside the conductor.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Filament {
+    /// Vertices in order of current flow (first to last), in metres.
+    pub path: Vec<Point3<f64>>,
+    /// Conductor radius in metres; points closer than this to any segment are
+    /// flagged instead of being computed with the thin-wire formula.
+    pub radius_m: f64,
+}
+
+/// Structure-of-arrays view of many polylines.
+///
+/// Invariant: `starts` has one entry per conductor plus a final sentinel, and
+/// each conductor holds at least one vertex (callers validate ≥ 2).
+#[derive(Debug, Clone, Default)]
+pub struct Filaments {
+    pub(crate) vx: Vec<f64>,
+    pub(crate) vy: Vec<f64>,
+    pub(crate) vz: Vec<f64>,
+    /// `seg_len2[j]` is |v_j − v_{j−1}|² for the segment ending at vertex j;
+    /// the entry of a conductor's first vertex is unused (0).
+    pub(crate) seg_len2: Vec<f64>,
+    pub(crate) starts: Vec<usize>,
+    pub(crate) radius2: Vec<f64>,
+}
+
+impl Filaments {
+    /// Lays out the given polylines. Polylines with fewer than two vertices
+    /// contribute no segment (and therefore no field).
+    pub fn new(filaments: &[Filament]) -> Self {
+        let vertex_count: usize = filaments.iter().map(|f| f.path.len()).sum();
+        let mut out = Filaments {
+            vx: Vec::with_capacity(vertex_count),
+            vy: Vec::with_capacity(vertex_count),
+            vz: Vec::with_capacity(vertex_count),
+            seg_len2: Vec::with_capacity(vertex_count),
+            starts: Vec::with_capacity(filaments.len() + 1),
+            radius2: Vec::with_capacity(filaments.len()),
+        };
+        for f in filaments {
+            out.starts.push(out.vx.len());
+            out.radius2.push(f.radius_m * f.radius_m);
+            for (j, v) in f.path.iter().enumerate() {
+                let len2 = if j == 0 { 0.0 } else { (v - f.path[j - 1]).norm_squared() };
+                out.vx.push(v.x);
+                out.vy.push(v.y);
+                out.vz.push(v.z);
+                out.seg_len2.push(len2);
+            }
+        }
+        out.starts.push(out.vx.len());
+        out
+    }
+
+    /// Number of conductors (polylines).
+    pub fn conductor_count(&self) -> usize {
+        self.radius2.len()
+    }
+
+    /// Number of straight segments over all conductors.
+    pub fn segment_count(&self) -> usize {
+        (0..self.conductor_count())
+            .map(|k| self.vertex_range(k).len().saturating_sub(1))
+            .sum()
+    }
+
+    pub(crate) fn vertex_range(&self, k: usize) -> std::ops::Range<usize> {
+        self.starts[k]..self.starts[k + 1]
+    }
+}

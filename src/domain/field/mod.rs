@@ -1,0 +1,216 @@
+//! Phasor Biot–Savart field engine for thin straight filaments.
+//!
+//! Geometry and current are separated by linearity: the field of conductor k
+//! at a point is `G_k(p) · I_k`, with `G_k` a real 3-vector (µT per A RMS) and
+//! `I_k` a complex RMS phasor. [`influence_matrix`] computes and keeps every
+//! `G_k(p)` so load cases, phase arrangements and survey fits reuse the
+//! geometry; [`evaluate`] streams the same kernel straight into phasors
+//! without storing `G`, which is what a large map needs.
+
+mod geometry;
+mod kernel;
+mod phasor;
+
+pub use geometry::{Filament, Filaments};
+pub use kernel::{MU0_OVER_4PI_UT_M_PER_A, kernel_variant};
+pub use phasor::{FieldPhasor, maximum_ut, resultant_ut, total_maximum_ut, total_resultant_ut};
+
+use kernel::{CHUNK, ChunkPoints, UnitField};
+use nalgebra::{Point3, Vector3};
+use num_complex::Complex64;
+use rayon::prelude::*;
+
+/// One spectral line of the excitation: the RMS current phasor of every
+/// conductor at one frequency.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SpectralLine {
+    /// Harmonic order (1 = fundamental).
+    pub order: u32,
+    pub frequency_hz: f64,
+    /// RMS phasor per conductor, in the order of the [`Filaments`], A.
+    pub currents_a: Vec<Complex64>,
+}
+
+/// Currents of all conductors at every frequency present.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct Excitation {
+    pub lines: Vec<SpectralLine>,
+}
+
+/// A point that lies inside a conductor's radius.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
+pub struct InsideHit {
+    pub point: usize,
+    pub conductor: usize,
+}
+
+/// Field phasors at many points, one per spectral line.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FieldSet {
+    line_count: usize,
+    /// Point-major: `b_ut[i * line_count + f]`.
+    b_ut: Vec<FieldPhasor>,
+    /// Sorted by point, then conductor.
+    pub inside: Vec<InsideHit>,
+}
+
+impl FieldSet {
+    pub fn point_count(&self) -> usize {
+        self.b_ut.len().checked_div(self.line_count).unwrap_or(0)
+    }
+    /// Phasors of point `i`, one per spectral line in excitation order.
+    pub fn at(&self, i: usize) -> &[FieldPhasor] {
+        &self.b_ut[i * self.line_count..(i + 1) * self.line_count]
+    }
+    /// Indices of conductors that point `i` lies inside.
+    pub fn inside_of(&self, i: usize) -> impl Iterator<Item = usize> + '_ {
+        let start = self.inside.partition_point(|h| h.point < i);
+        self.inside[start..].iter().take_while(move |h| h.point == i).map(|h| h.conductor)
+    }
+}
+
+/// Streams the field of every conductor at every point into phasors.
+///
+/// Preconditions: every excitation line has one current per conductor.
+/// Points are processed in chunks across the rayon pool; the inner loop does
+/// not allocate.
+pub fn evaluate(filaments: &Filaments, points: &[Point3<f64>], excitation: &Excitation) -> FieldSet {
+    let lines = &excitation.lines;
+    let nf = lines.len();
+    let kcount = filaments.conductor_count();
+    debug_assert!(lines.iter().all(|l| l.currents_a.len() == kcount));
+    let kernel = kernel::select();
+    let mut b_ut = vec![FieldPhasor::zeros(); points.len() * nf];
+    if nf == 0 {
+        return FieldSet { line_count: 0, b_ut, inside: Vec::new() };
+    }
+    let hits: Vec<Vec<InsideHit>> = points
+        .par_chunks(CHUNK)
+        .zip(b_ut.par_chunks_mut(CHUNK * nf))
+        .enumerate()
+        .map(|(c, (pts, out))| {
+            let chunk = ChunkPoints::load(pts);
+            let mut g = UnitField::default();
+            let mut hits = Vec::new();
+            for k in 0..kcount {
+                // SAFETY: `select` returned a variant this CPU supports.
+                unsafe { kernel(filaments, k, &chunk, &mut g) };
+                for (f, line) in lines.iter().enumerate() {
+                    let cur = line.currents_a[k];
+                    if cur == Complex64::new(0.0, 0.0) {
+                        continue;
+                    }
+                    for i in 0..pts.len() {
+                        let b = &mut out[i * nf + f];
+                        b.x += cur * g.gx[i];
+                        b.y += cur * g.gy[i];
+                        b.z += cur * g.gz[i];
+                    }
+                }
+                collect_hits(&g, c, pts.len(), k, &mut hits);
+            }
+            hits.sort_unstable();
+            hits
+        })
+        .collect();
+    let inside: Vec<InsideHit> = hits.into_iter().flatten().collect();
+    // A point inside a conductor has no meaningful thin-wire field.
+    for h in &inside {
+        for b in &mut b_ut[h.point * nf..(h.point + 1) * nf] {
+            *b = FieldPhasor::zeros();
+        }
+    }
+    FieldSet { line_count: nf, b_ut, inside }
+}
+
+fn collect_hits(g: &UnitField, chunk: usize, n: usize, k: usize, hits: &mut Vec<InsideHit>) {
+    for i in 0..n {
+        if g.inside[i] != 0 {
+            hits.push(InsideHit { point: chunk * CHUNK + i, conductor: k });
+        }
+    }
+}
+
+/// Real influence coefficients: `G_k(p)` in µT per A RMS for every point and
+/// conductor, so that `B(p) = Σ_k G_k(p) · I_k` for any set of phasors.
+#[derive(Debug, Clone, PartialEq)]
+pub struct InfluenceMatrix {
+    conductor_count: usize,
+    /// Point-major: `g[i * conductor_count + k]`.
+    g: Vec<Vector3<f64>>,
+    pub inside: Vec<InsideHit>,
+}
+
+impl InfluenceMatrix {
+    pub fn conductor_count(&self) -> usize {
+        self.conductor_count
+    }
+    pub fn point_count(&self) -> usize {
+        self.g.len().checked_div(self.conductor_count).unwrap_or(0)
+    }
+    /// `G_k(p_i)` in µT per A.
+    pub fn coefficient(&self, point: usize, conductor: usize) -> Vector3<f64> {
+        self.g[point * self.conductor_count + conductor]
+    }
+    /// Field phasor at point `i` for the given conductor currents (A RMS).
+    pub fn apply(&self, point: usize, currents_a: &[Complex64]) -> FieldPhasor {
+        let row = &self.g[point * self.conductor_count..(point + 1) * self.conductor_count];
+        row.iter().zip(currents_a).fold(FieldPhasor::zeros(), |acc, (g, i)| acc + g.map(|x| *i * x))
+    }
+    /// True if point `i` lies inside any conductor.
+    pub fn is_inside(&self, point: usize) -> bool {
+        let s = self.inside.partition_point(|h| h.point < point);
+        self.inside.get(s).is_some_and(|h| h.point == point)
+    }
+}
+
+/// Computes the influence matrix (3 reals per point per conductor).
+pub fn influence_matrix(filaments: &Filaments, points: &[Point3<f64>]) -> InfluenceMatrix {
+    let kcount = filaments.conductor_count();
+    let kernel = kernel::select();
+    let mut g = vec![Vector3::zeros(); points.len() * kcount];
+    if kcount == 0 {
+        return InfluenceMatrix { conductor_count: 0, g, inside: Vec::new() };
+    }
+    let hits: Vec<Vec<InsideHit>> = points
+        .par_chunks(CHUNK)
+        .zip(g.par_chunks_mut(CHUNK * kcount))
+        .enumerate()
+        .map(|(c, (pts, out))| {
+            let chunk = ChunkPoints::load(pts);
+            let mut u = UnitField::default();
+            let mut hits = Vec::new();
+            for k in 0..kcount {
+                // SAFETY: `select` returned a variant this CPU supports.
+                unsafe { kernel(filaments, k, &chunk, &mut u) };
+                for i in 0..pts.len() {
+                    out[i * kcount + k] = Vector3::new(u.gx[i], u.gy[i], u.gz[i]);
+                }
+                collect_hits(&u, c, pts.len(), k, &mut hits);
+            }
+            hits.sort_unstable();
+            hits
+        })
+        .collect();
+    let inside: Vec<InsideHit> = hits.into_iter().flatten().collect();
+    for h in &inside {
+        for v in &mut g[h.point * kcount..(h.point + 1) * kcount] {
+            *v = Vector3::zeros();
+        }
+    }
+    InfluenceMatrix { conductor_count: kcount, g, inside }
+}
+
+/// Field of one straight segment at one point for a unit current (µT per A),
+/// scalar reference form of the kernel: `None` if the point lies on the
+/// filament itself (inside any conductor), never NaN for finite input.
+pub fn segment_unit_field(p1: &Point3<f64>, p2: &Point3<f64>, p: &Point3<f64>) -> Option<Vector3<f64>> {
+    let f = Filaments::new(&[Filament { path: vec![*p1, *p2], radius_m: 0.0 }]);
+    let chunk = ChunkPoints::load(std::slice::from_ref(p));
+    let mut u = UnitField::default();
+    // SAFETY: the baseline variant runs on every CPU.
+    unsafe { kernel::unit_field_baseline(&f, 0, &chunk, &mut u) };
+    let v = Vector3::new(u.gx[0], u.gy[0], u.gz[0]);
+    let on_filament = (p - p1).cross(&(p - p2)).norm_squared() == 0.0 && (p - p1).dot(&(p - p2)) <= 0.0;
+    (!on_filament).then_some(v)
+}

@@ -1,0 +1,8 @@
+//! The pure core: no I/O, no async, no framework. It depends on nalgebra,
+//! num-complex, serde, serde_json, thiserror and rayon only (checked by
+//! `tests/layering.rs`).
+
+pub mod cautions;
+pub mod evaluate;
+pub mod field;
+pub mod site;

@@ -1,0 +1,25 @@
+//! The site model: JSON wire types, the checked model, validation with RFC
+//! 6901 pointers, and the phase-current conventions.
+
+mod currents;
+mod model;
+mod parse;
+mod problem;
+mod validate;
+pub mod wire;
+
+pub(crate) use currents::excitation_of;
+pub use model::*;
+pub use parse::parse_json;
+pub use problem::{Pointer, Problem, Problems};
+pub(crate) use validate::{check_circuits, check_conductors, check_coordinate, check_frequency};
+pub use validate::{
+    COORDINATE_LIMIT_M, CURRENT_LIMIT_A, FREQUENCY_RANGE_HZ, HARMONIC_ORDERS, MAX_VERTICES, MIN_SEGMENT_M,
+    RADIUS_RANGE_M, validate_site,
+};
+
+/// Parses and validates a site document in one step.
+pub fn parse_site(text: &str) -> Result<Site, Problems> {
+    let doc: wire::SiteDoc = parse_json(text)?;
+    validate_site(&doc)
+}

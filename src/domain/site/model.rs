@@ -1,0 +1,95 @@
+//! The checked site model. A [`Site`] can only be made by
+//! [`super::validate_site`], so code holding one may rely on every rule there.
+
+use super::wire::{BodyRegion, CircuitKind, Group, Phase, Sequence};
+use nalgebra::{Point2, Point3};
+use num_complex::Complex64;
+
+/// A validated site.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Site {
+    pub name: Option<String>,
+    pub frequency_hz: f64,
+    pub circuits: Vec<Circuit>,
+    pub conductors: Vec<Conductor>,
+    pub positions: Vec<Position>,
+    pub areas: Vec<Area>,
+    pub(super) _checked: (),
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Circuit {
+    pub id: String,
+    pub kind: CircuitKind,
+    /// Present RMS current per phase, A.
+    pub current_a: f64,
+    pub rated_current_a: Option<f64>,
+    pub sequence: Sequence,
+    pub angle_deg: f64,
+    /// Overrides for phases A, B, C (index 0, 1, 2).
+    pub overrides: [PhaseOverride; 3],
+    /// Sorted by order, orders unique.
+    pub harmonics: Vec<Harmonic>,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct PhaseOverride {
+    pub current_a: Option<f64>,
+    pub angle_deg: Option<f64>,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Harmonic {
+    pub order: u32,
+    pub percent: f64,
+    pub angle_deg: f64,
+}
+
+/// Where a conductor's current comes from.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Drive {
+    /// `share` of phase `phase` of circuit number `circuit` (index into
+    /// [`Site::circuits`]).
+    Phase { circuit: usize, phase: Phase, share: f64 },
+    /// A fixed fundamental-frequency RMS phasor, A.
+    Explicit { current_a: Complex64 },
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Conductor {
+    pub id: String,
+    pub path: Vec<Point3<f64>>,
+    pub radius_m: f64,
+    pub drive: Drive,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub enum Placement {
+    /// A standing point on the ground (z = 0), evaluated at body heights.
+    Standing { x_m: f64, y_m: f64, heights_m: Vec<f64> },
+    /// A single point used as given.
+    Point(Point3<f64>),
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Position {
+    pub id: String,
+    pub placement: Placement,
+    pub body_region: BodyRegion,
+    pub occupancy_h: Option<f64>,
+    pub group: Group,
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct Area {
+    pub id: String,
+    /// Simple polygon (no self-intersection), in metres.
+    pub polygon: Vec<Point2<f64>>,
+    pub height_m: f64,
+    pub spacing_m: f64,
+    pub occupancy_h: Option<f64>,
+}
+
+/// Default body heights above a standing point, m: the 0.5 / 1.0 / 1.5 m set
+/// of IEC 62110 practice (REFERENCES.md, from memory).
+pub const DEFAULT_HEIGHTS_M: [f64; 3] = [0.5, 1.0, 1.5];

@@ -1,0 +1,5 @@
+//! The `fluxbound` binary: everything lives in the library; see `cli.rs`.
+
+fn main() -> std::process::ExitCode {
+    fluxbound::cli::main()
+}
