@@ -82,32 +82,72 @@ impl Default for UnitField {
 /// Signature shared by the compiled variants.
 pub(crate) type KernelFn = unsafe fn(&Filaments, usize, &ChunkPoints, &mut UnitField);
 
-/// Picks the widest variant this CPU runs. Called once per evaluation.
-pub(crate) fn select() -> KernelFn {
-    #[cfg(target_arch = "x86_64")]
-    {
-        if std::arch::is_x86_feature_detected!("avx512f") {
-            return unit_field_avx512;
-        }
-        if std::arch::is_x86_feature_detected!("avx2") {
-            return unit_field_avx2;
-        }
-    }
-    unit_field_baseline
+/// A compiled variant of the kernel. All variants give bit-identical
+/// results; they differ only in vector width.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Variant {
+    /// Baseline x86-64 (SSE2) or the target's default.
+    Baseline,
+    /// 256-bit AVX2.
+    Avx2,
+    /// 512-bit AVX-512F.
+    Avx512,
 }
 
-/// Name of the variant [`select`] picks, for logs and benchmark reports.
-pub fn kernel_variant() -> &'static str {
-    #[cfg(target_arch = "x86_64")]
-    {
-        if std::arch::is_x86_feature_detected!("avx512f") {
-            return "avx512";
+impl Variant {
+    /// The widest variant the running CPU supports.
+    pub fn detect() -> Variant {
+        #[cfg(target_arch = "x86_64")]
+        {
+            if std::arch::is_x86_feature_detected!("avx512f") {
+                return Variant::Avx512;
+            }
+            if std::arch::is_x86_feature_detected!("avx2") {
+                return Variant::Avx2;
+            }
         }
-        if std::arch::is_x86_feature_detected!("avx2") {
-            return "avx2";
+        Variant::Baseline
+    }
+
+    /// Every variant the running CPU can execute, narrowest first.
+    pub fn available() -> Vec<Variant> {
+        [Variant::Baseline, Variant::Avx2, Variant::Avx512].into_iter().filter(|v| v.is_supported()).collect()
+    }
+
+    pub fn is_supported(self) -> bool {
+        match self {
+            Variant::Baseline => true,
+            #[cfg(target_arch = "x86_64")]
+            Variant::Avx2 => std::arch::is_x86_feature_detected!("avx2"),
+            #[cfg(target_arch = "x86_64")]
+            Variant::Avx512 => std::arch::is_x86_feature_detected!("avx512f"),
+            #[cfg(not(target_arch = "x86_64"))]
+            _ => false,
         }
     }
-    "baseline"
+
+    pub fn name(self) -> &'static str {
+        match self {
+            Variant::Baseline => "baseline",
+            Variant::Avx2 => "avx2",
+            Variant::Avx512 => "avx512",
+        }
+    }
+
+    /// The function for this variant, falling back to the baseline when the
+    /// CPU lacks the features (so an unsupported choice is never executed).
+    pub(crate) fn kernel(self) -> KernelFn {
+        if !self.is_supported() {
+            return unit_field_baseline;
+        }
+        match self {
+            #[cfg(target_arch = "x86_64")]
+            Variant::Avx512 => unit_field_avx512,
+            #[cfg(target_arch = "x86_64")]
+            Variant::Avx2 => unit_field_avx2,
+            _ => unit_field_baseline,
+        }
+    }
 }
 
 /// Baseline variant; safe on every CPU of the target.

@@ -12,7 +12,7 @@ mod kernel;
 mod phasor;
 
 pub use geometry::{Filament, Filaments};
-pub use kernel::{MU0_OVER_4PI_UT_M_PER_A, kernel_variant};
+pub use kernel::{MU0_OVER_4PI_UT_M_PER_A, Variant};
 pub use phasor::{FieldPhasor, maximum_ut, resultant_ut, total_maximum_ut, total_resultant_ut};
 
 use kernel::{CHUNK, ChunkPoints, UnitField};
@@ -75,11 +75,22 @@ impl FieldSet {
 /// Points are processed in chunks across the rayon pool; the inner loop does
 /// not allocate.
 pub fn evaluate(filaments: &Filaments, points: &[Point3<f64>], excitation: &Excitation) -> FieldSet {
+    evaluate_using(Variant::detect(), filaments, points, excitation)
+}
+
+/// [`evaluate`] with a chosen kernel variant (benchmarks and the test that
+/// all variants agree bit for bit). An unsupported variant runs the baseline.
+pub fn evaluate_using(
+    variant: Variant,
+    filaments: &Filaments,
+    points: &[Point3<f64>],
+    excitation: &Excitation,
+) -> FieldSet {
     let lines = &excitation.lines;
     let nf = lines.len();
     let kcount = filaments.conductor_count();
     debug_assert!(lines.iter().all(|l| l.currents_a.len() == kcount));
-    let kernel = kernel::select();
+    let kernel = variant.kernel();
     let mut b_ut = vec![FieldPhasor::zeros(); points.len() * nf];
     if nf == 0 {
         return FieldSet { line_count: 0, b_ut, inside: Vec::new() };
@@ -93,7 +104,7 @@ pub fn evaluate(filaments: &Filaments, points: &[Point3<f64>], excitation: &Exci
             let mut g = UnitField::default();
             let mut hits = Vec::new();
             for k in 0..kcount {
-                // SAFETY: `select` returned a variant this CPU supports.
+                // SAFETY: `Variant::kernel` only returns variants this CPU supports.
                 unsafe { kernel(filaments, k, &chunk, &mut g) };
                 for (f, line) in lines.iter().enumerate() {
                     let cur = line.currents_a[k];
@@ -167,7 +178,7 @@ impl InfluenceMatrix {
 /// Computes the influence matrix (3 reals per point per conductor).
 pub fn influence_matrix(filaments: &Filaments, points: &[Point3<f64>]) -> InfluenceMatrix {
     let kcount = filaments.conductor_count();
-    let kernel = kernel::select();
+    let kernel = Variant::detect().kernel();
     let mut g = vec![Vector3::zeros(); points.len() * kcount];
     if kcount == 0 {
         return InfluenceMatrix { conductor_count: 0, g, inside: Vec::new() };
@@ -181,7 +192,7 @@ pub fn influence_matrix(filaments: &Filaments, points: &[Point3<f64>]) -> Influe
             let mut u = UnitField::default();
             let mut hits = Vec::new();
             for k in 0..kcount {
-                // SAFETY: `select` returned a variant this CPU supports.
+                // SAFETY: `Variant::kernel` only returns variants this CPU supports.
                 unsafe { kernel(filaments, k, &chunk, &mut u) };
                 for i in 0..pts.len() {
                     out[i * kcount + k] = Vector3::new(u.gx[i], u.gy[i], u.gz[i]);
