@@ -29,9 +29,7 @@ fn layout(conductors: usize, segments_each: usize) -> (Filaments, Excitation) {
             radius_m: 0.01,
         })
         .collect();
-    let currents_a = (0..conductors)
-        .map(|k| Complex64::from_polar(400.0, (-120.0 * k as f64).to_radians()))
-        .collect();
+    let currents_a = (0..conductors).map(|k| Complex64::from_polar(400.0, (-120.0 * k as f64).to_radians())).collect();
     let exc = Excitation { lines: vec![SpectralLine { order: 1, frequency_hz: 50.0, currents_a }] };
     (Filaments::new(&fil), exc)
 }
@@ -39,7 +37,15 @@ fn layout(conductors: usize, segments_each: usize) -> (Filaments, Excitation) {
 /// A square grid of `n` points at 1 m height under the run.
 fn grid(n: usize) -> Vec<Point3<f64>> {
     let side = (n as f64).sqrt().ceil() as usize;
-    (0..n).map(|i| Point3::new(-5.0 + 50.0 * (i % side) as f64 / side as f64, -10.0 + 20.0 * (i / side) as f64 / side as f64, 1.0)).collect()
+    (0..n)
+        .map(|i| {
+            Point3::new(
+                -5.0 + 50.0 * (i % side) as f64 / side as f64,
+                -10.0 + 20.0 * (i / side) as f64 / side as f64,
+                1.0,
+            )
+        })
+        .collect()
 }
 
 fn run(bencher: Bencher, conductors: usize, segments_each: usize, points: usize) {

@@ -4,7 +4,7 @@
 //! `POST /v1/evaluate`, so its key names are a published interface.
 
 use crate::domain::cautions::cautions;
-use crate::domain::field::{self, Filament, Filaments, FieldPhasor};
+use crate::domain::field::{self, FieldPhasor, Filament, Filaments};
 use crate::domain::site::wire::{CircuitDoc, ConductorDoc};
 use crate::domain::site::{
     self, Conductor, Pointer, Problems, check_circuits, check_conductors, check_coordinate, check_frequency,
@@ -162,7 +162,12 @@ pub fn evaluate(ev: &Evaluation) -> EvaluateResponse {
             }
         })
         .collect();
-    EvaluateResponse { frequency_hz: ev.frequency_hz, points, segment_point_pairs: ev.pair_count(), cautions: cautions() }
+    EvaluateResponse {
+        frequency_hz: ev.frequency_hz,
+        points,
+        segment_point_pairs: ev.pair_count(),
+        cautions: cautions(),
+    }
 }
 
 /// Parses, checks and computes a request document.

@@ -149,10 +149,7 @@ fn a_helix_of_three_hundred_turns_gives_the_solenoid_field_at_its_centre() {
 #[test]
 fn an_antiparallel_pair_follows_the_exact_two_wire_form_everywhere() {
     let (l, i, d) = (2.0e4, 100.0, 1.0);
-    let pair = [
-        wire(&[[-0.5, 0.0, -l], [-0.5, 0.0, l]], i, 0.0),
-        wire(&[[0.5, 0.0, l], [0.5, 0.0, -l]], i, 0.0),
-    ];
+    let pair = [wire(&[[-0.5, 0.0, -l], [-0.5, 0.0, l]], i, 0.0), wire(&[[0.5, 0.0, l], [0.5, 0.0, -l]], i, 0.0)];
     for (x, y) in [(0.0, 0.0), (0.0, 1.0), (2.0, 0.3), (-3.0, -4.0), (10.0, 10.0), (0.2, -0.1)] {
         let (r1, r2) = (((x + 0.5_f64).powi(2) + y * y).sqrt(), ((x - 0.5_f64).powi(2) + y * y).sqrt());
         let exact = MU0_OVER_2PI_UT * i * d / (r1 * r2);
@@ -262,13 +259,14 @@ fn a_point_on_the_filament_or_at_a_vertex_is_flagged_not_computed() {
     assert_eq!(segment_unit_field(&p1, &p2, &p1), None);
     let w = [wire(&[[0.0, 0.0, 0.0], [1.0, 0.0, 0.0], [1.0, 1.0, 0.0]], 100.0, 0.0)];
     let fil = Filaments::new(&[Filament { path: w[0].path.clone(), radius_m: 0.02 }]);
-    let exc = Excitation { lines: vec![SpectralLine { order: 1, frequency_hz: 50.0, currents_a: vec![w[0].current_a] }] };
+    let exc =
+        Excitation { lines: vec![SpectralLine { order: 1, frequency_hz: 50.0, currents_a: vec![w[0].current_a] }] };
     let points = [
-        Point3::new(0.5, 0.0, 0.0),   // on the filament
-        Point3::new(0.5, 0.019, 0.0), // inside the radius beside a segment
-        Point3::new(1.0, 0.0, 0.0),   // at the corner vertex
+        Point3::new(0.5, 0.0, 0.0),    // on the filament
+        Point3::new(0.5, 0.019, 0.0),  // inside the radius beside a segment
+        Point3::new(1.0, 0.0, 0.0),    // at the corner vertex
         Point3::new(-0.015, 0.0, 0.0), // beyond the end, within the radius of the end
-        Point3::new(0.5, 0.021, 0.0), // just outside
+        Point3::new(0.5, 0.021, 0.0),  // just outside
     ];
     let set = field::evaluate(&fil, &points, &exc);
     let flagged: Vec<bool> = (0..points.len()).map(|i| set.inside_of(i).next().is_some()).collect();
@@ -279,7 +277,9 @@ fn a_point_on_the_filament_or_at_a_vertex_is_flagged_not_computed() {
     // Just outside: both segments by the angle form of Griffiths Example
     // 5.5, B = (µ0 I / 4π s)(sin θ2 − sin θ1); both point along +z here.
     let b = resultant_ut(&set.at(4)[0]);
-    let angle_form = |s: f64, from: f64, to: f64| 0.1 * 100.0 / s * (to / (s * s + to * to).sqrt() - from / (s * s + from * from).sqrt());
+    let angle_form = |s: f64, from: f64, to: f64| {
+        0.1 * 100.0 / s * (to / (s * s + to * to).sqrt() - from / (s * s + from * from).sqrt())
+    };
     let expected = angle_form(0.021, -0.5, 0.5) + angle_form(0.5, -0.021, 1.0 - 0.021);
     assert!(rel(b, expected) < 1e-12, "{b} vs {expected}");
 }

@@ -71,5 +71,8 @@ fn the_engine_agrees_with_magpylib_to_one_part_in_a_billion_on_every_fixture_poi
             count += 1;
         }
     }
-    eprintln!("magpylib conformance ({}): {count} points, worst relative error {worst:.2e} at {worst_at}", fixture.source);
+    eprintln!(
+        "magpylib conformance ({}): {count} points, worst relative error {worst:.2e} at {worst_at}",
+        fixture.source
+    );
 }

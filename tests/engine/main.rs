@@ -26,9 +26,14 @@ pub fn wire(path: &[[f64; 3]], rms_a: f64, phase_deg: f64) -> Wire {
 
 /// Field phasors (µT) of `wires` at `points`, radius 1 mm.
 pub fn field_at(wires: &[Wire], points: &[Point3<f64>]) -> Vec<FieldPhasor> {
-    let fil = Filaments::new(&wires.iter().map(|w| Filament { path: w.path.clone(), radius_m: 1e-3 }).collect::<Vec<_>>());
+    let fil =
+        Filaments::new(&wires.iter().map(|w| Filament { path: w.path.clone(), radius_m: 1e-3 }).collect::<Vec<_>>());
     let exc = Excitation {
-        lines: vec![SpectralLine { order: 1, frequency_hz: 50.0, currents_a: wires.iter().map(|w| w.current_a).collect() }],
+        lines: vec![SpectralLine {
+            order: 1,
+            frequency_hz: 50.0,
+            currents_a: wires.iter().map(|w| w.current_a).collect(),
+        }],
     };
     let set = field::evaluate(&fil, points, &exc);
     (0..points.len()).map(|i| set.at(i)[0]).collect()

@@ -8,7 +8,9 @@ use fluxbound::domain::field::{Variant, evaluate_using};
 #[test]
 fn every_kernel_variant_gives_bit_identical_results() {
     let paths: Vec<Vec<Point3<f64>>> = (0..5)
-        .map(|k| (0..40).map(|j| Point3::new(j as f64 * 0.3, (k as f64 * 0.7 + j as f64).sin(), 0.1 * k as f64)).collect())
+        .map(|k| {
+            (0..40).map(|j| Point3::new(j as f64 * 0.3, (k as f64 * 0.7 + j as f64).sin(), 0.1 * k as f64)).collect()
+        })
         .collect();
     let fil = Filaments::new(&paths.iter().map(|p| Filament { path: p.clone(), radius_m: 0.01 }).collect::<Vec<_>>());
     let currents_a = (0..5).map(|k| Complex64::from_polar(100.0 + k as f64, k as f64)).collect();

@@ -69,9 +69,7 @@ impl Filaments {
 
     /// Number of straight segments over all conductors.
     pub fn segment_count(&self) -> usize {
-        (0..self.conductor_count())
-            .map(|k| self.vertex_range(k).len().saturating_sub(1))
-            .sum()
+        (0..self.conductor_count()).map(|k| self.vertex_range(k).len().saturating_sub(1)).sum()
     }
 
     pub(crate) fn vertex_range(&self, k: usize) -> std::ops::Range<usize> {

@@ -5,6 +5,7 @@ mod currents;
 mod model;
 mod parse;
 mod problem;
+mod strict;
 mod validate;
 pub mod wire;
 
@@ -12,11 +13,11 @@ pub(crate) use currents::excitation_of;
 pub use model::*;
 pub use parse::parse_json;
 pub use problem::{Pointer, Problem, Problems};
-pub(crate) use validate::{check_circuits, check_conductors, check_coordinate, check_frequency};
 pub use validate::{
     COORDINATE_LIMIT_M, CURRENT_LIMIT_A, FREQUENCY_RANGE_HZ, HARMONIC_ORDERS, MAX_VERTICES, MIN_SEGMENT_M,
     RADIUS_RANGE_M, validate_site,
 };
+pub(crate) use validate::{check_circuits, check_conductors, check_coordinate, check_frequency};
 
 /// Parses and validates a site document in one step.
 pub fn parse_site(text: &str) -> Result<Site, Problems> {

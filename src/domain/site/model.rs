@@ -5,8 +5,10 @@ use super::wire::{BodyRegion, CircuitKind, Group, Phase, Sequence};
 use nalgebra::{Point2, Point3};
 use num_complex::Complex64;
 
-/// A validated site.
+/// A validated site. `non_exhaustive` keeps other crates from building one
+/// by hand; inside this crate only `validate_site` does.
 #[derive(Debug, Clone, PartialEq)]
+#[non_exhaustive]
 pub struct Site {
     pub name: Option<String>,
     pub frequency_hz: f64,
@@ -14,7 +16,6 @@ pub struct Site {
     pub conductors: Vec<Conductor>,
     pub positions: Vec<Position>,
     pub areas: Vec<Area>,
-    pub(super) _checked: (),
 }
 
 #[derive(Debug, Clone, PartialEq)]

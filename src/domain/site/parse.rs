@@ -5,13 +5,14 @@
 //! the validator.
 
 use super::problem::{Pointer, Problem, Problems};
+use super::strict::Strict;
 use serde::de::DeserializeOwned;
 
 /// Parses a JSON document into `T`, reporting the first shape error with its
 /// pointer. Trailing content after the document is an error.
 pub fn parse_json<T: DeserializeOwned>(text: &str) -> Result<T, Problems> {
     let mut de = serde_json::Deserializer::from_str(text);
-    let value: T = serde_path_to_error::deserialize(&mut de).map_err(|e| {
+    let value: T = serde_path_to_error::deserialize(Strict(&mut de)).map_err(|e| {
         let pointer = pointer_of(e.path());
         let detail = describe(e.inner());
         Problems(vec![Problem { pointer, detail }])
@@ -43,6 +44,11 @@ fn describe(e: &serde_json::Error) -> String {
         Some(cut) => &text[..cut],
         None => text.as_str(),
     };
-    let msg = msg.replace("number out of range", "number out of range (not a finite 64-bit value)");
-    if e.line() > 0 { format!("{msg} (line {}, column {})", e.line(), e.column()) } else { msg }
+    let mut msg = msg.replace("number out of range", "number out of range (not a finite 64-bit value)");
+    // Name the JSON shape, not the Rust type behind it.
+    if let Some(cut) = msg.find("expected struct ") {
+        msg.truncate(cut);
+        msg.push_str("expected a JSON object");
+    }
+    if e.line() > 0 && e.column() > 0 { format!("{msg} (line {}, column {})", e.line(), e.column()) } else { msg }
 }

@@ -35,10 +35,10 @@ pub const MAX_POLYGON_VERTICES: usize = 1000;
 pub fn validate_site(doc: &SiteDoc) -> Result<Site, Problems> {
     let root = Pointer::root();
     let mut p = Problems::default();
-    if let Some(name) = &doc.name {
-        if name.chars().count() > MAX_NAME_CHARS {
-            p.push(&root.key("name"), format!("name is longer than {MAX_NAME_CHARS} characters"));
-        }
+    if let Some(name) = &doc.name
+        && name.chars().count() > MAX_NAME_CHARS
+    {
+        p.push(&root.key("name"), format!("name is longer than {MAX_NAME_CHARS} characters"));
     }
     check_frequency(doc.frequency_hz, &root.key("frequency_hz"), &mut p);
     let circuits = check_circuits(&doc.circuits, &root.key("circuits"), &mut p);
@@ -52,7 +52,6 @@ pub fn validate_site(doc: &SiteDoc) -> Result<Site, Problems> {
         conductors,
         positions,
         areas,
-        _checked: (),
     })
 }
 
@@ -193,11 +192,12 @@ pub(crate) fn check_conductors(
     p: &mut Problems,
 ) -> Vec<Conductor> {
     check_ids(docs.iter().map(|c| c.id.as_str()), at, "conductor", p);
-    let by_id: HashMap<&str, usize> = circuits.iter().enumerate().map(|(i, c)| (c.id.as_str(), i)).collect();
-    docs.iter()
-        .enumerate()
-        .map(|(i, c)| check_conductor(c, &at.index(i), circuits, &by_id, p))
-        .collect()
+    // The first circuit with an id wins, as in the duplicate-id message.
+    let mut by_id: HashMap<&str, usize> = HashMap::new();
+    for (i, c) in circuits.iter().enumerate() {
+        by_id.entry(c.id.as_str()).or_insert(i);
+    }
+    docs.iter().enumerate().map(|(i, c)| check_conductor(c, &at.index(i), circuits, &by_id, p)).collect()
 }
 
 fn check_conductor(
@@ -233,7 +233,10 @@ fn check_path(path: &[[f64; 3]], at: &Pointer, p: &mut Problems) -> Vec<Point3<f
     for j in 1..pts.len() {
         let len = (pts[j] - pts[j - 1]).norm();
         if len.is_finite() && len < MIN_SEGMENT_M {
-            p.push(&at.index(j), format!("segment {} → {} has zero length (vertex repeats the previous one)", j - 1, j));
+            p.push(
+                &at.index(j),
+                format!("segment {} → {} has zero length (vertex repeats the previous one)", j - 1, j),
+            );
         }
     }
     pts
@@ -297,8 +300,8 @@ fn check_positions(docs: &[PositionDoc], at: &Pointer, p: &mut Problems) -> Vec<
             for (j, x) in d.at.iter().enumerate() {
                 check_coordinate(*x, &pp.key("at").index(j), p);
             }
-            let placement = match d.at.as_slice() {
-                &[x, y] => {
+            let placement = match *d.at.as_slice() {
+                [x, y] => {
                     let heights = d.heights_m.clone().unwrap_or_else(|| DEFAULT_HEIGHTS_M.to_vec());
                     let hp = pp.key("heights_m");
                     if heights.is_empty() {
@@ -311,9 +314,12 @@ fn check_positions(docs: &[PositionDoc], at: &Pointer, p: &mut Problems) -> Vec<
                     }
                     Placement::Standing { x_m: x, y_m: y, heights_m: heights }
                 }
-                &[x, y, z] => {
+                [x, y, z] => {
                     if d.heights_m.is_some() {
-                        p.push(&pp.key("heights_m"), "heights apply to a standing point [x, y]; a 3-D point is used as given");
+                        p.push(
+                            &pp.key("heights_m"),
+                            "heights apply to a standing point [x, y]; a 3-D point is used as given",
+                        );
                     }
                     Placement::Point(Point3::new(x, y, z))
                 }
@@ -376,12 +382,33 @@ fn check_polygon(poly: &[[f64; 2]], at: &Pointer, p: &mut Problems) -> Vec<Point
             a.x * b.y - b.x * a.y
         })
         .sum();
-    if twice_area.abs() < 2.0e-6 {
+    // Collinear vertices first (their edges overlap, which is no "crossing"
+    // a user would recognise), then crossings (a symmetric bow-tie has zero
+    // signed area too), then any remaining zero area.
+    let crossing = first_crossing(&pts);
+    if all_collinear(&pts) {
         p.push(at, "polygon encloses no area (its vertices are collinear or repeated)");
-    } else if let Some((e1, e2)) = first_crossing(&pts) {
+    } else if let Some((e1, e2)) = crossing {
         p.push(at, format!("polygon edges {e1} and {e2} cross: give a simple polygon"));
+    } else if twice_area.abs() < 2.0e-6 {
+        p.push(at, "polygon encloses no area (its vertices are collinear or repeated)");
     }
     pts
+}
+
+/// True if every vertex lies on one line (within 1e-9 m² of twice-area).
+fn all_collinear(pts: &[Point2<f64>]) -> bool {
+    let Some(far) = pts.iter().skip(1).max_by(|a, b| (*a - pts[0]).norm().total_cmp(&(*b - pts[0]).norm())) else {
+        return true;
+    };
+    let d = far - pts[0];
+    if d.norm() == 0.0 {
+        return true;
+    }
+    pts.iter().all(|q| {
+        let v = q - pts[0];
+        (d.x * v.y - d.y * v.x).abs() / d.norm() < 1e-9
+    })
 }
 
 /// First pair of non-adjacent polygon edges that intersect, if any.
@@ -419,5 +446,8 @@ fn segments_intersect((a, b): (Point2<f64>, Point2<f64>), (c, d): (Point2<f64>, 
     if o1 != o2 && o3 != o4 {
         return true;
     }
-    (o1 == 0 && on_seg(a, b, c)) || (o2 == 0 && on_seg(a, b, d)) || (o3 == 0 && on_seg(c, d, a)) || (o4 == 0 && on_seg(c, d, b))
+    (o1 == 0 && on_seg(a, b, c))
+        || (o2 == 0 && on_seg(a, b, d))
+        || (o3 == 0 && on_seg(c, d, a))
+        || (o4 == 0 && on_seg(c, d, b))
 }
