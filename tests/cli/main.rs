@@ -221,20 +221,23 @@ fn evaluating_from_stdin_prints_the_same_as_evaluating_the_file() {
     assert_eq!(stdout_of(&from_stdin), stdout_of(&from_file));
 }
 
+/// 1000 A RMS along the x axis over 100 km; points 1 m away on +y and −z.
+const LONG_CONDUCTOR: &str = r#"{
+    "frequency_hz": 50,
+    "conductors": [
+        {"id": "long", "radius_m": 0.01, "current": {"rms_a": 1000, "phase_deg": 0},
+         "path": [[-50000, 0, 0], [50000, 0, 0]]}
+    ],
+    "points": [[0, 1, 0], [0, 0, -1]]
+}"#;
+
 #[test]
 fn a_long_straight_conductor_gives_mu0_i_over_2_pi_r_at_one_metre() {
     // Source: OpenStax University Physics Vol. 2, §12.2, B = µ0 I / (2π R).
     // 1000 A RMS at 1 m: 2e-7 · 1000 / 1 T = 200 µT RMS (derived).
     // The conductor is 100 km long; the finite-segment correction at its
     // midpoint is 1 - L/√(L² + R²) ≈ 2e-10 for L = 50 km, well inside 1e-6.
-    let doc = r#"{
-        "frequency_hz": 50,
-        "conductors": [
-            {"id": "long", "radius_m": 0.01, "current": {"rms_a": 1000, "phase_deg": 0},
-             "path": [[-50000, 0, 0], [50000, 0, 0]]}
-        ],
-        "points": [[0, 1, 0], [0, 0, -1]]
-    }"#;
+    let doc = LONG_CONDUCTOR;
     let v = evaluate_ok(doc);
     for (i, p) in v["points"].as_array().unwrap().iter().enumerate() {
         let resultant = p["resultant_ut"].as_f64().unwrap();
@@ -249,14 +252,7 @@ fn a_long_straight_conductor_gives_mu0_i_over_2_pi_r_at_one_metre() {
 #[test]
 fn the_field_of_a_straight_conductor_follows_the_right_hand_rule() {
     // Current along +x: at +y the field points along +z; at -z it points along +y.
-    let doc = r#"{
-        "frequency_hz": 50,
-        "conductors": [
-            {"id": "long", "radius_m": 0.01, "current": {"rms_a": 1000, "phase_deg": 0},
-             "path": [[-50000, 0, 0], [50000, 0, 0]]}
-        ],
-        "points": [[0, 1, 0], [0, 0, -1]]
-    }"#;
+    let doc = LONG_CONDUCTOR;
     let v = evaluate_ok(doc);
     let component =
         |p: usize, axis: &str| v["points"][p]["frequencies"][0]["components_ut"][axis]["re"].as_f64().unwrap();

@@ -90,14 +90,50 @@ pub fn evaluate_using(
     let nf = lines.len();
     let kcount = filaments.conductor_count();
     debug_assert!(lines.iter().all(|l| l.currents_a.len() == kcount));
-    let kernel = variant.kernel();
     let mut b_ut = vec![FieldPhasor::zeros(); points.len() * nf];
     if nf == 0 {
         return FieldSet { line_count: 0, b_ut, inside: Vec::new() };
     }
+    let inside = drive(variant, filaments, points, &mut b_ut, nf, |k, g, n, out| {
+        for (f, line) in lines.iter().enumerate() {
+            let cur = line.currents_a[k];
+            if cur == Complex64::new(0.0, 0.0) {
+                continue;
+            }
+            for i in 0..n {
+                let b = &mut out[i * nf + f];
+                b.x += cur * g.gx[i];
+                b.y += cur * g.gy[i];
+                b.z += cur * g.gz[i];
+            }
+        }
+    });
+    FieldSet { line_count: nf, b_ut, inside }
+}
+
+/// Runs the kernel for every conductor over chunks of points across the
+/// rayon pool. `out` holds `width` values per point; `sink(k, unit, n, out)`
+/// folds conductor k's unit-current field into the chunk's slice of `out`.
+/// The values of points inside a conductor are reset to the default (zero)
+/// afterwards: the thin-wire field is meaningless there. Returns the inside
+/// hits sorted by point, then conductor.
+fn drive<T, S>(
+    variant: Variant,
+    filaments: &Filaments,
+    points: &[Point3<f64>],
+    out: &mut [T],
+    width: usize,
+    sink: S,
+) -> Vec<InsideHit>
+where
+    T: Send + Default,
+    S: Fn(usize, &UnitField, usize, &mut [T]) + Sync,
+{
+    let kernel = variant.kernel();
+    let kcount = filaments.conductor_count();
     let hits: Vec<Vec<InsideHit>> = points
         .par_chunks(CHUNK)
-        .zip(b_ut.par_chunks_mut(CHUNK * nf))
+        .zip(out.par_chunks_mut(CHUNK * width))
         .enumerate()
         .map(|(c, (pts, out))| {
             let chunk = ChunkPoints::load(pts);
@@ -106,18 +142,7 @@ pub fn evaluate_using(
             for k in 0..kcount {
                 // SAFETY: `Variant::kernel` only returns variants this CPU supports.
                 unsafe { kernel(filaments, k, &chunk, &mut g) };
-                for (f, line) in lines.iter().enumerate() {
-                    let cur = line.currents_a[k];
-                    if cur == Complex64::new(0.0, 0.0) {
-                        continue;
-                    }
-                    for i in 0..pts.len() {
-                        let b = &mut out[i * nf + f];
-                        b.x += cur * g.gx[i];
-                        b.y += cur * g.gy[i];
-                        b.z += cur * g.gz[i];
-                    }
-                }
+                sink(k, &g, pts.len(), out);
                 collect_hits(&g, c, pts.len(), k, &mut hits);
             }
             hits.sort_unstable();
@@ -125,13 +150,12 @@ pub fn evaluate_using(
         })
         .collect();
     let inside: Vec<InsideHit> = hits.into_iter().flatten().collect();
-    // A point inside a conductor has no meaningful thin-wire field.
     for h in &inside {
-        for b in &mut b_ut[h.point * nf..(h.point + 1) * nf] {
-            *b = FieldPhasor::zeros();
+        for v in &mut out[h.point * width..(h.point + 1) * width] {
+            *v = T::default();
         }
     }
-    FieldSet { line_count: nf, b_ut, inside }
+    inside
 }
 
 fn collect_hits(g: &UnitField, chunk: usize, n: usize, k: usize, hits: &mut Vec<InsideHit>) {
@@ -178,37 +202,15 @@ impl InfluenceMatrix {
 /// Computes the influence matrix (3 reals per point per conductor).
 pub fn influence_matrix(filaments: &Filaments, points: &[Point3<f64>]) -> InfluenceMatrix {
     let kcount = filaments.conductor_count();
-    let kernel = Variant::detect().kernel();
     let mut g = vec![Vector3::zeros(); points.len() * kcount];
     if kcount == 0 {
         return InfluenceMatrix { conductor_count: 0, g, inside: Vec::new() };
     }
-    let hits: Vec<Vec<InsideHit>> = points
-        .par_chunks(CHUNK)
-        .zip(g.par_chunks_mut(CHUNK * kcount))
-        .enumerate()
-        .map(|(c, (pts, out))| {
-            let chunk = ChunkPoints::load(pts);
-            let mut u = UnitField::default();
-            let mut hits = Vec::new();
-            for k in 0..kcount {
-                // SAFETY: `Variant::kernel` only returns variants this CPU supports.
-                unsafe { kernel(filaments, k, &chunk, &mut u) };
-                for i in 0..pts.len() {
-                    out[i * kcount + k] = Vector3::new(u.gx[i], u.gy[i], u.gz[i]);
-                }
-                collect_hits(&u, c, pts.len(), k, &mut hits);
-            }
-            hits.sort_unstable();
-            hits
-        })
-        .collect();
-    let inside: Vec<InsideHit> = hits.into_iter().flatten().collect();
-    for h in &inside {
-        for v in &mut g[h.point * kcount..(h.point + 1) * kcount] {
-            *v = Vector3::zeros();
+    let inside = drive(Variant::detect(), filaments, points, &mut g, kcount, |k, u, n, out| {
+        for i in 0..n {
+            out[i * kcount + k] = Vector3::new(u.gx[i], u.gy[i], u.gz[i]);
         }
-    }
+    });
     InfluenceMatrix { conductor_count: kcount, g, inside }
 }
 
