@@ -4,8 +4,12 @@
 //! JSON pointer); 2 usage or I/O error. Nothing here panics on user input, and
 //! a panic anywhere prints one line instead of a backtrace.
 
+use crate::domain::assess::{self, LoadCase};
+use crate::domain::limits::{self, DEFAULT_TABLE_IDS, ReferenceTable};
+use crate::domain::site::Pointer;
 use crate::domain::{evaluate, site};
-use clap::{Parser, Subcommand};
+use crate::report::text;
+use clap::{Parser, Subcommand, ValueEnum};
 use std::io::{Read, Write};
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
@@ -41,6 +45,61 @@ pub enum Command {
         #[arg(value_name = "FILE")]
         file: PathBuf,
     },
+    /// Assess a site's positions and areas against reference-level tables.
+    Assess {
+        /// Site model (JSON), or `-` for standard input.
+        #[arg(value_name = "SITE")]
+        site: PathBuf,
+        /// Table ids, comma-separated (default: the site's own choice, else
+        /// icnirp-2010-occupational, eu-2013-35-low, eu-2013-35-limbs).
+        #[arg(long, value_delimiter = ',', value_name = "ID,ID")]
+        tables: Vec<String>,
+        /// A custom table (JSON) to load and apply; may be repeated.
+        #[arg(long = "table-file", value_name = "FILE")]
+        table_files: Vec<PathBuf>,
+        /// Currents to assess at.
+        #[arg(long, value_enum, default_value_t = LoadArg::Present)]
+        load: LoadArg,
+        /// Ratio from which a result is reported as approaching a level.
+        #[arg(long, default_value_t = 0.5, value_name = "FRACTION")]
+        review_fraction: f64,
+        /// Output format.
+        #[arg(long, value_enum, default_value_t = Format::Table)]
+        format: Format,
+    },
+    /// List the built-in reference-level tables, or show one.
+    Tables {
+        #[command(subcommand)]
+        action: Option<TablesAction>,
+    },
+}
+
+#[derive(Debug, Subcommand)]
+pub enum TablesAction {
+    /// Show one table's bands, source and notes.
+    Show {
+        /// Table id (see `fluxbound tables`).
+        id: String,
+        /// Output format.
+        #[arg(long, value_enum, default_value_t = Format::Table)]
+        format: Format,
+    },
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum LoadArg {
+    /// Each circuit's present current.
+    Present,
+    /// Each circuit's rated current.
+    Rated,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum Format {
+    /// Aligned plain text.
+    Table,
+    /// JSON.
+    Json,
 }
 
 /// Failures of a command, each with its exit code.
@@ -52,12 +111,14 @@ pub enum CliError {
     Problems(site::Problems),
     #[error("cannot write output: {0}")]
     Write(std::io::Error),
+    #[error("unknown table '{0}' (see `fluxbound tables`)")]
+    UnknownTable(String),
 }
 
 impl CliError {
     pub fn exit_code(&self) -> u8 {
         match self {
-            CliError::Problems(_) => 1,
+            CliError::Problems(_) | CliError::UnknownTable(_) => 1,
             CliError::Read { .. } | CliError::Write(_) => 2,
         }
     }
@@ -98,6 +159,21 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<ExitCode, CliError> {
             writeln!(out, "{json}").map_err(CliError::Write)?;
             Ok(ExitCode::SUCCESS)
         }
+        Command::Assess { site, tables, table_files, load, review_fraction, format } => {
+            assess_command(&site, tables, &table_files, load, review_fraction, format, out)
+        }
+        Command::Tables { action: None } => {
+            write!(out, "{}", text::tables_text(limits::builtin_tables())).map_err(CliError::Write)?;
+            Ok(ExitCode::SUCCESS)
+        }
+        Command::Tables { action: Some(TablesAction::Show { id, format }) } => {
+            let t = limits::builtin_table(&id).ok_or(CliError::UnknownTable(id))?;
+            match format {
+                Format::Json => write_json(out, t)?,
+                Format::Table => write!(out, "{}", text::table_text(t)).map_err(CliError::Write)?,
+            }
+            Ok(ExitCode::SUCCESS)
+        }
         Command::Check { file } => {
             let text = read_input(&file)?;
             match site::parse_site(&text) {
@@ -124,6 +200,47 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<ExitCode, CliError> {
             }
         }
     }
+}
+
+fn write_json<T: serde::Serialize>(out: &mut dyn Write, value: &T) -> Result<(), CliError> {
+    let json = serde_json::to_string_pretty(value).expect("serialising plain data cannot fail");
+    writeln!(out, "{json}").map_err(CliError::Write)
+}
+
+fn assess_command(
+    site_path: &Path,
+    table_ids: Vec<String>,
+    table_files: &[PathBuf],
+    load: LoadArg,
+    review_fraction: f64,
+    format: Format,
+    out: &mut dyn Write,
+) -> Result<ExitCode, CliError> {
+    let site = site::parse_site(&read_input(site_path)?).map_err(CliError::Problems)?;
+    let mut custom: Vec<ReferenceTable> = Vec::new();
+    for f in table_files {
+        custom.push(limits::parse_table(&read_input(f)?).map_err(CliError::Problems)?);
+    }
+    let (ids, at) = if !table_ids.is_empty() {
+        (table_ids, Pointer::root().key("--tables"))
+    } else if !site.tables.is_empty() {
+        (site.tables.clone(), Pointer::root().key("tables"))
+    } else {
+        (DEFAULT_TABLE_IDS.iter().map(|s| s.to_string()).collect(), Pointer::root().key("tables"))
+    };
+    let mut tables = limits::resolve_tables(&ids, &custom, &at).map_err(CliError::Problems)?;
+    tables.extend(custom);
+    let load = match load {
+        LoadArg::Present => LoadCase::Present,
+        LoadArg::Rated => LoadCase::Rated,
+    };
+    let options = assess::Options { review_fraction, ..assess::Options::default() };
+    let result = assess::assess(&site, &load, &tables, &options).map_err(CliError::Problems)?;
+    match format {
+        Format::Json => write_json(out, &result)?,
+        Format::Table => write!(out, "{}", text::assessment_text(&result)).map_err(CliError::Write)?,
+    }
+    Ok(ExitCode::SUCCESS)
 }
 
 /// Largest input file read (256 MiB): bounds memory on a mistaken path.

@@ -21,3 +21,4 @@
 
 pub mod cli;
 pub mod domain;
+pub mod report;

@@ -2,7 +2,9 @@
 //! num-complex, serde, serde_json, thiserror and rayon only (checked by
 //! `tests/layering.rs`).
 
+pub mod assess;
 pub mod cautions;
 pub mod evaluate;
 pub mod field;
+pub mod limits;
 pub mod site;

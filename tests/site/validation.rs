@@ -686,6 +686,7 @@ fn a_grid_spacing_outside_1_cm_to_100_m_is_rejected() {
 fn wire_site() -> SiteDoc {
     SiteDoc {
         name: None,
+        tables: vec![],
         frequency_hz: 50.0,
         circuits: vec![],
         conductors: vec![ConductorDoc {
@@ -768,4 +769,12 @@ fn a_conductor_written_as_an_array_instead_of_an_object_is_rejected_with_its_poi
     doc["conductors"][0] = json!(["a", [[0, 0, 0], [1, 0, 0]], 0.01]);
     let problems = problems(doc);
     assert_problem(&problems, "/conductors/0", "expected a JSON object");
+}
+
+#[test]
+fn a_table_listed_twice_by_the_site_is_rejected_with_its_pointer() {
+    let mut doc = base();
+    doc["tables"] = json!(["eu-2013-35-low", "eu-2013-35-low"]);
+    let problems = problems(doc);
+    assert_problem(&problems, "/tables/1", "listed twice");
 }

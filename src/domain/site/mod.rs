@@ -9,6 +9,7 @@ mod strict;
 mod validate;
 pub mod wire;
 
+pub use currents::CircuitLoad;
 pub(crate) use currents::excitation_of;
 pub use model::*;
 pub use parse::parse_json;

@@ -16,6 +16,9 @@ pub struct Site {
     pub conductors: Vec<Conductor>,
     pub positions: Vec<Position>,
     pub areas: Vec<Area>,
+    /// Table ids chosen by the site (unresolved: tables are looked up when
+    /// assessing, since custom tables live outside the site).
+    pub tables: Vec<String>,
 }
 
 #[derive(Debug, Clone, PartialEq)]

@@ -45,6 +45,15 @@ pub fn validate_site(doc: &SiteDoc) -> Result<Site, Problems> {
     let conductors = check_conductors(&doc.conductors, &root.key("conductors"), &doc.circuits, &mut p);
     let positions = check_positions(&doc.positions, &root.key("positions"), &mut p);
     let areas = check_areas(&doc.areas, &root.key("areas"), &mut p);
+    let tp = root.key("tables");
+    let mut seen = HashSet::new();
+    for (i, t) in doc.tables.iter().enumerate() {
+        if t.trim().is_empty() {
+            p.push(&tp.index(i), "table id must not be empty");
+        } else if !seen.insert(t.as_str()) {
+            p.push(&tp.index(i), format!("table '{t}' is listed twice"));
+        }
+    }
     p.into_result(Site {
         name: doc.name.clone(),
         frequency_hz: doc.frequency_hz,
@@ -52,6 +61,7 @@ pub fn validate_site(doc: &SiteDoc) -> Result<Site, Problems> {
         conductors,
         positions,
         areas,
+        tables: doc.tables.clone(),
     })
 }
 

@@ -21,6 +21,9 @@ pub struct SiteDoc {
     pub positions: Vec<PositionDoc>,
     #[serde(default)]
     pub areas: Vec<AreaDoc>,
+    /// Reference-level tables this site is assessed against by default (ids).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub tables: Vec<String>,
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]

@@ -1,0 +1,238 @@
+//! Plain-text rendering of an assessment for a terminal or a printout.
+//!
+//! Layout of our own: a heading block, one block per position with a row
+//! per height and a summary row, one block per area, then notes and
+//! cautions. Every table is numbered once in the heading so the columns stay
+//! narrow.
+
+use crate::domain::assess::{Assessment, Verdict};
+use crate::domain::limits::ReferenceTable;
+use std::fmt::Write;
+
+fn num(v: Option<f64>, digits: usize) -> String {
+    match v {
+        Some(x) => format!("{x:.digits$}"),
+        None => "—".to_string(),
+    }
+}
+
+fn verdict_word(v: Verdict) -> &'static str {
+    match v {
+        Verdict::Within => "within",
+        Verdict::Approaching => "APPROACHING",
+        Verdict::Exceeds => "EXCEEDS",
+        Verdict::NotCovered => "not covered",
+        Verdict::NotComputed => "not computed",
+    }
+}
+
+/// Renders an assessment as aligned plain text.
+pub fn assessment_text(a: &Assessment) -> String {
+    let mut s = String::new();
+    let name = a.site_name.as_deref().unwrap_or("(unnamed site)");
+    let _ = writeln!(s, "MAGNETIC FIELD EXPOSURE PRE-SCREEN — {name}");
+    let _ = writeln!(s, "Computed pre-screen only: compliance is decided under local codes by qualified assessors.");
+    let _ = writeln!(s);
+    let loads: Vec<String> = a.load_case.circuits.iter().map(|c| format!("{} {:.0} A", c.id, c.assessed_a)).collect();
+    let _ = writeln!(
+        s,
+        "Load case     {} ({})",
+        a.load_case.kind,
+        if loads.is_empty() { "no circuits".into() } else { loads.join(", ") }
+    );
+    let _ = writeln!(s, "Frequency     {} Hz", a.frequency_hz);
+    let _ = writeln!(s, "Review from   {:.0} % of a level", a.review_fraction * 100.0);
+    let _ = writeln!(s, "Tables");
+    for (i, t) in a.tables.iter().enumerate() {
+        let _ = writeln!(s, "  T{}  {} (v{}) — {}", i + 1, t.id, t.version, t.title);
+    }
+    let col = |id: &str| a.tables.iter().position(|t| t.id == id).map(|i| format!("T{}", i + 1)).unwrap_or_default();
+
+    if !a.positions.is_empty() {
+        let _ = writeln!(s);
+        let _ = writeln!(s, "POSITIONS   B in µT RMS; under each table: exposure ratio B / level, and verdict");
+        for p in &a.positions {
+            let _ = writeln!(s);
+            let region = match p.body_region {
+                crate::domain::site::wire::BodyRegion::WholeBody => "whole body",
+                crate::domain::site::wire::BodyRegion::Limb => "limb",
+            };
+            let group = match p.group {
+                crate::domain::site::wire::Group::General => "",
+                crate::domain::site::wire::Group::ImplantWearer => ", implant wearer",
+            };
+            let _ = writeln!(s, "  {}  ({region}{group})  →  {}", p.id, verdict_word(p.verdict));
+            let mut header = format!("    {:<16} {:>11} {:>11}", "height", "B resultant", "B major-ax.");
+            for c in &p.comparisons {
+                let _ = write!(header, "  {:>7} {:<12}", col(&c.table_id), "");
+            }
+            let _ = writeln!(s, "{}", header.trim_end());
+            for h in &p.heights {
+                let label = match h.height_m {
+                    Some(z) => format!("{z:.2} m"),
+                    None => format!("({:.1}, {:.1}, {:.1})", h.at[0], h.at[1], h.at[2]),
+                };
+                let mut row = format!("    {:<16} {:>11} {:>11}", label, num(h.resultant_ut, 2), num(h.maximum_ut, 2));
+                for c in &h.comparisons {
+                    let _ = write!(row, "  {:>7} {:<12}", num(c.ratio, 3), verdict_word(c.verdict));
+                }
+                if !h.inside_conductors.is_empty() {
+                    let _ = write!(row, "  inside {}", h.inside_conductors.join(", "));
+                }
+                let _ = writeln!(s, "{}", row.trim_end());
+            }
+            if p.heights.len() > 1 {
+                let mut row = format!("    {:<16} {:>11} {:>11}", "mean of heights", num(p.mean_resultant_ut, 2), "");
+                for c in &p.comparisons {
+                    let _ = write!(row, "  {:>7} {:<12}", num(c.ratio_of_height_mean, 3), "");
+                }
+                let _ = writeln!(s, "{}", row.trim_end());
+            }
+            if let Some(tw) = &p.time_weighted {
+                let _ = writeln!(
+                    s,
+                    "    8-h time-weighted {:.2} µT over {} h (information only)",
+                    tw.twa_8h_ut, tw.occupancy_h
+                );
+            }
+            for n in &p.notes {
+                let _ = writeln!(s, "    note: {n}");
+            }
+        }
+    }
+
+    if !a.areas.is_empty() {
+        let _ = writeln!(s);
+        let _ = writeln!(s, "AREAS   share = part of the area at or above the level / the review fraction");
+        for ar in &a.areas {
+            let _ = writeln!(s);
+            let _ = writeln!(
+                s,
+                "  {}  (height {:.2} m, grid {:.2} m, {} cells)  →  {}",
+                ar.id,
+                ar.height_m,
+                ar.spacing_m,
+                ar.cells,
+                verdict_word(ar.verdict)
+            );
+            let at = ar.max_at.map(|p| format!(" at ({:.2}, {:.2})", p[0], p[1])).unwrap_or_default();
+            let _ = writeln!(
+                s,
+                "    B highest {} µT{at}, mean {} µT",
+                num(ar.max_resultant_ut, 2),
+                num(ar.mean_resultant_ut, 2)
+            );
+            if ar.cells_inside_conductors > 0 {
+                let _ = writeln!(
+                    s,
+                    "    {} cells inside conductors are marked and not counted",
+                    ar.cells_inside_conductors
+                );
+            }
+            for c in &ar.comparisons {
+                let pct = |v: Option<f64>| v.map(|x| format!("{:.1} %", 100.0 * x)).unwrap_or_else(|| "—".into());
+                let _ = writeln!(
+                    s,
+                    "    {:>4}  highest ratio {:>7}  share ≥ level {:>7}  share ≥ review {:>7}  {}",
+                    col(&c.table_id),
+                    num(c.max_ratio, 3),
+                    pct(c.share_at_or_above_level),
+                    pct(c.share_at_or_above_review),
+                    verdict_word(c.verdict)
+                );
+            }
+            if let Some(tw) = &ar.time_weighted {
+                let _ = writeln!(
+                    s,
+                    "    8-h time-weighted {:.2} µT over {} h (information only)",
+                    tw.twa_8h_ut, tw.occupancy_h
+                );
+            }
+        }
+    }
+
+    let _ = writeln!(s);
+    let _ = writeln!(s, "SUMMARY   worst result: {}", verdict_word(a.summary.worst_verdict));
+    let list = |v: &[String]| if v.is_empty() { "none".to_string() } else { v.join(", ") };
+    let _ = writeln!(s, "  positions at or above a level:   {}", list(&a.summary.positions_exceeding));
+    let _ = writeln!(s, "  positions in the review band:    {}", list(&a.summary.positions_approaching));
+    if !a.summary.positions_not_judged.is_empty() {
+        let _ = writeln!(s, "  positions not judged:            {}", list(&a.summary.positions_not_judged));
+    }
+    if !a.areas.is_empty() {
+        let _ = writeln!(s, "  areas at or above a level:       {}", list(&a.summary.areas_exceeding));
+        let _ = writeln!(s, "  areas in the review band:        {}", list(&a.summary.areas_approaching));
+    }
+    let _ = writeln!(s);
+    let _ = writeln!(s, "NOTES");
+    for n in &a.notes {
+        let _ = writeln!(s, "  - {n}");
+    }
+    let _ = writeln!(s);
+    let _ = writeln!(s, "CAUTIONS");
+    for c in &a.cautions {
+        let _ = writeln!(s, "  - {c}");
+    }
+    s
+}
+
+/// One line per table: id, kind, who, and its level at 50 and 60 Hz.
+pub fn tables_text(tables: &[ReferenceTable]) -> String {
+    let mut s = String::new();
+    let _ = writeln!(s, "{:<30} {:<16} {:<28} {:>10} {:>10}", "id", "kind", "applies to", "50 Hz µT", "60 Hz µT");
+    for t in tables {
+        let a = t.applies_to();
+        let who = format!("{}, {}", snake(&a.population), snake(&a.body_region));
+        let lv = |f: f64| t.level_ut(f).map(|v| format!("{v:.1}")).unwrap_or_else(|_| "—".into());
+        let _ =
+            writeln!(s, "{:<30} {:<16} {:<28} {:>10} {:>10}", t.id(), snake(&t.doc().kind), who, lv(50.0), lv(60.0));
+    }
+    s
+}
+
+/// One table in full: title, source, bands and notes.
+pub fn table_text(t: &ReferenceTable) -> String {
+    let d = t.doc();
+    let mut s = String::new();
+    let _ = writeln!(s, "{} (version {})", d.id, t.version());
+    let _ = writeln!(s, "{}", d.title);
+    let _ = writeln!(
+        s,
+        "kind: {}; applies to: {}, {}",
+        snake(&d.kind),
+        snake(&d.applies_to.population),
+        snake(&d.applies_to.body_region)
+    );
+    let _ = writeln!(s, "source: {}", d.source);
+    let _ = writeln!(s);
+    let _ = writeln!(s, "  {:>12} {:>12}   B_RL(f), µT RMS", "from Hz", "to Hz");
+    for b in &d.bands {
+        let formula = if b.exponent == 0.0 {
+            format!("{}", b.coefficient)
+        } else {
+            format!("{:e} · f^{}", b.coefficient, b.exponent)
+        };
+        let _ = writeln!(s, "  {:>12} {:>12}   {formula}", b.from_hz, b.to_hz);
+    }
+    for g in &d.gaps {
+        let _ = writeln!(
+            s,
+            "  {:>12} {:>12}   (not covered{})",
+            g.from_hz,
+            g.to_hz,
+            g.reason.as_ref().map(|r| format!(": {r}")).unwrap_or_default()
+        );
+    }
+    if !d.notes.is_empty() {
+        let _ = writeln!(s);
+        for n in &d.notes {
+            let _ = writeln!(s, "note: {n}");
+        }
+    }
+    s
+}
+
+/// The snake_case JSON name of a unit enum.
+fn snake<T: serde::Serialize>(v: &T) -> String {
+    serde_json::to_value(v).ok().and_then(|j| j.as_str().map(str::to_string)).unwrap_or_default()
+}
