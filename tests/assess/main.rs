@@ -68,6 +68,18 @@ fn a_position_a_known_distance_from_a_long_wire_has_ratio_point_two_i_over_r_ove
     assert_eq!(p.verdict, Verdict::Approaching);
 }
 
+/// 1000 A with a 10 % 7th harmonic, assessed 1 m away against one table.
+fn seventh_harmonic_at_one_metre(table: &str) -> Assessment {
+    let site = wire_site(
+        1000.0,
+        1000.0,
+        json!([{"order": 7, "percent": 10}]),
+        json!([point("p", [0.0, 1.0, 0.0])]),
+        json!([]),
+    );
+    run(site, LoadCase::Present, &[table], Options::default())
+}
+
 #[test]
 fn harmonics_are_summed_as_b_over_level_per_frequency() {
     // Worked by hand: 1000 A at 1 m → B1 = 200 µT at 50 Hz; a 7th harmonic of
@@ -75,18 +87,7 @@ fn harmonics_are_summed_as_b_over_level_per_frequency() {
     // 1000 µT at 50 Hz, 3e5/350 = 857.142857 µT at 350 Hz. Sum rule (ICNIRP
     // 2010, from memory): 200/1000 + 20/857.142857 = 0.2 + 0.0233333 = 0.2233333.
     // The resultant adds in quadrature: sqrt(200² + 20²) = 200.99751 µT.
-    let a = run(
-        wire_site(
-            1000.0,
-            1000.0,
-            json!([{"order": 7, "percent": 10}]),
-            json!([point("p", [0.0, 1.0, 0.0])]),
-            json!([]),
-        ),
-        LoadCase::Present,
-        &["icnirp-2010-occupational"],
-        Options::default(),
-    );
+    let a = seventh_harmonic_at_one_metre("icnirp-2010-occupational");
     let p = &a.positions[0];
     assert!(rel(p.comparisons[0].ratio.unwrap(), 0.2 + 20.0 / (3.0e5 / 350.0)) < 1e-8);
     assert!(rel(p.max_resultant_ut.unwrap(), (200.0f64.powi(2) + 20.0f64.powi(2)).sqrt()) < 1e-8);
@@ -99,18 +100,7 @@ fn harmonics_are_summed_as_b_over_level_per_frequency() {
 fn a_table_that_does_not_cover_a_harmonic_gives_not_covered_rather_than_a_guess() {
     // ACGIH whole-body ceiling is given here for 1–300 Hz only; a 7th
     // harmonic at 350 Hz is outside it.
-    let a = run(
-        wire_site(
-            1000.0,
-            1000.0,
-            json!([{"order": 7, "percent": 10}]),
-            json!([point("p", [0.0, 1.0, 0.0])]),
-            json!([]),
-        ),
-        LoadCase::Present,
-        &["acgih-sub-rf-whole-body"],
-        Options::default(),
-    );
+    let a = seventh_harmonic_at_one_metre("acgih-sub-rf-whole-body");
     let c = &a.positions[0].comparisons[0];
     assert_eq!(c.verdict, Verdict::NotCovered);
     assert_eq!(c.ratio, None);

@@ -406,3 +406,265 @@ fn running_without_a_command_is_a_usage_error_with_exit_code_2() {
     assert!(out.stdout.is_empty());
     assert!(stderr_of(&out).contains("Usage"), "stderr: {}", stderr_of(&out));
 }
+
+// ------------------------------------------------------------------ tables
+
+/// Each built-in id with its 50 Hz level as `fluxbound tables` prints it
+/// (one decimal); the figures and their sources are checked in tests/limits.
+const TABLES_AT_50_HZ: [(&str, &str); 15] = [
+    ("icnirp-2010-occupational", "1000.0"),
+    ("icnirp-2010-public", "200.0"),
+    ("icnirp-1998-occupational", "500.0"),
+    ("icnirp-1998-public", "100.0"),
+    ("eu-1999-519-public", "100.0"),
+    ("eu-2013-35-low", "1000.0"),
+    ("eu-2013-35-high", "6000.0"),
+    ("eu-2013-35-limbs", "18000.0"),
+    ("ieee-c95.1-2019-restricted", "2710.0"),
+    ("ieee-c95.1-2019-unrestricted", "904.0"),
+    ("ieee-c95.1-2019-limbs", "75800.0"),
+    ("acgih-sub-rf-whole-body", "1200.0"),
+    ("acgih-sub-rf-arms-legs", "6000.0"),
+    ("acgih-sub-rf-hands-feet", "12000.0"),
+    ("implant-screening-100", "100.0"),
+];
+
+#[test]
+fn listing_tables_exits_0_and_shows_every_built_in_id_with_its_50_hz_level() {
+    let out = fluxbound(&["tables"], None);
+    let stdout = stdout_of(&out);
+    assert_eq!(out.status.code(), Some(0), "stderr: {}", stderr_of(&out));
+    let lines: Vec<&str> = stdout.lines().collect();
+    assert_eq!(lines.len(), 1 + TABLES_AT_50_HZ.len(), "a header and one line per table:\n{stdout}");
+    for (id, at_50_hz) in TABLES_AT_50_HZ {
+        let line = lines
+            .iter()
+            .find(|l| l.split_whitespace().next() == Some(id))
+            .unwrap_or_else(|| panic!("no line for {id}:\n{stdout}"));
+        // Columns: id, kind, applies to (two words), 50 Hz, 60 Hz.
+        let cols: Vec<&str> = line.split_whitespace().collect();
+        assert_eq!(cols[cols.len() - 2], at_50_hz, "50 Hz column of {id}: {line}");
+    }
+}
+
+#[test]
+fn showing_a_table_prints_its_source_citation_and_every_band() {
+    let out = fluxbound(&["tables", "show", "icnirp-2010-occupational"], None);
+    let stdout = stdout_of(&out);
+    assert_eq!(out.status.code(), Some(0), "stderr: {}", stderr_of(&out));
+    assert!(stdout.starts_with("icnirp-2010-occupational (version 1)"), "stdout:\n{stdout}");
+    let source = stdout.lines().find(|l| l.starts_with("source:")).unwrap_or_else(|| panic!("no source:\n{stdout}"));
+    assert!(source.contains("Health Physics 99(6)"), "source line: {source}");
+    // Band rows: from, to, formula. ICNIRP 2010 Table 3 has five bands.
+    let rows: Vec<Vec<&str>> = stdout
+        .lines()
+        .skip_while(|l| !l.contains("from Hz"))
+        .skip(1)
+        .take_while(|l| !l.trim().is_empty())
+        .map(|l| l.split_whitespace().collect())
+        .collect();
+    let edges: Vec<(&str, &str)> = rows.iter().map(|r| (r[0], r[1])).collect();
+    assert_eq!(edges, vec![("1", "8"), ("8", "25"), ("25", "300"), ("300", "3000"), ("3000", "10000000")]);
+    assert!(stdout.contains("2e5 · f^-2") && stdout.contains("3e5 · f^-1"), "formulas:\n{stdout}");
+    assert!(stdout.contains("note: Status:"), "the status note is shown:\n{stdout}");
+}
+
+#[test]
+fn showing_a_table_as_json_gives_its_bands_and_citation() {
+    let out = fluxbound(&["tables", "show", "icnirp-2010-occupational", "--format", "json"], None);
+    assert_eq!(out.status.code(), Some(0), "stderr: {}", stderr_of(&out));
+    let v: Value = serde_json::from_slice(&out.stdout).expect("stdout is one JSON document");
+    assert_eq!(v["id"], "icnirp-2010-occupational");
+    assert_eq!(v["version"], 1);
+    assert!(v["source"].as_str().unwrap().contains("Health Physics 99(6)"), "{v}");
+    let bands = v["bands"].as_array().expect("bands is an array");
+    assert_eq!(bands.len(), 5);
+    for b in bands {
+        assert_eq!(keys(b), sorted(vec!["from_hz", "to_hz", "coefficient", "exponent"]));
+    }
+    // The 25–300 Hz band: a flat 1000 µT (ICNIRP 2010, Table 3, V).
+    assert_eq!(bands[2]["from_hz"].as_f64(), Some(25.0));
+    assert_eq!(bands[2]["coefficient"].as_f64(), Some(1000.0));
+    assert_eq!(bands[2]["exponent"].as_f64(), Some(0.0));
+}
+
+#[test]
+fn showing_an_unknown_table_exits_1_with_a_message_naming_it() {
+    let out = fluxbound(&["tables", "show", "no-such-table"], None);
+    assert_rejected_with(&out, &["unknown table 'no-such-table'", "fluxbound tables"]);
+}
+
+// ------------------------------------------------------------------ assess
+
+const SWITCH_ROOM: &str = "examples/site-switch-room.json";
+const FURNACE: &str = "examples/site-furnace-feeder.json";
+
+/// Runs `fluxbound assess` with `args` and returns its JSON output.
+fn assess_json(args: &[&str]) -> Value {
+    let mut all = vec!["assess"];
+    all.extend_from_slice(args);
+    all.extend_from_slice(&["--format", "json"]);
+    let out = fluxbound(&all, None);
+    assert_eq!(out.status.code(), Some(0), "stderr: {}", stderr_of(&out));
+    serde_json::from_slice(&out.stdout).expect("stdout is one JSON document")
+}
+
+fn example_json(path: &str) -> Value {
+    serde_json::from_str(&std::fs::read_to_string(manifest_dir().join(path)).unwrap()).unwrap()
+}
+
+fn string_list(v: &Value) -> Vec<&str> {
+    v.as_array().unwrap_or_else(|| panic!("not an array: {v}")).iter().map(|s| s.as_str().unwrap()).collect()
+}
+
+fn table_ids(v: &Value) -> Vec<&str> {
+    v["tables"].as_array().expect("tables is an array").iter().map(|t| t["id"].as_str().unwrap()).collect()
+}
+
+#[test]
+fn assessing_the_switch_room_prints_every_position_the_tables_and_the_cautions() {
+    let out = fluxbound(&["assess", SWITCH_ROOM], None);
+    let stdout = stdout_of(&out);
+    assert_eq!(out.status.code(), Some(0), "stderr: {}", stderr_of(&out));
+    let site = example_json(SWITCH_ROOM);
+    for p in site["positions"].as_array().unwrap().iter().chain(site["areas"].as_array().unwrap()) {
+        let id = p["id"].as_str().unwrap();
+        assert!(stdout.contains(id), "{id} is missing:\n{stdout}");
+    }
+    // The site names no tables: the defaults, plus implant screening for
+    // riser-inspection, an implant wearer.
+    for id in ["icnirp-2010-occupational", "eu-2013-35-low", "eu-2013-35-limbs", "implant-screening-100"] {
+        assert!(stdout.contains(id), "table {id} is missing:\n{stdout}");
+    }
+    let cautions =
+        stdout.split_once("\nCAUTIONS\n").map(|(_, c)| c).unwrap_or_else(|| panic!("no CAUTIONS:\n{stdout}"));
+    assert!(cautions.contains("licensed or otherwise qualified assessors"), "cautions:\n{cautions}");
+    assert_no_panic_text(&stderr_of(&out));
+}
+
+#[test]
+fn assessing_the_furnace_feeder_at_rated_load_finds_positions_exceeding_a_level() {
+    let v = assess_json(&[FURNACE, "--load", "rated"]);
+    assert_eq!(v["load_case"]["kind"], "rated");
+    assert!(!string_list(&v["summary"]["positions_exceeding"]).is_empty(), "summary: {}", v["summary"]);
+    assert_eq!(v["summary"]["worst_verdict"], "exceeds");
+    // Every circuit is assessed at its rated current from the site file.
+    let site = example_json(FURNACE);
+    for (c, s) in v["load_case"]["circuits"].as_array().unwrap().iter().zip(site["circuits"].as_array().unwrap()) {
+        assert_eq!(c["id"], s["id"]);
+        assert_eq!(c["assessed_a"].as_f64(), s["rated_current_a"].as_f64(), "circuit {}", c["id"]);
+    }
+}
+
+#[test]
+fn assessing_the_furnace_feeder_at_present_load_has_positions_approaching_but_none_exceeding() {
+    let v = assess_json(&[FURNACE, "--load", "present"]);
+    assert_eq!(v["load_case"]["kind"], "present");
+    let summary = &v["summary"];
+    assert!(string_list(&summary["positions_exceeding"]).is_empty(), "summary: {summary}");
+    assert!(!string_list(&summary["positions_approaching"]).is_empty(), "summary: {summary}");
+    let site = example_json(FURNACE);
+    for (c, s) in v["load_case"]["circuits"].as_array().unwrap().iter().zip(site["circuits"].as_array().unwrap()) {
+        assert_eq!(c["assessed_a"].as_f64(), s["current_a"].as_f64(), "circuit {}", c["id"]);
+    }
+}
+
+#[test]
+fn assessing_the_furnace_feeder_uses_the_sites_tables_plus_implant_screening_and_carries_cautions() {
+    for load in ["rated", "present"] {
+        let v = assess_json(&[FURNACE, "--load", load]);
+        let site = example_json(FURNACE);
+        let mut want = string_list(&site["tables"]);
+        assert_eq!(want.len(), 4);
+        // supply-cabinet-front is an implant wearer.
+        want.push("implant-screening-100");
+        assert_eq!(table_ids(&v), want, "load {load}");
+        let cautions = string_list(&v["cautions"]);
+        assert!(!cautions.is_empty() && cautions.iter().all(|c| !c.trim().is_empty()), "load {load}: {cautions:?}");
+    }
+}
+
+#[test]
+fn the_tables_option_overrides_the_sites_choice_of_tables() {
+    let v = assess_json(&[FURNACE, "--tables", "icnirp-2010-public"]);
+    assert_eq!(table_ids(&v), vec!["icnirp-2010-public", "implant-screening-100"]);
+    for p in v["positions"].as_array().unwrap() {
+        for c in p["comparisons"].as_array().unwrap() {
+            let id = c["table_id"].as_str().unwrap();
+            assert!(["icnirp-2010-public", "implant-screening-100"].contains(&id), "position {}: {id}", p["id"]);
+        }
+    }
+}
+
+#[test]
+fn an_unknown_id_in_the_tables_option_exits_1_with_its_pointer() {
+    let out = fluxbound(&["assess", FURNACE, "--tables", "no-such-table"], None);
+    assert_rejected_with(&out, &["/--tables/0", "unknown reference-level table 'no-such-table'"]);
+    let out = fluxbound(&["assess", FURNACE, "--tables", "icnirp-2010-public,also-missing"], None);
+    assert_rejected_with(&out, &["/--tables/1", "'also-missing'"]);
+}
+
+#[test]
+fn a_review_fraction_outside_zero_to_one_exits_1_with_a_pointer_to_the_option() {
+    for fraction in ["1.5", "0", "1"] {
+        let out = fluxbound(&["assess", SWITCH_ROOM, "--review-fraction", fraction], None);
+        assert_rejected_with(&out, &["/options/review_fraction", "review fraction must be greater than 0"]);
+    }
+}
+
+#[test]
+fn the_rated_load_on_a_site_with_a_circuit_lacking_a_rated_current_exits_1_naming_it() {
+    let site = r#"{"frequency_hz": 50,
+        "circuits": [
+            {"id": "T1", "kind": "three_phase", "current_a": 800, "rated_current_a": 1250},
+            {"id": "aux", "kind": "single_phase", "current_a": 40}
+        ],
+        "conductors": [
+            {"id": "T1-L1", "circuit": "T1", "phase": "A", "radius_m": 0.02, "path": [[0, -0.2, 3], [20, -0.2, 3]]},
+            {"id": "T1-L2", "circuit": "T1", "phase": "B", "radius_m": 0.02, "path": [[0, 0, 3], [20, 0, 3]]},
+            {"id": "T1-L3", "circuit": "T1", "phase": "C", "radius_m": 0.02, "path": [[0, 0.2, 3], [20, 0.2, 3]]},
+            {"id": "aux-go", "circuit": "aux", "phase": "A", "radius_m": 0.005, "path": [[0, 4, 0.5], [20, 4, 0.5]]},
+            {"id": "aux-back", "circuit": "aux", "phase": "N", "radius_m": 0.005, "path": [[0, 4.1, 0.5], [20, 4.1, 0.5]]}
+        ],
+        "positions": [{"id": "desk", "at": [5, 2]}]}"#;
+    let path = temp_file("no-rated", site);
+    let rated = fluxbound(&["assess", path.to_str().unwrap(), "--load", "rated"], None);
+    let present = fluxbound(&["assess", path.to_str().unwrap(), "--load", "present"], None);
+    let _ = std::fs::remove_file(&path);
+    assert_rejected_with(&rated, &["/circuits/1/rated_current_a", "circuit 'aux'"]);
+    assert_eq!(present.status.code(), Some(0), "the present load needs no rating: {}", stderr_of(&present));
+}
+
+/// A flat 50 µT whole-body table for workers, 1 Hz–3 kHz.
+const CUSTOM_TABLE: &str = r#"{
+    "id": "acme-hs17",
+    "title": "Acme internal limit (invented for tests)",
+    "source": "Acme Corp. EMF policy HS-17, revision 3 (invented for tests)",
+    "applies_to": {"population": "workers", "body_region": "whole_body"},
+    "kind": "screening",
+    "bands": [{"from_hz": 1, "to_hz": 3000, "coefficient": 50, "exponent": 0}]
+}"#;
+
+#[test]
+fn a_table_file_is_loaded_and_applied_beside_the_chosen_tables() {
+    let path = temp_file("custom-table", CUSTOM_TABLE);
+    let out = fluxbound(&["assess", SWITCH_ROOM, "--table-file", path.to_str().unwrap(), "--format", "json"], None);
+    let _ = std::fs::remove_file(&path);
+    assert_eq!(out.status.code(), Some(0), "stderr: {}", stderr_of(&out));
+    let v: Value = serde_json::from_slice(&out.stdout).expect("stdout is one JSON document");
+    let ids = table_ids(&v);
+    assert!(ids.contains(&"acme-hs17"), "tables: {ids:?}");
+    assert!(ids.contains(&"icnirp-2010-occupational"), "the default tables stay: {ids:?}");
+    // desk-1 is a whole-body position: it is compared with the custom level.
+    let desk = v["positions"].as_array().unwrap().iter().find(|p| p["id"] == "desk-1").expect("desk-1");
+    let c = desk["comparisons"].as_array().unwrap().iter().find(|c| c["table_id"] == "acme-hs17").expect("compared");
+    assert_eq!(c["level_ut"].as_f64(), Some(50.0));
+}
+
+#[test]
+fn an_invalid_table_file_exits_1_with_the_pointer_into_that_file() {
+    let path = temp_file("bad-table", &CUSTOM_TABLE.replace(r#""coefficient": 50"#, r#""coefficient": 0"#));
+    let out = fluxbound(&["assess", SWITCH_ROOM, "--table-file", path.to_str().unwrap()], None);
+    let _ = std::fs::remove_file(&path);
+    assert_rejected_with(&out, &["/bands/0/coefficient", "coefficient must be positive"]);
+}

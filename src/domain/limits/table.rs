@@ -226,21 +226,25 @@ fn is_id_char(c: char) -> bool {
 }
 
 /// Bands and declared gaps, sorted, must tile their span without overlap;
-/// a hole between bands must be declared as a gap.
+/// a hole between bands must be declared as a gap. Edges must match exactly
+/// (JSON `3e3` and `3000` are the same number), so every frequency the
+/// validator accepts as covered has a level.
 fn check_coverage(doc: &TableDoc, bp: &Pointer, p: &mut Problems) {
-    let mut pieces: Vec<(f64, f64, Option<usize>)> =
-        doc.bands.iter().enumerate().map(|(i, b)| (b.from_hz, b.to_hz, Some(i))).collect();
-    pieces.extend(doc.gaps.iter().map(|g| (g.from_hz, g.to_hz, None)));
+    let gp = bp.clone().parent_key("gaps");
+    // (from, to, pointer, is_band)
+    let mut pieces: Vec<(f64, f64, Pointer, bool)> =
+        doc.bands.iter().enumerate().map(|(i, b)| (b.from_hz, b.to_hz, bp.index(i), true)).collect();
+    pieces.extend(doc.gaps.iter().enumerate().map(|(i, g)| (g.from_hz, g.to_hz, gp.index(i), false)));
     pieces.sort_by(|a, b| a.0.total_cmp(&b.0));
     for w in pieces.windows(2) {
-        let ((_, end, a), (start, _, b)) = (w[0], w[1]);
-        let at = b.or(a).map(|i| bp.index(i)).unwrap_or_else(|| bp.clone());
-        // Relative tolerance for edges typed with rounding (e.g. 3e3 vs 3000).
-        let tol = 1e-9 * end.abs().max(start.abs());
-        if start < end - tol {
-            p.push(&at, format!("band overlaps another between {start} and {end} Hz"));
-        } else if start > end + tol {
-            p.push(&at, format!("no band covers {end}–{start} Hz: close the hole or declare it in gaps"));
+        let ((_, end, earlier, earlier_band), (start, _, later, later_band)) = (&w[0], &w[1]);
+        // Point at a band where one is involved (the later first).
+        let at = if *later_band || !*earlier_band { later } else { earlier };
+        if start < end {
+            let what = if *earlier_band || *later_band { "band overlaps another" } else { "gaps overlap" };
+            p.push(at, format!("{what} between {start} and {end} Hz"));
+        } else if start > end {
+            p.push(at, format!("no band covers {end}–{start} Hz: close the hole or declare it in gaps"));
         }
     }
 }

@@ -57,6 +57,11 @@ impl Pointer {
         let escaped = key.replace('~', "~0").replace('/', "~1");
         Pointer(format!("{}/{}", self.0, escaped))
     }
+    /// The pointer to a sibling key: `/a/b` → `/a/key`.
+    pub fn parent_key(self, key: &str) -> Self {
+        let cut = self.0.rfind('/').unwrap_or(0);
+        Pointer(self.0[..cut].to_string()).key(key)
+    }
     /// Appends an array index.
     pub fn index(&self, i: usize) -> Self {
         Pointer(format!("{}/{}", self.0, i))
