@@ -72,6 +72,88 @@ pub enum Command {
         #[command(subcommand)]
         action: Option<TablesAction>,
     },
+    /// Run the HTTP API (SQLite in the data directory, or DATABASE_URL).
+    Serve(ServeArgs),
+    /// Manage API keys in the database `serve` uses.
+    Keys {
+        #[command(subcommand)]
+        action: KeysAction,
+    },
+}
+
+/// Where the database is: `DATABASE_URL=postgres://…` or SQLite in `--data-dir`.
+#[derive(Debug, clap::Args)]
+pub struct StorageArgs {
+    /// Directory of the embedded SQLite database (ignored with DATABASE_URL).
+    #[arg(long, env = "FLUXBOUND_DATA_DIR", default_value = "fluxbound-data", value_name = "DIR")]
+    pub data_dir: PathBuf,
+    /// PostgreSQL URL (postgres://…); unset means the embedded SQLite.
+    #[arg(long, env = "DATABASE_URL", hide_env_values = true, value_name = "URL")]
+    pub database_url: Option<String>,
+}
+
+#[derive(Debug, clap::Args)]
+pub struct ServeArgs {
+    /// Address to listen on; port 0 picks a free port.
+    #[arg(long, env = "FLUXBOUND_LISTEN", default_value = "127.0.0.1:8080", value_name = "ADDR")]
+    pub listen: String,
+    #[command(flatten)]
+    pub storage: StorageArgs,
+    /// Seed a demo organisation with the example sites and print a key and a curl line.
+    #[arg(long)]
+    pub demo: bool,
+    /// Log one JSON object per line instead of human-readable lines.
+    #[arg(long)]
+    pub log_json: bool,
+    /// Largest request body, bytes.
+    #[arg(long, env = "FLUXBOUND_MAX_BODY_BYTES", default_value_t = 4 * 1024 * 1024)]
+    pub max_body_bytes: usize,
+    /// Segment-point pairs allowed per synchronous request.
+    #[arg(long, env = "FLUXBOUND_MAX_PAIRS", default_value_t = 1_000_000_000)]
+    pub max_pairs: u64,
+    /// Points allowed per /v1/evaluate request.
+    #[arg(long, env = "FLUXBOUND_MAX_POINTS", default_value_t = 200_000)]
+    pub max_points: usize,
+    /// Requests per second per API key (0 = unlimited).
+    #[arg(long, env = "FLUXBOUND_RATE_PER_KEY", default_value_t = 50)]
+    pub rate_per_key: u32,
+    /// Seconds before a request is answered 503.
+    #[arg(long, env = "FLUXBOUND_REQUEST_TIMEOUT_S", default_value_t = 30)]
+    pub request_timeout_s: u64,
+}
+
+#[derive(Debug, Subcommand)]
+pub enum KeysAction {
+    /// Create a key (and the organisation if needed); prints the secret alone.
+    Create {
+        /// Organisation name.
+        #[arg(long)]
+        org: String,
+        /// viewer, assessor or admin.
+        #[arg(long, value_parser = ["viewer", "assessor", "admin"])]
+        role: String,
+        /// A note on what the key is for.
+        #[arg(long)]
+        label: Option<String>,
+        #[command(flatten)]
+        storage: StorageArgs,
+    },
+    /// List an organisation's keys (never their secrets).
+    List {
+        #[arg(long)]
+        org: String,
+        #[command(flatten)]
+        storage: StorageArgs,
+    },
+    /// Revoke a key by id.
+    Revoke {
+        #[arg(long)]
+        org: String,
+        /// Key id (from `keys list`).
+        id: String,
+        #[command(flatten)]
+        storage: StorageArgs,
+    },
 }
 
 #[derive(Debug, Subcommand)]
@@ -113,13 +195,21 @@ pub enum CliError {
     Write(std::io::Error),
     #[error("unknown table '{0}' (see `fluxbound tables`)")]
     UnknownTable(String),
+    #[error("{0}")]
+    App(#[from] crate::app::AppError),
+    #[error("{0}")]
+    Service(#[from] crate::service::ServiceError),
+    #[error("server error: {0}")]
+    Serve(std::io::Error),
 }
 
 impl CliError {
     pub fn exit_code(&self) -> u8 {
         match self {
             CliError::Problems(_) | CliError::UnknownTable(_) => 1,
-            CliError::Read { .. } | CliError::Write(_) => 2,
+            CliError::Read { .. } | CliError::Write(_) | CliError::App(_) | CliError::Serve(_) => 2,
+            CliError::Service(e) if e.is_client_error() => 1,
+            CliError::Service(_) => 2,
         }
     }
 }
@@ -174,6 +264,8 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<ExitCode, CliError> {
             }
             Ok(ExitCode::SUCCESS)
         }
+        Command::Serve(args) => serve(args),
+        Command::Keys { action } => keys(action, out),
         Command::Check { file } => {
             let text = read_input(&file)?;
             match site::parse_site(&text) {
@@ -240,6 +332,97 @@ fn assess_command(
         Format::Json => write_json(out, &result)?,
         Format::Table => write!(out, "{}", text::assessment_text(&result)).map_err(CliError::Write)?,
     }
+    Ok(ExitCode::SUCCESS)
+}
+
+fn runtime() -> Result<tokio::runtime::Runtime, CliError> {
+    tokio::runtime::Builder::new_multi_thread().enable_all().build().map_err(CliError::Serve)
+}
+
+fn storage_config(storage: StorageArgs) -> crate::config::Config {
+    crate::config::Config {
+        data_dir: storage.data_dir,
+        database_url: storage.database_url,
+        ..crate::config::Config::new()
+    }
+}
+
+fn serve(args: ServeArgs) -> Result<ExitCode, CliError> {
+    use crate::config::LogFormat;
+    crate::telemetry::init(if args.log_json { LogFormat::Json } else { LogFormat::Human });
+    let mut config = storage_config(args.storage);
+    config.listen = args.listen;
+    config.demo = args.demo;
+    config.limits.body_bytes = args.max_body_bytes;
+    config.limits.max_pairs = args.max_pairs;
+    config.limits.max_points = args.max_points;
+    config.limits.rate_per_key = args.rate_per_key;
+    config.limits.request_timeout_s = args.request_timeout_s;
+    runtime()?.block_on(async move {
+        let app = crate::app::App::build(&config).await?;
+        if let Some(demo) = &app.demo {
+            let addr = app.local_addr();
+            eprintln!("\nDemo organisation ready. API key (assessor role; shown once):\n  {}\n", demo.key);
+            for (id, name) in &demo.site_ids {
+                eprintln!("  site {id}  {name}");
+            }
+            if let Some((id, _)) = demo.site_ids.first() {
+                eprintln!(
+                    "\nAssess the first site at rated load:\n  curl -s -X POST -H 'Authorization: Bearer {}' -H 'Content-Type: application/json' \\\n    -d '{{\"load\": {{\"kind\": \"rated\"}}}}' http://{addr}/v1/sites/{id}/assessments\n\nAPI docs: http://{addr}/docs\n",
+                    demo.key
+                );
+            }
+        }
+        app.serve(crate::app::shutdown_signal()).await.map_err(CliError::Serve)
+    })?;
+    Ok(ExitCode::SUCCESS)
+}
+
+fn keys(action: KeysAction, out: &mut dyn Write) -> Result<ExitCode, CliError> {
+    use crate::service::{Role, Service};
+    let rt = runtime()?;
+    rt.block_on(async move {
+        let (storage, org) = match &action {
+            KeysAction::Create { storage, org, .. }
+            | KeysAction::List { storage, org }
+            | KeysAction::Revoke { storage, org, .. } => (
+                StorageArgs { data_dir: storage.data_dir.clone(), database_url: storage.database_url.clone() },
+                org.clone(),
+            ),
+        };
+        let config = storage_config(storage);
+        let store = crate::app::open_store(&config).await?;
+        let service = Service::new(store, config.limits.clone());
+        let result = match action {
+            KeysAction::Create { role, label, .. } => {
+                let role = Role::parse(&role).unwrap_or(Role::Viewer);
+                let (_, secret) = service.keys_create_for_org(&org, role, label.as_deref()).await?;
+                writeln!(out, "{secret}").map_err(CliError::Write)
+            }
+            KeysAction::List { .. } => {
+                for k in service.keys_list_for_org(&org).await? {
+                    let state = if k.revoked_at.is_some() { "revoked" } else { "active" };
+                    writeln!(
+                        out,
+                        "{}  {:<8}  {:<7}  {}  {}",
+                        k.id,
+                        k.role,
+                        state,
+                        k.created_at,
+                        k.label.unwrap_or_default()
+                    )
+                    .map_err(CliError::Write)?;
+                }
+                Ok(())
+            }
+            KeysAction::Revoke { id, .. } => {
+                service.keys_revoke_for_org(&org, &id).await?;
+                writeln!(out, "revoked {id}").map_err(CliError::Write)
+            }
+        };
+        service.store().close().await;
+        result
+    })?;
     Ok(ExitCode::SUCCESS)
 }
 

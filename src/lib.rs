@@ -19,6 +19,12 @@
 //! Every result is a computed pre-screen: compliance is decided under local
 //! codes by licensed or otherwise qualified assessors.
 
+pub mod app;
 pub mod cli;
+pub mod config;
 pub mod domain;
+pub mod http;
 pub mod report;
+pub mod service;
+pub mod store;
+pub mod telemetry;

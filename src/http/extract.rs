@@ -1,0 +1,131 @@
+//! Request extractors that answer problem+json on every failure.
+
+use super::AppState;
+use super::problem::ApiError;
+use crate::domain::site::{Problem, Problems, parse_json};
+use crate::service::Caller;
+use axum::body::Bytes;
+use axum::extract::{FromRequest, FromRequestParts, Request};
+use axum::http::{StatusCode, header, request::Parts};
+use serde::de::DeserializeOwned;
+
+/// A JSON body parsed strictly: 415 without a JSON content type, 413 over
+/// the size bound, 400 for malformed JSON, 422 with a pointer for a shape
+/// error (wrong type, unknown or missing field).
+pub struct ApiJson<T>(pub T);
+
+impl<T: DeserializeOwned> FromRequest<AppState> for ApiJson<T> {
+    type Rejection = ApiError;
+
+    async fn from_request(req: Request, state: &AppState) -> Result<Self, ApiError> {
+        let json_type = req
+            .headers()
+            .get(header::CONTENT_TYPE)
+            .and_then(|v| v.to_str().ok())
+            .map(|v| v.split(';').next().unwrap_or("").trim().to_ascii_lowercase())
+            .is_some_and(|m| m == "application/json" || (m.starts_with("application/") && m.ends_with("+json")));
+        if !json_type {
+            return Err(ApiError::unsupported_media_type());
+        }
+        let bytes = Bytes::from_request(req, state).await.map_err(|r| {
+            if r.status() == StatusCode::PAYLOAD_TOO_LARGE {
+                ApiError::too_large(state.service.limits().body_bytes)
+            } else {
+                ApiError::malformed_json("the body could not be read")
+            }
+        })?;
+        let text = std::str::from_utf8(&bytes).map_err(|_| ApiError::malformed_json("the body is not UTF-8"))?;
+        if let Err(e) = serde_json::from_str::<serde::de::IgnoredAny>(text) {
+            return Err(ApiError::malformed_json(format!("{e}")));
+        }
+        parse_json(text).map(ApiJson).map_err(ApiError::validation)
+    }
+}
+
+/// The authenticated caller, also rate-limited per key.
+pub struct Auth(pub Caller);
+
+impl FromRequestParts<AppState> for Auth {
+    type Rejection = ApiError;
+
+    async fn from_request_parts(parts: &mut Parts, state: &AppState) -> Result<Self, ApiError> {
+        let token = parts
+            .headers
+            .get(header::AUTHORIZATION)
+            .and_then(|v| v.to_str().ok())
+            .and_then(|v| v.strip_prefix("Bearer ").or_else(|| v.strip_prefix("bearer ")))
+            .map(str::trim)
+            .ok_or_else(ApiError::unauthorized)?;
+        let caller = state.service.authenticate(token).await.map_err(ApiError::from)?;
+        if let Err(wait_s) = state.rate.check(&caller.key_id) {
+            return Err(ApiError::rate_limited(wait_s));
+        }
+        Ok(Auth(caller))
+    }
+}
+
+/// Revision named by an `If-Match` header: `"3"` (a weak `W/"3"` is also
+/// read); absent → `None`; unreadable → a revision that never matches.
+pub fn if_match(parts: &axum::http::HeaderMap) -> Option<i64> {
+    let v = parts.get(header::IF_MATCH)?.to_str().ok()?.trim();
+    let v = v.strip_prefix("W/").unwrap_or(v).trim_matches('"');
+    Some(v.parse().unwrap_or(-1))
+}
+
+/// The ETag of a revision.
+pub fn etag(revision: i64) -> String {
+    format!("\"{revision}\"")
+}
+
+/// Checks an id from the path: 32 lowercase hex digits (400 otherwise).
+pub fn check_id(id: &str, what: &str) -> Result<(), ApiError> {
+    if id.len() == 32 && id.bytes().all(|b| b.is_ascii_digit() || (b'a'..=b'f').contains(&b)) {
+        Ok(())
+    } else {
+        Err(ApiError::bad_request(
+            format!("'{id}' is not a {what} id"),
+            Problems(vec![Problem {
+                pointer: format!("/{what}_id"),
+                detail: "ids are 32 lowercase hex digits".into(),
+            }]),
+        ))
+    }
+}
+
+/// Parses a positive integer path or query parameter (400 otherwise).
+pub fn parse_positive(value: &str, name: &str) -> Result<i64, ApiError> {
+    value.parse::<i64>().ok().filter(|v| *v >= 1).ok_or_else(|| {
+        ApiError::bad_request(
+            format!("{name} must be a positive integer"),
+            Problems(vec![Problem {
+                pointer: format!("/{name}"),
+                detail: format!("'{value}' is not a positive integer"),
+            }]),
+        )
+    })
+}
+
+/// Query parameters of list routes.
+#[derive(Debug, Default, serde::Deserialize, utoipa::IntoParams)]
+#[serde(deny_unknown_fields)]
+#[into_params(parameter_in = Query)]
+pub struct PageQuery {
+    /// Opaque cursor from the previous page's `next_cursor`.
+    pub cursor: Option<String>,
+    /// Page size, 1–200 (default 50).
+    pub limit: Option<String>,
+    /// Only sites whose name contains this text (any case); sites only.
+    pub name: Option<String>,
+}
+
+impl PageQuery {
+    /// Reads the query string (unknown parameters are a 400).
+    pub fn from_uri(uri: &axum::http::Uri) -> Result<PageQuery, ApiError> {
+        axum::extract::Query::<PageQuery>::try_from_uri(uri)
+            .map(|q| q.0)
+            .map_err(|e| ApiError::bad_request(e.body_text(), Problems::default()))
+    }
+    pub fn limit(&self) -> Result<Option<i64>, ApiError> {
+        self.limit.as_deref().map(|l| parse_positive(l, "limit")).transpose()
+    }
+}

@@ -1,0 +1,111 @@
+//! The HTTP edge: axum routes, authentication, problem+json, OpenAPI.
+//! `router(state)` is pure: it builds the service graph and touches nothing.
+
+pub mod extract;
+pub mod metrics;
+pub mod openapi;
+pub mod problem;
+pub mod rate;
+pub mod resources;
+pub mod routes;
+
+use crate::service::Service;
+use axum::Router;
+use axum::extract::{DefaultBodyLimit, Request, State};
+use axum::http::{HeaderName, header};
+use axum::middleware::{self, Next};
+use axum::response::{IntoResponse, Response};
+use axum::routing::{get, post};
+use problem::ApiError;
+use routes::{assessments, evaluate, keys, ops, sites, tables};
+use std::sync::Arc;
+use std::time::Duration;
+use tower_http::catch_panic::CatchPanicLayer;
+use tower_http::request_id::{MakeRequestUuid, PropagateRequestIdLayer, SetRequestIdLayer};
+use tower_http::sensitive_headers::SetSensitiveRequestHeadersLayer;
+use tower_http::trace::TraceLayer;
+use utoipa::OpenApi;
+use utoipa_swagger_ui::{Config, SwaggerUi};
+
+/// What every handler can reach. Cloned per request (all fields are shared
+/// handles).
+#[derive(Clone)]
+pub struct AppState {
+    pub service: Service,
+    pub metrics: metrics::Metrics,
+    pub rate: Arc<rate::RateLimiter>,
+}
+
+impl AppState {
+    pub fn new(service: Service) -> Self {
+        let rate = Arc::new(rate::RateLimiter::new(service.limits().rate_per_key));
+        AppState { service, metrics: metrics::Metrics::default(), rate }
+    }
+}
+
+const REQUEST_ID: HeaderName = HeaderName::from_static("x-request-id");
+
+/// The whole API.
+pub fn router(state: AppState) -> Router {
+    let body_limit = state.service.limits().body_bytes;
+    let timeout = Duration::from_secs(state.service.limits().request_timeout_s.max(1));
+    let api = Router::new()
+        .route("/v1/sites", post(sites::sites_create).get(sites::sites_list))
+        .route("/v1/sites/{site_id}", get(sites::sites_show).put(sites::sites_update).delete(sites::sites_delete))
+        .route("/v1/sites/{site_id}/revisions/{revision}", get(sites::sites_revision))
+        .route(
+            "/v1/sites/{site_id}/assessments",
+            post(assessments::assessments_create).get(assessments::assessments_list),
+        )
+        .route("/v1/assessments/{assessment_id}", get(assessments::assessments_show))
+        .route("/v1/tables", get(tables::tables_list).post(tables::tables_create))
+        .route("/v1/tables/{table_id}", get(tables::tables_show))
+        .route("/v1/tables/{table_id}/versions", post(tables::tables_version_add))
+        .route(
+            "/v1/tables/{table_id}/versions/{version}",
+            get(tables::tables_version_show).put(tables::tables_version_replace),
+        )
+        .route("/v1/evaluate", post(evaluate::evaluate))
+        .route("/v1/keys", get(keys::keys_list).post(keys::keys_create))
+        .route("/v1/keys/{key_id}", axum::routing::delete(keys::keys_revoke))
+        .route("/healthz", get(ops::healthz))
+        .route("/readyz", get(ops::readyz))
+        .route("/metrics", get(ops::metrics))
+        .fallback(|| async { ApiError::not_found("route") })
+        .method_not_allowed_fallback(|| async {
+            ApiError::new(
+                axum::http::StatusCode::METHOD_NOT_ALLOWED,
+                "method-not-allowed",
+                "Method not allowed",
+                "this route does not take that method",
+            )
+        })
+        .layer(middleware::from_fn_with_state(timeout, timeout_problem))
+        .layer(DefaultBodyLimit::max(body_limit))
+        .with_state(state.clone());
+    let docs = SwaggerUi::new("/docs")
+        .url("/openapi.json", openapi::ApiDoc::openapi())
+        .config(Config::new(["/openapi.json"]).validator_url("none").try_it_out_enabled(true));
+    Router::new()
+        .merge(api)
+        .merge(docs)
+        .layer(middleware::from_fn_with_state(state.metrics.clone(), metrics::track))
+        .layer(CatchPanicLayer::custom(|_| ApiError::internal().into_response()))
+        .layer(TraceLayer::new_for_http().make_span_with(|req: &Request| {
+            let id = req.headers().get(&REQUEST_ID).and_then(|v| v.to_str().ok()).unwrap_or("-");
+            // Path only: no query strings, bodies or credentials in logs.
+            tracing::info_span!("request", method = %req.method(), path = %req.uri().path(), request_id = %id)
+        }))
+        .layer(PropagateRequestIdLayer::new(REQUEST_ID))
+        .layer(SetRequestIdLayer::new(REQUEST_ID, MakeRequestUuid))
+        .layer(SetSensitiveRequestHeadersLayer::new([header::AUTHORIZATION]))
+}
+
+/// Answers 503 problem+json when a request runs past the timeout. CPU work
+/// already handed to the blocking pool finishes in the background.
+async fn timeout_problem(State(timeout): State<Duration>, req: Request, next: Next) -> Response {
+    match tokio::time::timeout(timeout, next.run(req)).await {
+        Ok(res) => res,
+        Err(_) => ApiError::timeout(timeout.as_secs()).into_response(),
+    }
+}

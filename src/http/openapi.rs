@@ -1,0 +1,435 @@
+//! The OpenAPI 3.1 document. Routes and HTTP-layer types are derived with
+//! utoipa; the domain's documents (which must not depend on utoipa) get
+//! their schemas here, written out once, with units in the descriptions.
+//! `tests/api` checks every key of the shipped examples against them.
+
+use crate::domain::cautions::CAUTIONS;
+use crate::http::routes;
+use serde_json::{Value, json};
+use std::borrow::Cow;
+use utoipa::openapi::security::{HttpAuthScheme, HttpBuilder, SecurityScheme};
+use utoipa::openapi::{RefOr, schema::Schema};
+use utoipa::{Modify, OpenApi, PartialSchema, ToSchema};
+
+fn from_json(v: Value) -> RefOr<Schema> {
+    serde_json::from_value(v).expect("hand-written schema is valid")
+}
+
+/// Declares the schema of a domain type by its JSON Schema.
+macro_rules! domain_schema {
+    ($ty:path, $name:literal, $json:expr) => {
+        impl PartialSchema for $ty {
+            fn schema() -> RefOr<Schema> {
+                from_json($json)
+            }
+        }
+        impl ToSchema for $ty {
+            fn name() -> Cow<'static, str> {
+                Cow::Borrowed($name)
+            }
+        }
+    };
+}
+
+fn r(name: &str) -> Value {
+    json!({ "$ref": format!("#/components/schemas/{name}") })
+}
+fn num(desc: &str) -> Value {
+    json!({ "type": "number", "description": desc })
+}
+fn text(desc: &str) -> Value {
+    json!({ "type": "string", "description": desc })
+}
+fn arr(items: Value, desc: &str) -> Value {
+    json!({ "type": "array", "items": items, "description": desc })
+}
+fn xyz(desc: &str) -> Value {
+    json!({ "type": "array", "items": { "type": "number" }, "minItems": 3, "maxItems": 3, "description": desc })
+}
+fn obj(desc: &str, required: &[&str], props: Value) -> Value {
+    json!({ "type": "object", "description": desc, "required": required, "properties": props, "additionalProperties": false })
+}
+fn one_of(values: &[&str], desc: &str) -> Value {
+    json!({ "type": "string", "enum": values, "description": desc })
+}
+
+use crate::domain::site::wire as w;
+
+domain_schema!(
+    w::SiteDoc,
+    "SiteDoc",
+    obj(
+        "A site model. Frame: metres, x east, y north, z up, ground at z = 0.",
+        &["frequency_hz", "conductors"],
+        json!({
+            "name": text("Site name"),
+            "frequency_hz": num("Fundamental frequency, Hz (1–3000)"),
+            "circuits": arr(r("CircuitDoc"), "Circuits whose phase currents drive conductors"),
+            "conductors": arr(r("ConductorDoc"), "Conductors as polylines"),
+            "positions": arr(r("PositionDoc"), "Worker positions"),
+            "areas": arr(r("AreaDoc"), "Work areas"),
+            "tables": arr(json!({"type": "string"}), "Reference-level table ids the site is assessed against by default"),
+        })
+    )
+);
+domain_schema!(
+    w::CircuitDoc,
+    "CircuitDoc",
+    obj(
+        "A circuit: balanced phase currents, with optional unbalance and harmonics. Phasors are RMS; positive sequence A = θ, B = θ − 120°, C = θ + 120°.",
+        &["id", "kind", "current_a"],
+        json!({
+            "id": text("Unique circuit id"),
+            "kind": one_of(&["three_phase", "single_phase"], "Circuit kind"),
+            "current_a": num("Present RMS current per phase, A (0 to 1e6)"),
+            "rated_current_a": num("Rated RMS current per phase, A"),
+            "sequence": one_of(&["positive", "negative"], "Phase sequence (default positive)"),
+            "angle_deg": num("Angle of phase A's phasor, degrees"),
+            "phases": r("PhaseOverridesDoc"),
+            "harmonics": arr(r("HarmonicDoc"), "Harmonic currents"),
+        })
+    )
+);
+domain_schema!(
+    w::PhaseOverridesDoc,
+    "PhaseOverridesDoc",
+    obj(
+        "Per-phase deviations from the balanced set (unbalance)",
+        &[],
+        json!({ "A": r("PhaseOverrideDoc"), "B": r("PhaseOverrideDoc"), "C": r("PhaseOverrideDoc") })
+    )
+);
+domain_schema!(
+    w::PhaseOverrideDoc,
+    "PhaseOverrideDoc",
+    obj(
+        "One phase's override",
+        &[],
+        json!({ "current_a": num("RMS current of this phase, A"), "angle_deg": num("Absolute angle of this phase, degrees") })
+    )
+);
+domain_schema!(
+    w::HarmonicDoc,
+    "HarmonicDoc",
+    obj(
+        "A harmonic: RMS percent/100 · |I_p| at angle angle_deg + order · φ_p",
+        &["order", "percent"],
+        json!({
+            "order": { "type": "integer", "minimum": 2, "maximum": 50, "description": "Harmonic order" },
+            "percent": num("RMS as percent of the phase's fundamental (0–100)"),
+            "angle_deg": num("Angle of phase A's harmonic, degrees"),
+        })
+    )
+);
+domain_schema!(
+    w::CurrentDoc,
+    "CurrentDoc",
+    obj(
+        "An explicit RMS phasor (fundamental only)",
+        &["rms_a"],
+        json!({ "rms_a": num("RMS current, A"), "phase_deg": num("Phase angle, degrees") })
+    )
+);
+domain_schema!(
+    w::ConductorDoc,
+    "ConductorDoc",
+    obj(
+        "A conductor: a polyline carrying a circuit's phase current (or a share of it), or an explicit phasor",
+        &["id", "path", "radius_m"],
+        json!({
+            "id": text("Unique conductor id"),
+            "path": arr(xyz("Vertex [x, y, z], m"), "Vertices in the direction of current flow (at least 2)"),
+            "radius_m": num("Conductor radius, m (0.1 mm – 2 m); points inside are flagged"),
+            "circuit": text("Circuit id (with phase)"),
+            "phase": one_of(&["A", "B", "C", "N"], "Phase of the circuit (N carries the return −(I_A + I_B + I_C))"),
+            "share": num("Fraction of the phase current in this conductor, (0, 1]"),
+            "current": r("CurrentDoc"),
+        })
+    )
+);
+domain_schema!(
+    w::PositionDoc,
+    "PositionDoc",
+    obj(
+        "A worker position: a standing point [x, y] evaluated at body heights, or a 3-D point [x, y, z]",
+        &["id", "at"],
+        json!({
+            "id": text("Unique position id"),
+            "at": json!({ "type": "array", "items": { "type": "number" }, "minItems": 2, "maxItems": 3, "description": "[x, y] or [x, y, z], m" }),
+            "heights_m": arr(json!({"type": "number"}), "Body heights above a standing point, m (default 0.5, 1.0, 1.5)"),
+            "body_region": one_of(&["whole_body", "limb"], "Which tables apply"),
+            "occupancy_h": num("Hours per day spent here (for the information-only time-weighted average)"),
+            "group": one_of(&["general", "implant_wearer"], "implant_wearer is also screened against the implant table"),
+        })
+    )
+);
+domain_schema!(
+    w::AreaDoc,
+    "AreaDoc",
+    obj(
+        "A work area: a polygon [[x, y], …] at height_m sampled on a square grid",
+        &["id", "polygon", "height_m", "spacing_m"],
+        json!({
+            "id": text("Unique area id"),
+            "polygon": arr(json!({ "type": "array", "items": { "type": "number" }, "minItems": 2, "maxItems": 2 }), "Simple polygon, m"),
+            "height_m": num("Height of the evaluation plane, m"),
+            "spacing_m": num("Grid spacing, m (0.01–100)"),
+            "occupancy_h": num("Hours per day spent here"),
+        })
+    )
+);
+
+use crate::domain::limits as l;
+
+domain_schema!(
+    l::TableDoc,
+    "TableDoc",
+    obj(
+        "A reference-level table: bands of B_RL(f) = coefficient · f^exponent µT RMS",
+        &["id", "title", "source", "applies_to", "kind", "bands"],
+        json!({
+            "id": text("Table id: letters, digits, '.', '-', '_'"),
+            "title": text("Title"),
+            "source": text("Full citation of the source document"),
+            "applies_to": r("AppliesTo"),
+            "kind": one_of(&["reference_level", "action_level", "screening"], "What the numbers are"),
+            "quantity": one_of(&["b_rms"], "Limited quantity (RMS flux density)"),
+            "bands": arr(r("Band"), "Non-overlapping, contiguous except at gaps"),
+            "gaps": arr(r("Gap"), "Ranges deliberately not covered"),
+            "notes": arr(json!({"type": "string"}), "Verification status and caveats"),
+        })
+    )
+);
+domain_schema!(
+    l::AppliesTo,
+    "AppliesTo",
+    obj(
+        "Who and which body region a table protects",
+        &["population", "body_region"],
+        json!({
+            "population": one_of(&["workers", "public", "implant_wearers"], "Population"),
+            "body_region": one_of(&["whole_body", "limbs"], "Body region"),
+        })
+    )
+);
+domain_schema!(
+    l::Band,
+    "Band",
+    obj(
+        "from_hz ≤ f < to_hz (a run's last band includes to_hz)",
+        &["from_hz", "to_hz", "coefficient", "exponent"],
+        json!({ "from_hz": num("Hz"), "to_hz": num("Hz"), "coefficient": num("µT · Hz^-exponent"), "exponent": num("Power of f (−4 to 4)") })
+    )
+);
+domain_schema!(
+    l::Gap,
+    "Gap",
+    obj(
+        "A frequency range not covered by the table",
+        &["from_hz", "to_hz"],
+        json!({ "from_hz": num("Hz"), "to_hz": num("Hz"), "reason": text("Why") })
+    )
+);
+
+use crate::domain::evaluate as e;
+
+domain_schema!(
+    e::EvaluateRequest,
+    "EvaluateRequest",
+    obj(
+        "Conductors and points; the document of `fluxbound evaluate`",
+        &["frequency_hz", "conductors", "points"],
+        json!({
+            "frequency_hz": num("Fundamental frequency, Hz"),
+            "circuits": arr(r("CircuitDoc"), "Optional circuits for conductors given by circuit and phase"),
+            "conductors": arr(r("ConductorDoc"), "Conductors"),
+            "points": arr(xyz("Point [x, y, z], m"), "Evaluation points"),
+        })
+    )
+);
+domain_schema!(
+    e::EvaluateResponse,
+    "EvaluateResponse",
+    obj(
+        "Field at every point in input order",
+        &["frequency_hz", "points", "segment_point_pairs", "cautions"],
+        json!({
+            "frequency_hz": num("Fundamental, Hz"),
+            "points": arr(r("PointResult"), "One per input point"),
+            "segment_point_pairs": { "type": "integer", "description": "Work done" },
+            "cautions": arr(json!({"type": "string"}), "Cautions that apply to every result"),
+        })
+    )
+);
+domain_schema!(
+    e::PointResult,
+    "PointResult",
+    obj(
+        "Field at one point; null values and inside_conductors when the point lies inside a conductor",
+        &["at", "resultant_ut", "maximum_ut", "frequencies", "inside_conductors"],
+        json!({
+            "at": xyz("The point, m"),
+            "resultant_ut": { "type": ["number", "null"], "description": "Resultant RMS flux density over all frequencies (quadrature sum), µT" },
+            "maximum_ut": { "type": ["number", "null"], "description": "RMS along the direction of largest field, µT" },
+            "frequencies": arr(r("FrequencyResult"), "Per frequency"),
+            "inside_conductors": arr(json!({"type": "string"}), "Conductors the point lies inside"),
+        })
+    )
+);
+domain_schema!(
+    e::FrequencyResult,
+    "FrequencyResult",
+    obj(
+        "Field at one frequency",
+        &["order", "frequency_hz", "resultant_ut", "maximum_ut", "components_ut"],
+        json!({
+            "order": { "type": "integer", "description": "Harmonic order (1 = fundamental)" },
+            "frequency_hz": num("Hz"),
+            "resultant_ut": num("Resultant RMS, µT"),
+            "maximum_ut": num("Major semi-axis of the polarisation ellipse (RMS), µT"),
+            "components_ut": r("ComponentsUt"),
+        })
+    )
+);
+domain_schema!(
+    e::ComponentsUt,
+    "ComponentsUt",
+    obj(
+        "Complex RMS components, µT",
+        &["x", "y", "z"],
+        json!({ "x": r("ComplexUt"), "y": r("ComplexUt"), "z": r("ComplexUt") })
+    )
+);
+domain_schema!(
+    e::ComplexUt,
+    "ComplexUt",
+    obj(
+        "A complex value, µT RMS",
+        &["re", "im"],
+        json!({ "re": num("Real part, µT"), "im": num("Imaginary part, µT") })
+    )
+);
+
+use crate::domain::assess as a;
+
+domain_schema!(
+    a::LoadCase,
+    "LoadCase",
+    json!({
+        "description": "The currents to assess at",
+        "oneOf": [
+            obj("Each circuit's present current_a", &["kind"], json!({ "kind": one_of(&["present"], "") })),
+            obj("Each circuit's rated_current_a", &["kind"], json!({ "kind": one_of(&["rated"], "") })),
+            obj("Explicit nominal RMS phase currents by circuit id, A", &["kind", "currents_a"], json!({
+                "kind": one_of(&["currents"], ""),
+                "currents_a": { "type": "object", "additionalProperties": { "type": "number" } },
+            })),
+            obj("Factors on the present currents by circuit id", &["kind", "factors"], json!({
+                "kind": one_of(&["scale"], ""),
+                "factors": { "type": "object", "additionalProperties": { "type": "number" } },
+            })),
+        ]
+    })
+);
+domain_schema!(
+    a::Assessment,
+    "Assessment",
+    json!({
+        "type": "object",
+        "description": "An assessment result. B values are resultant RMS flux density in µT; ratio = Σ_f B_f / B_RL(f); verdicts: within, approaching, exceeds, not_covered, not_computed.",
+        "required": ["frequency_hz", "load_case", "review_fraction", "tables", "positions", "areas", "summary", "notes", "cautions"],
+        "properties": {
+            "site_name": { "type": ["string", "null"] },
+            "frequency_hz": num("Fundamental, Hz"),
+            "load_case": { "type": "object", "description": "kind and per-circuit present_a / assessed_a, A" },
+            "review_fraction": num("Ratio from which a result is approaching"),
+            "tables": arr(json!({ "type": "object", "description": "id, version, title, kind, applies_to, source" }), "Tables used, pinned by version"),
+            "positions": arr(json!({ "type": "object", "description": "Per position: heights[] (height_m, resultant_ut, maximum_ut, comparisons), max_resultant_ut, mean_resultant_ut, comparisons[] (table_id, ratio, verdict, worst_height_m, ratio_of_height_mean, level_ut), verdict, time_weighted" }), "Positions"),
+            "areas": arr(json!({ "type": "object", "description": "Per area: cells, cells_inside_conductors, max_resultant_ut, max_at, mean_resultant_ut, comparisons[] (table_id, max_ratio, share_at_or_above_level, share_at_or_above_review, verdict), verdict" }), "Areas"),
+            "summary": { "type": "object", "description": "worst_verdict and the ids of positions and areas exceeding or approaching" },
+            "notes": arr(json!({"type": "string"}), "How the numbers were formed"),
+            "cautions": arr(json!({"type": "string"}), "Cautions that apply to every result"),
+        }
+    })
+);
+
+use crate::service as s;
+
+domain_schema!(
+    s::AssessmentRequest,
+    "AssessmentRequest",
+    obj(
+        "What to assess; every field optional",
+        &[],
+        json!({
+            "revision": { "type": "integer", "description": "Site revision (default: latest)" },
+            "load": r("LoadCase"),
+            "tables": arr(json!({"type": "string"}), "Table ids (default: the site's own, else icnirp-2010-occupational, eu-2013-35-low, eu-2013-35-limbs)"),
+            "options": obj("Options", &[], json!({ "review_fraction": num("0 < fraction < 1, default 0.5") })),
+        })
+    )
+);
+
+struct Security;
+
+impl Modify for Security {
+    fn modify(&self, openapi: &mut utoipa::openapi::OpenApi) {
+        let components = openapi.components.get_or_insert_with(Default::default);
+        components.add_security_scheme(
+            "bearer",
+            SecurityScheme::Http(HttpBuilder::new().scheme(HttpAuthScheme::Bearer).build()),
+        );
+        openapi.info.description = Some(description());
+    }
+}
+
+fn description() -> String {
+    let mut d = String::from(
+        "Pre-screening of occupational exposure to power-frequency magnetic fields: sites with revisions, \
+         reference-level tables, stored assessments and a stateless field evaluation. Errors are RFC 9457 \
+         problem+json with JSON pointers. Authenticate with `Authorization: Bearer <API key>`.\n\n**Cautions.**",
+    );
+    for c in CAUTIONS {
+        d.push_str("\n- ");
+        d.push_str(c);
+    }
+    d
+}
+
+#[derive(OpenApi)]
+#[openapi(
+    info(title = "Fluxbound API", license(name = "MIT OR Apache-2.0", identifier = "MIT OR Apache-2.0")),
+    paths(
+        routes::sites::sites_create, routes::sites::sites_list, routes::sites::sites_show, routes::sites::sites_update,
+        routes::sites::sites_revision, routes::sites::sites_delete,
+        routes::assessments::assessments_create, routes::assessments::assessments_list, routes::assessments::assessments_show,
+        routes::tables::tables_list, routes::tables::tables_create, routes::tables::tables_show,
+        routes::tables::tables_version_add, routes::tables::tables_version_show, routes::tables::tables_version_replace,
+        routes::evaluate::evaluate,
+        routes::keys::keys_list, routes::keys::keys_create, routes::keys::keys_revoke,
+        routes::ops::healthz, routes::ops::readyz, routes::ops::metrics,
+    ),
+    components(schemas(
+        w::SiteDoc, w::CircuitDoc, w::PhaseOverridesDoc, w::PhaseOverrideDoc, w::HarmonicDoc, w::CurrentDoc, w::ConductorDoc,
+        w::PositionDoc, w::AreaDoc, l::TableDoc, l::AppliesTo, l::Band, l::Gap,
+        e::EvaluateRequest, e::EvaluateResponse, e::PointResult, e::FrequencyResult, e::ComponentsUt, e::ComplexUt,
+        a::LoadCase, a::Assessment, s::AssessmentRequest,
+    )),
+    modifiers(&Security),
+    tags(
+        (name = "sites", description = "Site models with immutable revisions (ETag / If-Match)"),
+        (name = "assessments", description = "Assessments pinned to a site revision and table versions"),
+        (name = "tables", description = "Reference-level tables: built-in (read-only) and custom (versioned)"),
+        (name = "evaluate", description = "Stateless field computation"),
+        (name = "keys", description = "API keys (admin)"),
+        (name = "operations", description = "Health, readiness, metrics"),
+    )
+)]
+pub struct ApiDoc;
+
+/// The document as pretty JSON with a trailing newline (the committed form).
+pub fn openapi_json() -> String {
+    let mut s = ApiDoc::openapi().to_pretty_json().expect("OpenAPI serialises");
+    s.push('\n');
+    s
+}

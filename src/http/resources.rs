@@ -1,0 +1,187 @@
+//! Response bodies of the API (the wire shapes; units in the field names of
+//! the domain documents they carry).
+
+use crate::domain::assess::Assessment;
+use crate::domain::limits::TableDoc;
+use crate::domain::site::wire::SiteDoc;
+use crate::service::{AssessmentRequest, AssessmentView, SiteView, TableView};
+use crate::store::{KeyRow, SiteRow};
+use serde::{Deserialize, Serialize};
+use utoipa::ToSchema;
+
+/// A site at one revision.
+#[derive(Debug, Serialize, ToSchema)]
+pub struct SiteResource {
+    pub id: String,
+    pub name: String,
+    /// This revision's number (1, 2, …); also the `ETag`.
+    pub revision: i64,
+    pub latest_revision: i64,
+    pub created_at: String,
+    pub updated_at: String,
+    pub site: SiteDoc,
+}
+
+impl From<SiteView> for SiteResource {
+    fn from(v: SiteView) -> Self {
+        SiteResource {
+            id: v.row.site.id,
+            name: v.row.site.name,
+            revision: v.row.revision,
+            latest_revision: v.row.site.latest_revision,
+            created_at: v.row.site.created_at,
+            updated_at: v.row.site.updated_at,
+            site: v.doc,
+        }
+    }
+}
+
+/// A site in a list (no document).
+#[derive(Debug, Serialize, ToSchema)]
+pub struct SiteSummary {
+    pub id: String,
+    pub name: String,
+    pub latest_revision: i64,
+    pub created_at: String,
+    pub updated_at: String,
+}
+
+impl From<SiteRow> for SiteSummary {
+    fn from(r: SiteRow) -> Self {
+        SiteSummary {
+            id: r.id,
+            name: r.name,
+            latest_revision: r.latest_revision,
+            created_at: r.created_at,
+            updated_at: r.updated_at,
+        }
+    }
+}
+
+#[derive(Debug, Serialize, ToSchema)]
+pub struct SitePage {
+    pub items: Vec<SiteSummary>,
+    /// Pass as `cursor` to get the next page; absent on the last page.
+    pub next_cursor: Option<String>,
+}
+
+#[derive(Debug, Serialize, ToSchema)]
+pub struct TableVersionResource {
+    pub version: i64,
+    /// True once an assessment used this version: it can no longer change.
+    pub used: bool,
+    pub created_at: Option<String>,
+    pub updated_at: Option<String>,
+}
+
+/// A reference-level table at one version, with the list of its versions.
+#[derive(Debug, Serialize, ToSchema)]
+pub struct TableResource {
+    pub id: String,
+    pub builtin: bool,
+    pub version: u32,
+    pub latest_version: i64,
+    pub versions: Vec<TableVersionResource>,
+    pub table: TableDoc,
+}
+
+impl From<TableView> for TableResource {
+    fn from(v: TableView) -> Self {
+        TableResource {
+            id: v.table.id().to_string(),
+            builtin: v.builtin,
+            version: v.table.version(),
+            latest_version: v.latest_version,
+            versions: v
+                .versions
+                .into_iter()
+                .map(|i| TableVersionResource {
+                    version: i.version,
+                    used: i.used,
+                    created_at: i.created_at,
+                    updated_at: i.updated_at,
+                })
+                .collect(),
+            table: v.table.doc().clone(),
+        }
+    }
+}
+
+#[derive(Debug, Serialize, ToSchema)]
+pub struct TableList {
+    pub items: Vec<TableResource>,
+}
+
+/// A stored assessment: the request, the pinned site revision and the result.
+#[derive(Debug, Serialize, ToSchema)]
+pub struct AssessmentResource {
+    pub id: String,
+    pub site_id: String,
+    pub site_revision: i64,
+    pub created_at: String,
+    pub request: AssessmentRequest,
+    pub result: Assessment,
+}
+
+impl From<AssessmentView> for AssessmentResource {
+    fn from(v: AssessmentView) -> Self {
+        AssessmentResource {
+            id: v.row.id,
+            site_id: v.row.site_id,
+            site_revision: v.row.site_revision,
+            created_at: v.row.created_at,
+            request: v.request,
+            result: v.result,
+        }
+    }
+}
+
+#[derive(Debug, Serialize, ToSchema)]
+pub struct AssessmentPage {
+    pub items: Vec<AssessmentResource>,
+    pub next_cursor: Option<String>,
+}
+
+/// An API key (never its secret).
+#[derive(Debug, Serialize, ToSchema)]
+pub struct KeyResource {
+    pub id: String,
+    /// `viewer`, `assessor` or `admin`.
+    pub role: String,
+    pub label: Option<String>,
+    pub created_at: String,
+    pub revoked_at: Option<String>,
+}
+
+impl From<KeyRow> for KeyResource {
+    fn from(r: KeyRow) -> Self {
+        KeyResource { id: r.id, role: r.role, label: r.label, created_at: r.created_at, revoked_at: r.revoked_at }
+    }
+}
+
+#[derive(Debug, Serialize, ToSchema)]
+pub struct KeyList {
+    pub items: Vec<KeyResource>,
+}
+
+/// A new key. `secret` is shown once and never again.
+#[derive(Debug, Serialize, ToSchema)]
+pub struct KeyCreated {
+    pub key: KeyResource,
+    /// The bearer token: `Authorization: Bearer <secret>`.
+    pub secret: String,
+}
+
+#[derive(Debug, Deserialize, ToSchema)]
+#[serde(deny_unknown_fields)]
+pub struct KeyCreate {
+    /// `viewer`, `assessor` or `admin`.
+    pub role: String,
+    pub label: Option<String>,
+}
+
+#[derive(Debug, Serialize, ToSchema)]
+pub struct Health {
+    /// `ok`.
+    pub status: String,
+}

@@ -1,0 +1,72 @@
+//! Assessments of a site revision.
+
+use super::json_response;
+use crate::http::AppState;
+use crate::http::extract::{ApiJson, Auth, PageQuery, check_id};
+use crate::http::problem::{ApiError, ProblemDoc};
+use crate::http::resources::{AssessmentPage, AssessmentResource};
+use crate::service::AssessmentRequest;
+use axum::extract::{Path, State};
+use axum::http::{StatusCode, Uri};
+use axum::response::Response;
+
+/// Assess a site (latest or a given revision) and store the result.
+#[utoipa::path(post, path = "/v1/sites/{site_id}/assessments", tag = "assessments", request_body = AssessmentRequest,
+    params(("site_id" = String, Path, description = "Site id")),
+    responses(
+        (status = 201, description = "Assessed and stored, pinned to the site revision and table versions", body = AssessmentResource),
+        (status = 404, description = "No such site or revision", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 409, description = "A custom table changed while assessing; retry", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 422, description = "Problems (unknown tables, load case, options) or compute budget exceeded", body = ProblemDoc, content_type = "application/problem+json"),
+    ),
+    security(("bearer" = [])))]
+pub async fn assessments_create(
+    State(s): State<AppState>,
+    Auth(caller): Auth,
+    Path(site_id): Path<String>,
+    ApiJson(req): ApiJson<AssessmentRequest>,
+) -> Result<Response, ApiError> {
+    check_id(&site_id, "site")?;
+    let v = s.service.assessments_create(&caller, &site_id, req).await?;
+    let location = format!("/v1/assessments/{}", v.row.id);
+    Ok(json_response(StatusCode::CREATED, &AssessmentResource::from(v), Some(location), None))
+}
+
+/// List a site's assessments, oldest first.
+#[utoipa::path(get, path = "/v1/sites/{site_id}/assessments", tag = "assessments",
+    params(("site_id" = String, Path, description = "Site id"), PageQuery),
+    responses(
+        (status = 200, description = "A page of assessments", body = AssessmentPage),
+        (status = 404, description = "No such site", body = ProblemDoc, content_type = "application/problem+json"),
+    ),
+    security(("bearer" = [])))]
+pub async fn assessments_list(
+    State(s): State<AppState>,
+    Auth(caller): Auth,
+    Path(site_id): Path<String>,
+    uri: Uri,
+) -> Result<Response, ApiError> {
+    check_id(&site_id, "site")?;
+    let q = PageQuery::from_uri(&uri)?;
+    let (items, next) = s.service.assessments_list(&caller, &site_id, q.cursor.as_deref(), q.limit()?).await?;
+    let page = AssessmentPage { items: items.into_iter().map(AssessmentResource::from).collect(), next_cursor: next };
+    Ok(json_response(StatusCode::OK, &page, None, None))
+}
+
+/// Read a stored assessment.
+#[utoipa::path(get, path = "/v1/assessments/{assessment_id}", tag = "assessments",
+    params(("assessment_id" = String, Path, description = "Assessment id")),
+    responses(
+        (status = 200, description = "The assessment", body = AssessmentResource),
+        (status = 404, description = "No such assessment in your organisation", body = ProblemDoc, content_type = "application/problem+json"),
+    ),
+    security(("bearer" = [])))]
+pub async fn assessments_show(
+    State(s): State<AppState>,
+    Auth(caller): Auth,
+    Path(id): Path<String>,
+) -> Result<Response, ApiError> {
+    check_id(&id, "assessment")?;
+    let v = s.service.assessments_show(&caller, &id).await?;
+    Ok(json_response(StatusCode::OK, &AssessmentResource::from(v), None, None))
+}

@@ -1,0 +1,27 @@
+//! `POST /v1/evaluate`: the stateless document of `fluxbound evaluate`.
+
+use super::json_response;
+use crate::domain::evaluate::{EvaluateRequest, EvaluateResponse};
+use crate::http::AppState;
+use crate::http::extract::{ApiJson, Auth};
+use crate::http::problem::{ApiError, ProblemDoc};
+use axum::extract::State;
+use axum::http::StatusCode;
+use axum::response::Response;
+
+/// Field of conductors at points (same JSON as the CLI's `evaluate`).
+#[utoipa::path(post, path = "/v1/evaluate", tag = "evaluate", request_body = EvaluateRequest,
+    responses(
+        (status = 200, description = "Field at every point, in input order, with the cautions", body = EvaluateResponse),
+        (status = 400, description = "Malformed JSON", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 422, description = "Validation problems, or the compute budget (segment-point pairs) is exceeded", body = ProblemDoc, content_type = "application/problem+json"),
+    ),
+    security(("bearer" = [])))]
+pub async fn evaluate(
+    State(s): State<AppState>,
+    Auth(caller): Auth,
+    ApiJson(req): ApiJson<EvaluateRequest>,
+) -> Result<Response, ApiError> {
+    let out = s.service.evaluate(&caller, req).await?;
+    Ok(json_response(StatusCode::OK, &out, None, None))
+}

@@ -1,0 +1,59 @@
+//! API keys of the caller's organisation (admin role).
+
+use super::json_response;
+use crate::domain::site::{Problem, Problems};
+use crate::http::AppState;
+use crate::http::extract::{ApiJson, Auth, check_id};
+use crate::http::problem::{ApiError, ProblemDoc};
+use crate::http::resources::{KeyCreate, KeyCreated, KeyList, KeyResource};
+use crate::service::Role;
+use axum::extract::{Path, State};
+use axum::http::StatusCode;
+use axum::response::{IntoResponse, Response};
+
+/// List keys (never secrets).
+#[utoipa::path(get, path = "/v1/keys", tag = "keys",
+    responses((status = 200, description = "Keys", body = KeyList),
+              (status = 403, description = "Needs the admin role", body = ProblemDoc, content_type = "application/problem+json")),
+    security(("bearer" = [])))]
+pub async fn keys_list(State(s): State<AppState>, Auth(caller): Auth) -> Result<Response, ApiError> {
+    let items = s.service.keys_list(&caller).await?.into_iter().map(KeyResource::from).collect();
+    Ok(json_response(StatusCode::OK, &KeyList { items }, None, None))
+}
+
+/// Create a key; its secret is in this answer only.
+#[utoipa::path(post, path = "/v1/keys", tag = "keys", request_body = KeyCreate,
+    responses((status = 201, description = "Created", body = KeyCreated),
+              (status = 403, description = "Needs the admin role", body = ProblemDoc, content_type = "application/problem+json"),
+              (status = 422, description = "Unknown role", body = ProblemDoc, content_type = "application/problem+json")),
+    security(("bearer" = [])))]
+pub async fn keys_create(
+    State(s): State<AppState>,
+    Auth(caller): Auth,
+    ApiJson(req): ApiJson<KeyCreate>,
+) -> Result<Response, ApiError> {
+    let role = Role::parse(&req.role).ok_or_else(|| {
+        ApiError::validation(Problems(vec![Problem {
+            pointer: "/role".into(),
+            detail: "role must be viewer, assessor or admin".into(),
+        }]))
+    })?;
+    let (row, secret) = s.service.keys_create(&caller, role, req.label.as_deref()).await?;
+    let body = KeyCreated { key: KeyResource::from(row), secret };
+    Ok(json_response(StatusCode::CREATED, &body, None, None))
+}
+
+/// Revoke a key.
+#[utoipa::path(delete, path = "/v1/keys/{key_id}", tag = "keys", params(("key_id" = String, Path, description = "Key id")),
+    responses((status = 204, description = "Revoked"),
+              (status = 404, description = "No such key", body = ProblemDoc, content_type = "application/problem+json")),
+    security(("bearer" = [])))]
+pub async fn keys_revoke(
+    State(s): State<AppState>,
+    Auth(caller): Auth,
+    Path(id): Path<String>,
+) -> Result<Response, ApiError> {
+    check_id(&id, "key")?;
+    s.service.keys_revoke(&caller, &id).await?;
+    Ok(StatusCode::NO_CONTENT.into_response())
+}

@@ -1,0 +1,160 @@
+//! Assessments: run against a pinned site revision and pinned table
+//! versions, stored, read back.
+
+use super::{Caller, Result, Role, Service, ServiceError, page_limit, stored, tables::stored_table, to_json};
+use crate::domain::assess::{self, Assessment, LoadCase, Options};
+use crate::domain::limits::{DEFAULT_TABLE_IDS, ReferenceTable, builtin_table};
+use crate::domain::site::wire::SiteDoc;
+use crate::domain::site::{Pointer, Problems, validate_site};
+use crate::store::{AssessmentRow, NewAssessment, PinnedVersion};
+use serde::{Deserialize, Serialize};
+
+/// What to assess: which revision (latest if absent), at which load, against
+/// which tables (else the site's own, else the default set).
+#[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct AssessmentRequest {
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub revision: Option<i64>,
+    #[serde(default)]
+    pub load: LoadCase,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub tables: Option<Vec<String>>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub options: Option<AssessmentOptions>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct AssessmentOptions {
+    /// Ratio from which a result is `approaching` (0 < fraction < 1).
+    #[serde(default = "half")]
+    pub review_fraction: f64,
+}
+
+fn half() -> f64 {
+    0.5
+}
+
+#[derive(Debug, Clone, PartialEq)]
+pub struct AssessmentView {
+    pub row: AssessmentRow,
+    pub request: AssessmentRequest,
+    pub result: Assessment,
+}
+
+fn view(row: AssessmentRow) -> Result<AssessmentView> {
+    Ok(AssessmentView { request: stored(&row.request)?, result: stored(&row.result)?, row })
+}
+
+impl Service {
+    /// Tables by id: built-ins, else the organisation's latest version
+    /// (pinned so the store can freeze exactly what was used).
+    async fn resolve_tables(
+        &self,
+        caller: &Caller,
+        ids: &[String],
+        at: &Pointer,
+    ) -> Result<(Vec<ReferenceTable>, Vec<PinnedVersion>)> {
+        let mut tables = Vec::new();
+        let mut pinned = Vec::new();
+        let mut problems = Problems::default();
+        for (i, id) in ids.iter().enumerate() {
+            if let Some(t) = builtin_table(id) {
+                tables.push(t.clone());
+            } else if let Some(v) = self.store().table_version(&caller.org_id, id, None).await? {
+                tables.push(stored_table(&v)?);
+                pinned.push(PinnedVersion { table_id: v.table_id, version: v.version, updated_at: v.updated_at });
+            } else {
+                problems.push(&at.index(i), format!("unknown reference-level table '{id}'"));
+            }
+        }
+        problems.into_result((tables, pinned)).map_err(ServiceError::Validation)
+    }
+
+    #[tracing::instrument(name = "assessments_create", skip_all, fields(org = %caller.org_id, site = %site_id))]
+    pub async fn assessments_create(
+        &self,
+        caller: &Caller,
+        site_id: &str,
+        request: AssessmentRequest,
+    ) -> Result<AssessmentView> {
+        caller.require(Role::Assessor)?;
+        let rev = match request.revision {
+            Some(r) => self
+                .store()
+                .site_revision(&caller.org_id, site_id, r)
+                .await?
+                .ok_or(ServiceError::NotFound("site revision"))?,
+            None => self.store().site_latest(&caller.org_id, site_id).await?.ok_or(ServiceError::NotFound("site"))?,
+        };
+        let doc: SiteDoc = stored(&rev.body)?;
+        let site = validate_site(&doc).map_err(ServiceError::Validation)?;
+        let budget = self.limits().check_assessment_budget(&site);
+        if !budget.is_empty() {
+            return Err(ServiceError::TooBig(budget));
+        }
+        let (ids, at) = match (&request.tables, site.tables.is_empty()) {
+            (Some(ids), _) => (ids.clone(), Pointer::root().key("tables")),
+            (None, false) => (site.tables.clone(), Pointer::root().key("site").key("tables")),
+            (None, true) => (DEFAULT_TABLE_IDS.iter().map(|s| s.to_string()).collect(), Pointer::root().key("tables")),
+        };
+        let (tables, pinned) = self.resolve_tables(caller, &ids, &at).await?;
+        let options = Options {
+            review_fraction: request.options.as_ref().map_or(0.5, |o| o.review_fraction),
+            max_grid_cells: self.limits().max_grid_cells,
+        };
+        let load = request.load.clone();
+        let pairs = super::bounds::segment_count(&site) as u64;
+        let result = self
+            .compute(move || assess::assess(&site, &load, &tables, &options))
+            .await?
+            .map_err(ServiceError::Validation)?;
+        let points: u64 = result.positions.iter().map(|p| p.heights.len() as u64).sum::<u64>()
+            + result.areas.iter().map(|a| a.cells as u64).sum::<u64>();
+        self.count_pairs(pairs * points);
+        let worst = serde_json::to_value(result.summary.worst_verdict)
+            .ok()
+            .and_then(|v| v.as_str().map(String::from))
+            .unwrap_or_default();
+        let row = self
+            .store()
+            .assessment_insert(NewAssessment {
+                org_id: &caller.org_id,
+                site_id: &rev.site.id,
+                site_revision: rev.revision,
+                request: &to_json(&request),
+                result: &to_json(&result),
+                worst_verdict: &worst,
+                pinned: &pinned,
+            })
+            .await?
+            .ok_or_else(|| {
+                ServiceError::Conflict("a custom table changed while the assessment ran: try again".into())
+            })?;
+        tracing::info!(assessment = %row.id, revision = rev.revision, worst = %worst, "assessment stored");
+        Ok(AssessmentView { row, request, result })
+    }
+
+    #[tracing::instrument(name = "assessments_show", skip_all, fields(org = %caller.org_id, assessment = %id))]
+    pub async fn assessments_show(&self, caller: &Caller, id: &str) -> Result<AssessmentView> {
+        caller.require(Role::Viewer)?;
+        view(self.store().assessment_get(&caller.org_id, id).await?.ok_or(ServiceError::NotFound("assessment"))?)
+    }
+
+    #[tracing::instrument(name = "assessments_list", skip_all, fields(org = %caller.org_id, site = %site_id))]
+    pub async fn assessments_list(
+        &self,
+        caller: &Caller,
+        site_id: &str,
+        cursor: Option<&str>,
+        limit: Option<i64>,
+    ) -> Result<(Vec<AssessmentView>, Option<String>)> {
+        caller.require(Role::Viewer)?;
+        let limit = page_limit(limit)?;
+        self.store().site_latest(&caller.org_id, site_id).await?.ok_or(ServiceError::NotFound("site"))?;
+        let rows = self.store().assessments_list(&caller.org_id, site_id, cursor, limit + 1).await?;
+        let (rows, next) = super::paginate(rows, limit, |r| r.id.clone());
+        Ok((rows.into_iter().map(view).collect::<Result<Vec<_>>>()?, next))
+    }
+}

@@ -1,0 +1,162 @@
+//! API keys and roles. A key reads `fxb_<key id>_<secret>`: the id finds the
+//! row, the SHA-256 of the secret is compared in constant time. Secrets are
+//! 256 random bits, so a plain hash is enough (no password stretching).
+
+use super::{Result, Service, ServiceError};
+use crate::store::KeyRow;
+use serde::{Deserialize, Serialize};
+use sha2::{Digest, Sha256};
+
+/// Roles, each including the ones below it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Role {
+    /// Reads.
+    Viewer,
+    /// Also writes sites, tables and assessments.
+    Assessor,
+    /// Also manages keys.
+    Admin,
+}
+
+impl Role {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Role::Viewer => "viewer",
+            Role::Assessor => "assessor",
+            Role::Admin => "admin",
+        }
+    }
+    pub fn parse(s: &str) -> Option<Role> {
+        match s {
+            "viewer" => Some(Role::Viewer),
+            "assessor" => Some(Role::Assessor),
+            "admin" => Some(Role::Admin),
+            _ => None,
+        }
+    }
+}
+
+impl std::fmt::Display for Role {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.as_str())
+    }
+}
+
+/// Who is calling: the organisation every query is scoped to, and the role.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Caller {
+    pub org_id: String,
+    pub key_id: String,
+    pub role: Role,
+}
+
+impl Caller {
+    /// Ok if the caller's role includes `needed`.
+    pub fn require(&self, needed: Role) -> Result<()> {
+        if self.role >= needed { Ok(()) } else { Err(ServiceError::Forbidden(needed)) }
+    }
+}
+
+/// Hex SHA-256 of a key's secret part.
+pub fn hash_secret(secret: &str) -> String {
+    hex(&Sha256::digest(secret.as_bytes()))
+}
+
+fn hex(bytes: &[u8]) -> String {
+    bytes.iter().map(|b| format!("{b:02x}")).collect()
+}
+
+/// Equality that takes the same time wherever the inputs differ.
+fn constant_time_eq(a: &[u8], b: &[u8]) -> bool {
+    a.len() == b.len() && a.iter().zip(b).fold(0u8, |acc, (x, y)| acc | (x ^ y)) == 0
+}
+
+const PREFIX: &str = "fxb_";
+
+fn split_token(token: &str) -> Option<(&str, &str)> {
+    let rest = token.strip_prefix(PREFIX)?;
+    let (id, secret) = rest.split_once('_')?;
+    (id.len() == 32 && secret.len() == 64 && id.chars().chain(secret.chars()).all(|c| c.is_ascii_hexdigit()))
+        .then_some((id, secret))
+}
+
+/// A new random secret: 32 bytes from the OS-seeded thread RNG, as hex.
+fn new_secret() -> String {
+    use rand::Rng;
+    let mut bytes = [0u8; 32];
+    rand::rng().fill_bytes(&mut bytes);
+    hex(&bytes)
+}
+
+impl Service {
+    /// Resolves a bearer token to its caller.
+    pub async fn authenticate(&self, token: &str) -> Result<Caller> {
+        let (id, secret) = split_token(token).ok_or(ServiceError::Unauthorized)?;
+        let row = self.store().key_find(id).await?.ok_or(ServiceError::Unauthorized)?;
+        let ok = constant_time_eq(hash_secret(secret).as_bytes(), row.secret_sha256.as_bytes());
+        if !ok || row.revoked_at.is_some() {
+            return Err(ServiceError::Unauthorized);
+        }
+        let role =
+            Role::parse(&row.role).ok_or_else(|| ServiceError::Internal("stored key has an unknown role".into()))?;
+        Ok(Caller { org_id: row.org_id, key_id: row.id, role })
+    }
+
+    /// Creates a key in organisation `org_name` (created if needed); returns
+    /// the row and the full token, which is shown once and never stored.
+    pub async fn keys_create_for_org(
+        &self,
+        org_name: &str,
+        role: Role,
+        label: Option<&str>,
+    ) -> Result<(KeyRow, String)> {
+        let name = org_name.trim();
+        if name.is_empty() || name.chars().count() > 100 {
+            return Err(ServiceError::Validation(super::one_problem(
+                "/org",
+                "organisation name must be 1–100 characters",
+            )));
+        }
+        let org = self.store().org_ensure(name).await?;
+        self.key_new(&org.id, role, label).await
+    }
+
+    async fn key_new(&self, org_id: &str, role: Role, label: Option<&str>) -> Result<(KeyRow, String)> {
+        if label.is_some_and(|l| l.chars().count() > 100) {
+            return Err(ServiceError::Validation(super::one_problem("/label", "label must be at most 100 characters")));
+        }
+        let secret = new_secret();
+        let row = self.store().key_insert(org_id, role.as_str(), &hash_secret(&secret), label).await?;
+        let token = format!("{PREFIX}{}_{secret}", row.id);
+        Ok((row, token))
+    }
+
+    /// Creates a key in the caller's organisation (admin only).
+    pub async fn keys_create(&self, caller: &Caller, role: Role, label: Option<&str>) -> Result<(KeyRow, String)> {
+        caller.require(Role::Admin)?;
+        self.key_new(&caller.org_id, role, label).await
+    }
+
+    pub async fn keys_list(&self, caller: &Caller) -> Result<Vec<KeyRow>> {
+        caller.require(Role::Admin)?;
+        Ok(self.store().keys_list(&caller.org_id).await?)
+    }
+
+    pub async fn keys_revoke(&self, caller: &Caller, key_id: &str) -> Result<()> {
+        caller.require(Role::Admin)?;
+        if self.store().key_revoke(&caller.org_id, key_id).await? { Ok(()) } else { Err(ServiceError::NotFound("key")) }
+    }
+
+    /// Lists keys of an organisation by name (CLI; no caller).
+    pub async fn keys_list_for_org(&self, org_name: &str) -> Result<Vec<KeyRow>> {
+        let org = self.store().org_by_name(org_name).await?.ok_or(ServiceError::NotFound("organisation"))?;
+        Ok(self.store().keys_list(&org.id).await?)
+    }
+
+    /// Revokes a key by id in an organisation given by name (CLI).
+    pub async fn keys_revoke_for_org(&self, org_name: &str, key_id: &str) -> Result<()> {
+        let org = self.store().org_by_name(org_name).await?.ok_or(ServiceError::NotFound("organisation"))?;
+        if self.store().key_revoke(&org.id, key_id).await? { Ok(()) } else { Err(ServiceError::NotFound("key")) }
+    }
+}

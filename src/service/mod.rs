@@ -1,0 +1,123 @@
+//! Use cases: one function per thing a caller can do. Owns authorisation,
+//! transactions (through the store), size bounds and compute budgets, and
+//! runs CPU-heavy field work off the async threads.
+
+mod assessments;
+mod auth;
+mod bounds;
+mod evaluate;
+mod sites;
+mod tables;
+
+pub use assessments::{AssessmentRequest, AssessmentView};
+pub use auth::{Caller, Role, hash_secret};
+pub use bounds::Limits;
+pub use sites::SiteView;
+pub use tables::{TableVersionInfo, TableView};
+
+use crate::domain::site::Problems;
+use crate::store::{Store, StoreError};
+use std::sync::Arc;
+use std::sync::atomic::{AtomicU64, Ordering};
+
+/// Failures of a use case. The HTTP layer maps each to a status once.
+#[derive(Debug, thiserror::Error)]
+pub enum ServiceError {
+    #[error("the request has problems")]
+    Validation(Problems),
+    #[error("the request exceeds a size or compute bound")]
+    TooBig(Problems),
+    #[error("{0} not found")]
+    NotFound(&'static str),
+    #[error("conflict: {0}")]
+    Conflict(String),
+    #[error("the resource changed: latest revision is {current}")]
+    PreconditionFailed { current: i64 },
+    #[error("If-Match with the revision's ETag is required")]
+    PreconditionRequired,
+    #[error("this needs the {0} role")]
+    Forbidden(Role),
+    #[error("missing or invalid API key")]
+    Unauthorized,
+    #[error("storage: {0}")]
+    Store(#[from] StoreError),
+    #[error("internal: {0}")]
+    Internal(String),
+}
+
+impl ServiceError {
+    pub fn is_client_error(&self) -> bool {
+        !matches!(self, ServiceError::Store(_) | ServiceError::Internal(_))
+    }
+}
+
+pub type Result<T> = std::result::Result<T, ServiceError>;
+
+/// Shared state of the use cases. Cheap to clone; the counter is shared by
+/// all clones and only ever increases.
+#[derive(Clone, Debug)]
+pub struct Service {
+    store: Store,
+    limits: Limits,
+    pairs: Arc<AtomicU64>,
+}
+
+impl Service {
+    pub fn new(store: Store, limits: Limits) -> Self {
+        Service { store, limits, pairs: Arc::new(AtomicU64::new(0)) }
+    }
+    pub fn store(&self) -> &Store {
+        &self.store
+    }
+    pub fn limits(&self) -> &Limits {
+        &self.limits
+    }
+    /// Segment–point pairs computed since start (for /metrics).
+    pub fn pairs_computed(&self) -> u64 {
+        self.pairs.load(Ordering::Relaxed)
+    }
+    fn count_pairs(&self, n: u64) {
+        self.pairs.fetch_add(n, Ordering::Relaxed);
+    }
+
+    /// Runs CPU-bound work on the blocking pool (the field engine itself
+    /// fans out over rayon).
+    async fn compute<T: Send + 'static>(&self, f: impl FnOnce() -> T + Send + 'static) -> Result<T> {
+        tokio::task::spawn_blocking(f).await.map_err(|e| ServiceError::Internal(format!("compute task failed: {e}")))
+    }
+}
+
+/// Page size when the caller gives none, and the largest allowed.
+pub const PAGE_DEFAULT: i64 = 50;
+pub const PAGE_MAX: i64 = 200;
+
+fn page_limit(limit: Option<i64>) -> Result<i64> {
+    match limit {
+        None => Ok(PAGE_DEFAULT),
+        Some(l) if (1..=PAGE_MAX).contains(&l) => Ok(l),
+        Some(_) => {
+            Err(ServiceError::Validation(one_problem("/limit", format!("limit must be between 1 and {PAGE_MAX}"))))
+        }
+    }
+}
+
+fn one_problem(pointer: &str, detail: impl Into<String>) -> Problems {
+    Problems(vec![crate::domain::site::Problem { pointer: pointer.to_string(), detail: detail.into() }])
+}
+
+/// Decodes a stored JSON document; a failure means the store is damaged.
+fn stored<T: serde::de::DeserializeOwned>(text: &str) -> Result<T> {
+    serde_json::from_str(text).map_err(|e| ServiceError::Store(StoreError::Corrupt(e.to_string())))
+}
+
+fn to_json<T: serde::Serialize>(v: &T) -> String {
+    serde_json::to_string(v).expect("serialising plain data cannot fail")
+}
+
+/// Splits `limit + 1` fetched rows into a page and the next cursor.
+fn paginate<T>(mut rows: Vec<T>, limit: i64, cursor_of: impl Fn(&T) -> String) -> (Vec<T>, Option<String>) {
+    let more = rows.len() as i64 > limit;
+    rows.truncate(limit.max(0) as usize);
+    let next = if more { rows.last().map(&cursor_of) } else { None };
+    (rows, next)
+}

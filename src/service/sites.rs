@@ -1,0 +1,105 @@
+//! Sites: create, list, show, update (new immutable revision), revisions,
+//! delete (soft).
+
+use super::{Caller, Result, Role, Service, ServiceError, page_limit, stored, to_json};
+use crate::domain::site::validate_site;
+use crate::domain::site::wire::SiteDoc;
+use crate::store::{RevisionRow, SiteRow, UpdateOutcome};
+
+/// A site revision with its document.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SiteView {
+    pub row: RevisionRow,
+    pub doc: SiteDoc,
+}
+
+fn view(row: RevisionRow) -> Result<SiteView> {
+    let doc = stored(&row.body)?;
+    Ok(SiteView { row, doc })
+}
+
+fn display_name(doc: &SiteDoc) -> String {
+    doc.name.clone().filter(|n| !n.trim().is_empty()).unwrap_or_else(|| "unnamed site".to_string())
+}
+
+impl Service {
+    /// Validates a site document fully (rules and size bounds).
+    fn check_site_doc(&self, doc: &SiteDoc) -> Result<()> {
+        let site = validate_site(doc).map_err(ServiceError::Validation)?;
+        let bounds = self.limits().check_site(&site);
+        if bounds.is_empty() { Ok(()) } else { Err(ServiceError::TooBig(bounds)) }
+    }
+
+    #[tracing::instrument(name = "sites_create", skip_all, fields(org = %caller.org_id))]
+    pub async fn sites_create(&self, caller: &Caller, doc: SiteDoc) -> Result<SiteView> {
+        caller.require(Role::Assessor)?;
+        self.check_site_doc(&doc)?;
+        let row = self.store().site_create(&caller.org_id, &display_name(&doc), &to_json(&doc)).await?;
+        tracing::info!(site = %row.site.id, "site created");
+        Ok(SiteView { row, doc })
+    }
+
+    #[tracing::instrument(name = "sites_list", skip_all, fields(org = %caller.org_id))]
+    pub async fn sites_list(
+        &self,
+        caller: &Caller,
+        cursor: Option<&str>,
+        limit: Option<i64>,
+        name: Option<&str>,
+    ) -> Result<(Vec<SiteRow>, Option<String>)> {
+        caller.require(Role::Viewer)?;
+        let limit = page_limit(limit)?;
+        let rows = self.store().sites_list(&caller.org_id, cursor, limit + 1, name).await?;
+        Ok(super::paginate(rows, limit, |r| r.id.clone()))
+    }
+
+    #[tracing::instrument(name = "sites_show", skip_all, fields(org = %caller.org_id, site = %id))]
+    pub async fn sites_show(&self, caller: &Caller, id: &str) -> Result<SiteView> {
+        caller.require(Role::Viewer)?;
+        view(self.store().site_latest(&caller.org_id, id).await?.ok_or(ServiceError::NotFound("site"))?)
+    }
+
+    #[tracing::instrument(name = "sites_revision", skip_all, fields(org = %caller.org_id, site = %id, revision))]
+    pub async fn sites_revision(&self, caller: &Caller, id: &str, revision: i64) -> Result<SiteView> {
+        caller.require(Role::Viewer)?;
+        view(
+            self.store()
+                .site_revision(&caller.org_id, id, revision)
+                .await?
+                .ok_or(ServiceError::NotFound("site revision"))?,
+        )
+    }
+
+    /// New revision, only if `if_match` names the latest one.
+    #[tracing::instrument(name = "sites_update", skip_all, fields(org = %caller.org_id, site = %id))]
+    pub async fn sites_update(
+        &self,
+        caller: &Caller,
+        id: &str,
+        if_match: Option<i64>,
+        doc: SiteDoc,
+    ) -> Result<SiteView> {
+        caller.require(Role::Assessor)?;
+        // Existence first, so another organisation's id is 404 whatever else.
+        let current = self.store().site_latest(&caller.org_id, id).await?.ok_or(ServiceError::NotFound("site"))?;
+        let expected = if_match.ok_or(ServiceError::PreconditionRequired)?;
+        if expected != current.site.latest_revision {
+            return Err(ServiceError::PreconditionFailed { current: current.site.latest_revision });
+        }
+        self.check_site_doc(&doc)?;
+        match self.store().site_update(&caller.org_id, id, expected, &display_name(&doc), &to_json(&doc)).await? {
+            UpdateOutcome::Updated(row) => {
+                tracing::info!(revision = row.revision, "site revised");
+                Ok(SiteView { row, doc })
+            }
+            UpdateOutcome::Stale { current } => Err(ServiceError::PreconditionFailed { current }),
+            UpdateOutcome::NotFound => Err(ServiceError::NotFound("site")),
+        }
+    }
+
+    #[tracing::instrument(name = "sites_delete", skip_all, fields(org = %caller.org_id, site = %id))]
+    pub async fn sites_delete(&self, caller: &Caller, id: &str) -> Result<()> {
+        caller.require(Role::Assessor)?;
+        if self.store().site_delete(&caller.org_id, id).await? { Ok(()) } else { Err(ServiceError::NotFound("site")) }
+    }
+}

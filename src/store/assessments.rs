@@ -1,0 +1,133 @@
+//! Stored assessments, pinned to the site revision and table versions used.
+
+use super::{Result, Store, col, new_id, now};
+use sqlx::any::AnyRow;
+
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct AssessmentRow {
+    pub id: String,
+    pub site_id: String,
+    pub site_revision: i64,
+    /// The request as given (JSON).
+    pub request: String,
+    /// The result (JSON).
+    pub result: String,
+    pub worst_verdict: String,
+    pub created_at: String,
+}
+
+/// A custom table version an assessment used, as it was read (its
+/// `updated_at` proves it did not change before it was frozen).
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct PinnedVersion {
+    pub table_id: String,
+    pub version: i64,
+    pub updated_at: String,
+}
+
+#[derive(Debug, Clone)]
+pub struct NewAssessment<'a> {
+    pub org_id: &'a str,
+    pub site_id: &'a str,
+    pub site_revision: i64,
+    pub request: &'a str,
+    pub result: &'a str,
+    pub worst_verdict: &'a str,
+    pub pinned: &'a [PinnedVersion],
+}
+
+fn assessment_row(r: &AnyRow) -> Result<AssessmentRow> {
+    Ok(AssessmentRow {
+        id: col(r, "id")?,
+        site_id: col(r, "site_id")?,
+        site_revision: col(r, "site_revision")?,
+        request: col(r, "request")?,
+        result: col(r, "result")?,
+        worst_verdict: col(r, "worst_verdict")?,
+        created_at: col(r, "created_at")?,
+    })
+}
+
+const COLUMNS: &str = "id, site_id, site_revision, request, result, worst_verdict, created_at";
+
+impl Store {
+    /// Stores an assessment and freezes the table versions it used, in one
+    /// transaction. `Ok(None)` if a pinned version changed meanwhile.
+    pub async fn assessment_insert(&self, a: NewAssessment<'_>) -> Result<Option<AssessmentRow>> {
+        let (id, at) = (new_id(), now());
+        let mut tx = self.begin_write().await?;
+        for p in a.pinned {
+            let done = sqlx::query(
+                "UPDATE ref_table_versions SET used = 1 WHERE table_id = $1 AND version = $2 AND updated_at = $3",
+            )
+            .bind(&p.table_id)
+            .bind(p.version)
+            .bind(&p.updated_at)
+            .execute(&mut *tx)
+            .await?;
+            if done.rows_affected() == 0 {
+                tx.rollback().await?;
+                return Ok(None);
+            }
+        }
+        sqlx::query(
+            "INSERT INTO assessments (id, org_id, site_id, site_revision, request, result, worst_verdict, created_at) \
+             VALUES ($1, $2, $3, $4, $5, $6, $7, $8)",
+        )
+        .bind(&id)
+        .bind(a.org_id)
+        .bind(a.site_id)
+        .bind(a.site_revision)
+        .bind(a.request)
+        .bind(a.result)
+        .bind(a.worst_verdict)
+        .bind(&at)
+        .execute(&mut *tx)
+        .await?;
+        tx.commit().await?;
+        Ok(Some(AssessmentRow {
+            id,
+            site_id: a.site_id.to_string(),
+            site_revision: a.site_revision,
+            request: a.request.to_string(),
+            result: a.result.to_string(),
+            worst_verdict: a.worst_verdict.to_string(),
+            created_at: at,
+        }))
+    }
+
+    pub async fn assessment_get(&self, org_id: &str, id: &str) -> Result<Option<AssessmentRow>> {
+        let sql = format!("SELECT {COLUMNS} FROM assessments WHERE id = $1 AND org_id = $2");
+        sqlx::query(sqlx::AssertSqlSafe(sql))
+            .bind(id)
+            .bind(org_id)
+            .fetch_optional(self.pool())
+            .await?
+            .as_ref()
+            .map(assessment_row)
+            .transpose()
+    }
+
+    /// Assessments of one site in creation order after `cursor`.
+    pub async fn assessments_list(
+        &self,
+        org_id: &str,
+        site_id: &str,
+        cursor: Option<&str>,
+        limit: i64,
+    ) -> Result<Vec<AssessmentRow>> {
+        let sql = format!(
+            "SELECT {COLUMNS} FROM assessments WHERE org_id = $1 AND site_id = $2 AND id > $3 ORDER BY id LIMIT $4"
+        );
+        sqlx::query(sqlx::AssertSqlSafe(sql))
+            .bind(org_id)
+            .bind(site_id)
+            .bind(cursor.unwrap_or(""))
+            .bind(limit)
+            .fetch_all(self.pool())
+            .await?
+            .iter()
+            .map(assessment_row)
+            .collect()
+    }
+}

@@ -1,0 +1,129 @@
+//! Organisations and API keys. Keys are stored as the SHA-256 of their
+//! secret part only; the secret itself is never stored or logged.
+
+use super::{Result, Store, col, new_id, now};
+use sqlx::any::AnyRow;
+
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct OrgRow {
+    pub id: String,
+    pub name: String,
+}
+
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct KeyRow {
+    pub id: String,
+    pub org_id: String,
+    pub role: String,
+    /// Hex SHA-256 of the secret.
+    pub secret_sha256: String,
+    pub label: Option<String>,
+    pub created_at: String,
+    pub revoked_at: Option<String>,
+}
+
+fn key_row(r: &AnyRow) -> Result<KeyRow> {
+    Ok(KeyRow {
+        id: col(r, "id")?,
+        org_id: col(r, "org_id")?,
+        role: col(r, "role")?,
+        secret_sha256: col(r, "secret_sha256")?,
+        label: col(r, "label")?,
+        created_at: col(r, "created_at")?,
+        revoked_at: col(r, "revoked_at")?,
+    })
+}
+
+const KEY_COLUMNS: &str = "id, org_id, role, secret_sha256, label, created_at, revoked_at";
+
+impl Store {
+    /// The organisation named `name`, created if it does not exist.
+    pub async fn org_ensure(&self, name: &str) -> Result<OrgRow> {
+        sqlx::query(
+            "INSERT INTO organisations (id, name, created_at) VALUES ($1, $2, $3) ON CONFLICT (name) DO NOTHING",
+        )
+        .bind(new_id())
+        .bind(name)
+        .bind(now())
+        .execute(self.pool())
+        .await?;
+        let r =
+            sqlx::query("SELECT id, name FROM organisations WHERE name = $1").bind(name).fetch_one(self.pool()).await?;
+        Ok(OrgRow { id: col(&r, "id")?, name: col(&r, "name")? })
+    }
+
+    pub async fn org_by_name(&self, name: &str) -> Result<Option<OrgRow>> {
+        let r = sqlx::query("SELECT id, name FROM organisations WHERE name = $1")
+            .bind(name)
+            .fetch_optional(self.pool())
+            .await?;
+        r.map(|r| Ok(OrgRow { id: col(&r, "id")?, name: col(&r, "name")? })).transpose()
+    }
+
+    pub async fn key_insert(
+        &self,
+        org_id: &str,
+        role: &str,
+        secret_sha256: &str,
+        label: Option<&str>,
+    ) -> Result<KeyRow> {
+        let row = KeyRow {
+            id: new_id(),
+            org_id: org_id.to_string(),
+            role: role.to_string(),
+            secret_sha256: secret_sha256.to_string(),
+            label: label.map(str::to_string),
+            created_at: now(),
+            revoked_at: None,
+        };
+        sqlx::query(
+            "INSERT INTO api_keys (id, org_id, role, secret_sha256, label, created_at) VALUES ($1, $2, $3, $4, $5, $6)",
+        )
+        .bind(&row.id)
+        .bind(&row.org_id)
+        .bind(&row.role)
+        .bind(&row.secret_sha256)
+        .bind(&row.label)
+        .bind(&row.created_at)
+        .execute(self.pool())
+        .await?;
+        Ok(row)
+    }
+
+    /// A key by id, revoked or not (the caller checks).
+    pub async fn key_find(&self, key_id: &str) -> Result<Option<KeyRow>> {
+        let sql = format!("SELECT {KEY_COLUMNS} FROM api_keys WHERE id = $1");
+        sqlx::query(sqlx::AssertSqlSafe(sql))
+            .bind(key_id)
+            .fetch_optional(self.pool())
+            .await?
+            .as_ref()
+            .map(key_row)
+            .transpose()
+    }
+
+    pub async fn keys_list(&self, org_id: &str) -> Result<Vec<KeyRow>> {
+        let sql = format!("SELECT {KEY_COLUMNS} FROM api_keys WHERE org_id = $1 ORDER BY id");
+        sqlx::query(sqlx::AssertSqlSafe(sql)).bind(org_id).fetch_all(self.pool()).await?.iter().map(key_row).collect()
+    }
+
+    /// Revokes a key of the organisation; false if there is no such key.
+    pub async fn key_revoke(&self, org_id: &str, key_id: &str) -> Result<bool> {
+        let done =
+            sqlx::query("UPDATE api_keys SET revoked_at = $1 WHERE id = $2 AND org_id = $3 AND revoked_at IS NULL")
+                .bind(now())
+                .bind(key_id)
+                .bind(org_id)
+                .execute(self.pool())
+                .await?;
+        if done.rows_affected() > 0 {
+            return Ok(true);
+        }
+        let exists: Option<String> = sqlx::query_scalar("SELECT id FROM api_keys WHERE id = $1 AND org_id = $2")
+            .bind(key_id)
+            .bind(org_id)
+            .fetch_optional(self.pool())
+            .await?;
+        Ok(exists.is_some())
+    }
+}

@@ -1,0 +1,208 @@
+//! Sites and their immutable revisions.
+
+use super::{Result, Store, col, new_id, now};
+use sqlx::any::AnyRow;
+
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct SiteRow {
+    pub id: String,
+    pub name: String,
+    pub latest_revision: i64,
+    pub created_at: String,
+    pub updated_at: String,
+}
+
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct RevisionRow {
+    pub site: SiteRow,
+    pub revision: i64,
+    /// The site document of this revision (JSON).
+    pub body: String,
+    pub created_at: String,
+}
+
+/// Result of an optimistic update.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum UpdateOutcome {
+    Updated(RevisionRow),
+    /// The site's latest revision is not the one the caller saw.
+    Stale {
+        current: i64,
+    },
+    NotFound,
+}
+
+fn site_row(r: &AnyRow) -> Result<SiteRow> {
+    Ok(SiteRow {
+        id: col(r, "id")?,
+        name: col(r, "name")?,
+        latest_revision: col(r, "latest_revision")?,
+        created_at: col(r, "created_at")?,
+        updated_at: col(r, "updated_at")?,
+    })
+}
+
+fn revision_row(r: &AnyRow) -> Result<RevisionRow> {
+    Ok(RevisionRow {
+        site: site_row(r)?,
+        revision: col(r, "revision")?,
+        body: col(r, "body")?,
+        created_at: col(r, "revision_created_at")?,
+    })
+}
+
+const REVISION_SELECT: &str = "SELECT s.id, s.name, s.latest_revision, s.created_at, s.updated_at, \
+     r.revision, r.body, r.created_at AS revision_created_at \
+     FROM sites s JOIN site_revisions r ON r.site_id = s.id";
+
+impl Store {
+    /// Creates a site with revision 1, in one transaction.
+    pub async fn site_create(&self, org_id: &str, name: &str, body: &str) -> Result<RevisionRow> {
+        let (id, at) = (new_id(), now());
+        let mut tx = self.begin_write().await?;
+        sqlx::query(
+            "INSERT INTO sites (id, org_id, name, latest_revision, created_at, updated_at) VALUES ($1, $2, $3, 1, $4, $4)",
+        )
+        .bind(&id)
+        .bind(org_id)
+        .bind(name)
+        .bind(&at)
+        .execute(&mut *tx)
+        .await?;
+        sqlx::query("INSERT INTO site_revisions (site_id, revision, body, created_at) VALUES ($1, 1, $2, $3)")
+            .bind(&id)
+            .bind(body)
+            .bind(&at)
+            .execute(&mut *tx)
+            .await?;
+        tx.commit().await?;
+        let site =
+            SiteRow { id, name: name.to_string(), latest_revision: 1, created_at: at.clone(), updated_at: at.clone() };
+        Ok(RevisionRow { site, revision: 1, body: body.to_string(), created_at: at })
+    }
+
+    /// The latest revision of a live site of the organisation.
+    pub async fn site_latest(&self, org_id: &str, id: &str) -> Result<Option<RevisionRow>> {
+        let sql = format!(
+            "{REVISION_SELECT} WHERE s.id = $1 AND s.org_id = $2 AND s.deleted_at IS NULL AND r.revision = s.latest_revision"
+        );
+        sqlx::query(sqlx::AssertSqlSafe(sql))
+            .bind(id)
+            .bind(org_id)
+            .fetch_optional(self.pool())
+            .await?
+            .as_ref()
+            .map(revision_row)
+            .transpose()
+    }
+
+    /// A given revision of a live site of the organisation.
+    pub async fn site_revision(&self, org_id: &str, id: &str, revision: i64) -> Result<Option<RevisionRow>> {
+        let sql =
+            format!("{REVISION_SELECT} WHERE s.id = $1 AND s.org_id = $2 AND s.deleted_at IS NULL AND r.revision = $3");
+        sqlx::query(sqlx::AssertSqlSafe(sql))
+            .bind(id)
+            .bind(org_id)
+            .bind(revision)
+            .fetch_optional(self.pool())
+            .await?
+            .as_ref()
+            .map(revision_row)
+            .transpose()
+    }
+
+    /// Adds a revision if the latest is still `expected`, in one transaction.
+    pub async fn site_update(
+        &self,
+        org_id: &str,
+        id: &str,
+        expected: i64,
+        name: &str,
+        body: &str,
+    ) -> Result<UpdateOutcome> {
+        let at = now();
+        let mut tx = self.begin_write().await?;
+        let done = sqlx::query(
+            "UPDATE sites SET latest_revision = latest_revision + 1, name = $1, updated_at = $2 \
+             WHERE id = $3 AND org_id = $4 AND deleted_at IS NULL AND latest_revision = $5",
+        )
+        .bind(name)
+        .bind(&at)
+        .bind(id)
+        .bind(org_id)
+        .bind(expected)
+        .execute(&mut *tx)
+        .await?;
+        if done.rows_affected() == 0 {
+            let current: Option<i64> = sqlx::query_scalar(
+                "SELECT latest_revision FROM sites WHERE id = $1 AND org_id = $2 AND deleted_at IS NULL",
+            )
+            .bind(id)
+            .bind(org_id)
+            .fetch_optional(&mut *tx)
+            .await?;
+            tx.rollback().await?;
+            return Ok(match current {
+                Some(current) => UpdateOutcome::Stale { current },
+                None => UpdateOutcome::NotFound,
+            });
+        }
+        let revision = expected + 1;
+        sqlx::query("INSERT INTO site_revisions (site_id, revision, body, created_at) VALUES ($1, $2, $3, $4)")
+            .bind(id)
+            .bind(revision)
+            .bind(body)
+            .bind(&at)
+            .execute(&mut *tx)
+            .await?;
+        let created: String =
+            sqlx::query_scalar("SELECT created_at FROM sites WHERE id = $1").bind(id).fetch_one(&mut *tx).await?;
+        tx.commit().await?;
+        let site = SiteRow {
+            id: id.to_string(),
+            name: name.to_string(),
+            latest_revision: revision,
+            created_at: created,
+            updated_at: at.clone(),
+        };
+        Ok(UpdateOutcome::Updated(RevisionRow { site, revision, body: body.to_string(), created_at: at }))
+    }
+
+    /// Live sites of the organisation in id (= creation) order after
+    /// `cursor`, optionally those whose name contains `name` (any case).
+    pub async fn sites_list(
+        &self,
+        org_id: &str,
+        cursor: Option<&str>,
+        limit: i64,
+        name: Option<&str>,
+    ) -> Result<Vec<SiteRow>> {
+        let pattern = name
+            .map(|n| format!("%{}%", n.to_lowercase().replace('\\', "\\\\").replace('%', "\\%").replace('_', "\\_")));
+        let rows = sqlx::query(
+            "SELECT id, name, latest_revision, created_at, updated_at FROM sites \
+             WHERE org_id = $1 AND deleted_at IS NULL AND id > $2 \
+             AND ($3 = '' OR LOWER(name) LIKE $4 ESCAPE '\\') ORDER BY id LIMIT $5",
+        )
+        .bind(org_id)
+        .bind(cursor.unwrap_or(""))
+        .bind(if pattern.is_some() { "x" } else { "" })
+        .bind(pattern.unwrap_or_default())
+        .bind(limit)
+        .fetch_all(self.pool())
+        .await?;
+        rows.iter().map(site_row).collect()
+    }
+
+    /// Soft-deletes a live site; its revisions stay for the assessments
+    /// that reference them. False if there is no such live site.
+    pub async fn site_delete(&self, org_id: &str, id: &str) -> Result<bool> {
+        let done = sqlx::query("UPDATE sites SET deleted_at = $1 WHERE id = $2 AND org_id = $3 AND deleted_at IS NULL")
+            .bind(now())
+            .bind(id)
+            .bind(org_id)
+            .execute(self.pool())
+            .await?;
+        Ok(done.rows_affected() > 0)
+    }
+}
