@@ -60,6 +60,11 @@ impl App {
         Ok(App { listener, addr, state: AppState::new(service), demo })
     }
 
+    /// The use cases behind the router (tests seed keys through it).
+    pub fn service(&self) -> Service {
+        self.state.service.clone()
+    }
+
     /// The bound address (the real port when 0 was asked for).
     pub fn local_addr(&self) -> SocketAddr {
         self.addr

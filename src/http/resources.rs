@@ -26,7 +26,8 @@ impl From<SiteView> for SiteResource {
     fn from(v: SiteView) -> Self {
         SiteResource {
             id: v.row.site.id,
-            name: v.row.site.name,
+            // The name as of this revision (the site row holds the latest).
+            name: v.doc.name.clone().filter(|n| !n.trim().is_empty()).unwrap_or(v.row.site.name),
             revision: v.row.revision,
             latest_revision: v.row.site.latest_revision,
             created_at: v.row.site.created_at,

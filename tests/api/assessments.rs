@@ -1,0 +1,93 @@
+//! Assessments: pinned to a revision and table versions, stored, read back.
+
+use crate::helpers::*;
+use fluxbound::service::Role;
+use serde_json::{Value, json};
+
+#[tokio::test]
+async fn an_assessment_is_stored_with_its_pinned_revision_and_read_back_identically() {
+    let app = spawn_app().await;
+    let key = app.key("org-a", Role::Assessor).await;
+    let id = app.site(&key, &example("site-furnace-feeder.json")).await;
+    let res = app.post(&format!("/v1/sites/{id}/assessments"), &key, &json!({"load": {"kind": "rated"}})).await;
+    assert_eq!(res.status(), 201);
+    let location = res.headers()["location"].to_str().unwrap().to_string();
+    let created: Value = res.json().await.unwrap();
+    assert_eq!(created["site_revision"], 1);
+    let result = &created["result"];
+    assert_eq!(result["load_case"]["kind"], "rated");
+    assert!(!result["summary"]["positions_exceeding"].as_array().unwrap().is_empty());
+    assert!(result["cautions"].as_array().unwrap().iter().any(|c| c.as_str().unwrap().contains("qualified assessors")));
+    let tables: Vec<&str> = result["tables"].as_array().unwrap().iter().map(|t| t["id"].as_str().unwrap()).collect();
+    assert!(tables.contains(&"icnirp-2010-occupational") && tables.contains(&"implant-screening-100"));
+
+    let read: Value = app.get(&location, &key).await.json().await.unwrap();
+    assert_eq!(read, created);
+    let list: Value = app.get(&format!("/v1/sites/{id}/assessments"), &key).await.json().await.unwrap();
+    assert_eq!(list["items"][0]["id"], created["id"]);
+}
+
+#[tokio::test]
+async fn an_assessment_of_an_older_revision_uses_that_revision() {
+    let app = spawn_app().await;
+    let key = app.key("org-a", Role::Assessor).await;
+    let id = app.site(&key, &small_site("wire")).await;
+    let mut doubled = small_site("wire");
+    doubled["circuits"][0]["current_a"] = json!(1000);
+    assert_eq!(app.put(&format!("/v1/sites/{id}"), &key, &doubled, Some("\"1\"")).await.status(), 200);
+    let assess = |rev: i64| {
+        let (app, key, id) = (&app, &key, &id);
+        async move {
+            let r: Value = app
+                .post(&format!("/v1/sites/{id}/assessments"), key, &json!({"revision": rev, "tables": ["icnirp-2010-occupational"]}))
+                .await
+                .json()
+                .await
+                .unwrap();
+            (r["site_revision"].as_i64().unwrap(), r["result"]["positions"][0]["max_resultant_ut"].as_f64().unwrap())
+        }
+    };
+    // Source: OpenStax University Physics Vol. 2 §12.2, B = 0.2 · I / R µT:
+    // 500 A at 0.5 m → 200 µT; 1000 A → 400 µT.
+    let (r1, b1) = assess(1).await;
+    let (r2, b2) = assess(2).await;
+    assert_eq!((r1, r2), (1, 2));
+    assert!((b1 - 200.0).abs() < 1e-4 && (b2 - 400.0).abs() < 1e-4, "{b1} {b2}");
+}
+
+#[tokio::test]
+async fn a_custom_table_version_used_by_an_assessment_is_frozen_and_pinned() {
+    let app = spawn_app().await;
+    let key = app.key("org-a", Role::Assessor).await;
+    let table = json!({
+        "id": "site-rule-40", "title": "Site rule: 40 µT", "source": "Invented house rule for tests",
+        "applies_to": {"population": "workers", "body_region": "whole_body"}, "kind": "screening",
+        "bands": [{"from_hz": 1, "to_hz": 3000, "coefficient": 40, "exponent": 0}]
+    });
+    assert_eq!(app.post("/v1/tables", &key, &table).await.status(), 201);
+    // Unused: version 1 may still be replaced.
+    let mut v1b = table.clone();
+    v1b["title"] = json!("Site rule: 40 µT (typo fixed)");
+    assert_eq!(app.put("/v1/tables/site-rule-40/versions/1", &key, &v1b, None).await.status(), 200);
+    let id = app.site(&key, &small_site("wire")).await;
+    let res = app.post(&format!("/v1/sites/{id}/assessments"), &key, &json!({"tables": ["site-rule-40"]})).await;
+    assert_eq!(res.status(), 201);
+    let a: Value = res.json().await.unwrap();
+    // 200 µT / 40 µT = 5 (invented level, hand arithmetic).
+    assert!((a["result"]["positions"][0]["comparisons"][0]["ratio"].as_f64().unwrap() - 5.0).abs() < 1e-6);
+    assert_eq!(a["result"]["tables"][0]["version"], 1);
+    // Now frozen.
+    assert_problem(app.put("/v1/tables/site-rule-40/versions/1", &key, &table, None).await, 409, "conflict", None).await;
+    // A new version is fine, and later assessments pin it.
+    let mut v2 = table.clone();
+    v2["bands"][0]["coefficient"] = json!(50);
+    assert_eq!(app.post("/v1/tables/site-rule-40/versions", &key, &v2).await.status(), 201);
+    let b: Value = app.post(&format!("/v1/sites/{id}/assessments"), &key, &json!({"tables": ["site-rule-40"]})).await.json().await.unwrap();
+    assert_eq!(b["result"]["tables"][0]["version"], 2);
+    let shown: Value = app.get("/v1/tables/site-rule-40", &key).await.json().await.unwrap();
+    let used: Vec<bool> = shown["versions"].as_array().unwrap().iter().map(|v| v["used"].as_bool().unwrap()).collect();
+    assert_eq!(used, [true, true]);
+    // The first assessment still reads as it was.
+    let again: Value = app.get(&format!("/v1/assessments/{}", a["id"].as_str().unwrap()), &key).await.json().await.unwrap();
+    assert_eq!(again, a);
+}

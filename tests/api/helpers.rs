@@ -1,0 +1,177 @@
+//! `spawn_app()`: the real server on a random port with a fresh database —
+//! an SQLite file in a temporary directory, or, when
+//! `FLUXBOUND_TEST_DATABASE_URL` names a PostgreSQL server, a uniquely named
+//! database created on it for this test. Logs are muted unless `TEST_LOG`
+//! is set.
+
+use fluxbound::app::App;
+use fluxbound::config::Config;
+use fluxbound::service::{Limits, Role, Service};
+use reqwest::{Client, Method, RequestBuilder, Response};
+use serde_json::Value;
+use std::path::PathBuf;
+use std::sync::Once;
+use tokio::sync::oneshot;
+use tokio::task::JoinHandle;
+
+static LOGS: Once = Once::new();
+
+/// Where a test's data lives; kept across restarts of the same test.
+#[derive(Clone, Debug)]
+pub struct TestDb {
+    pub data_dir: PathBuf,
+    pub database_url: Option<String>,
+}
+
+impl TestDb {
+    pub async fn fresh() -> TestDb {
+        let data_dir = std::env::temp_dir().join(format!("fluxbound-test-{}", uuid::Uuid::new_v4().simple()));
+        let database_url = match std::env::var("FLUXBOUND_TEST_DATABASE_URL") {
+            Ok(admin_url) if !admin_url.is_empty() => Some(create_pg_database(&admin_url).await),
+            _ => None,
+        };
+        TestDb { data_dir, database_url }
+    }
+    #[allow(dead_code)]
+    pub fn is_postgres(&self) -> bool {
+        self.database_url.is_some()
+    }
+}
+
+/// Creates `fluxbound_test_<uuid>` on the server of `admin_url` and returns
+/// its URL.
+async fn create_pg_database(admin_url: &str) -> String {
+    use sqlx::Connection;
+    sqlx::any::install_default_drivers();
+    let name = format!("fluxbound_test_{}", uuid::Uuid::new_v4().simple());
+    let mut conn = sqlx::AnyConnection::connect(admin_url).await.expect("connect to the test PostgreSQL server");
+    sqlx::query(sqlx::AssertSqlSafe(format!("CREATE DATABASE {name}"))).execute(&mut conn).await.expect("create test database");
+    conn.close().await.ok();
+    let base = admin_url.rsplit_once('/').map(|(b, _)| b).unwrap_or(admin_url);
+    format!("{base}/{name}")
+}
+
+pub struct TestApp {
+    pub base: String,
+    pub client: Client,
+    pub service: Service,
+    pub db: TestDb,
+    shutdown: Option<oneshot::Sender<()>>,
+    handle: Option<JoinHandle<std::io::Result<()>>>,
+}
+
+pub async fn spawn_app() -> TestApp {
+    spawn_app_with(TestDb::fresh().await, Limits { rate_per_key: 0, ..Limits::default() }).await
+}
+
+pub async fn spawn_app_with(db: TestDb, limits: Limits) -> TestApp {
+    LOGS.call_once(|| {
+        if std::env::var("TEST_LOG").is_ok() {
+            fluxbound::telemetry::init(fluxbound::config::LogFormat::Human);
+        }
+    });
+    let config = Config {
+        listen: "127.0.0.1:0".into(),
+        data_dir: db.data_dir.clone(),
+        database_url: db.database_url.clone(),
+        max_connections: 4,
+        limits,
+        demo: false,
+    };
+    let app = App::build(&config).await.expect("app builds");
+    let base = format!("http://{}", app.local_addr());
+    let service = app.service();
+    let (tx, rx) = oneshot::channel::<()>();
+    let handle = tokio::spawn(app.serve(async move {
+        let _ = rx.await;
+    }));
+    TestApp { base, client: Client::new(), service, db, shutdown: Some(tx), handle: Some(handle) }
+}
+
+impl TestApp {
+    /// Stops the server gracefully and waits until it has exited.
+    pub async fn stop(mut self) -> TestDb {
+        if let Some(tx) = self.shutdown.take() {
+            let _ = tx.send(());
+        }
+        if let Some(h) = self.handle.take() {
+            h.await.expect("server task").expect("server exits cleanly");
+        }
+        self.db.clone()
+    }
+
+    /// A new key of `role` in organisation `org`.
+    pub async fn key(&self, org: &str, role: Role) -> String {
+        self.service.keys_create_for_org(org, role, None).await.expect("key").1
+    }
+
+    pub fn req(&self, method: Method, path: &str, key: &str) -> RequestBuilder {
+        let b = self.client.request(method, format!("{}{path}", self.base));
+        if key.is_empty() { b } else { b.bearer_auth(key) }
+    }
+    pub async fn get(&self, path: &str, key: &str) -> Response {
+        self.req(Method::GET, path, key).send().await.expect("request")
+    }
+    pub async fn post(&self, path: &str, key: &str, body: &Value) -> Response {
+        self.req(Method::POST, path, key).json(body).send().await.expect("request")
+    }
+    pub async fn put(&self, path: &str, key: &str, body: &Value, if_match: Option<&str>) -> Response {
+        let mut b = self.req(Method::PUT, path, key).json(body);
+        if let Some(m) = if_match {
+            b = b.header("If-Match", m);
+        }
+        b.send().await.expect("request")
+    }
+    pub async fn delete(&self, path: &str, key: &str) -> Response {
+        self.req(Method::DELETE, path, key).send().await.expect("request")
+    }
+
+    /// Creates a site from a document; returns its id.
+    pub async fn site(&self, key: &str, doc: &Value) -> String {
+        let res = self.post("/v1/sites", key, doc).await;
+        assert_eq!(res.status(), 201, "create site: {}", res.text().await.unwrap_or_default());
+        res.json::<Value>().await.unwrap()["id"].as_str().unwrap().to_string()
+    }
+}
+
+impl Drop for TestApp {
+    fn drop(&mut self) {
+        if let Some(tx) = self.shutdown.take() {
+            let _ = tx.send(());
+        }
+    }
+}
+
+/// An example site shipped in `examples/` (invented scenarios).
+pub fn example(name: &str) -> Value {
+    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("examples").join(name);
+    serde_json::from_str(&std::fs::read_to_string(path).expect("example")).expect("example JSON")
+}
+
+/// A small valid site: one long wire and one position.
+pub fn small_site(name: &str) -> Value {
+    serde_json::json!({
+        "name": name,
+        "frequency_hz": 50,
+        "circuits": [{"id": "c", "kind": "single_phase", "current_a": 500, "rated_current_a": 1000}],
+        "conductors": [{"id": "w", "circuit": "c", "phase": "A", "radius_m": 0.01, "path": [[-1000, 0, 0], [1000, 0, 0]]}],
+        "positions": [{"id": "p", "at": [0.0, 0.5, 0.0]}]
+    })
+}
+
+/// Asserts an RFC 9457 answer: status, media type, kind, and (optionally)
+/// that one of its errors has `pointer`. Returns the body.
+pub async fn assert_problem(res: Response, status: u16, kind: &str, pointer: Option<&str>) -> Value {
+    assert_eq!(res.status().as_u16(), status, "status");
+    let ct = res.headers().get("content-type").and_then(|v| v.to_str().ok()).unwrap_or("").to_string();
+    assert_eq!(ct, "application/problem+json", "content type");
+    let body: Value = res.json().await.expect("problem body is JSON");
+    assert_eq!(body["type"], format!("urn:fluxbound:problem:{kind}"), "{body}");
+    assert_eq!(body["status"], status, "{body}");
+    assert!(body["title"].is_string() && body["detail"].is_string(), "{body}");
+    if let Some(p) = pointer {
+        let errors = body["errors"].as_array().cloned().unwrap_or_default();
+        assert!(errors.iter().any(|e| e["pointer"] == p), "no error at {p}: {body}");
+    }
+    body
+}

@@ -1,0 +1,13 @@
+//! The HTTP API end to end: one test binary, a fresh server and database per
+//! test (see `helpers::spawn_app`).
+
+mod helpers;
+
+mod assessments;
+mod errors;
+mod evaluate;
+mod isolation;
+mod openapi;
+mod persistence;
+mod sites;
+mod tables;
