@@ -3,7 +3,7 @@
 use super::AppState;
 use super::problem::ApiError;
 use crate::domain::site::{Problem, Problems, parse_json};
-use crate::service::Caller;
+use crate::service::{Caller, IfMatch};
 use axum::body::Bytes;
 use axum::extract::{FromRequest, FromRequestParts, Request};
 use axum::http::{StatusCode, header, request::Parts};
@@ -53,8 +53,11 @@ impl FromRequestParts<AppState> for Auth {
             .headers
             .get(header::AUTHORIZATION)
             .and_then(|v| v.to_str().ok())
-            .and_then(|v| v.strip_prefix("Bearer ").or_else(|| v.strip_prefix("bearer ")))
-            .map(str::trim)
+            .and_then(|v| {
+                // The scheme name is case-insensitive (RFC 9110 §11.1).
+                let (scheme, token) = v.trim().split_once(' ')?;
+                scheme.eq_ignore_ascii_case("bearer").then_some(token.trim())
+            })
             .ok_or_else(ApiError::unauthorized)?;
         let caller = state.service.authenticate(token).await.map_err(ApiError::from)?;
         if let Err(wait_s) = state.rate.check(&caller.key_id) {
@@ -64,12 +67,21 @@ impl FromRequestParts<AppState> for Auth {
     }
 }
 
-/// Revision named by an `If-Match` header: `"3"` (a weak `W/"3"` is also
-/// read); absent → `None`; unreadable → a revision that never matches.
-pub fn if_match(parts: &axum::http::HeaderMap) -> Option<i64> {
-    let v = parts.get(header::IF_MATCH)?.to_str().ok()?.trim();
-    let v = v.strip_prefix("W/").unwrap_or(v).trim_matches('"');
-    Some(v.parse().unwrap_or(-1))
+/// The `If-Match` precondition (RFC 9110 §13.1.1): absent, `*`, or a list
+/// of entity tags such as `"3", "4"` (weak tags `W/"3"` are read too; a tag
+/// that is not a revision number never matches).
+pub fn if_match(headers: &axum::http::HeaderMap) -> IfMatch {
+    let values: Vec<&str> = headers.get_all(header::IF_MATCH).iter().filter_map(|v| v.to_str().ok()).collect();
+    if values.is_empty() {
+        return IfMatch::Missing;
+    }
+    let tags: Vec<&str> = values.iter().flat_map(|v| v.split(',')).map(str::trim).filter(|t| !t.is_empty()).collect();
+    if tags.contains(&"*") {
+        return IfMatch::Any;
+    }
+    IfMatch::OneOf(
+        tags.iter().filter_map(|t| t.strip_prefix("W/").unwrap_or(t).trim_matches('"').parse::<i64>().ok()).collect(),
+    )
 }
 
 /// The ETag of a revision.
@@ -125,7 +137,34 @@ impl PageQuery {
             .map(|q| q.0)
             .map_err(|e| ApiError::bad_request(e.body_text(), Problems::default()))
     }
+    /// The page size, 1–200 (400 otherwise).
     pub fn limit(&self) -> Result<Option<i64>, ApiError> {
-        self.limit.as_deref().map(|l| parse_positive(l, "limit")).transpose()
+        let limit = self.limit.as_deref().map(|l| parse_positive(l, "limit")).transpose()?;
+        match limit {
+            Some(l) if l > crate::service::PAGE_MAX => Err(ApiError::bad_request(
+                format!("limit must be between 1 and {}", crate::service::PAGE_MAX),
+                Problems(vec![Problem {
+                    pointer: "/limit".into(),
+                    detail: format!("{l} is above {}", crate::service::PAGE_MAX),
+                }]),
+            )),
+            other => Ok(other),
+        }
+    }
+
+    /// The cursor, which is an id from a previous page (400 otherwise).
+    pub fn cursor(&self) -> Result<Option<&str>, ApiError> {
+        match self.cursor.as_deref() {
+            Some(c) => check_id(c, "cursor").map(|_| Some(c)).map_err(|_| {
+                ApiError::bad_request(
+                    "the cursor is not one this API gave out",
+                    Problems(vec![Problem {
+                        pointer: "/cursor".into(),
+                        detail: "pass next_cursor from the previous page".into(),
+                    }]),
+                )
+            }),
+            None => Ok(None),
+        }
     }
 }

@@ -36,6 +36,8 @@ pub struct ProblemDoc {
 /// An error answer: status, stable kind, words, and any pointers.
 #[derive(Debug, Clone)]
 pub struct ApiError {
+    /// Seconds for a `Retry-After` header (429).
+    pub retry_after_s: Option<u64>,
     pub status: StatusCode,
     pub kind: &'static str,
     pub title: &'static str,
@@ -45,7 +47,7 @@ pub struct ApiError {
 
 impl ApiError {
     pub fn new(status: StatusCode, kind: &'static str, title: &'static str, detail: impl Into<String>) -> Self {
-        ApiError { status, kind, title, detail: detail.into(), errors: Vec::new() }
+        ApiError { retry_after_s: None, status, kind, title, detail: detail.into(), errors: Vec::new() }
     }
     pub fn with_problems(mut self, p: Problems) -> Self {
         self.errors = p.0;
@@ -96,12 +98,11 @@ impl ApiError {
         )
     }
     pub fn rate_limited(retry_after_s: u64) -> Self {
-        Self::new(
-            StatusCode::TOO_MANY_REQUESTS,
-            "rate-limited",
-            "Too many requests",
-            format!("retry after {retry_after_s} s"),
-        )
+        let detail = format!("retry after {retry_after_s} s");
+        ApiError {
+            retry_after_s: Some(retry_after_s),
+            ..Self::new(StatusCode::TOO_MANY_REQUESTS, "rate-limited", "Too many requests", detail)
+        }
     }
     pub fn timeout(seconds: u64) -> Self {
         Self::new(
@@ -148,6 +149,9 @@ impl IntoResponse for ApiError {
         let body = serde_json::to_vec(&self.doc()).unwrap_or_default();
         let mut res = (self.status, body).into_response();
         res.headers_mut().insert(header::CONTENT_TYPE, HeaderValue::from_static(PROBLEM_JSON));
+        if let Some(s) = self.retry_after_s {
+            res.headers_mut().insert(header::RETRY_AFTER, HeaderValue::from(s));
+        }
         if self.status == StatusCode::UNAUTHORIZED {
             res.headers_mut().insert(header::WWW_AUTHENTICATE, HeaderValue::from_static("Bearer"));
         }

@@ -87,8 +87,9 @@ impl Limits {
         let pairs = points.saturating_mul(segment_count(site) as u64);
         let mut p = Problems::default();
         if pairs > self.max_pairs {
+            let field = if site.areas.is_empty() { "positions" } else { "areas" };
             p.push(
-                &Pointer::root().key("areas"),
+                &Pointer::root().key(field),
                 format!(
                     "this assessment needs {pairs} segment-point pairs, over the budget of {}: coarsen area spacing_m or split the site",
                     self.max_pairs

@@ -12,7 +12,7 @@ mod tables;
 pub use assessments::{AssessmentRequest, AssessmentView};
 pub use auth::{Caller, Role, hash_secret};
 pub use bounds::Limits;
-pub use sites::SiteView;
+pub use sites::{IfMatch, SiteView};
 pub use tables::{TableVersionInfo, TableView};
 
 use crate::domain::site::Problems;

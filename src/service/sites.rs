@@ -2,6 +2,16 @@
 //! delete (soft).
 
 use super::{Caller, Result, Role, Service, ServiceError, page_limit, stored, to_json};
+
+/// An `If-Match` precondition on a site update.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum IfMatch {
+    Missing,
+    /// `*`: any current revision.
+    Any,
+    /// The revisions the caller accepts as current.
+    OneOf(Vec<i64>),
+}
 use crate::domain::site::validate_site;
 use crate::domain::site::wire::SiteDoc;
 use crate::store::{RevisionRow, SiteRow, UpdateOutcome};
@@ -72,20 +82,17 @@ impl Service {
 
     /// New revision, only if `if_match` names the latest one.
     #[tracing::instrument(name = "sites_update", skip_all, fields(org = %caller.org_id, site = %id))]
-    pub async fn sites_update(
-        &self,
-        caller: &Caller,
-        id: &str,
-        if_match: Option<i64>,
-        doc: SiteDoc,
-    ) -> Result<SiteView> {
+    pub async fn sites_update(&self, caller: &Caller, id: &str, if_match: IfMatch, doc: SiteDoc) -> Result<SiteView> {
         caller.require(Role::Assessor)?;
         // Existence first, so another organisation's id is 404 whatever else.
         let current = self.store().site_latest(&caller.org_id, id).await?.ok_or(ServiceError::NotFound("site"))?;
-        let expected = if_match.ok_or(ServiceError::PreconditionRequired)?;
-        if expected != current.site.latest_revision {
-            return Err(ServiceError::PreconditionFailed { current: current.site.latest_revision });
-        }
+        let latest = current.site.latest_revision;
+        let expected = match if_match {
+            IfMatch::Missing => return Err(ServiceError::PreconditionRequired),
+            IfMatch::Any => latest,
+            IfMatch::OneOf(tags) if tags.contains(&latest) => latest,
+            IfMatch::OneOf(_) => return Err(ServiceError::PreconditionFailed { current: latest }),
+        };
         self.check_site_doc(&doc)?;
         match self.store().site_update(&caller.org_id, id, expected, &display_name(&doc), &to_json(&doc)).await? {
             UpdateOutcome::Updated(row) => {

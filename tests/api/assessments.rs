@@ -39,7 +39,11 @@ async fn an_assessment_of_an_older_revision_uses_that_revision() {
         let (app, key, id) = (&app, &key, &id);
         async move {
             let r: Value = app
-                .post(&format!("/v1/sites/{id}/assessments"), key, &json!({"revision": rev, "tables": ["icnirp-2010-occupational"]}))
+                .post(
+                    &format!("/v1/sites/{id}/assessments"),
+                    key,
+                    &json!({"revision": rev, "tables": ["icnirp-2010-occupational"]}),
+                )
                 .await
                 .json()
                 .await
@@ -77,17 +81,24 @@ async fn a_custom_table_version_used_by_an_assessment_is_frozen_and_pinned() {
     assert!((a["result"]["positions"][0]["comparisons"][0]["ratio"].as_f64().unwrap() - 5.0).abs() < 1e-6);
     assert_eq!(a["result"]["tables"][0]["version"], 1);
     // Now frozen.
-    assert_problem(app.put("/v1/tables/site-rule-40/versions/1", &key, &table, None).await, 409, "conflict", None).await;
+    assert_problem(app.put("/v1/tables/site-rule-40/versions/1", &key, &table, None).await, 409, "conflict", None)
+        .await;
     // A new version is fine, and later assessments pin it.
     let mut v2 = table.clone();
     v2["bands"][0]["coefficient"] = json!(50);
     assert_eq!(app.post("/v1/tables/site-rule-40/versions", &key, &v2).await.status(), 201);
-    let b: Value = app.post(&format!("/v1/sites/{id}/assessments"), &key, &json!({"tables": ["site-rule-40"]})).await.json().await.unwrap();
+    let b: Value = app
+        .post(&format!("/v1/sites/{id}/assessments"), &key, &json!({"tables": ["site-rule-40"]}))
+        .await
+        .json()
+        .await
+        .unwrap();
     assert_eq!(b["result"]["tables"][0]["version"], 2);
     let shown: Value = app.get("/v1/tables/site-rule-40", &key).await.json().await.unwrap();
     let used: Vec<bool> = shown["versions"].as_array().unwrap().iter().map(|v| v["used"].as_bool().unwrap()).collect();
     assert_eq!(used, [true, true]);
     // The first assessment still reads as it was.
-    let again: Value = app.get(&format!("/v1/assessments/{}", a["id"].as_str().unwrap()), &key).await.json().await.unwrap();
+    let again: Value =
+        app.get(&format!("/v1/assessments/{}", a["id"].as_str().unwrap()), &key).await.json().await.unwrap();
     assert_eq!(again, a);
 }

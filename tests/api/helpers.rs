@@ -45,7 +45,10 @@ async fn create_pg_database(admin_url: &str) -> String {
     sqlx::any::install_default_drivers();
     let name = format!("fluxbound_test_{}", uuid::Uuid::new_v4().simple());
     let mut conn = sqlx::AnyConnection::connect(admin_url).await.expect("connect to the test PostgreSQL server");
-    sqlx::query(sqlx::AssertSqlSafe(format!("CREATE DATABASE {name}"))).execute(&mut conn).await.expect("create test database");
+    sqlx::query(sqlx::AssertSqlSafe(format!("CREATE DATABASE {name}")))
+        .execute(&mut conn)
+        .await
+        .expect("create test database");
     conn.close().await.ok();
     let base = admin_url.rsplit_once('/').map(|(b, _)| b).unwrap_or(admin_url);
     format!("{base}/{name}")

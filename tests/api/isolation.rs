@@ -462,7 +462,6 @@ async fn a_key_revoked_outside_the_api_answers_401_at_once() {
 }
 
 #[tokio::test]
-#[ignore = "bug: src/http/extract.rs accepts only `Bearer ` and `bearer `; RFC 9110 §11.1 makes the auth scheme case-insensitive"]
 async fn the_bearer_scheme_is_accepted_in_any_letter_case() {
     let app = spawn_app().await;
     let key = app.key("acme", Role::Viewer).await;

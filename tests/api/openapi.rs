@@ -17,7 +17,10 @@ fn the_committed_openapi_document_matches_the_code() {
         std::fs::write(committed_path(), &generated).unwrap();
     }
     let committed = std::fs::read_to_string(committed_path()).expect("openapi/openapi.json is committed");
-    assert!(committed == generated, "openapi/openapi.json is stale: run FLUXBOUND_UPDATE_OPENAPI=1 cargo test --test api openapi");
+    assert!(
+        committed == generated,
+        "openapi/openapi.json is stale: run FLUXBOUND_UPDATE_OPENAPI=1 cargo test --test api openapi"
+    );
 }
 
 #[tokio::test]
@@ -74,8 +77,15 @@ fn every_key_of_the_shipped_examples_is_declared_in_the_schemas() {
     }
     let table: Value = serde_json::to_value(fluxbound::domain::limits::builtin_tables()[0].doc()).unwrap();
     check(&doc, &doc["components"]["schemas"]["TableDoc"].clone(), &table, "builtin table", &mut problems);
-    let response = fluxbound::domain::evaluate::evaluate_json(&example("evaluate-busbar-walkway.json").to_string()).unwrap();
+    let response =
+        fluxbound::domain::evaluate::evaluate_json(&example("evaluate-busbar-walkway.json").to_string()).unwrap();
     let response = serde_json::to_value(response).unwrap();
-    check(&doc, &doc["components"]["schemas"]["EvaluateResponse"].clone(), &response, "evaluate response", &mut problems);
+    check(
+        &doc,
+        &doc["components"]["schemas"]["EvaluateResponse"].clone(),
+        &response,
+        "evaluate response",
+        &mut problems,
+    );
     assert!(problems.is_empty(), "{problems:#?}");
 }

@@ -19,7 +19,8 @@ async fn everything_stored_is_there_after_a_restart() {
     assert_eq!(site["latest_revision"], 2);
     let r1: Value = again.get(&format!("/v1/sites/{id}/revisions/1"), &key).await.json().await.unwrap();
     assert_eq!(r1["name"], "durable");
-    let read: Value = again.get(&format!("/v1/assessments/{}", a["id"].as_str().unwrap()), &key).await.json().await.unwrap();
+    let read: Value =
+        again.get(&format!("/v1/assessments/{}", a["id"].as_str().unwrap()), &key).await.json().await.unwrap();
     assert_eq!(read, a);
 }
 

@@ -58,6 +58,13 @@ async fn an_update_with_a_stale_if_match_is_412_and_changes_nothing() {
     assert_eq!(now["latest_revision"], 2);
     // Without If-Match: 428.
     assert_problem(app.put(&path, &key, &small_site("four"), None).await, 428, "precondition-required", None).await;
+    // A list that includes the current tag matches, and so does `*` (RFC 9110 §13.1.1).
+    assert_eq!(app.put(&path, &key, &small_site("five"), Some("\"1\", \"2\"")).await.status(), 200);
+    assert_eq!(app.put(&path, &key, &small_site("six"), Some("*")).await.status(), 200);
+    let now: Value = app.get(&path, &key).await.json().await.unwrap();
+    assert_eq!(now["latest_revision"], 4);
+    let garbage = app.get("/v1/sites?cursor=zzz", &key).await;
+    assert_problem(garbage, 400, "bad-request", Some("/cursor")).await;
 }
 
 #[tokio::test]
@@ -114,7 +121,13 @@ async fn sites_list_in_pages_with_a_cursor_and_filter_by_name() {
     let second: Value = app.get(&format!("/v1/sites?limit=4&cursor={cursor}"), &key).await.json().await.unwrap();
     assert_eq!(second["items"].as_array().unwrap().len(), 2);
     assert!(second["next_cursor"].is_null());
-    let names: Vec<&str> = first["items"].as_array().unwrap().iter().chain(second["items"].as_array().unwrap()).map(|s| s["name"].as_str().unwrap()).collect();
+    let names: Vec<&str> = first["items"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .chain(second["items"].as_array().unwrap())
+        .map(|s| s["name"].as_str().unwrap())
+        .collect();
     assert_eq!(names, ["Bay 0", "Bay 1", "Bay 2", "Bay 3", "Bay 4", "Substation yard"]);
     let filtered: Value = app.get("/v1/sites?name=sUBSTATION", &key).await.json().await.unwrap();
     assert_eq!(filtered["items"].as_array().unwrap().len(), 1);

@@ -48,7 +48,7 @@ pub async fn assessments_list(
 ) -> Result<Response, ApiError> {
     check_id(&site_id, "site")?;
     let q = PageQuery::from_uri(&uri)?;
-    let (items, next) = s.service.assessments_list(&caller, &site_id, q.cursor.as_deref(), q.limit()?).await?;
+    let (items, next) = s.service.assessments_list(&caller, &site_id, q.cursor()?, q.limit()?).await?;
     let page = AssessmentPage { items: items.into_iter().map(AssessmentResource::from).collect(), next_cursor: next };
     Ok(json_response(StatusCode::OK, &page, None, None))
 }

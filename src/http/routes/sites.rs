@@ -46,7 +46,7 @@ pub async fn sites_create(State(s): State<AppState>, Auth(caller): Auth, ApiJson
     security(("bearer" = [])))]
 pub async fn sites_list(State(s): State<AppState>, Auth(caller): Auth, uri: Uri) -> ApiResult {
     let q = PageQuery::from_uri(&uri)?;
-    let (rows, next) = s.service.sites_list(&caller, q.cursor.as_deref(), q.limit()?, q.name.as_deref()).await?;
+    let (rows, next) = s.service.sites_list(&caller, q.cursor()?, q.limit()?, q.name.as_deref()).await?;
     let page = SitePage { items: rows.into_iter().map(SiteSummary::from).collect(), next_cursor: next };
     Ok(json_response(StatusCode::OK, &page, None, None))
 }
