@@ -63,7 +63,7 @@ impl Store {
             .bind(&p.table_id)
             .bind(p.version)
             .bind(&p.updated_at)
-            .execute(&mut *tx)
+            .execute(tx.conn())
             .await?;
             if done.rows_affected() == 0 {
                 tx.rollback().await?;
@@ -82,7 +82,7 @@ impl Store {
         .bind(a.result)
         .bind(a.worst_verdict)
         .bind(&at)
-        .execute(&mut *tx)
+        .execute(tx.conn())
         .await?;
         tx.commit().await?;
         Ok(Some(AssessmentRow {

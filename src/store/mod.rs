@@ -73,10 +73,34 @@ impl StoreError {
 pub type Result<T> = std::result::Result<T, StoreError>;
 
 /// The connection pool and the backend it talks to. Cheap to clone.
+///
+/// On SQLite, write transactions also take `sqlite_writer`, an in-process
+/// lock: SQLite admits one writer at a time anyway, and queueing writers
+/// here avoids its busy-handler sleeps (which made the latency tail long).
+/// PostgreSQL needs no such lock.
 #[derive(Clone, Debug)]
 pub struct Store {
     pool: AnyPool,
     backend: Backend,
+    sqlite_writer: std::sync::Arc<tokio::sync::Mutex<()>>,
+}
+
+/// A write transaction (holding the SQLite writer lock where there is one).
+pub(crate) struct WriteTx {
+    tx: sqlx::Transaction<'static, sqlx::Any>,
+    _writer: Option<tokio::sync::OwnedMutexGuard<()>>,
+}
+
+impl WriteTx {
+    pub(crate) fn conn(&mut self) -> &mut sqlx::AnyConnection {
+        &mut self.tx
+    }
+    pub(crate) async fn commit(self) -> Result<()> {
+        Ok(self.tx.commit().await?)
+    }
+    pub(crate) async fn rollback(self) -> Result<()> {
+        Ok(self.tx.rollback().await?)
+    }
 }
 
 /// Current time as fixed-width RFC 3339 UTC with microseconds, so text order
@@ -116,7 +140,7 @@ impl Store {
             });
         }
         let pool = options.connect(url).await?;
-        let store = Store { pool, backend };
+        let store = Store { pool, backend, sqlite_writer: Default::default() };
         migrate::apply(&store).await?;
         Ok(store)
     }
@@ -130,11 +154,23 @@ impl Store {
     }
 
     /// Begins a write transaction that holds the write lock from the start.
-    pub(crate) async fn begin_write(&self) -> Result<sqlx::Transaction<'static, sqlx::Any>> {
+    pub(crate) async fn begin_write(&self) -> Result<WriteTx> {
         Ok(match self.backend {
-            Backend::Sqlite => self.pool.begin_with("BEGIN IMMEDIATE").await?,
-            Backend::Postgres => self.pool.begin().await?,
+            Backend::Sqlite => {
+                let writer = self.sqlite_writer.clone().lock_owned().await;
+                WriteTx { tx: self.pool.begin_with("BEGIN IMMEDIATE").await?, _writer: Some(writer) }
+            }
+            Backend::Postgres => WriteTx { tx: self.pool.begin().await?, _writer: None },
         })
+    }
+
+    /// The SQLite writer lock for a single-statement write (none on
+    /// PostgreSQL). Hold the guard until the statement has run.
+    pub(crate) async fn writer(&self) -> Option<tokio::sync::OwnedMutexGuard<()>> {
+        match self.backend {
+            Backend::Sqlite => Some(self.sqlite_writer.clone().lock_owned().await),
+            Backend::Postgres => None,
+        }
     }
 
     /// Round trip to the database (readiness probe).

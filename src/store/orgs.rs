@@ -39,6 +39,7 @@ const KEY_COLUMNS: &str = "id, org_id, role, secret_sha256, label, created_at, r
 impl Store {
     /// The organisation named `name`, created if it does not exist.
     pub async fn org_ensure(&self, name: &str) -> Result<OrgRow> {
+        let _writer = self.writer().await;
         sqlx::query(
             "INSERT INTO organisations (id, name, created_at) VALUES ($1, $2, $3) ON CONFLICT (name) DO NOTHING",
         )
@@ -67,6 +68,7 @@ impl Store {
         secret_sha256: &str,
         label: Option<&str>,
     ) -> Result<KeyRow> {
+        let _writer = self.writer().await;
         let row = KeyRow {
             id: new_id(),
             org_id: org_id.to_string(),
@@ -109,6 +111,7 @@ impl Store {
 
     /// Revokes a key of the organisation; false if there is no such key.
     pub async fn key_revoke(&self, org_id: &str, key_id: &str) -> Result<bool> {
+        let _writer = self.writer().await;
         let done =
             sqlx::query("UPDATE api_keys SET revoked_at = $1 WHERE id = $2 AND org_id = $3 AND revoked_at IS NULL")
                 .bind(now())

@@ -67,13 +67,13 @@ impl Store {
         .bind(org_id)
         .bind(name)
         .bind(&at)
-        .execute(&mut *tx)
+        .execute(tx.conn())
         .await?;
         sqlx::query("INSERT INTO site_revisions (site_id, revision, body, created_at) VALUES ($1, 1, $2, $3)")
             .bind(&id)
             .bind(body)
             .bind(&at)
-            .execute(&mut *tx)
+            .execute(tx.conn())
             .await?;
         tx.commit().await?;
         let site =
@@ -131,7 +131,7 @@ impl Store {
         .bind(id)
         .bind(org_id)
         .bind(expected)
-        .execute(&mut *tx)
+        .execute(tx.conn())
         .await?;
         if done.rows_affected() == 0 {
             let current: Option<i64> = sqlx::query_scalar(
@@ -139,7 +139,7 @@ impl Store {
             )
             .bind(id)
             .bind(org_id)
-            .fetch_optional(&mut *tx)
+            .fetch_optional(tx.conn())
             .await?;
             tx.rollback().await?;
             return Ok(match current {
@@ -153,10 +153,10 @@ impl Store {
             .bind(revision)
             .bind(body)
             .bind(&at)
-            .execute(&mut *tx)
+            .execute(tx.conn())
             .await?;
         let created: String =
-            sqlx::query_scalar("SELECT created_at FROM sites WHERE id = $1").bind(id).fetch_one(&mut *tx).await?;
+            sqlx::query_scalar("SELECT created_at FROM sites WHERE id = $1").bind(id).fetch_one(tx.conn()).await?;
         tx.commit().await?;
         let site = SiteRow {
             id: id.to_string(),
@@ -197,6 +197,7 @@ impl Store {
     /// Soft-deletes a live site; its revisions stay for the assessments
     /// that reference them. False if there is no such live site.
     pub async fn site_delete(&self, org_id: &str, id: &str) -> Result<bool> {
+        let _writer = self.writer().await;
         let done = sqlx::query("UPDATE sites SET deleted_at = $1 WHERE id = $2 AND org_id = $3 AND deleted_at IS NULL")
             .bind(now())
             .bind(id)

@@ -66,7 +66,7 @@ impl Store {
         .bind(org_id)
         .bind(key)
         .bind(&at)
-        .execute(&mut *tx)
+        .execute(tx.conn())
         .await?;
         sqlx::query(
             "INSERT INTO ref_table_versions (table_id, version, body, used, created_at, updated_at) VALUES ($1, 1, $2, 0, $3, $3)",
@@ -74,7 +74,7 @@ impl Store {
         .bind(&id)
         .bind(body)
         .bind(&at)
-        .execute(&mut *tx)
+        .execute(tx.conn())
         .await?;
         tx.commit().await?;
         let t = TableRow { id: id.clone(), key: key.to_string(), latest_version: 1, created_at: at.clone() };
@@ -160,7 +160,7 @@ impl Store {
         )
         .bind(org_id)
         .bind(key)
-        .execute(&mut *tx)
+        .execute(tx.conn())
         .await?;
         if done.rows_affected() == 0 {
             tx.rollback().await?;
@@ -169,7 +169,7 @@ impl Store {
         let r = sqlx::query("SELECT id, latest_version FROM ref_tables WHERE org_id = $1 AND table_key = $2")
             .bind(org_id)
             .bind(key)
-            .fetch_one(&mut *tx)
+            .fetch_one(tx.conn())
             .await?;
         let (table_id, version): (String, i64) = (col(&r, "id")?, col(&r, "latest_version")?);
         sqlx::query(
@@ -179,7 +179,7 @@ impl Store {
         .bind(version)
         .bind(body)
         .bind(&at)
-        .execute(&mut *tx)
+        .execute(tx.conn())
         .await?;
         tx.commit().await?;
         Ok(Some(TableVersionRow {
@@ -200,6 +200,7 @@ impl Store {
         version: i64,
         body: &str,
     ) -> Result<VersionReplace> {
+        let _writer = self.writer().await;
         let Some(current) = self.table_version(org_id, key, Some(version)).await? else {
             return Ok(VersionReplace::NotFound);
         };
