@@ -82,27 +82,37 @@ impl App {
     }
 }
 
-/// Completes on Ctrl-C or SIGTERM.
-pub async fn shutdown_signal() {
-    let ctrl_c = async {
-        let _ = tokio::signal::ctrl_c().await;
-    };
+/// Completes on Ctrl-C (SIGINT) or SIGTERM. The handlers are registered
+/// when this is called, not when the future is first polled, so a signal
+/// that arrives right after the "listening" line is not lost. Call it inside
+/// the runtime.
+pub fn shutdown_signal() -> impl Future<Output = ()> + Send + 'static {
     #[cfg(unix)]
-    let term = async {
-        match tokio::signal::unix::signal(tokio::signal::unix::SignalKind::terminate()) {
-            Ok(mut s) => {
-                s.recv().await;
+    {
+        use tokio::signal::unix::{SignalKind, signal};
+        let term = signal(SignalKind::terminate()).ok();
+        let int = signal(SignalKind::interrupt()).ok();
+        async move {
+            let wait = |s: Option<tokio::signal::unix::Signal>| async move {
+                match s {
+                    Some(mut s) => {
+                        s.recv().await;
+                    }
+                    None => std::future::pending::<()>().await,
+                }
+            };
+            tokio::select! {
+                _ = wait(term) => {},
+                _ = wait(int) => {},
             }
-            Err(_) => std::future::pending::<()>().await,
+            tracing::info!("shutdown signal received: draining requests");
         }
-    };
-    #[cfg(not(unix))]
-    let term = std::future::pending::<()>();
-    tokio::select! {
-        _ = ctrl_c => {},
-        _ = term => {},
     }
-    tracing::info!("shutdown signal received: draining requests");
+    #[cfg(not(unix))]
+    async move {
+        let _ = tokio::signal::ctrl_c().await;
+        tracing::info!("shutdown signal received: draining requests");
+    }
 }
 
 /// The example sites seeded by `serve --demo` (invented scenarios).

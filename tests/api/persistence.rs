@@ -35,3 +35,55 @@ async fn health_and_readiness_answer() {
     let html = docs.text().await.unwrap();
     assert!(!html.contains("https://"), "the docs page loads nothing from the network");
 }
+
+#[test]
+fn both_migration_trees_hold_the_same_versions_and_every_file_is_embedded() {
+    use fluxbound::store::{MIGRATIONS_POSTGRES, MIGRATIONS_SQLITE};
+    let versions = |m: &[(i64, &str, &str)]| m.iter().map(|(v, n, _)| format!("{v:04}_{n}.sql")).collect::<Vec<_>>();
+    assert_eq!(versions(MIGRATIONS_SQLITE), versions(MIGRATIONS_POSTGRES));
+    for dir in ["sqlite", "postgres"] {
+        let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("migrations").join(dir);
+        let mut on_disk: Vec<String> = std::fs::read_dir(path)
+            .unwrap()
+            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+            .filter(|n| n.ends_with(".sql"))
+            .collect();
+        on_disk.sort();
+        assert_eq!(on_disk, versions(MIGRATIONS_SQLITE), "migrations/{dir} and the embedded list differ");
+    }
+}
+
+#[test]
+fn the_server_exits_zero_on_sigterm_after_logging_its_real_port() {
+    use std::io::{BufRead, BufReader};
+    let dir = std::env::temp_dir().join(format!("fluxbound-sigterm-{}", uuid::Uuid::new_v4().simple()));
+    let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_fluxbound"))
+        .args(["serve", "--listen", "127.0.0.1:0", "--data-dir"])
+        .arg(&dir)
+        .env_remove("DATABASE_URL")
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .expect("start the server");
+    let mut lines = BufReader::new(child.stderr.take().unwrap()).lines();
+    let mut port = None;
+    for line in lines.by_ref() {
+        let line = line.unwrap();
+        if let Some(at) = line.find("listening on http://127.0.0.1:") {
+            let rest = &line[at + "listening on http://127.0.0.1:".len()..];
+            port = rest.split(|c: char| !c.is_ascii_digit()).next().and_then(|p| p.parse::<u16>().ok());
+            break;
+        }
+    }
+    // Keep reading the log so the server never writes into a closed pipe.
+    let drain = std::thread::spawn(move || lines.map_while(Result::ok).collect::<Vec<_>>());
+    let port = port.expect("a 'listening on' line with the real port");
+    assert_ne!(port, 0);
+    std::net::TcpStream::connect(("127.0.0.1", port)).expect("the port is open");
+    let killed = std::process::Command::new("kill").args(["-TERM", &child.id().to_string()]).status().unwrap();
+    assert!(killed.success());
+    let status = child.wait().unwrap();
+    let log = drain.join().unwrap().join("\n");
+    assert_eq!(status.code(), Some(0), "{status:?}\n{log}");
+    assert!(log.contains("draining"), "{log}");
+    let _ = std::fs::remove_dir_all(dir);
+}
