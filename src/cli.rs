@@ -66,6 +66,18 @@ pub enum Command {
         /// Output format.
         #[arg(long, value_enum, default_value_t = Format::Table)]
         format: Format,
+        /// Draw the field map of this area (needs --out).
+        #[arg(long, value_name = "AREA_ID", requires = "out")]
+        map: Option<String>,
+        /// Where to write the map (SVG).
+        #[arg(long, value_name = "FILE", requires = "map")]
+        out: Option<PathBuf>,
+        /// Also write the position results as CSV to this file.
+        #[arg(long, value_name = "FILE")]
+        csv: Option<PathBuf>,
+        /// Also write conductors, positions, contours and zones as GeoJSON to this file.
+        #[arg(long, value_name = "FILE")]
+        geojson: Option<PathBuf>,
     },
     /// List the built-in reference-level tables, or show one.
     Tables {
@@ -249,8 +261,20 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<ExitCode, CliError> {
             writeln!(out, "{json}").map_err(CliError::Write)?;
             Ok(ExitCode::SUCCESS)
         }
-        Command::Assess { site, tables, table_files, load, review_fraction, format } => {
-            assess_command(&site, tables, &table_files, load, review_fraction, format, out)
+        Command::Assess {
+            site,
+            tables,
+            table_files,
+            load,
+            review_fraction,
+            format,
+            map,
+            out: map_out,
+            csv,
+            geojson,
+        } => {
+            let exports = Exports { map: map.zip(map_out), csv, geojson };
+            assess_command(&site, tables, &table_files, load, review_fraction, format, &exports, out)
         }
         Command::Tables { action: None } => {
             write!(out, "{}", text::tables_text(limits::builtin_tables())).map_err(CliError::Write)?;
@@ -299,6 +323,22 @@ fn write_json<T: serde::Serialize>(out: &mut dyn Write, value: &T) -> Result<(),
     writeln!(out, "{json}").map_err(CliError::Write)
 }
 
+/// Files an assessment also writes.
+struct Exports {
+    map: Option<(String, PathBuf)>,
+    csv: Option<PathBuf>,
+    geojson: Option<PathBuf>,
+}
+
+fn write_file(path: &Path, text: &str) -> Result<(), CliError> {
+    std::fs::write(path, text).map_err(CliError::Write)
+}
+
+fn one_problem(pointer: &str, detail: String) -> CliError {
+    CliError::Problems(site::Problems(vec![site::Problem { pointer: pointer.into(), detail }]))
+}
+
+#[allow(clippy::too_many_arguments)]
 fn assess_command(
     site_path: &Path,
     table_ids: Vec<String>,
@@ -306,6 +346,7 @@ fn assess_command(
     load: LoadArg,
     review_fraction: f64,
     format: Format,
+    exports: &Exports,
     out: &mut dyn Write,
 ) -> Result<ExitCode, CliError> {
     let site = site::parse_site(&read_input(site_path)?).map_err(CliError::Problems)?;
@@ -328,6 +369,27 @@ fn assess_command(
     };
     let options = assess::Options { review_fraction, ..assess::Options::default() };
     let result = assess::assess(&site, &load, &tables, &options).map_err(CliError::Problems)?;
+    let max_cells = crate::service::MAP_MAX_CELLS;
+    if let Some((area_id, path)) = &exports.map {
+        let index = site
+            .areas
+            .iter()
+            .position(|a| &a.id == area_id)
+            .ok_or_else(|| one_problem("/--map", format!("the site has no area '{area_id}'")))?;
+        let map = assess::area_map(&site, &load, &tables, index, max_cells).map_err(CliError::Problems)?;
+        write_file(path, &crate::report::svg::area_map_svg(&site, &result, &map))?;
+    }
+    if let Some(path) = &exports.csv {
+        write_file(path, &crate::report::csv::positions_csv(&result))?;
+    }
+    if let Some(path) = &exports.geojson {
+        let maps = (0..site.areas.len())
+            .map(|i| assess::area_map(&site, &load, &tables, i, max_cells))
+            .collect::<Result<Vec<_>, _>>()
+            .map_err(CliError::Problems)?;
+        let doc = crate::report::geojson::assessment_geojson(&site, &result, &maps);
+        write_file(path, &serde_json::to_string_pretty(&doc).expect("plain data"))?;
+    }
     match format {
         Format::Json => write_json(out, &result)?,
         Format::Table => write!(out, "{}", text::assessment_text(&result)).map_err(CliError::Write)?,

@@ -7,4 +7,5 @@ pub mod cautions;
 pub mod evaluate;
 pub mod field;
 pub mod limits;
+pub mod mitigate;
 pub mod site;

@@ -17,7 +17,7 @@ use axum::middleware::{self, Next};
 use axum::response::{IntoResponse, Response};
 use axum::routing::{get, post};
 use problem::ApiError;
-use routes::{assessments, evaluate, keys, ops, sites, tables};
+use routes::{assessments, evaluate, keys, ops, reports, sites, tables};
 use std::sync::Arc;
 use std::time::Duration;
 use tower_http::catch_panic::CatchPanicLayer;
@@ -58,6 +58,10 @@ pub fn router(state: AppState) -> Router {
             post(assessments::assessments_create).get(assessments::assessments_list),
         )
         .route("/v1/assessments/{assessment_id}", get(assessments::assessments_show))
+        .route("/v1/assessments/{assessment_id}/areas/{area_id}/map.svg", get(reports::reports_map))
+        .route("/v1/assessments/{assessment_id}/positions.csv", get(reports::reports_csv))
+        .route("/v1/assessments/{assessment_id}/features.geojson", get(reports::reports_geojson))
+        .route("/v1/assessments/{assessment_id}/distance", get(reports::reports_distance))
         .route("/v1/tables", get(tables::tables_list).post(tables::tables_create))
         .route("/v1/tables/{table_id}", get(tables::tables_show))
         .route("/v1/tables/{table_id}/versions", post(tables::tables_version_add))

@@ -179,6 +179,41 @@ domain_schema!(
     )
 );
 
+domain_schema!(
+    w::GeoreferenceDoc,
+    "GeoreferenceDoc",
+    obj(
+        "Where the local frame sits on WGS 84 (for GeoJSON exports in longitude and latitude)",
+        &["origin_lon_deg", "origin_lat_deg"],
+        json!({
+            "origin_lon_deg": num("Longitude of the local origin, degrees east"),
+            "origin_lat_deg": num("Latitude of the local origin, degrees north (−80 to 80)"),
+            "y_axis_bearing_deg": num("Bearing of the local +y axis, degrees clockwise from true north"),
+        })
+    )
+);
+
+use crate::domain::mitigate as m;
+
+domain_schema!(
+    m::DistanceResult,
+    "DistanceResult",
+    obj(
+        "Distance at which the resultant field first falls below a level along a ray",
+        &["level_ut", "from", "direction", "tolerance_m", "searched_to_m"],
+        json!({
+            "level_ut": num("The level, µT RMS"),
+            "from": xyz("Origin, m"),
+            "b_at_origin_ut": { "type": ["number", "null"], "description": "Resultant at the origin, µT (null inside a conductor)" },
+            "direction": xyz("Unit direction searched"),
+            "distance_m": { "type": ["number", "null"], "description": "Distance, m (0 if already below; null if not within searched_to_m)" },
+            "at": { "type": ["array", "null"], "items": { "type": "number" }, "description": "The point at that distance, m" },
+            "tolerance_m": num("Bisection tolerance, m"),
+            "searched_to_m": num("Farthest distance searched, m"),
+        })
+    )
+);
+
 use crate::domain::limits as l;
 
 domain_schema!(
@@ -405,6 +440,8 @@ fn description() -> String {
         routes::assessments::assessments_create, routes::assessments::assessments_list, routes::assessments::assessments_show,
         routes::tables::tables_list, routes::tables::tables_create, routes::tables::tables_show,
         routes::tables::tables_version_add, routes::tables::tables_version_show, routes::tables::tables_version_replace,
+        routes::reports::reports_map, routes::reports::reports_csv, routes::reports::reports_geojson,
+        routes::reports::reports_distance,
         routes::evaluate::evaluate,
         routes::keys::keys_list, routes::keys::keys_create, routes::keys::keys_revoke,
         routes::ops::healthz, routes::ops::readyz, routes::ops::metrics,
@@ -413,13 +450,14 @@ fn description() -> String {
         w::SiteDoc, w::CircuitDoc, w::PhaseOverridesDoc, w::PhaseOverrideDoc, w::HarmonicDoc, w::CurrentDoc, w::ConductorDoc,
         w::PositionDoc, w::AreaDoc, l::TableDoc, l::AppliesTo, l::Band, l::Gap,
         e::EvaluateRequest, e::EvaluateResponse, e::PointResult, e::FrequencyResult, e::ComponentsUt, e::ComplexUt,
-        a::LoadCase, a::Assessment, s::AssessmentRequest,
+        a::LoadCase, a::Assessment, s::AssessmentRequest, w::GeoreferenceDoc, m::DistanceResult,
     )),
     modifiers(&Security),
     tags(
         (name = "sites", description = "Site models with immutable revisions (ETag / If-Match)"),
         (name = "assessments", description = "Assessments pinned to a site revision and table versions"),
         (name = "tables", description = "Reference-level tables: built-in (read-only) and custom (versioned)"),
+        (name = "reports", description = "Field maps (SVG), CSV and GeoJSON exports, distance to a level"),
         (name = "evaluate", description = "Stateless field computation"),
         (name = "keys", description = "API keys (admin)"),
         (name = "operations", description = "Health, readiness, metrics"),

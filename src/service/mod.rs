@@ -6,12 +6,14 @@ mod assessments;
 mod auth;
 mod bounds;
 mod evaluate;
+mod reports;
 mod sites;
 mod tables;
 
 pub use assessments::{AssessmentRequest, AssessmentView};
 pub use auth::{Caller, Role, hash_secret};
 pub use bounds::Limits;
+pub use reports::MAP_MAX_CELLS;
 pub use sites::{IfMatch, SiteView};
 pub use tables::{TableVersionInfo, TableView};
 

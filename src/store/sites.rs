@@ -111,6 +111,21 @@ impl Store {
             .transpose()
     }
 
+    /// A revision of a site of the organisation, deleted or not (an
+    /// assessment's pinned revision stays readable after a delete).
+    pub async fn site_revision_pinned(&self, org_id: &str, id: &str, revision: i64) -> Result<Option<RevisionRow>> {
+        let sql = format!("{REVISION_SELECT} WHERE s.id = $1 AND s.org_id = $2 AND r.revision = $3");
+        sqlx::query(sqlx::AssertSqlSafe(sql))
+            .bind(id)
+            .bind(org_id)
+            .bind(revision)
+            .fetch_optional(self.pool())
+            .await?
+            .as_ref()
+            .map(revision_row)
+            .transpose()
+    }
+
     /// Adds a revision if the latest is still `expected`, in one transaction.
     pub async fn site_update(
         &self,

@@ -9,5 +9,6 @@ mod evaluate;
 mod isolation;
 mod openapi;
 mod persistence;
+mod reports;
 mod sites;
 mod tables;

@@ -668,3 +668,47 @@ fn an_invalid_table_file_exits_1_with_the_pointer_into_that_file() {
     let _ = std::fs::remove_file(&path);
     assert_rejected_with(&out, &["/bands/0/coefficient", "coefficient must be positive"]);
 }
+
+#[test]
+fn assess_writes_the_area_map_csv_and_geojson_files_it_is_asked_for() {
+    let dir = std::env::temp_dir().join(format!("fluxbound-cli-exports-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let (svg, csv, geo) = (dir.join("map.svg"), dir.join("positions.csv"), dir.join("features.geojson"));
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_fluxbound"))
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .args([
+            "assess",
+            "examples/site-furnace-feeder.json",
+            "--load",
+            "rated",
+            "--map",
+            "maintenance-walkway",
+            "--out",
+        ])
+        .arg(&svg)
+        .arg("--csv")
+        .arg(&csv)
+        .arg("--geojson")
+        .arg(&geo)
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
+    let svg_text = std::fs::read_to_string(&svg).unwrap();
+    assert!(svg_text.starts_with("<svg") && svg_text.contains("maintenance-walkway"));
+    let csv_text = std::fs::read_to_string(&csv).unwrap();
+    assert!(csv_text.starts_with("site,load_case,position_id"));
+    let geo_doc: serde_json::Value = serde_json::from_str(&std::fs::read_to_string(&geo).unwrap()).unwrap();
+    assert_eq!(geo_doc["type"], "FeatureCollection");
+    // An unknown area is a problem with a pointer, and nothing is written.
+    let missing = dir.join("missing.svg");
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_fluxbound"))
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .args(["assess", "examples/site-furnace-feeder.json", "--map", "nope", "--out"])
+        .arg(&missing)
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("/--map"));
+    assert!(!missing.exists());
+    let _ = std::fs::remove_dir_all(dir);
+}

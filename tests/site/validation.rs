@@ -687,6 +687,7 @@ fn wire_site() -> SiteDoc {
     SiteDoc {
         name: None,
         tables: vec![],
+        georeference: None,
         frequency_hz: 50.0,
         circuits: vec![],
         conductors: vec![ConductorDoc {

@@ -9,10 +9,12 @@
 
 mod grid;
 mod load;
+mod map;
 mod verdict;
 
 pub use grid::{area_grid, bounding_cells, contains};
 pub use load::{CircuitLoadReport, LoadCase, LoadCaseReport};
+pub use map::{AreaMap, GridSpec, TableRatios, area_map};
 pub use verdict::{FrequencyRatio, Ratio, Verdict, ratio_of};
 
 use crate::domain::cautions::cautions;

@@ -19,6 +19,7 @@ pub struct Site {
     /// Table ids chosen by the site (unresolved: tables are looked up when
     /// assessing, since custom tables live outside the site).
     pub tables: Vec<String>,
+    pub georeference: Option<super::wire::GeoreferenceDoc>,
 }
 
 #[derive(Debug, Clone, PartialEq)]

@@ -45,6 +45,13 @@ pub fn validate_site(doc: &SiteDoc) -> Result<Site, Problems> {
     let conductors = check_conductors(&doc.conductors, &root.key("conductors"), &doc.circuits, &mut p);
     let positions = check_positions(&doc.positions, &root.key("positions"), &mut p);
     let areas = check_areas(&doc.areas, &root.key("areas"), &mut p);
+    if let Some(g) = &doc.georeference {
+        let gp = root.key("georeference");
+        check_range(g.origin_lon_deg, (-180.0, 180.0), "degrees", &gp.key("origin_lon_deg"), &mut p);
+        // The tangent-plane conversion degenerates towards the poles.
+        check_range(g.origin_lat_deg, (-80.0, 80.0), "degrees", &gp.key("origin_lat_deg"), &mut p);
+        check_range(g.y_axis_bearing_deg, (-360.0, 360.0), "degrees", &gp.key("y_axis_bearing_deg"), &mut p);
+    }
     let tp = root.key("tables");
     let mut seen = HashSet::new();
     for (i, t) in doc.tables.iter().enumerate() {
@@ -62,6 +69,7 @@ pub fn validate_site(doc: &SiteDoc) -> Result<Site, Problems> {
         positions,
         areas,
         tables: doc.tables.clone(),
+        georeference: doc.georeference,
     })
 }
 

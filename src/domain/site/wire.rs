@@ -24,6 +24,24 @@ pub struct SiteDoc {
     /// Reference-level tables this site is assessed against by default (ids).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub tables: Vec<String>,
+    /// Where the local frame sits on the Earth, for GeoJSON in longitude and
+    /// latitude; without it exports stay in the local frame.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub georeference: Option<GeoreferenceDoc>,
+}
+
+/// The local frame's origin on WGS 84 and the bearing of its y axis.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct GeoreferenceDoc {
+    /// Longitude of the local origin, degrees east.
+    pub origin_lon_deg: f64,
+    /// Latitude of the local origin, degrees north.
+    pub origin_lat_deg: f64,
+    /// Bearing of the local +y axis, degrees clockwise from true north
+    /// (0 when y points north, as the frame convention says).
+    #[serde(default)]
+    pub y_axis_bearing_deg: f64,
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]

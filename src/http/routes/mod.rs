@@ -4,6 +4,7 @@ pub mod assessments;
 pub mod evaluate;
 pub mod keys;
 pub mod ops;
+pub mod reports;
 pub mod sites;
 pub mod tables;
 

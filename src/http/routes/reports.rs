@@ -1,0 +1,116 @@
+//! Pictures and exports of a stored assessment.
+
+use crate::domain::mitigate::DistanceResult;
+use crate::http::AppState;
+use crate::http::extract::{Auth, check_id};
+use crate::http::problem::{ApiError, ProblemDoc};
+use axum::extract::{Path, State};
+use axum::http::{HeaderValue, StatusCode, Uri, header};
+use axum::response::{IntoResponse, Response};
+
+fn typed(body: String, content_type: &'static str) -> Response {
+    let mut res = (StatusCode::OK, body).into_response();
+    res.headers_mut().insert(header::CONTENT_TYPE, HeaderValue::from_static(content_type));
+    res
+}
+
+/// Field map of one area as SVG (log colour scale, contours at each table's
+/// level and review fraction, conductors, positions, cautions).
+#[utoipa::path(get, path = "/v1/assessments/{assessment_id}/areas/{area_id}/map.svg", tag = "reports",
+    params(("assessment_id" = String, Path, description = "Assessment id"), ("area_id" = String, Path, description = "Area id in the site")),
+    responses(
+        (status = 200, description = "SVG image", body = String, content_type = "image/svg+xml"),
+        (status = 404, description = "No such assessment or area", body = ProblemDoc, content_type = "application/problem+json"),
+    ),
+    security(("bearer" = [])))]
+pub async fn reports_map(
+    State(s): State<AppState>,
+    Auth(caller): Auth,
+    Path((id, area)): Path<(String, String)>,
+) -> Result<Response, ApiError> {
+    check_id(&id, "assessment")?;
+    Ok(typed(s.service.reports_map_svg(&caller, &id, &area).await?, "image/svg+xml"))
+}
+
+/// Position results as CSV: one row per position, height and table; units in the headers
+/// (site, load_case, position_id, body_region, group, height_m, x_m, y_m, z_m, resultant_ut,
+/// maximum_ut, table_id, table_version, level_ut, ratio, verdict).
+#[utoipa::path(get, path = "/v1/assessments/{assessment_id}/positions.csv", tag = "reports",
+    params(("assessment_id" = String, Path, description = "Assessment id")),
+    responses(
+        (status = 200, description = "CSV (RFC 4180)", body = String, content_type = "text/csv"),
+        (status = 404, description = "No such assessment", body = ProblemDoc, content_type = "application/problem+json"),
+    ),
+    security(("bearer" = [])))]
+pub async fn reports_csv(
+    State(s): State<AppState>,
+    Auth(caller): Auth,
+    Path(id): Path<String>,
+) -> Result<Response, ApiError> {
+    check_id(&id, "assessment")?;
+    Ok(typed(s.service.reports_csv(&caller, &id).await?, "text/csv; charset=utf-8"))
+}
+
+/// Conductors, positions, contour lines and zone polygons as GeoJSON (RFC 7946):
+/// WGS 84 longitude/latitude when the site has a georeference, else the site's
+/// local frame in metres (stated in `coordinate_frame`).
+#[utoipa::path(get, path = "/v1/assessments/{assessment_id}/features.geojson", tag = "reports",
+    params(("assessment_id" = String, Path, description = "Assessment id")),
+    responses(
+        (status = 200, description = "GeoJSON FeatureCollection", body = Object, content_type = "application/geo+json"),
+        (status = 404, description = "No such assessment", body = ProblemDoc, content_type = "application/problem+json"),
+    ),
+    security(("bearer" = [])))]
+pub async fn reports_geojson(
+    State(s): State<AppState>,
+    Auth(caller): Auth,
+    Path(id): Path<String>,
+) -> Result<Response, ApiError> {
+    check_id(&id, "assessment")?;
+    let doc = s.service.reports_geojson(&caller, &id).await?;
+    Ok(typed(serde_json::to_string(&doc).unwrap_or_default(), "application/geo+json"))
+}
+
+#[derive(Debug, serde::Deserialize, utoipa::IntoParams)]
+#[serde(deny_unknown_fields)]
+#[into_params(parameter_in = Query)]
+pub struct DistanceQuery {
+    /// Level, µT RMS (resultant).
+    pub level_ut: String,
+    /// `position:ID`, `conductor:ID` (middle of its longest segment) or `point:x,y,z` (m).
+    pub from: String,
+    /// `shortest` (default: horizontal directions in 5° steps and vertical) or `x,y,z`.
+    pub direction: Option<String>,
+}
+
+/// Distance at which the resultant field first falls below a level, by
+/// bracketing and bisection on the exact field (tolerance 0.1 mm).
+#[utoipa::path(get, path = "/v1/assessments/{assessment_id}/distance", tag = "reports",
+    params(("assessment_id" = String, Path, description = "Assessment id"), DistanceQuery),
+    responses(
+        (status = 200, description = "The distance and where", body = DistanceResult),
+        (status = 400, description = "Bad query", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 404, description = "No such assessment", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 422, description = "Unknown position or conductor, bad level or direction", body = ProblemDoc, content_type = "application/problem+json"),
+    ),
+    security(("bearer" = [])))]
+pub async fn reports_distance(
+    State(s): State<AppState>,
+    Auth(caller): Auth,
+    Path(id): Path<String>,
+    uri: Uri,
+) -> Result<Response, ApiError> {
+    check_id(&id, "assessment")?;
+    let q = axum::extract::Query::<DistanceQuery>::try_from_uri(&uri)
+        .map_err(|e| ApiError::bad_request(e.body_text(), Default::default()))?
+        .0;
+    let level: f64 = q.level_ut.parse().map_err(|_| {
+        ApiError::validation(crate::domain::site::Problems(vec![crate::domain::site::Problem {
+            pointer: "/level_ut".into(),
+            detail: "level_ut must be a number (µT)".into(),
+        }]))
+    })?;
+    let r =
+        s.service.reports_distance(&caller, &id, &q.from, q.direction.as_deref().unwrap_or("shortest"), level).await?;
+    Ok(axum::Json(r).into_response())
+}
