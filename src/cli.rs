@@ -84,6 +84,11 @@ pub enum Command {
         #[command(subcommand)]
         action: Option<TablesAction>,
     },
+    /// Spot-measurement surveys.
+    Survey {
+        #[command(subcommand)]
+        action: SurveyAction,
+    },
     /// Run the HTTP API (SQLite in the data directory, or DATABASE_URL).
     Serve(ServeArgs),
     /// Manage API keys in the database `serve` uses.
@@ -132,6 +137,25 @@ pub struct ServeArgs {
     /// Seconds before a request is answered 503.
     #[arg(long, env = "FLUXBOUND_REQUEST_TIMEOUT_S", default_value_t = 30)]
     pub request_timeout_s: u64,
+}
+
+#[derive(Debug, Subcommand)]
+pub enum SurveyAction {
+    /// Compare measurements with the model, fit the circuit loads, and extrapolate to rated load.
+    Reconcile {
+        /// Site model (JSON).
+        #[arg(value_name = "SITE")]
+        site: PathBuf,
+        /// Survey (JSON).
+        #[arg(value_name = "SURVEY")]
+        survey: PathBuf,
+        /// Tables for the extrapolated values (default: the survey's, the site's, else the default set).
+        #[arg(long, value_delimiter = ',', value_name = "ID,ID")]
+        tables: Vec<String>,
+        /// Output format.
+        #[arg(long, value_enum, default_value_t = Format::Table)]
+        format: Format,
+    },
 }
 
 #[derive(Debug, Subcommand)]
@@ -288,6 +312,9 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<ExitCode, CliError> {
             }
             Ok(ExitCode::SUCCESS)
         }
+        Command::Survey { action: SurveyAction::Reconcile { site, survey, tables, format } } => {
+            survey_command(&site, &survey, tables, format, out)
+        }
         Command::Serve(args) => serve(args),
         Command::Keys { action } => keys(action, out),
         Command::Check { file } => {
@@ -393,6 +420,32 @@ fn assess_command(
     match format {
         Format::Json => write_json(out, &result)?,
         Format::Table => write!(out, "{}", text::assessment_text(&result)).map_err(CliError::Write)?,
+    }
+    Ok(ExitCode::SUCCESS)
+}
+
+fn survey_command(
+    site_path: &Path,
+    survey_path: &Path,
+    table_ids: Vec<String>,
+    format: Format,
+    out: &mut dyn Write,
+) -> Result<ExitCode, CliError> {
+    use crate::domain::survey::{self, wire::SurveyDoc};
+    let site = site::parse_site(&read_input(site_path)?).map_err(CliError::Problems)?;
+    let doc: SurveyDoc = site::parse_json(&read_input(survey_path)?).map_err(CliError::Problems)?;
+    let checked = survey::validate_survey(&doc, &site).map_err(CliError::Problems)?;
+    let ids = [table_ids, checked.tables.clone(), site.tables.clone()]
+        .into_iter()
+        .find(|v| !v.is_empty())
+        .unwrap_or_else(|| DEFAULT_TABLE_IDS.iter().map(|s| s.to_string()).collect());
+    let tables = limits::resolve_tables(&ids, &[], &Pointer::root().key("tables")).map_err(CliError::Problems)?;
+    let analysis = survey::analyse(&site, &checked, &tables, 0.5).map_err(CliError::Problems)?;
+    match format {
+        Format::Json => write_json(out, &analysis)?,
+        Format::Table => {
+            write!(out, "{}", text::survey_text(site.name.as_deref(), &analysis)).map_err(CliError::Write)?
+        }
     }
     Ok(ExitCode::SUCCESS)
 }

@@ -9,3 +9,4 @@ pub mod field;
 pub mod limits;
 pub mod mitigate;
 pub mod site;
+pub mod survey;

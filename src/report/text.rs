@@ -236,3 +236,108 @@ pub fn table_text(t: &ReferenceTable) -> String {
 fn snake<T: serde::Serialize>(v: &T) -> String {
     serde_json::to_value(v).ok().and_then(|j| j.as_str().map(str::to_string)).unwrap_or_default()
 }
+
+/// Plain-text survey reconciliation, load fit and extrapolation.
+pub fn survey_text(site_name: Option<&str>, s: &crate::domain::survey::SurveyAnalysis) -> String {
+    let mut out = String::new();
+    let r = &s.reconciliation;
+    let _ = writeln!(out, "SURVEY RECONCILIATION — {}", site_name.unwrap_or("(unnamed site)"));
+    let _ = writeln!(
+        out,
+        "Measured at {}; meter ±{:.0} % and model ±{:.0} % (expanded, k = 2)",
+        s.measured_at, r.meter_expanded_uncertainty_percent, r.model_expanded_uncertainty_percent
+    );
+    let _ = writeln!(out);
+    let _ = writeln!(
+        out,
+        "    {:<16} {:>12} {:>12} {:>8} {:>12}  {}",
+        "point", "measured µT", "model µT", "ratio", "allowed ±µT", "flag"
+    );
+    for p in &r.points {
+        let _ = writeln!(
+            out,
+            "    {:<16} {:>12.2} {:>12} {:>8} {:>12}  {}",
+            p.id,
+            p.measured_ut,
+            num(p.model_ut, 2),
+            num(p.ratio, 3),
+            num(p.allowed_difference_ut, 2),
+            if p.flagged { "OUTSIDE UNCERTAINTY" } else { "" }
+        );
+    }
+    let sm = &r.summary;
+    let _ = writeln!(
+        out,
+        "    median ratio {}, range {} – {}, geometric spread {}, {} of {} flagged; worst: {}",
+        num(sm.median_ratio, 3),
+        num(sm.min_ratio, 3),
+        num(sm.max_ratio, 3),
+        num(sm.geometric_spread, 3),
+        sm.flagged,
+        sm.points,
+        if sm.worst.is_empty() { "none".into() } else { sm.worst.join(", ") }
+    );
+    let f = &s.load_fit;
+    let _ = writeln!(out);
+    let _ = writeln!(out, "LOAD FIT (least squares on the measurements; scale = fitted / stated current)");
+    for c in &f.circuits {
+        let status = serde_json::to_value(c.status).ok().and_then(|v| v.as_str().map(String::from)).unwrap_or_default();
+        let _ = writeln!(
+            out,
+            "    {:<20} stated {:>9.1} A   scale {:>7} ± {:<7}  fitted {:>9} A   {status}",
+            c.circuit,
+            c.stated_a,
+            num(c.scale, 3),
+            num(c.scale_std_error, 3),
+            num(c.fitted_a, 1)
+        );
+    }
+    let _ = writeln!(
+        out,
+        "    residual {:.2} % RMS, reduced χ² {}, {} iterations{}",
+        100.0 * f.residual_rms_relative,
+        num(f.reduced_chi2, 2),
+        f.iterations,
+        if f.converged { "" } else { " (not converged)" }
+    );
+    for n in &f.notes {
+        let _ = writeln!(out, "    note: {n}");
+    }
+    let _ = writeln!(out);
+    match &s.extrapolation {
+        Some(e) => {
+            let _ = writeln!(out, "EXTRAPOLATION TO RATED LOAD");
+            for p in &e.points {
+                let cmp: Vec<String> = p
+                    .comparisons
+                    .iter()
+                    .map(|c| format!("{} {} {}", c.table_id, num(c.ratio, 3), verdict_word(c.verdict)))
+                    .collect();
+                let _ = writeln!(
+                    out,
+                    "    {:<16} {:>10.2} µT × {:>7} = {:>10} µT   {}",
+                    p.id,
+                    p.measured_ut,
+                    num(p.factor, 3),
+                    num(p.extrapolated_ut, 2),
+                    cmp.join("; ")
+                );
+            }
+            for a in &e.assumptions {
+                let _ = writeln!(out, "    assumption: {a}");
+            }
+        }
+        None => {
+            let _ = writeln!(out, "EXTRAPOLATION TO RATED LOAD: not possible (see notes)");
+        }
+    }
+    for n in &s.notes {
+        let _ = writeln!(out, "note: {n}");
+    }
+    let _ = writeln!(out);
+    let _ = writeln!(out, "CAUTIONS");
+    for c in &s.cautions {
+        let _ = writeln!(out, "  - {c}");
+    }
+    out
+}

@@ -26,6 +26,9 @@ pub enum CircuitLoad {
     /// overrides keep their proportion to the present `current_a` (a circuit
     /// with no present current gets a balanced set at this current).
     CurrentA(f64),
+    /// Measured RMS currents of phases A, B, C, A (angles as in the model;
+    /// a single-phase circuit uses the first).
+    PhasesA([f64; 3]),
 }
 
 impl CircuitLoad {
@@ -38,6 +41,7 @@ impl Circuit {
         match load {
             CircuitLoad::Scale(s) => self.current_a * s,
             CircuitLoad::CurrentA(t) => t,
+            CircuitLoad::PhasesA(p) => p[0],
         }
     }
 
@@ -55,6 +59,7 @@ impl Circuit {
             CircuitLoad::Scale(s) => base * s,
             CircuitLoad::CurrentA(t) if self.current_a > 0.0 => base * t / self.current_a,
             CircuitLoad::CurrentA(t) => t,
+            CircuitLoad::PhasesA(p) => p[phase_index],
         };
         let angle = o.angle_deg.unwrap_or(self.angle_deg + offset_deg);
         (rms, angle)

@@ -1,0 +1,88 @@
+//! A survey as submitted: spot measurements with the meter's uncertainty and
+//! the circuit loads at the time.
+
+use serde::{Deserialize, Serialize};
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct SurveyDoc {
+    /// Site revision the survey belongs to (API; latest if absent).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub revision: Option<i64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub name: Option<String>,
+    /// When the measurements were taken (RFC 3339 text, e.g. 2026-11-20T09:30:00Z).
+    pub measured_at: String,
+    pub meter: MeterDoc,
+    /// Expanded (k = 2) uncertainty of the model, percent (default 20;
+    /// common practice, no source).
+    #[serde(default = "default_model_uncertainty")]
+    pub model_uncertainty_percent: f64,
+    /// Circuit loads at the time; circuits not listed are taken at their
+    /// present `current_a`.
+    #[serde(default)]
+    pub loads: Vec<LoadDoc>,
+    /// Measurements, or `points_csv` instead.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub points: Vec<MeasurementDoc>,
+    /// Measurements as CSV text with the header
+    /// `id,x_m,y_m,z_m,resultant_ut` and optionally `bx_ut,by_ut,bz_ut`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub points_csv: Option<String>,
+    /// Tables to compare the extrapolated values with (default: the site's,
+    /// else the default set).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub tables: Vec<String>,
+}
+
+fn default_model_uncertainty() -> f64 {
+    20.0
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct MeterDoc {
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub model: Option<String>,
+    /// Stated expanded uncertainty (k = 2), percent of reading.
+    pub expanded_uncertainty_percent: f64,
+}
+
+/// One circuit's load at measurement time: a nominal phase current or
+/// per-phase RMS currents.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct LoadDoc {
+    pub circuit: String,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub current_a: Option<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub phases_a: Option<PhaseCurrentsDoc>,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct PhaseCurrentsDoc {
+    #[serde(rename = "A")]
+    pub a: f64,
+    #[serde(rename = "B", default)]
+    pub b: Option<f64>,
+    #[serde(rename = "C", default)]
+    pub c: Option<f64>,
+}
+
+/// A spot measurement: `at` is a point `[x, y, z]` or a standing point
+/// `[x, y]` at `height_m` (default 1.0 m, the reference height).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct MeasurementDoc {
+    pub id: String,
+    pub at: Vec<f64>,
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub height_m: Option<f64>,
+    /// Measured resultant RMS flux density, µT.
+    pub resultant_ut: f64,
+    /// Measured RMS per axis (x, y, z), µT, if the meter gives them.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub axes_ut: Option<[f64; 3]>,
+}
