@@ -250,8 +250,8 @@ pub fn survey_text(site_name: Option<&str>, s: &crate::domain::survey::SurveyAna
     let _ = writeln!(out);
     let _ = writeln!(
         out,
-        "    {:<16} {:>12} {:>12} {:>8} {:>12}  {}",
-        "point", "measured µT", "model µT", "ratio", "allowed ±µT", "flag"
+        "    {:<16} {:>12} {:>12} {:>8} {:>12}  flag",
+        "point", "measured µT", "model µT", "ratio", "allowed ±µT"
     );
     for p in &r.points {
         let _ = writeln!(

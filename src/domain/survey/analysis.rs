@@ -362,7 +362,7 @@ fn fit(site: &Site, survey: &Survey, gf: &GroupFields) -> LoadFit {
     let svd = j.clone().svd(false, false);
     let (smax, smin) = (svd.singular_values.max(), svd.singular_values.min());
     let condition = (!free.is_empty()).then(|| if smin > 0.0 { smax / smin } else { f64::INFINITY });
-    let ill = condition.is_some_and(|c| !(c <= MAX_CONDITION));
+    let ill = condition.is_some_and(|c| c.is_nan() || c > MAX_CONDITION);
     if ill {
         notes.push("the circuits' effects cannot be told apart at these measurement points: add points where one circuit dominates".into());
     }
