@@ -17,7 +17,7 @@ use axum::middleware::{self, Next};
 use axum::response::{IntoResponse, Response};
 use axum::routing::{get, post};
 use problem::ApiError;
-use routes::{assessments, evaluate, keys, ops, reports, sites, tables};
+use routes::{assessments, evaluate, keys, ops, reports, sites, surveys, tables};
 use std::sync::Arc;
 use std::time::Duration;
 use tower_http::catch_panic::CatchPanicLayer;
@@ -57,6 +57,10 @@ pub fn router(state: AppState) -> Router {
             "/v1/sites/{site_id}/assessments",
             post(assessments::assessments_create).get(assessments::assessments_list),
         )
+        .route("/v1/sites/{site_id}/surveys", post(surveys::surveys_create).get(surveys::surveys_list))
+        .route("/v1/surveys/{survey_id}", get(surveys::surveys_show))
+        .route("/v1/surveys/{survey_id}/reconciliation", get(surveys::surveys_reconciliation))
+        .route("/v1/surveys/{survey_id}/extrapolation", get(surveys::surveys_extrapolation))
         .route("/v1/assessments/{assessment_id}", get(assessments::assessments_show))
         .route("/v1/assessments/{assessment_id}/areas/{area_id}/map.svg", get(reports::reports_map))
         .route("/v1/assessments/{assessment_id}/positions.csv", get(reports::reports_csv))

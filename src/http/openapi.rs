@@ -388,6 +388,88 @@ domain_schema!(
     })
 );
 
+use crate::domain::survey;
+use crate::domain::survey::wire as sv;
+
+domain_schema!(
+    sv::SurveyDoc,
+    "SurveyDoc",
+    obj(
+        "A survey: spot measurements with the meter's uncertainty and the circuit loads at the time",
+        &["measured_at", "meter"],
+        json!({
+            "revision": { "type": "integer", "description": "Site revision (default: latest)" },
+            "name": text("Survey name"),
+            "measured_at": text("When measured (RFC 3339)"),
+            "meter": r("MeterDoc"),
+            "model_uncertainty_percent": num("Expanded (k = 2) model uncertainty, percent (default 20)"),
+            "loads": arr(r("LoadDoc"), "Circuit loads at the time; unlisted circuits at their present current_a"),
+            "points": arr(r("MeasurementDoc"), "Measurements (or points_csv)"),
+            "points_csv": text("Measurements as CSV: header id,x_m,y_m,z_m,resultant_ut and optionally bx_ut,by_ut,bz_ut; metres and µT RMS"),
+            "tables": arr(json!({"type": "string"}), "Tables for the extrapolated values"),
+        })
+    )
+);
+domain_schema!(
+    sv::MeterDoc,
+    "MeterDoc",
+    obj(
+        "The meter",
+        &["expanded_uncertainty_percent"],
+        json!({ "model": text("Meter model"), "expanded_uncertainty_percent": num("Stated expanded (k = 2) uncertainty, percent of reading") })
+    )
+);
+domain_schema!(
+    sv::LoadDoc,
+    "LoadDoc",
+    obj(
+        "A circuit's load at measurement time",
+        &["circuit"],
+        json!({ "circuit": text("Circuit id"), "current_a": num("Nominal RMS phase current, A"), "phases_a": r("PhaseCurrentsDoc") })
+    )
+);
+domain_schema!(
+    sv::PhaseCurrentsDoc,
+    "PhaseCurrentsDoc",
+    obj(
+        "Measured RMS phase currents, A",
+        &["A"],
+        json!({ "A": num("Phase A, A"), "B": num("Phase B, A"), "C": num("Phase C, A") })
+    )
+);
+domain_schema!(
+    sv::MeasurementDoc,
+    "MeasurementDoc",
+    obj(
+        "A spot measurement",
+        &["id", "at", "resultant_ut"],
+        json!({
+            "id": text("Measurement id"),
+            "at": json!({ "type": "array", "items": { "type": "number" }, "minItems": 2, "maxItems": 3, "description": "[x, y] (with height_m) or [x, y, z], m" }),
+            "height_m": num("Height above a standing point, m (default 1.0)"),
+            "resultant_ut": num("Measured resultant RMS flux density, µT"),
+            "axes_ut": xyz("Measured RMS per axis, µT"),
+        })
+    )
+);
+domain_schema!(
+    survey::SurveyAnalysis,
+    "SurveyAnalysis",
+    json!({
+        "type": "object",
+        "description": "reconciliation (per point measured_ut, model_ut, ratio, difference_ut, allowed_difference_ut, flagged; summary), load_fit (per circuit stated_a, scale, fitted_a, scale_std_error, status: fitted | at_bound | unidentifiable | ill_conditioned), extrapolation (per point factor, extrapolated_ut, comparisons; assumptions), notes, cautions",
+        "required": ["measured_at", "reconciliation", "load_fit", "notes", "cautions"],
+        "properties": {
+            "measured_at": text("When measured"),
+            "reconciliation": { "type": "object" },
+            "load_fit": { "type": "object" },
+            "extrapolation": { "type": ["object", "null"] },
+            "notes": arr(json!({"type": "string"}), "Notes"),
+            "cautions": arr(json!({"type": "string"}), "Cautions that apply to every result"),
+        }
+    })
+);
+
 use crate::service as s;
 
 domain_schema!(
@@ -442,6 +524,8 @@ fn description() -> String {
         routes::tables::tables_version_add, routes::tables::tables_version_show, routes::tables::tables_version_replace,
         routes::reports::reports_map, routes::reports::reports_csv, routes::reports::reports_geojson,
         routes::reports::reports_distance,
+        routes::surveys::surveys_create, routes::surveys::surveys_list, routes::surveys::surveys_show,
+        routes::surveys::surveys_reconciliation, routes::surveys::surveys_extrapolation,
         routes::evaluate::evaluate,
         routes::keys::keys_list, routes::keys::keys_create, routes::keys::keys_revoke,
         routes::ops::healthz, routes::ops::readyz, routes::ops::metrics,
@@ -451,6 +535,7 @@ fn description() -> String {
         w::PositionDoc, w::AreaDoc, l::TableDoc, l::AppliesTo, l::Band, l::Gap,
         e::EvaluateRequest, e::EvaluateResponse, e::PointResult, e::FrequencyResult, e::ComponentsUt, e::ComplexUt,
         a::LoadCase, a::Assessment, s::AssessmentRequest, w::GeoreferenceDoc, m::DistanceResult,
+        sv::SurveyDoc, sv::MeterDoc, sv::LoadDoc, sv::PhaseCurrentsDoc, sv::MeasurementDoc, survey::SurveyAnalysis,
     )),
     modifiers(&Security),
     tags(
@@ -458,6 +543,7 @@ fn description() -> String {
         (name = "assessments", description = "Assessments pinned to a site revision and table versions"),
         (name = "tables", description = "Reference-level tables: built-in (read-only) and custom (versioned)"),
         (name = "reports", description = "Field maps (SVG), CSV and GeoJSON exports, distance to a level"),
+        (name = "surveys", description = "Spot measurements: reconciliation, load fit, extrapolation to rated load"),
         (name = "evaluate", description = "Stateless field computation"),
         (name = "keys", description = "API keys (admin)"),
         (name = "operations", description = "Health, readiness, metrics"),

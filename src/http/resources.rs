@@ -186,3 +186,33 @@ pub struct Health {
     /// `ok`.
     pub status: String,
 }
+
+/// A stored survey with its analysis.
+#[derive(Debug, Serialize, ToSchema)]
+pub struct SurveyResource {
+    pub id: String,
+    pub site_id: String,
+    pub site_revision: i64,
+    pub created_at: String,
+    pub survey: crate::domain::survey::wire::SurveyDoc,
+    pub analysis: crate::domain::survey::SurveyAnalysis,
+}
+
+impl From<crate::service::SurveyView> for SurveyResource {
+    fn from(v: crate::service::SurveyView) -> Self {
+        SurveyResource {
+            id: v.row.id,
+            site_id: v.row.site_id,
+            site_revision: v.row.site_revision,
+            created_at: v.row.created_at,
+            survey: v.survey,
+            analysis: v.analysis,
+        }
+    }
+}
+
+#[derive(Debug, Serialize, ToSchema)]
+pub struct SurveyPage {
+    pub items: Vec<SurveyResource>,
+    pub next_cursor: Option<String>,
+}

@@ -1,7 +1,7 @@
 //! Assessments: run against a pinned site revision and pinned table
 //! versions, stored, read back.
 
-use super::{Caller, Result, Role, Service, ServiceError, page_limit, stored, tables::stored_table, to_json};
+use super::{Caller, Result, Role, Service, ServiceError, stored, tables::stored_table, to_json};
 use crate::domain::assess::{self, Assessment, LoadCase, Options};
 use crate::domain::limits::{DEFAULT_TABLE_IDS, ReferenceTable, builtin_table};
 use crate::domain::site::wire::SiteDoc;
@@ -50,7 +50,7 @@ fn view(row: AssessmentRow) -> Result<AssessmentView> {
 impl Service {
     /// Tables by id: built-ins, else the organisation's latest version
     /// (pinned so the store can freeze exactly what was used).
-    async fn resolve_tables(
+    pub(super) async fn resolve_tables(
         &self,
         caller: &Caller,
         ids: &[String],
@@ -150,11 +150,15 @@ impl Service {
         cursor: Option<&str>,
         limit: Option<i64>,
     ) -> Result<(Vec<AssessmentView>, Option<String>)> {
-        caller.require(Role::Viewer)?;
-        let limit = page_limit(limit)?;
-        self.store().site_latest(&caller.org_id, site_id).await?.ok_or(ServiceError::NotFound("site"))?;
-        let rows = self.store().assessments_list(&caller.org_id, site_id, cursor, limit + 1).await?;
-        let (rows, next) = super::paginate(rows, limit, |r| r.id.clone());
-        Ok((rows.into_iter().map(view).collect::<Result<Vec<_>>>()?, next))
+        let (store, org) = (self.store(), caller.org_id.clone());
+        self.page_for_site(
+            caller,
+            site_id,
+            limit,
+            |n| async move { store.assessments_list(&org, site_id, cursor, n).await },
+            view,
+            |r| r.id.clone(),
+        )
+        .await
     }
 }

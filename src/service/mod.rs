@@ -8,6 +8,7 @@ mod bounds;
 mod evaluate;
 mod reports;
 mod sites;
+mod surveys;
 mod tables;
 
 pub use assessments::{AssessmentRequest, AssessmentView};
@@ -15,6 +16,7 @@ pub use auth::{Caller, Role, hash_secret};
 pub use bounds::Limits;
 pub use reports::MAP_MAX_CELLS;
 pub use sites::{IfMatch, SiteView};
+pub use surveys::SurveyView;
 pub use tables::{TableVersionInfo, TableView};
 
 use crate::domain::site::Problems;
@@ -122,4 +124,29 @@ fn paginate<T>(mut rows: Vec<T>, limit: i64, cursor_of: impl Fn(&T) -> String) -
     rows.truncate(limit.max(0) as usize);
     let next = if more { rows.last().map(&cursor_of) } else { None };
     (rows, next)
+}
+
+impl Service {
+    /// One page of a site's child resources (assessments, surveys): the site
+    /// must exist in the caller's organisation; `fetch` reads `limit + 1` rows.
+    async fn page_for_site<R, V, F, Fut>(
+        &self,
+        caller: &Caller,
+        site_id: &str,
+        limit: Option<i64>,
+        fetch: F,
+        view: impl Fn(R) -> Result<V>,
+        id_of: impl Fn(&R) -> String,
+    ) -> Result<(Vec<V>, Option<String>)>
+    where
+        F: FnOnce(i64) -> Fut,
+        Fut: std::future::Future<Output = std::result::Result<Vec<R>, StoreError>>,
+    {
+        caller.require(Role::Viewer)?;
+        let limit = page_limit(limit)?;
+        self.store().site_latest(&caller.org_id, site_id).await?.ok_or(ServiceError::NotFound("site"))?;
+        let rows = fetch(limit + 1).await?;
+        let (rows, next) = paginate(rows, limit, id_of);
+        Ok((rows.into_iter().map(view).collect::<Result<Vec<_>>>()?, next))
+    }
 }

@@ -5,12 +5,16 @@ use super::{Backend, Result, Store, StoreError, now};
 use sqlx::Executor;
 
 /// `(version, name, sql)` for SQLite.
-pub const MIGRATIONS_SQLITE: &[(i64, &str, &str)] =
-    &[(1, "init", include_str!("../../migrations/sqlite/0001_init.sql"))];
+pub const MIGRATIONS_SQLITE: &[(i64, &str, &str)] = &[
+    (1, "init", include_str!("../../migrations/sqlite/0001_init.sql")),
+    (2, "surveys", include_str!("../../migrations/sqlite/0002_surveys.sql")),
+];
 
 /// `(version, name, sql)` for PostgreSQL.
-pub const MIGRATIONS_POSTGRES: &[(i64, &str, &str)] =
-    &[(1, "init", include_str!("../../migrations/postgres/0001_init.sql"))];
+pub const MIGRATIONS_POSTGRES: &[(i64, &str, &str)] = &[
+    (1, "init", include_str!("../../migrations/postgres/0001_init.sql")),
+    (2, "surveys", include_str!("../../migrations/postgres/0002_surveys.sql")),
+];
 
 /// Key of the PostgreSQL advisory lock held while migrating.
 const LOCK_KEY: i64 = 0x666c_7578_626e_6431;

@@ -12,12 +12,14 @@ mod assessments;
 mod migrate;
 mod orgs;
 mod sites;
+mod surveys;
 mod tables;
 
 pub use assessments::{AssessmentRow, NewAssessment, PinnedVersion};
 pub use migrate::{MIGRATIONS_POSTGRES, MIGRATIONS_SQLITE};
 pub use orgs::{KeyRow, OrgRow};
 pub use sites::{RevisionRow, SiteRow, UpdateOutcome};
+pub use surveys::SurveyRow;
 pub use tables::{TableRow, TableVersionRow, VersionReplace};
 
 use sqlx::any::{AnyPoolOptions, install_default_drivers};

@@ -11,4 +11,5 @@ mod openapi;
 mod persistence;
 mod reports;
 mod sites;
+mod surveys;
 mod tables;

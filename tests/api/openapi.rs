@@ -71,6 +71,7 @@ fn every_key_of_the_shipped_examples_is_declared_in_the_schemas() {
         ("site-switch-room.json", "SiteDoc"),
         ("site-furnace-feeder.json", "SiteDoc"),
         ("evaluate-busbar-walkway.json", "EvaluateRequest"),
+        ("survey-switch-room.json", "SurveyDoc"),
     ] {
         let schema = doc["components"]["schemas"][schema].clone();
         check(&doc, &schema, &example(file), file, &mut problems);

@@ -712,3 +712,32 @@ fn assess_writes_the_area_map_csv_and_geojson_files_it_is_asked_for() {
     assert!(!missing.exists());
     let _ = std::fs::remove_dir_all(dir);
 }
+
+#[test]
+fn survey_reconcile_prints_the_reconciliation_fit_extrapolation_and_cautions() {
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_fluxbound"))
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .args(["survey", "reconcile", "examples/site-switch-room.json", "examples/survey-switch-room.json"])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
+    let text = String::from_utf8_lossy(&out.stdout);
+    for part in ["SURVEY RECONCILIATION", "LOAD FIT", "EXTRAPOLATION TO RATED LOAD", "OUTSIDE UNCERTAINTY", "CAUTIONS"]
+    {
+        assert!(text.contains(part), "missing {part}:\n{text}");
+    }
+    let json = std::process::Command::new(env!("CARGO_BIN_EXE_fluxbound"))
+        .current_dir(env!("CARGO_MANIFEST_DIR"))
+        .args([
+            "survey",
+            "reconcile",
+            "examples/site-switch-room.json",
+            "examples/survey-switch-room.json",
+            "--format",
+            "json",
+        ])
+        .output()
+        .unwrap();
+    let v: serde_json::Value = serde_json::from_slice(&json.stdout).unwrap();
+    assert_eq!(v["reconciliation"]["summary"]["points"], 10);
+}

@@ -6,6 +6,7 @@ pub mod keys;
 pub mod ops;
 pub mod reports;
 pub mod sites;
+pub mod surveys;
 pub mod tables;
 
 use axum::http::{HeaderValue, StatusCode, header};

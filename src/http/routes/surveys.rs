@@ -1,0 +1,112 @@
+//! Surveys of a site: spot measurements reconciled with the model.
+
+use super::json_response;
+use crate::domain::survey::wire::SurveyDoc;
+use crate::http::AppState;
+use crate::http::extract::{ApiJson, Auth, PageQuery, check_id};
+use crate::http::problem::{ApiError, ProblemDoc};
+use crate::http::resources::{SurveyPage, SurveyResource};
+use axum::extract::{Path, State};
+use axum::http::{StatusCode, Uri};
+use axum::response::{IntoResponse, Response};
+
+/// Store a survey (latest or a given revision) and analyse it: reconciliation, load fit, extrapolation.
+/// Measurements come as `points`, or as CSV text in `points_csv` with the header
+/// `id,x_m,y_m,z_m,resultant_ut` and optionally `bx_ut,by_ut,bz_ut` (metres and µT RMS);
+/// a bad row is reported at `/points_csv` with its line number and column.
+#[utoipa::path(post, path = "/v1/sites/{site_id}/surveys", tag = "surveys", request_body = SurveyDoc,
+    params(("site_id" = String, Path, description = "Site id")),
+    responses(
+        (status = 201, description = "Stored with its analysis", body = SurveyResource),
+        (status = 404, description = "No such site or revision", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 422, description = "Validation problems (including CSV rows) or compute budget", body = ProblemDoc, content_type = "application/problem+json"),
+    ),
+    security(("bearer" = [])))]
+pub async fn surveys_create(
+    State(s): State<AppState>,
+    Auth(caller): Auth,
+    Path(site_id): Path<String>,
+    ApiJson(doc): ApiJson<SurveyDoc>,
+) -> Result<Response, ApiError> {
+    check_id(&site_id, "site")?;
+    let v = s.service.surveys_create(&caller, &site_id, doc).await?;
+    let location = format!("/v1/surveys/{}", v.row.id);
+    Ok(json_response(StatusCode::CREATED, &SurveyResource::from(v), Some(location), None))
+}
+
+/// List a site's surveys.
+#[utoipa::path(get, path = "/v1/sites/{site_id}/surveys", tag = "surveys", params(("site_id" = String, Path, description = "Site id"), PageQuery),
+    responses((status = 200, description = "A page of surveys", body = SurveyPage),
+              (status = 404, description = "No such site", body = ProblemDoc, content_type = "application/problem+json")),
+    security(("bearer" = [])))]
+pub async fn surveys_list(
+    State(s): State<AppState>,
+    Auth(caller): Auth,
+    Path(site_id): Path<String>,
+    uri: Uri,
+) -> Result<Response, ApiError> {
+    check_id(&site_id, "site")?;
+    let q = PageQuery::from_uri(&uri)?;
+    let (items, next) = s.service.surveys_list(&caller, &site_id, q.cursor()?, q.limit()?).await?;
+    Ok(json_response(
+        StatusCode::OK,
+        &SurveyPage { items: items.into_iter().map(SurveyResource::from).collect(), next_cursor: next },
+        None,
+        None,
+    ))
+}
+
+/// Read a survey with its analysis.
+#[utoipa::path(get, path = "/v1/surveys/{survey_id}", tag = "surveys", params(("survey_id" = String, Path, description = "Survey id")),
+    responses((status = 200, description = "The survey", body = SurveyResource),
+              (status = 404, description = "No such survey", body = ProblemDoc, content_type = "application/problem+json")),
+    security(("bearer" = [])))]
+pub async fn surveys_show(
+    State(s): State<AppState>,
+    Auth(caller): Auth,
+    Path(id): Path<String>,
+) -> Result<Response, ApiError> {
+    check_id(&id, "survey")?;
+    Ok(json_response(StatusCode::OK, &SurveyResource::from(s.service.surveys_show(&caller, &id).await?), None, None))
+}
+
+/// The reconciliation and load fit of a survey.
+#[utoipa::path(get, path = "/v1/surveys/{survey_id}/reconciliation", tag = "surveys", params(("survey_id" = String, Path, description = "Survey id")),
+    responses((status = 200, description = "`{reconciliation, load_fit}`", body = Object),
+              (status = 404, description = "No such survey", body = ProblemDoc, content_type = "application/problem+json")),
+    security(("bearer" = [])))]
+pub async fn surveys_reconciliation(
+    State(s): State<AppState>,
+    Auth(caller): Auth,
+    Path(id): Path<String>,
+) -> Result<Response, ApiError> {
+    survey_part(&s, &caller, &id, |a| serde_json::json!({"reconciliation": a.reconciliation, "load_fit": a.load_fit}))
+        .await
+}
+
+/// One part of a stored survey's analysis, with the cautions.
+async fn survey_part(
+    s: &AppState,
+    caller: &crate::service::Caller,
+    id: &str,
+    part: impl FnOnce(&crate::domain::survey::SurveyAnalysis) -> serde_json::Value,
+) -> Result<Response, ApiError> {
+    check_id(id, "survey")?;
+    let v = s.service.surveys_show(caller, id).await?;
+    let mut body = part(&v.analysis);
+    body["cautions"] = serde_json::json!(v.analysis.cautions);
+    Ok(axum::Json(body).into_response())
+}
+
+/// Each measurement extrapolated to rated load and compared with the tables.
+#[utoipa::path(get, path = "/v1/surveys/{survey_id}/extrapolation", tag = "surveys", params(("survey_id" = String, Path, description = "Survey id")),
+    responses((status = 200, description = "`{extrapolation, notes}` (extrapolation is null when a circuit has no rated current)", body = Object),
+              (status = 404, description = "No such survey", body = ProblemDoc, content_type = "application/problem+json")),
+    security(("bearer" = [])))]
+pub async fn surveys_extrapolation(
+    State(s): State<AppState>,
+    Auth(caller): Auth,
+    Path(id): Path<String>,
+) -> Result<Response, ApiError> {
+    survey_part(&s, &caller, &id, |a| serde_json::json!({"extrapolation": a.extrapolation, "notes": a.notes})).await
+}
