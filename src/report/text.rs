@@ -62,7 +62,7 @@ pub fn assessment_text(a: &Assessment) -> String {
                 crate::domain::site::wire::Group::ImplantWearer => ", implant wearer",
             };
             let _ = writeln!(s, "  {}  ({region}{group})  →  {}", p.id, verdict_word(p.verdict));
-            let mut header = format!("    {:<16} {:>11} {:>11}", "height", "B resultant", "B major-ax.");
+            let mut header = format!("    {:<20} {:>11} {:>11}", "height or point", "B resultant", "B major-ax.");
             for c in &p.comparisons {
                 let _ = write!(header, "  {:>7} {:<12}", col(&c.table_id), "");
             }
@@ -70,9 +70,9 @@ pub fn assessment_text(a: &Assessment) -> String {
             for h in &p.heights {
                 let label = match h.height_m {
                     Some(z) => format!("{z:.2} m"),
-                    None => format!("({:.1}, {:.1}, {:.1})", h.at[0], h.at[1], h.at[2]),
+                    None => format!("({:.2}, {:.2}, {:.2})", h.at[0], h.at[1], h.at[2]),
                 };
-                let mut row = format!("    {:<16} {:>11} {:>11}", label, num(h.resultant_ut, 2), num(h.maximum_ut, 2));
+                let mut row = format!("    {:<20} {:>11} {:>11}", label, num(h.resultant_ut, 2), num(h.maximum_ut, 2));
                 for c in &h.comparisons {
                     let _ = write!(row, "  {:>7} {:<12}", num(c.ratio, 3), verdict_word(c.verdict));
                 }
@@ -82,7 +82,8 @@ pub fn assessment_text(a: &Assessment) -> String {
                 let _ = writeln!(s, "{}", row.trim_end());
             }
             if p.heights.len() > 1 {
-                let mut row = format!("    {:<16} {:>11} {:>11}", "mean of heights", num(p.mean_resultant_ut, 2), "");
+                let mut row =
+                    format!("    {:<20} {:>11} {:>11}", "mean (information)", num(p.mean_resultant_ut, 2), "");
                 for c in &p.comparisons {
                     let _ = write!(row, "  {:>7} {:<12}", num(c.ratio_of_height_mean, 3), "");
                 }
@@ -103,7 +104,10 @@ pub fn assessment_text(a: &Assessment) -> String {
 
     if !a.areas.is_empty() {
         let _ = writeln!(s);
-        let _ = writeln!(s, "AREAS   share = part of the area at or above the level / the review fraction");
+        let _ = writeln!(
+            s,
+            "AREAS   shares: part of the area at or above the level, and at or above the review fraction of it"
+        );
         for ar in &a.areas {
             let _ = writeln!(s);
             let _ = writeln!(

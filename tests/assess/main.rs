@@ -354,3 +354,30 @@ fn the_worst_verdict_of_the_summary_never_hides_an_unjudged_result_behind_within
     assert!(Verdict::NotComputed.severity() > Verdict::Within.severity());
     assert!(Verdict::Exceeds.severity() > Verdict::NotCovered.severity());
 }
+
+#[test]
+fn a_time_weighted_average_never_exceeds_the_highest_value_however_long_the_occupancy() {
+    // 0.2 · 1000 / 1 = 200 µT for 16 h: at most 8 h of an 8-hour day count → 200 µT.
+    let positions = json!([{"id": "p", "at": [0.0, 1.0, 0.0], "occupancy_h": 16}]);
+    let a = run(
+        wire_site(1000.0, 1000.0, json!([]), positions, json!([])),
+        LoadCase::Present,
+        &["eu-2013-35-low"],
+        Options::default(),
+    );
+    let tw = a.positions[0].time_weighted.as_ref().unwrap();
+    assert!(rel(tw.twa_8h_ut, 200.0) < 1e-8, "{}", tw.twa_8h_ut);
+}
+
+#[test]
+fn an_implant_wearer_position_says_that_passing_the_screen_does_not_clear_the_wearer() {
+    let positions = json!([{"id": "w", "at": [0.0, 5.0, 0.0], "group": "implant_wearer"}]);
+    let a = run(
+        wire_site(10.0, 10.0, json!([]), positions, json!([])),
+        LoadCase::Present,
+        &["eu-2013-35-low"],
+        Options::default(),
+    );
+    assert_eq!(a.positions[0].verdict, Verdict::Within);
+    assert!(a.positions[0].notes.iter().any(|n| n.contains("does not clear a device wearer")));
+}

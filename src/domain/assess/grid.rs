@@ -39,8 +39,9 @@ fn grid_shape(polygon: &[Point2<f64>], spacing_m: f64) -> (usize, usize, f64, f6
         return (0, 0, 0.0, 0.0);
     }
     // Saturating casts: a huge count is rejected by the caller's bound.
-    let nx = ((x1 - x0) / spacing_m).ceil().max(1.0) as usize;
-    let ny = ((y1 - y0) / spacing_m).ceil().max(1.0) as usize;
+    // A hair below the quotient, so 1.2 / 0.1 = 12.000000000000002 is 12.
+    let nx = ((x1 - x0) / spacing_m * (1.0 - 1e-12)).ceil().max(1.0) as usize;
+    let ny = ((y1 - y0) / spacing_m * (1.0 - 1e-12)).ceil().max(1.0) as usize;
     (nx, ny, x0, y0)
 }
 

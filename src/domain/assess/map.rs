@@ -30,8 +30,9 @@ impl GridSpec {
         }
         let (w, h) = ((x1 - x0).max(spacing_m), (y1 - y0).max(spacing_m));
         let s = spacing_m.max((w * h / max_cells.max(1) as f64).sqrt());
-        let nx = (w / s).ceil().max(1.0) as usize;
-        let ny = (h / s).ceil().max(1.0) as usize;
+        // A hair below the quotient, so 1.2 / 0.1 = 12.000000000000002 is 12.
+        let nx = (w / s * (1.0 - 1e-12)).ceil().max(1.0) as usize;
+        let ny = (h / s * (1.0 - 1e-12)).ceil().max(1.0) as usize;
         GridSpec { x0_m: x0, y0_m: y0, spacing_m: s, nx, ny }
     }
     pub fn len(&self) -> usize {

@@ -108,11 +108,13 @@ pub struct PositionComparison {
     pub uncovered_hz: Vec<f64>,
 }
 
-/// Time-weighted average over an 8-hour day (information only).
+/// Time-weighted average over an 8-hour day (information only): the
+/// highest value for the hours of occupancy (at most 8 counted), no field
+/// for the rest of the day.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct TimeWeighted {
     pub occupancy_h: f64,
-    /// `B · occupancy_h / 8 h`, with B the worst value, µT.
+    /// `B_max · min(occupancy_h, 8 h) / 8 h`, µT; never above B_max.
     pub twa_8h_ut: f64,
 }
 
@@ -194,7 +196,7 @@ pub struct Assessment {
 pub const NOTES: [&str; 3] = [
     "Compared quantity: resultant RMS flux density (root-sum-square of three RMS components).",
     "Several frequencies are combined as the sum of B_f / B_RL(f) over frequencies (ICNIRP 2010 multi-frequency rule, cited from memory).",
-    "Time-weighted averages are information only: power-frequency reference levels are ceilings and are not time-averaged.",
+    "Time-weighted averages are information only (the highest value for the hours of occupancy, at most 8, in an 8-hour day): power-frequency reference levels are ceilings and are not time-averaged.",
 ];
 
 /// Samples of the field at one point.
@@ -473,6 +475,12 @@ fn assess_position(
             .to_string(),
         );
     }
+    if q.group == Group::ImplantWearer {
+        notes.push(
+            "implant wearer: passing the screening level does not clear a device wearer; the device's data and a specialist assessment decide"
+                .to_string(),
+        );
+    }
     if computed.len() < samples.len() {
         notes.push("some evaluation points lie inside a conductor and are not computed: move the position".to_string());
     }
@@ -499,7 +507,7 @@ fn assess_position(
 
 fn time_weighted(occupancy_h: Option<f64>, b_ut: Option<f64>) -> Option<TimeWeighted> {
     let (h, b) = (occupancy_h?, b_ut?);
-    Some(TimeWeighted { occupancy_h: h, twa_8h_ut: b * h / 8.0 })
+    Some(TimeWeighted { occupancy_h: h, twa_8h_ut: b * h.min(8.0) / 8.0 })
 }
 
 fn assess_area(

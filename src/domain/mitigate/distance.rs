@@ -25,7 +25,8 @@ pub enum Direction {
     /// Along this direction (normalised).
     Along(Unit<Vector3<f64>>),
     /// The shortest over horizontal directions in 5° steps and straight up
-    /// and down; the true minimum may be up to 1 − cos 2.5° ≈ 0.1 % shorter.
+    /// (not down, into the ground); the true minimum may be up to
+    /// 1 − cos 2.5° ≈ 0.1 % shorter.
     Shortest,
 }
 
@@ -109,7 +110,8 @@ pub fn distance_to_level(
                     let a = (k as f64 * SHORTEST_STEP_DEG).to_radians();
                     Unit::new_normalize(Vector3::new(a.cos(), a.sin(), 0.0))
                 })
-                .chain([Vector3::z_axis(), -Vector3::z_axis()])
+                // Straight up too; not down, which would leave the ground.
+                .chain([Vector3::z_axis()])
                 .collect()
         }
     };
