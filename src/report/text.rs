@@ -92,7 +92,7 @@ pub fn assessment_text(a: &Assessment) -> String {
             if let Some(tw) = &p.time_weighted {
                 let _ = writeln!(
                     s,
-                    "    8-h time-weighted {:.2} µT over {} h (information only)",
+                    "    8-h time-weighted {:.2} µT ({} h at the highest value; information only)",
                     tw.twa_8h_ut, tw.occupancy_h
                 );
             }
@@ -148,7 +148,7 @@ pub fn assessment_text(a: &Assessment) -> String {
             if let Some(tw) = &ar.time_weighted {
                 let _ = writeln!(
                     s,
-                    "    8-h time-weighted {:.2} µT over {} h (information only)",
+                    "    8-h time-weighted {:.2} µT ({} h at the highest value; information only)",
                     tw.twa_8h_ut, tw.occupancy_h
                 );
             }
