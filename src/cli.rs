@@ -5,7 +5,7 @@
 //! a panic anywhere prints one line instead of a backtrace.
 
 use crate::domain::assess::{self, LoadCase};
-use crate::domain::limits::{self, DEFAULT_TABLE_IDS, ReferenceTable};
+use crate::domain::limits::{self, ReferenceTable};
 use crate::domain::site::Pointer;
 use crate::domain::{evaluate, site};
 use crate::report::text;
@@ -362,7 +362,7 @@ fn write_file(path: &Path, text: &str) -> Result<(), CliError> {
 }
 
 fn one_problem(pointer: &str, detail: String) -> CliError {
-    CliError::Problems(site::Problems(vec![site::Problem { pointer: pointer.into(), detail }]))
+    CliError::Problems(site::Problems::one(pointer, detail))
 }
 
 #[allow(clippy::too_many_arguments)]
@@ -381,13 +381,11 @@ fn assess_command(
     for f in table_files {
         custom.push(limits::parse_table(&read_input(f)?).map_err(CliError::Problems)?);
     }
-    let (ids, at) = if !table_ids.is_empty() {
-        (table_ids, Pointer::root().key("--tables"))
-    } else if !site.tables.is_empty() {
-        (site.tables.clone(), Pointer::root().key("tables"))
-    } else {
-        (DEFAULT_TABLE_IDS.iter().map(|s| s.to_string()).collect(), Pointer::root().key("tables"))
-    };
+    let root = Pointer::root();
+    let (ids, at) = limits::choose_table_ids(
+        vec![(table_ids, root.key("--tables")), (site.tables.clone(), root.key("tables"))],
+        root.key("tables"),
+    );
     let mut tables = limits::resolve_tables(&ids, &custom, &at).map_err(CliError::Problems)?;
     tables.extend(custom);
     let load = match load {
@@ -435,11 +433,16 @@ fn survey_command(
     let site = site::parse_site(&read_input(site_path)?).map_err(CliError::Problems)?;
     let doc: SurveyDoc = site::parse_json(&read_input(survey_path)?).map_err(CliError::Problems)?;
     let checked = survey::validate_survey(&doc, &site).map_err(CliError::Problems)?;
-    let ids = [table_ids, checked.tables.clone(), site.tables.clone()]
-        .into_iter()
-        .find(|v| !v.is_empty())
-        .unwrap_or_else(|| DEFAULT_TABLE_IDS.iter().map(|s| s.to_string()).collect());
-    let tables = limits::resolve_tables(&ids, &[], &Pointer::root().key("tables")).map_err(CliError::Problems)?;
+    let root = Pointer::root();
+    let (ids, at) = limits::choose_table_ids(
+        vec![
+            (table_ids, root.key("--tables")),
+            (checked.tables.clone(), root.key("tables")),
+            (site.tables.clone(), root.key("tables")),
+        ],
+        root.key("tables"),
+    );
+    let tables = limits::resolve_tables(&ids, &[], &at).map_err(CliError::Problems)?;
     let analysis = survey::analyse(&site, &checked, &tables, 0.5).map_err(CliError::Problems)?;
     match format {
         Format::Json => write_json(out, &analysis)?,

@@ -4,7 +4,7 @@
 //! `POST /v1/evaluate`, so its key names are a published interface.
 
 use crate::domain::cautions::cautions;
-use crate::domain::field::{self, FieldPhasor, Filament, Filaments};
+use crate::domain::field::{self, FieldPhasor};
 use crate::domain::site::wire::{CircuitDoc, ConductorDoc};
 use crate::domain::site::{
     self, Conductor, Pointer, Problems, check_circuits, check_conductors, check_coordinate, check_frequency,
@@ -123,9 +123,7 @@ pub fn validate_request(req: &EvaluateRequest) -> Result<Evaluation, Problems> {
 
 /// Computes the field at every point, in input order.
 pub fn evaluate(ev: &Evaluation) -> EvaluateResponse {
-    let filaments = Filaments::new(
-        &ev.conductors.iter().map(|c| Filament { path: c.path.clone(), radius_m: c.radius_m }).collect::<Vec<_>>(),
-    );
+    let filaments = site::filaments(&ev.conductors);
     let drives: Vec<_> = ev.conductors.iter().map(|c| c.drive).collect();
     let excitation = excitation_of(ev.frequency_hz, &ev.circuits, &drives, &[]);
     let set = field::evaluate(&filaments, &ev.points, &excitation);

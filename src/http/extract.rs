@@ -2,7 +2,7 @@
 
 use super::AppState;
 use super::problem::ApiError;
-use crate::domain::site::{Problem, Problems, parse_json};
+use crate::domain::site::{Problems, parse_json};
 use crate::service::{Caller, IfMatch};
 use axum::body::Bytes;
 use axum::extract::{FromRequest, FromRequestParts, Request};
@@ -96,10 +96,7 @@ pub fn check_id(id: &str, what: &str) -> Result<(), ApiError> {
     } else {
         Err(ApiError::bad_request(
             format!("'{id}' is not a {what} id"),
-            Problems(vec![Problem {
-                pointer: format!("/{what}_id"),
-                detail: "ids are 32 lowercase hex digits".into(),
-            }]),
+            Problems::one(format!("/{what}_id"), "ids are 32 lowercase hex digits"),
         ))
     }
 }
@@ -109,10 +106,7 @@ pub fn parse_positive(value: &str, name: &str) -> Result<i64, ApiError> {
     value.parse::<i64>().ok().filter(|v| *v >= 1).ok_or_else(|| {
         ApiError::bad_request(
             format!("{name} must be a positive integer"),
-            Problems(vec![Problem {
-                pointer: format!("/{name}"),
-                detail: format!("'{value}' is not a positive integer"),
-            }]),
+            Problems::one(format!("/{name}"), format!("'{value}' is not a positive integer")),
         )
     })
 }
@@ -143,10 +137,7 @@ impl PageQuery {
         match limit {
             Some(l) if l > crate::service::PAGE_MAX => Err(ApiError::bad_request(
                 format!("limit must be between 1 and {}", crate::service::PAGE_MAX),
-                Problems(vec![Problem {
-                    pointer: "/limit".into(),
-                    detail: format!("{l} is above {}", crate::service::PAGE_MAX),
-                }]),
+                Problems::one("/limit", format!("{l} is above {}", crate::service::PAGE_MAX)),
             )),
             other => Ok(other),
         }
@@ -158,10 +149,7 @@ impl PageQuery {
             Some(c) => check_id(c, "cursor").map(|_| Some(c)).map_err(|_| {
                 ApiError::bad_request(
                     "the cursor is not one this API gave out",
-                    Problems(vec![Problem {
-                        pointer: "/cursor".into(),
-                        detail: "pass next_cursor from the previous page".into(),
-                    }]),
+                    Problems::one("/cursor", "pass next_cursor from the previous page"),
                 )
             }),
             None => Ok(None),

@@ -1,6 +1,7 @@
 //! CSV of position results: one row per position, height and table, with
 //! units in the headers (RFC 4180 quoting).
 
+use super::snake;
 use crate::domain::assess::Assessment;
 use std::fmt::Write;
 
@@ -31,10 +32,6 @@ fn opt(v: Option<f64>) -> String {
     v.map(|x| format!("{x}")).unwrap_or_default()
 }
 
-fn snake<T: serde::Serialize>(v: &T) -> String {
-    serde_json::to_value(v).ok().and_then(|j| j.as_str().map(str::to_string)).unwrap_or_default()
-}
-
 /// The position results of an assessment as CSV text.
 pub fn positions_csv(a: &Assessment) -> String {
     let mut s = CSV_HEADER.join(",");
@@ -61,7 +58,7 @@ pub fn positions_csv(a: &Assessment) -> String {
                     table.map(|t| t.version.to_string()).unwrap_or_default(),
                     opt(level),
                     opt(c.ratio),
-                    snake(&c.verdict),
+                    c.verdict.word().to_string(),
                 ];
                 let _ = write!(s, "{}\r\n", row.join(","));
             }

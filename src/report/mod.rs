@@ -8,3 +8,8 @@ pub mod geojson;
 pub mod palette;
 pub mod svg;
 pub mod text;
+
+/// The snake_case JSON name of a unit enum (body region, group, kind…).
+pub(crate) fn snake<T: serde::Serialize>(v: &T) -> String {
+    serde_json::to_value(v).ok().and_then(|j| j.as_str().map(str::to_string)).unwrap_or_default()
+}

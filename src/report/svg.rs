@@ -271,8 +271,7 @@ pub fn area_map_svg(site: &Site, a: &Assessment, map: &AreaMap) -> String {
         if !(MAP_X..=MAP_X + v.w_px).contains(&px) || !(MAP_Y..=MAP_Y + v.h_px).contains(&py) {
             continue;
         }
-        let verdict =
-            serde_json::to_value(r.verdict).ok().and_then(|j| j.as_str().map(String::from)).unwrap_or_default();
+        let verdict = r.verdict.word();
         let _ = writeln!(
             s,
             r##"<circle cx="{px:.1}" cy="{py:.1}" r="5" fill="#ffffff" stroke="#000000" stroke-width="2"/>"##
@@ -283,7 +282,7 @@ pub fn area_map_svg(site: &Site, a: &Assessment, map: &AreaMap) -> String {
             px + 8.0,
             py + 4.0,
             esc(&q.id),
-            esc(&verdict)
+            esc(verdict)
         );
     }
     // Legend: colour bar (log scale).

@@ -5,6 +5,7 @@
 //! cautions. Every table is numbered once in the heading so the columns stay
 //! narrow.
 
+use super::snake;
 use crate::domain::assess::{Assessment, Verdict};
 use crate::domain::limits::ReferenceTable;
 use std::fmt::Write;
@@ -23,6 +24,16 @@ fn verdict_word(v: Verdict) -> &'static str {
         Verdict::Exceeds => "EXCEEDS",
         Verdict::NotCovered => "not covered",
         Verdict::NotComputed => "not computed",
+    }
+}
+
+fn time_weighted_line(s: &mut String, tw: Option<&crate::domain::assess::TimeWeighted>) {
+    if let Some(tw) = tw {
+        let _ = writeln!(
+            s,
+            "    8-h time-weighted {:.2} µT ({} h at the highest value; information only)",
+            tw.twa_8h_ut, tw.occupancy_h
+        );
     }
 }
 
@@ -89,13 +100,7 @@ pub fn assessment_text(a: &Assessment) -> String {
                 }
                 let _ = writeln!(s, "{}", row.trim_end());
             }
-            if let Some(tw) = &p.time_weighted {
-                let _ = writeln!(
-                    s,
-                    "    8-h time-weighted {:.2} µT ({} h at the highest value; information only)",
-                    tw.twa_8h_ut, tw.occupancy_h
-                );
-            }
+            time_weighted_line(&mut s, p.time_weighted.as_ref());
             for n in &p.notes {
                 let _ = writeln!(s, "    note: {n}");
             }
@@ -145,13 +150,7 @@ pub fn assessment_text(a: &Assessment) -> String {
                     verdict_word(c.verdict)
                 );
             }
-            if let Some(tw) = &ar.time_weighted {
-                let _ = writeln!(
-                    s,
-                    "    8-h time-weighted {:.2} µT ({} h at the highest value; information only)",
-                    tw.twa_8h_ut, tw.occupancy_h
-                );
-            }
+            time_weighted_line(&mut s, ar.time_weighted.as_ref());
         }
     }
 
@@ -236,11 +235,6 @@ pub fn table_text(t: &ReferenceTable) -> String {
     s
 }
 
-/// The snake_case JSON name of a unit enum.
-fn snake<T: serde::Serialize>(v: &T) -> String {
-    serde_json::to_value(v).ok().and_then(|j| j.as_str().map(str::to_string)).unwrap_or_default()
-}
-
 /// Plain-text survey reconciliation, load fit and extrapolation.
 pub fn survey_text(site_name: Option<&str>, s: &crate::domain::survey::SurveyAnalysis) -> String {
     let mut out = String::new();
@@ -285,7 +279,7 @@ pub fn survey_text(site_name: Option<&str>, s: &crate::domain::survey::SurveyAna
     let _ = writeln!(out);
     let _ = writeln!(out, "LOAD FIT (least squares on the measurements; scale = fitted / stated current)");
     for c in &f.circuits {
-        let status = serde_json::to_value(c.status).ok().and_then(|v| v.as_str().map(String::from)).unwrap_or_default();
+        let status = snake(&c.status);
         let _ = writeln!(
             out,
             "    {:<20} stated {:>9.1} A   scale {:>7} ± {:<7}  fitted {:>9} A   {status}",

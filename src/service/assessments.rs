@@ -3,9 +3,8 @@
 
 use super::{Caller, Result, Role, Service, ServiceError, stored, tables::stored_table, to_json};
 use crate::domain::assess::{self, Assessment, LoadCase, Options};
-use crate::domain::limits::{DEFAULT_TABLE_IDS, ReferenceTable, builtin_table};
-use crate::domain::site::wire::SiteDoc;
-use crate::domain::site::{Pointer, Problems, validate_site};
+use crate::domain::limits::{ReferenceTable, builtin_table, choose_table_ids};
+use crate::domain::site::{Pointer, Problems};
 use crate::store::{AssessmentRow, NewAssessment, PinnedVersion};
 use serde::{Deserialize, Serialize};
 
@@ -80,25 +79,19 @@ impl Service {
         request: AssessmentRequest,
     ) -> Result<AssessmentView> {
         caller.require(Role::Assessor)?;
-        let rev = match request.revision {
-            Some(r) => self
-                .store()
-                .site_revision(&caller.org_id, site_id, r)
-                .await?
-                .ok_or(ServiceError::NotFound("site revision"))?,
-            None => self.store().site_latest(&caller.org_id, site_id).await?.ok_or(ServiceError::NotFound("site"))?,
-        };
-        let doc: SiteDoc = stored(&rev.body)?;
-        let site = validate_site(&doc).map_err(ServiceError::Validation)?;
+        let (rev, site) = self.site_at_revision(caller, site_id, request.revision).await?;
         let budget = self.limits().check_assessment_budget(&site);
         if !budget.is_empty() {
             return Err(ServiceError::TooBig(budget));
         }
-        let (ids, at) = match (&request.tables, site.tables.is_empty()) {
-            (Some(ids), _) => (ids.clone(), Pointer::root().key("tables")),
-            (None, false) => (site.tables.clone(), Pointer::root().key("site").key("tables")),
-            (None, true) => (DEFAULT_TABLE_IDS.iter().map(|s| s.to_string()).collect(), Pointer::root().key("tables")),
-        };
+        let root = Pointer::root();
+        let (ids, at) = choose_table_ids(
+            vec![
+                (request.tables.clone().unwrap_or_default(), root.key("tables")),
+                (site.tables.clone(), root.key("site").key("tables")),
+            ],
+            root.key("tables"),
+        );
         let (tables, pinned) = self.resolve_tables(caller, &ids, &at).await?;
         let options = Options {
             review_fraction: request.options.as_ref().map_or(0.5, |o| o.review_fraction),
@@ -113,10 +106,7 @@ impl Service {
         let points: u64 = result.positions.iter().map(|p| p.heights.len() as u64).sum::<u64>()
             + result.areas.iter().map(|a| a.cells as u64).sum::<u64>();
         self.count_pairs(pairs * points);
-        let worst = serde_json::to_value(result.summary.worst_verdict)
-            .ok()
-            .and_then(|v| v.as_str().map(String::from))
-            .unwrap_or_default();
+        let worst = result.summary.worst_verdict.word().to_string();
         let row = self
             .store()
             .assessment_insert(NewAssessment {

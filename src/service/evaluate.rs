@@ -23,13 +23,13 @@ impl Service {
         let ev = evaluate::validate_request(&req).map_err(ServiceError::Validation)?;
         let pairs = ev.pair_count();
         if pairs > limits.max_pairs {
-            return Err(ServiceError::TooBig(Problems(vec![crate::domain::site::Problem {
-                pointer: "/points".into(),
-                detail: format!(
+            return Err(ServiceError::TooBig(Problems::one(
+                "/points",
+                format!(
                     "{pairs} segment-point pairs exceed the budget of {} per request: send fewer points or segments per request",
                     limits.max_pairs
                 ),
-            }])));
+            )));
         }
         let response = self.compute(move || evaluate::evaluate(&ev)).await?;
         self.count_pairs(pairs);

@@ -106,7 +106,7 @@ fn page_limit(limit: Option<i64>) -> Result<i64> {
 }
 
 fn one_problem(pointer: &str, detail: impl Into<String>) -> Problems {
-    Problems(vec![crate::domain::site::Problem { pointer: pointer.to_string(), detail: detail.into() }])
+    Problems::one(pointer, detail)
 }
 
 /// Decodes a stored JSON document; a failure means the store is damaged.

@@ -104,6 +104,27 @@ impl Service {
         }
     }
 
+    /// A site revision (the latest if `revision` is `None`) and its checked
+    /// model, for the use cases that compute on a pinned revision.
+    pub(super) async fn site_at_revision(
+        &self,
+        caller: &Caller,
+        site_id: &str,
+        revision: Option<i64>,
+    ) -> Result<(crate::store::RevisionRow, crate::domain::site::Site)> {
+        let rev = match revision {
+            Some(r) => self
+                .store()
+                .site_revision(&caller.org_id, site_id, r)
+                .await?
+                .ok_or(ServiceError::NotFound("site revision"))?,
+            None => self.store().site_latest(&caller.org_id, site_id).await?.ok_or(ServiceError::NotFound("site"))?,
+        };
+        let doc: SiteDoc = stored(&rev.body)?;
+        let site = validate_site(&doc).map_err(ServiceError::Validation)?;
+        Ok((rev, site))
+    }
+
     #[tracing::instrument(name = "sites_delete", skip_all, fields(org = %caller.org_id, site = %id))]
     pub async fn sites_delete(&self, caller: &Caller, id: &str) -> Result<()> {
         caller.require(Role::Assessor)?;

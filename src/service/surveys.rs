@@ -1,9 +1,8 @@
 //! Surveys: store a survey of a site revision with its analysis.
 
 use super::{Caller, Result, Role, Service, ServiceError, stored, to_json};
-use crate::domain::limits::DEFAULT_TABLE_IDS;
-use crate::domain::site::wire::SiteDoc;
-use crate::domain::site::{Pointer, Problems, validate_site};
+use crate::domain::limits::choose_table_ids;
+use crate::domain::site::{Pointer, Problems};
 use crate::domain::survey::{SurveyAnalysis, analyse, validate_survey, wire::SurveyDoc};
 use crate::store::SurveyRow;
 
@@ -22,16 +21,7 @@ impl Service {
     #[tracing::instrument(name = "surveys_create", skip_all, fields(org = %caller.org_id, site = %site_id))]
     pub async fn surveys_create(&self, caller: &Caller, site_id: &str, doc: SurveyDoc) -> Result<SurveyView> {
         caller.require(Role::Assessor)?;
-        let rev = match doc.revision {
-            Some(r) => self
-                .store()
-                .site_revision(&caller.org_id, site_id, r)
-                .await?
-                .ok_or(ServiceError::NotFound("site revision"))?,
-            None => self.store().site_latest(&caller.org_id, site_id).await?.ok_or(ServiceError::NotFound("site"))?,
-        };
-        let site_doc: SiteDoc = stored(&rev.body)?;
-        let site = validate_site(&site_doc).map_err(ServiceError::Validation)?;
+        let (rev, site) = self.site_at_revision(caller, site_id, doc.revision).await?;
         let survey = validate_survey(&doc, &site).map_err(ServiceError::Validation)?;
         let segments = super::bounds::segment_count(&site) as u64;
         // Field at the survey's loads, at rated load, and the fit's matrix.
@@ -44,11 +34,12 @@ impl Service {
             );
             return Err(ServiceError::TooBig(p));
         }
-        let ids = [survey.tables.clone(), site.tables.clone()]
-            .into_iter()
-            .find(|v| !v.is_empty())
-            .unwrap_or_else(|| DEFAULT_TABLE_IDS.iter().map(|s| s.to_string()).collect());
-        let (tables, _) = self.resolve_tables(caller, &ids, &Pointer::root().key("tables")).await?;
+        let root = Pointer::root();
+        let (ids, at) = choose_table_ids(
+            vec![(survey.tables.clone(), root.key("tables")), (site.tables.clone(), root.key("site").key("tables"))],
+            root.key("tables"),
+        );
+        let (tables, _) = self.resolve_tables(caller, &ids, &at).await?;
         let analysis =
             self.compute(move || analyse(&site, &survey, &tables, 0.5)).await?.map_err(ServiceError::Validation)?;
         self.count_pairs(pairs);

@@ -98,23 +98,24 @@ impl Store {
 
     /// A given revision of a live site of the organisation.
     pub async fn site_revision(&self, org_id: &str, id: &str, revision: i64) -> Result<Option<RevisionRow>> {
-        let sql =
-            format!("{REVISION_SELECT} WHERE s.id = $1 AND s.org_id = $2 AND s.deleted_at IS NULL AND r.revision = $3");
-        sqlx::query(sqlx::AssertSqlSafe(sql))
-            .bind(id)
-            .bind(org_id)
-            .bind(revision)
-            .fetch_optional(self.pool())
-            .await?
-            .as_ref()
-            .map(revision_row)
-            .transpose()
+        self.revision_row(org_id, id, revision, false).await
     }
 
     /// A revision of a site of the organisation, deleted or not (an
     /// assessment's pinned revision stays readable after a delete).
     pub async fn site_revision_pinned(&self, org_id: &str, id: &str, revision: i64) -> Result<Option<RevisionRow>> {
-        let sql = format!("{REVISION_SELECT} WHERE s.id = $1 AND s.org_id = $2 AND r.revision = $3");
+        self.revision_row(org_id, id, revision, true).await
+    }
+
+    async fn revision_row(
+        &self,
+        org_id: &str,
+        id: &str,
+        revision: i64,
+        include_deleted: bool,
+    ) -> Result<Option<RevisionRow>> {
+        let live = if include_deleted { "" } else { " AND s.deleted_at IS NULL" };
+        let sql = format!("{REVISION_SELECT} WHERE s.id = $1 AND s.org_id = $2 AND r.revision = $3{live}");
         sqlx::query(sqlx::AssertSqlSafe(sql))
             .bind(id)
             .bind(org_id)

@@ -32,10 +32,6 @@ impl TestDb {
         };
         TestDb { data_dir, database_url }
     }
-    #[allow(dead_code)]
-    pub fn is_postgres(&self) -> bool {
-        self.database_url.is_some()
-    }
 }
 
 /// Creates `fluxbound_test_<uuid>` on the server of `admin_url` and returns

@@ -187,6 +187,11 @@ fn the_svg_map_renders_with_the_high_colour_near_the_wire_and_the_low_colour_far
     assert!(close(high, palette::colour(svg::scale_position(b_high, range))), "{high:?}");
     assert!(svg::scale_position(b_high, range) > 0.5);
     assert!(palette::luminance(high) < 0.5 * palette::luminance(low), "high field is drawn darker");
+    // Independently of the scale's own functions: the far corner renders
+    // light and the cell next to the wire dark (relative luminance, IEC
+    // 61966-2-1 weights).
+    assert!(palette::luminance(low) > 0.6, "{low:?}");
+    assert!(palette::luminance(high) < 0.3, "{high:?}");
 }
 
 #[test]

@@ -3,7 +3,7 @@
 //! boundary polygons are drawn from.
 
 use super::{LoadCase, applies};
-use crate::domain::field::{self, Filament, Filaments};
+use crate::domain::field;
 use crate::domain::limits::ReferenceTable;
 use crate::domain::site::wire::{BodyRegion, Group};
 use crate::domain::site::{Pointer, Problems, Site};
@@ -97,9 +97,7 @@ pub fn area_map(
             Point3::new(x, y, area.height_m)
         })
         .collect();
-    let filaments = Filaments::new(
-        &site.conductors.iter().map(|c| Filament { path: c.path.clone(), radius_m: c.radius_m }).collect::<Vec<_>>(),
-    );
+    let filaments = crate::domain::site::filaments(&site.conductors);
     let excitation = site.excitation_at(&loads);
     let set = field::evaluate(&filaments, &points, &excitation);
     let mut inside_conductor = vec![false; points.len()];

@@ -18,7 +18,7 @@ pub use map::{AreaMap, GridSpec, TableRatios, area_map};
 pub use verdict::{FrequencyRatio, Ratio, Verdict, ratio_of};
 
 use crate::domain::cautions::cautions;
-use crate::domain::field::{self, Filament, Filaments};
+use crate::domain::field;
 use crate::domain::limits::{
     AppliesTo, IMPLANT_TABLE_ID, Population, ReferenceTable, TableBodyRegion, TableKind, builtin_table,
 };
@@ -272,9 +272,7 @@ pub fn assess(
         points.extend(area_grid(&a.polygon, a.height_m, a.spacing_m));
         area_spans.push(start..points.len());
     }
-    let filaments = Filaments::new(
-        &site.conductors.iter().map(|c| Filament { path: c.path.clone(), radius_m: c.radius_m }).collect::<Vec<_>>(),
-    );
+    let filaments = crate::domain::site::filaments(&site.conductors);
     let excitation = site.excitation_at(&loads);
     let set = field::evaluate(&filaments, &points, &excitation);
     let line_hz: Vec<f64> = excitation.lines.iter().map(|l| l.frequency_hz).collect();

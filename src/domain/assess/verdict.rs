@@ -4,7 +4,7 @@ use crate::domain::limits::ReferenceTable;
 use serde::{Deserialize, Serialize};
 
 /// Plain verdict words (DESIGN.md). `exceeds` means at or above the level.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize, Deserialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Verdict {
     /// Below the review fraction of the level.

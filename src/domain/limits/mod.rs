@@ -19,6 +19,17 @@ pub fn parse_table(text: &str) -> Result<ReferenceTable, Problems> {
 
 use crate::domain::site::Pointer;
 
+/// The first non-empty list of table ids, with the pointer it came from;
+/// the default set ([`DEFAULT_TABLE_IDS`]) at `default_at` when all are
+/// empty. One rule for the CLI and the service: request, then survey or
+/// site, then the defaults.
+pub fn choose_table_ids(choices: Vec<(Vec<String>, Pointer)>, default_at: Pointer) -> (Vec<String>, Pointer) {
+    choices
+        .into_iter()
+        .find(|(ids, _)| !ids.is_empty())
+        .unwrap_or_else(|| (DEFAULT_TABLE_IDS.iter().map(|s| s.to_string()).collect(), default_at))
+}
+
 /// Looks up tables by id among the built-ins and `custom` (custom first, so
 /// an organisation's table can never be shadowed by a built-in of the same
 /// id — ids must differ anyway). Unknown ids are problems at `at/i`.

@@ -7,7 +7,7 @@
 //! find only if it lies beyond the first crossing. Points inside a conductor
 //! count as above any level.
 
-use crate::domain::field::{self, Excitation, Filament, Filaments};
+use crate::domain::field::{self, Excitation, Filaments};
 use crate::domain::site::{CircuitLoad, Site};
 use nalgebra::{Point3, Unit, Vector3};
 use serde::{Deserialize, Serialize};
@@ -59,8 +59,10 @@ impl Probe<'_> {
         if set.inside_of(0).next().is_some() { f64::INFINITY } else { field::total_resultant_ut(set.at(0)) }
     }
 
-    fn along(&self, from: Point3<f64>, dir: Unit<Vector3<f64>>, level: f64) -> Option<f64> {
-        if self.b_ut(from) < level {
+    /// First crossing along `dir`; `b_from` is the field at `from`
+    /// (computed once for all directions).
+    fn along(&self, from: Point3<f64>, b_from: f64, dir: Unit<Vector3<f64>>, level: f64) -> Option<f64> {
+        if b_from < level {
             return Some(0.0);
         }
         let (mut lo, mut s) = (0.0, 0.005);
@@ -90,16 +92,7 @@ pub fn distance_to_level(
     level_ut: f64,
 ) -> DistanceResult {
     let excitation = site.excitation_at(loads);
-    let probe = Probe {
-        filaments: Filaments::new(
-            &site
-                .conductors
-                .iter()
-                .map(|c| Filament { path: c.path.clone(), radius_m: c.radius_m })
-                .collect::<Vec<_>>(),
-        ),
-        excitation: &excitation,
-    };
+    let probe = Probe { filaments: crate::domain::site::filaments(&site.conductors), excitation: &excitation };
     let b0 = probe.b_ut(from);
     let candidates: Vec<Unit<Vector3<f64>>> = match direction {
         Direction::Along(d) => vec![d],
@@ -117,7 +110,7 @@ pub fn distance_to_level(
     };
     let best = candidates
         .iter()
-        .map(|d| (*d, probe.along(from, *d, level_ut)))
+        .map(|d| (*d, probe.along(from, b0, *d, level_ut)))
         .min_by(|a, b| a.1.unwrap_or(f64::INFINITY).total_cmp(&b.1.unwrap_or(f64::INFINITY)))
         .expect("at least one direction");
     let (dir, distance) = best;
@@ -194,13 +187,7 @@ impl Origin {
                     crate::domain::site::Placement::Point(p) => Ok(*p),
                     crate::domain::site::Placement::Standing { x_m, y_m, heights_m } => {
                         let excitation = site.excitation_at(loads);
-                        let fil = Filaments::new(
-                            &site
-                                .conductors
-                                .iter()
-                                .map(|c| Filament { path: c.path.clone(), radius_m: c.radius_m })
-                                .collect::<Vec<_>>(),
-                        );
+                        let fil = crate::domain::site::filaments(&site.conductors);
                         let pts: Vec<Point3<f64>> = heights_m.iter().map(|h| Point3::new(*x_m, *y_m, *h)).collect();
                         let set = field::evaluate(&fil, &pts, &excitation);
                         let best = (0..pts.len())

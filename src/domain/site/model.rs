@@ -95,6 +95,15 @@ pub struct Area {
     pub occupancy_h: Option<f64>,
 }
 
+/// The conductors as the field engine's filaments, in the same order.
+pub fn filaments(conductors: &[Conductor]) -> crate::domain::field::Filaments {
+    let list: Vec<crate::domain::field::Filament> = conductors
+        .iter()
+        .map(|c| crate::domain::field::Filament { path: c.path.clone(), radius_m: c.radius_m })
+        .collect();
+    crate::domain::field::Filaments::new(&list)
+}
+
 /// Default body heights above a standing point, m: the 0.5 / 1.0 / 1.5 m set
 /// of IEC 62110 practice (REFERENCES.md, from memory).
 pub const DEFAULT_HEIGHTS_M: [f64; 3] = [0.5, 1.0, 1.5];

@@ -4,7 +4,7 @@
 //! deserialisation at the first one; value errors are all collected later by
 //! the validator.
 
-use super::problem::{Pointer, Problem, Problems};
+use super::problem::{Pointer, Problems};
 use super::strict::Strict;
 use serde::de::DeserializeOwned;
 
@@ -15,9 +15,9 @@ pub fn parse_json<T: DeserializeOwned>(text: &str) -> Result<T, Problems> {
     let value: T = serde_path_to_error::deserialize(Strict(&mut de)).map_err(|e| {
         let pointer = pointer_of(e.path());
         let detail = describe(e.inner());
-        Problems(vec![Problem { pointer, detail }])
+        Problems::one(pointer, detail)
     })?;
-    de.end().map_err(|e| Problems(vec![Problem { pointer: String::new(), detail: describe(&e) }]))?;
+    de.end().map_err(|e| Problems::one("", describe(&e)))?;
     Ok(value)
 }
 

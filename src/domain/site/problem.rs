@@ -33,6 +33,10 @@ impl Problems {
     pub fn iter(&self) -> std::slice::Iter<'_, Problem> {
         self.0.iter()
     }
+    /// A single problem at a pointer given as text.
+    pub fn one(pointer: impl Into<String>, detail: impl Into<String>) -> Problems {
+        Problems(vec![Problem { pointer: pointer.into(), detail: detail.into() }])
+    }
     /// Records a problem at `at`.
     pub fn push(&mut self, at: &Pointer, detail: impl Into<String>) {
         self.0.push(Problem { pointer: at.to_string(), detail: detail.into() });

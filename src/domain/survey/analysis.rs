@@ -8,7 +8,7 @@
 use super::Survey;
 use crate::domain::assess::{Verdict, ratio_of};
 use crate::domain::cautions::cautions;
-use crate::domain::field::{self, FieldPhasor, Filament, Filaments, influence_matrix};
+use crate::domain::field::{self, FieldPhasor, influence_matrix};
 use crate::domain::limits::ReferenceTable;
 use crate::domain::site::{CircuitLoad, Drive, Problems, Site, excitation_of};
 use nalgebra::{DMatrix, DVector};
@@ -24,9 +24,7 @@ struct GroupFields {
 }
 
 fn group_fields(site: &Site, points: &[nalgebra::Point3<f64>], loads: &[CircuitLoad]) -> GroupFields {
-    let filaments = Filaments::new(
-        &site.conductors.iter().map(|c| Filament { path: c.path.clone(), radius_m: c.radius_m }).collect::<Vec<_>>(),
-    );
+    let filaments = crate::domain::site::filaments(&site.conductors);
     let g = influence_matrix(&filaments, points);
     let drives: Vec<Drive> = site.conductors.iter().map(|c| c.drive).collect();
     let exc = excitation_of(site.frequency_hz, &site.circuits, &drives, loads);

@@ -1,7 +1,7 @@
 //! API keys of the caller's organisation (admin role).
 
 use super::json_response;
-use crate::domain::site::{Problem, Problems};
+use crate::domain::site::Problems;
 use crate::http::AppState;
 use crate::http::extract::{ApiJson, Auth, check_id};
 use crate::http::problem::{ApiError, ProblemDoc};
@@ -32,12 +32,8 @@ pub async fn keys_create(
     Auth(caller): Auth,
     ApiJson(req): ApiJson<KeyCreate>,
 ) -> Result<Response, ApiError> {
-    let role = Role::parse(&req.role).ok_or_else(|| {
-        ApiError::validation(Problems(vec![Problem {
-            pointer: "/role".into(),
-            detail: "role must be viewer, assessor or admin".into(),
-        }]))
-    })?;
+    let role = Role::parse(&req.role)
+        .ok_or_else(|| ApiError::validation(Problems::one("/role", "role must be viewer, assessor or admin")))?;
     let (row, secret) = s.service.keys_create(&caller, role, req.label.as_deref()).await?;
     let body = KeyCreated { key: KeyResource::from(row), secret };
     Ok(json_response(StatusCode::CREATED, &body, None, None))

@@ -105,10 +105,7 @@ pub async fn reports_distance(
         .map_err(|e| ApiError::bad_request(e.body_text(), Default::default()))?
         .0;
     let level: f64 = q.level_ut.parse().map_err(|_| {
-        ApiError::validation(crate::domain::site::Problems(vec![crate::domain::site::Problem {
-            pointer: "/level_ut".into(),
-            detail: "level_ut must be a number (µT)".into(),
-        }]))
+        ApiError::validation(crate::domain::site::Problems::one("/level_ut", "level_ut must be a number (µT)"))
     })?;
     let r =
         s.service.reports_distance(&caller, &id, &q.from, q.direction.as_deref().unwrap_or("shortest"), level).await?;
