@@ -2,10 +2,10 @@
 //! serving until a shutdown signal, then draining in-flight requests.
 
 use crate::config::Config;
-use crate::domain::site::wire::SiteDoc;
 use crate::http::{AppState, router};
 use crate::service::{Role, Service};
 use crate::store::{Backend, Store, StoreError};
+use fluxbound_core::site::wire::SiteDoc;
 use std::future::Future;
 use std::net::SocketAddr;
 use tokio::net::TcpListener;
@@ -129,7 +129,7 @@ async fn seed_demo(service: &Service) -> Result<DemoInfo, AppError> {
     let mut site_ids: Vec<(String, String)> = existing.into_iter().map(|s| (s.id, s.name)).collect();
     if site_ids.is_empty() {
         for text in DEMO_SITES {
-            let doc: SiteDoc = crate::domain::site::parse_json(text).map_err(|p| AppError::Demo(p.to_string()))?;
+            let doc: SiteDoc = fluxbound_core::site::parse_json(text).map_err(|p| AppError::Demo(p.to_string()))?;
             let v = service.sites_create(&caller, doc).await.map_err(err)?;
             site_ids.push((v.row.site.id, v.row.site.name));
         }

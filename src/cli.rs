@@ -4,12 +4,12 @@
 //! JSON pointer); 2 usage or I/O error. Nothing here panics on user input, and
 //! a panic anywhere prints one line instead of a backtrace.
 
-use crate::domain::assess::{self, LoadCase};
-use crate::domain::limits::{self, ReferenceTable};
-use crate::domain::site::Pointer;
-use crate::domain::{evaluate, site};
-use crate::report::text;
 use clap::{Parser, Subcommand, ValueEnum};
+use fluxbound_core::assess::{self, LoadCase};
+use fluxbound_core::limits::{self, ReferenceTable};
+use fluxbound_core::report::text;
+use fluxbound_core::site::Pointer;
+use fluxbound_core::{evaluate, site};
 use std::io::{Read, Write};
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
@@ -402,17 +402,17 @@ fn assess_command(
             .position(|a| &a.id == area_id)
             .ok_or_else(|| one_problem("/--map", format!("the site has no area '{area_id}'")))?;
         let map = assess::area_map(&site, &load, &tables, index, max_cells).map_err(CliError::Problems)?;
-        write_file(path, &crate::report::svg::area_map_svg(&site, &result, &map))?;
+        write_file(path, &fluxbound_core::report::svg::area_map_svg(&site, &result, &map))?;
     }
     if let Some(path) = &exports.csv {
-        write_file(path, &crate::report::csv::positions_csv(&result))?;
+        write_file(path, &fluxbound_core::report::csv::positions_csv(&result))?;
     }
     if let Some(path) = &exports.geojson {
         let maps = (0..site.areas.len())
             .map(|i| assess::area_map(&site, &load, &tables, i, max_cells))
             .collect::<Result<Vec<_>, _>>()
             .map_err(CliError::Problems)?;
-        let doc = crate::report::geojson::assessment_geojson(&site, &result, &maps);
+        let doc = fluxbound_core::report::geojson::assessment_geojson(&site, &result, &maps);
         write_file(path, &serde_json::to_string_pretty(&doc).expect("plain data"))?;
     }
     match format {
@@ -429,7 +429,7 @@ fn survey_command(
     format: Format,
     out: &mut dyn Write,
 ) -> Result<ExitCode, CliError> {
-    use crate::domain::survey::{self, wire::SurveyDoc};
+    use fluxbound_core::survey::{self, wire::SurveyDoc};
     let site = site::parse_site(&read_input(site_path)?).map_err(CliError::Problems)?;
     let doc: SurveyDoc = site::parse_json(&read_input(survey_path)?).map_err(CliError::Problems)?;
     let checked = survey::validate_survey(&doc, &site).map_err(CliError::Problems)?;

@@ -1,30 +1,29 @@
-//! Fluxbound: pre-screening of occupational exposure to power-frequency
-//! magnetic fields.
+//! Fluxbound, the service crate: storage, the service layer, the HTTP API,
+//! the command line and their wiring, over the pure core in
+//! `fluxbound-core` (`crates/fluxbound-core`).
 //!
 //! # Layout
 //!
 //! ```text
-//! main.rs → cli.rs          argument parsing, exit codes, I/O
-//! cli.rs  → domain/         the pure core
-//! domain/                   no I/O, no async (tests/layering.rs enforces it)
-//!   field/                  phasor Biot–Savart kernel, influence matrices
-//!   site/                   site model, validation with JSON pointers
-//!   evaluate.rs             the stateless evaluation document
-//!   cautions.rs             the cautions every result carries
+//! main.rs → cli.rs     argument parsing, exit codes, file I/O; calls the core's
+//!                      use cases directly (no database) or starts the service
+//! app.rs               wiring: store + service + router + listener; serve, shutdown
+//! config.rs            typed configuration
+//! telemetry.rs         tracing subscriber (human or JSON)
+//! http/                axum routes (thin handlers), auth, problem+json, OpenAPI
+//! service/             authorisation, transactions, budgets; calls the core's use cases
+//! store/               sqlx over the Any driver: SQLite (default) or PostgreSQL
 //! ```
 //!
-//! Dependencies point downward only. Later layers (`service/`, `store/`,
-//! `http/`, `report/`) sit between `cli.rs` and `domain/`; see DEVELOPERS.md.
-//!
+//! Dependencies point downward only: `cli → app → http → service → store`,
+//! and everything above may use `fluxbound_core`, which uses none of them.
 //! Every result is a computed pre-screen: compliance is decided under local
 //! codes by licensed or otherwise qualified assessors.
 
 pub mod app;
 pub mod cli;
 pub mod config;
-pub mod domain;
 pub mod http;
-pub mod report;
 pub mod service;
 pub mod store;
 pub mod telemetry;

@@ -2,11 +2,11 @@
 
 use super::AppState;
 use super::problem::ApiError;
-use crate::domain::site::{Problems, parse_json};
 use crate::service::{Caller, IfMatch};
 use axum::body::Bytes;
 use axum::extract::{FromRequest, FromRequestParts, Request};
 use axum::http::{StatusCode, header, request::Parts};
+use fluxbound_core::site::{Problems, parse_json};
 use serde::de::DeserializeOwned;
 
 /// A JSON body parsed strictly: 415 without a JSON content type, 413 over

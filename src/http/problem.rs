@@ -1,9 +1,9 @@
 //! RFC 9457 problem details: the one place that picks HTTP statuses.
 
-use crate::domain::site::{Problem, Problems};
 use crate::service::ServiceError;
 use axum::http::{HeaderValue, StatusCode, header};
 use axum::response::{IntoResponse, Response};
+use fluxbound_core::site::{Problem, Problems};
 use serde::Serialize;
 use utoipa::ToSchema;
 

@@ -1,11 +1,11 @@
 //! Response bodies of the API (the wire shapes; units in the field names of
 //! the domain documents they carry).
 
-use crate::domain::assess::Assessment;
-use crate::domain::limits::TableDoc;
-use crate::domain::site::wire::SiteDoc;
 use crate::service::{AssessmentRequest, AssessmentView, SiteView, TableView};
 use crate::store::{KeyRow, SiteRow};
+use fluxbound_core::assess::Assessment;
+use fluxbound_core::limits::TableDoc;
+use fluxbound_core::site::wire::SiteDoc;
 use serde::{Deserialize, Serialize};
 use utoipa::ToSchema;
 
@@ -194,8 +194,8 @@ pub struct SurveyResource {
     pub site_id: String,
     pub site_revision: i64,
     pub created_at: String,
-    pub survey: crate::domain::survey::wire::SurveyDoc,
-    pub analysis: crate::domain::survey::SurveyAnalysis,
+    pub survey: fluxbound_core::survey::wire::SurveyDoc,
+    pub analysis: fluxbound_core::survey::SurveyAnalysis,
 }
 
 impl From<crate::service::SurveyView> for SurveyResource {

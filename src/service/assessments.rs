@@ -2,10 +2,10 @@
 //! versions, stored, read back.
 
 use super::{Caller, Result, Role, Service, ServiceError, stored, tables::stored_table, to_json};
-use crate::domain::assess::{self, Assessment, LoadCase, Options};
-use crate::domain::limits::{ReferenceTable, builtin_table, choose_table_ids};
-use crate::domain::site::{Pointer, Problems};
 use crate::store::{AssessmentRow, NewAssessment, PinnedVersion};
+use fluxbound_core::assess::{self, Assessment, LoadCase, Options};
+use fluxbound_core::limits::{ReferenceTable, builtin_table, choose_table_ids};
+use fluxbound_core::site::{Pointer, Problems};
 use serde::{Deserialize, Serialize};
 
 /// What to assess: which revision (latest if absent), at which load, against

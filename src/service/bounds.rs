@@ -1,8 +1,8 @@
 //! Size bounds and compute budgets per request, configurable, with defaults
 //! sized for two cores answering within a couple of seconds.
 
-use crate::domain::assess::bounding_cells;
-use crate::domain::site::{Pointer, Problems, Site};
+use fluxbound_core::assess::bounding_cells;
+use fluxbound_core::site::{Pointer, Problems, Site};
 use serde::{Deserialize, Serialize};
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -79,8 +79,8 @@ impl Limits {
             .positions
             .iter()
             .map(|q| match &q.placement {
-                crate::domain::site::Placement::Standing { heights_m, .. } => heights_m.len() as u64,
-                crate::domain::site::Placement::Point(_) => 1,
+                fluxbound_core::site::Placement::Standing { heights_m, .. } => heights_m.len() as u64,
+                fluxbound_core::site::Placement::Point(_) => 1,
             })
             .sum::<u64>()
             + site.areas.iter().map(|a| bounding_cells(&a.polygon, a.spacing_m)).sum::<u64>();

@@ -1,8 +1,8 @@
 //! The stateless evaluation: same document as `fluxbound evaluate`.
 
 use super::{Caller, Result, Role, Service, ServiceError};
-use crate::domain::evaluate::{self, EvaluateRequest, EvaluateResponse};
-use crate::domain::site::{Pointer, Problems};
+use fluxbound_core::evaluate::{self, EvaluateRequest, EvaluateResponse};
+use fluxbound_core::site::{Pointer, Problems};
 
 impl Service {
     #[tracing::instrument(name = "evaluate", skip_all, fields(org = %caller.org_id, conductors = req.conductors.len(), points = req.points.len()))]

@@ -19,8 +19,8 @@ pub use sites::{IfMatch, SiteView};
 pub use surveys::SurveyView;
 pub use tables::{TableVersionInfo, TableView};
 
-use crate::domain::site::Problems;
 use crate::store::{Store, StoreError};
+use fluxbound_core::site::Problems;
 use std::sync::Arc;
 use std::sync::atomic::{AtomicU64, Ordering};
 

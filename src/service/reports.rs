@@ -2,12 +2,12 @@
 //! site revision, load case and table versions, so they always match it.
 
 use super::{Caller, Result, Role, Service, ServiceError, one_problem, stored, tables::stored_table};
-use crate::domain::assess::{AreaMap, Assessment, area_map};
-use crate::domain::limits::{ReferenceTable, builtin_table};
-use crate::domain::mitigate::{DistanceResult, Origin, distance_to_level, parse_direction};
-use crate::domain::site::wire::SiteDoc;
-use crate::domain::site::{Pointer, Site, validate_site};
-use crate::report::{csv, geojson, svg};
+use fluxbound_core::assess::{AreaMap, Assessment, area_map};
+use fluxbound_core::limits::{ReferenceTable, builtin_table};
+use fluxbound_core::mitigate::{DistanceResult, Origin, distance_to_level, parse_direction};
+use fluxbound_core::report::{csv, geojson, svg};
+use fluxbound_core::site::wire::SiteDoc;
+use fluxbound_core::site::{Pointer, Site, validate_site};
 
 /// Most grid nodes of one area map (the map is coarsened to fit).
 pub const MAP_MAX_CELLS: usize = 40_000;

@@ -12,9 +12,9 @@ pub enum IfMatch {
     /// The revisions the caller accepts as current.
     OneOf(Vec<i64>),
 }
-use crate::domain::site::validate_site;
-use crate::domain::site::wire::SiteDoc;
 use crate::store::{RevisionRow, SiteRow, UpdateOutcome};
+use fluxbound_core::site::validate_site;
+use fluxbound_core::site::wire::SiteDoc;
 
 /// A site revision with its document.
 #[derive(Debug, Clone, PartialEq)]
@@ -111,7 +111,7 @@ impl Service {
         caller: &Caller,
         site_id: &str,
         revision: Option<i64>,
-    ) -> Result<(crate::store::RevisionRow, crate::domain::site::Site)> {
+    ) -> Result<(crate::store::RevisionRow, fluxbound_core::site::Site)> {
         let rev = match revision {
             Some(r) => self
                 .store()

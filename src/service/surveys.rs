@@ -1,10 +1,10 @@
 //! Surveys: store a survey of a site revision with its analysis.
 
 use super::{Caller, Result, Role, Service, ServiceError, stored, to_json};
-use crate::domain::limits::choose_table_ids;
-use crate::domain::site::{Pointer, Problems};
-use crate::domain::survey::{SurveyAnalysis, analyse, validate_survey, wire::SurveyDoc};
 use crate::store::SurveyRow;
+use fluxbound_core::limits::choose_table_ids;
+use fluxbound_core::site::{Pointer, Problems};
+use fluxbound_core::survey::{SurveyAnalysis, analyse, validate_survey, wire::SurveyDoc};
 
 #[derive(Debug, Clone, PartialEq)]
 pub struct SurveyView {

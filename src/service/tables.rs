@@ -2,8 +2,8 @@
 //! custom tables with versions.
 
 use super::{Caller, Result, Role, Service, ServiceError, one_problem, stored, to_json};
-use crate::domain::limits::{ReferenceTable, TableDoc, builtin_table, builtin_tables, validate_table};
 use crate::store::{TableVersionRow, VersionReplace};
+use fluxbound_core::limits::{ReferenceTable, TableDoc, builtin_table, builtin_tables, validate_table};
 
 #[derive(Debug, Clone, PartialEq)]
 pub struct TableVersionInfo {

@@ -76,10 +76,10 @@ fn every_key_of_the_shipped_examples_is_declared_in_the_schemas() {
         let schema = doc["components"]["schemas"][schema].clone();
         check(&doc, &schema, &example(file), file, &mut problems);
     }
-    let table: Value = serde_json::to_value(fluxbound::domain::limits::builtin_tables()[0].doc()).unwrap();
+    let table: Value = serde_json::to_value(fluxbound_core::limits::builtin_tables()[0].doc()).unwrap();
     check(&doc, &doc["components"]["schemas"]["TableDoc"].clone(), &table, "builtin table", &mut problems);
     let response =
-        fluxbound::domain::evaluate::evaluate_json(&example("evaluate-busbar-walkway.json").to_string()).unwrap();
+        fluxbound_core::evaluate::evaluate_json(&example("evaluate-busbar-walkway.json").to_string()).unwrap();
     let response = serde_json::to_value(response).unwrap();
     check(
         &doc,

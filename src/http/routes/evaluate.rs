@@ -1,13 +1,13 @@
 //! `POST /v1/evaluate`: the stateless document of `fluxbound evaluate`.
 
 use super::json_response;
-use crate::domain::evaluate::{EvaluateRequest, EvaluateResponse};
 use crate::http::AppState;
 use crate::http::extract::{ApiJson, Auth};
 use crate::http::problem::{ApiError, ProblemDoc};
 use axum::extract::State;
 use axum::http::StatusCode;
 use axum::response::Response;
+use fluxbound_core::evaluate::{EvaluateRequest, EvaluateResponse};
 
 /// Field of conductors at points (same JSON as the CLI's `evaluate`).
 #[utoipa::path(post, path = "/v1/evaluate", tag = "evaluate", request_body = EvaluateRequest,

@@ -1,7 +1,6 @@
 //! API keys of the caller's organisation (admin role).
 
 use super::json_response;
-use crate::domain::site::Problems;
 use crate::http::AppState;
 use crate::http::extract::{ApiJson, Auth, check_id};
 use crate::http::problem::{ApiError, ProblemDoc};
@@ -10,6 +9,7 @@ use crate::service::Role;
 use axum::extract::{Path, State};
 use axum::http::StatusCode;
 use axum::response::{IntoResponse, Response};
+use fluxbound_core::site::Problems;
 
 /// List keys (never secrets).
 #[utoipa::path(get, path = "/v1/keys", tag = "keys",

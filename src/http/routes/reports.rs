@@ -1,12 +1,12 @@
 //! Pictures and exports of a stored assessment.
 
-use crate::domain::mitigate::DistanceResult;
 use crate::http::AppState;
 use crate::http::extract::{Auth, check_id};
 use crate::http::problem::{ApiError, ProblemDoc};
 use axum::extract::{Path, State};
 use axum::http::{HeaderValue, StatusCode, Uri, header};
 use axum::response::{IntoResponse, Response};
+use fluxbound_core::mitigate::DistanceResult;
 
 fn typed(body: String, content_type: &'static str) -> Response {
     let mut res = (StatusCode::OK, body).into_response();
@@ -105,7 +105,7 @@ pub async fn reports_distance(
         .map_err(|e| ApiError::bad_request(e.body_text(), Default::default()))?
         .0;
     let level: f64 = q.level_ut.parse().map_err(|_| {
-        ApiError::validation(crate::domain::site::Problems::one("/level_ut", "level_ut must be a number (µT)"))
+        ApiError::validation(fluxbound_core::site::Problems::one("/level_ut", "level_ut must be a number (µT)"))
     })?;
     let r =
         s.service.reports_distance(&caller, &id, &q.from, q.direction.as_deref().unwrap_or("shortest"), level).await?;

@@ -1,7 +1,6 @@
 //! `/v1/sites`: sites with immutable revisions and optimistic concurrency.
 
 use super::json_response;
-use crate::domain::site::wire::SiteDoc;
 use crate::http::AppState;
 use crate::http::extract::{ApiJson, Auth, PageQuery, check_id, etag, if_match, parse_positive};
 use crate::http::problem::{ApiError, ProblemDoc};
@@ -9,6 +8,7 @@ use crate::http::resources::{SitePage, SiteResource, SiteSummary};
 use axum::extract::{Path, State};
 use axum::http::{HeaderMap, StatusCode, Uri};
 use axum::response::Response;
+use fluxbound_core::site::wire::SiteDoc;
 
 type ApiResult = Result<Response, ApiError>;
 

@@ -1,7 +1,6 @@
 //! Surveys of a site: spot measurements reconciled with the model.
 
 use super::json_response;
-use crate::domain::survey::wire::SurveyDoc;
 use crate::http::AppState;
 use crate::http::extract::{ApiJson, Auth, PageQuery, check_id};
 use crate::http::problem::{ApiError, ProblemDoc};
@@ -9,6 +8,7 @@ use crate::http::resources::{SurveyPage, SurveyResource};
 use axum::extract::{Path, State};
 use axum::http::{StatusCode, Uri};
 use axum::response::{IntoResponse, Response};
+use fluxbound_core::survey::wire::SurveyDoc;
 
 /// Store a survey (latest or a given revision) and analyse it: reconciliation, load fit, extrapolation.
 /// Measurements come as `points`, or as CSV text in `points_csv` with the header
@@ -89,7 +89,7 @@ async fn survey_part(
     s: &AppState,
     caller: &crate::service::Caller,
     id: &str,
-    part: impl FnOnce(&crate::domain::survey::SurveyAnalysis) -> serde_json::Value,
+    part: impl FnOnce(&fluxbound_core::survey::SurveyAnalysis) -> serde_json::Value,
 ) -> Result<Response, ApiError> {
     check_id(id, "survey")?;
     let v = s.service.surveys_show(caller, id).await?;

@@ -1,7 +1,6 @@
 //! Reference-level tables: built-ins and the organisation's custom tables.
 
 use super::json_response;
-use crate::domain::limits::TableDoc;
 use crate::http::AppState;
 use crate::http::extract::{ApiJson, Auth, parse_positive};
 use crate::http::problem::{ApiError, ProblemDoc};
@@ -9,6 +8,7 @@ use crate::http::resources::{TableList, TableResource};
 use axum::extract::{Path, State};
 use axum::http::StatusCode;
 use axum::response::Response;
+use fluxbound_core::limits::TableDoc;
 
 type ApiResult = Result<Response, ApiError>;
 

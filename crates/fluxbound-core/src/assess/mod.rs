@@ -1,0 +1,610 @@
+//! Exposure assessment of worker positions and work areas against
+//! reference-level tables, at a chosen load case.
+//!
+//! Conventions (documented in README.md): the compared quantity is the
+//! resultant RMS flux density (what a three-axis meter reads, and never below
+//! the maximum, so it is the conservative choice); a position's verdict is
+//! that of its worst height; exposure ratios over several frequencies are
+//! summed as `Σ_f B_f / B_RL(f)`; time-weighted averages are information only.
+
+mod grid;
+mod load;
+mod map;
+mod verdict;
+
+pub use grid::{area_grid, bounding_cells, contains};
+pub use load::{CircuitLoadReport, LoadCase, LoadCaseReport};
+pub use map::{AreaMap, GridSpec, TableRatios, area_map};
+pub use verdict::{FrequencyRatio, Ratio, Verdict, ratio_of};
+
+use crate::cautions::cautions;
+use crate::field;
+use crate::limits::{
+    AppliesTo, IMPLANT_TABLE_ID, Population, ReferenceTable, TableBodyRegion, TableKind, builtin_table,
+};
+use crate::site::wire::{BodyRegion, Group};
+use crate::site::{Placement, Pointer, Problems, Site};
+use nalgebra::Point3;
+use serde::{Deserialize, Serialize};
+
+/// Assessment options.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Options {
+    /// Ratio from which a result is `approaching` (0 < fraction < 1).
+    #[serde(default = "default_review_fraction")]
+    pub review_fraction: f64,
+    /// Most grid cells over all areas of one assessment.
+    #[serde(default = "default_max_grid_cells")]
+    pub max_grid_cells: u64,
+}
+
+fn default_review_fraction() -> f64 {
+    0.5
+}
+fn default_max_grid_cells() -> u64 {
+    1_000_000
+}
+
+impl Default for Options {
+    fn default() -> Self {
+        Options { review_fraction: default_review_fraction(), max_grid_cells: default_max_grid_cells() }
+    }
+}
+
+/// A table as used by an assessment (pinned by id and version).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct TableRef {
+    pub id: String,
+    pub version: u32,
+    pub title: String,
+    pub kind: TableKind,
+    pub applies_to: AppliesTo,
+    pub source: String,
+}
+
+/// Verdict of one point against one table.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PointComparison {
+    pub table_id: String,
+    pub ratio: Option<f64>,
+    pub verdict: Verdict,
+}
+
+/// One evaluated point of a position.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct HeightResult {
+    /// Height above the standing point, m (absent for a 3-D point).
+    pub height_m: Option<f64>,
+    pub at: [f64; 3],
+    pub resultant_ut: Option<f64>,
+    pub maximum_ut: Option<f64>,
+    /// Resultant per frequency, µT.
+    pub frequencies: Vec<SpectralValue>,
+    pub inside_conductors: Vec<String>,
+    pub comparisons: Vec<PointComparison>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SpectralValue {
+    pub frequency_hz: f64,
+    pub resultant_ut: f64,
+}
+
+/// A position's result against one table.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PositionComparison {
+    pub table_id: String,
+    /// Worst exposure ratio over the heights.
+    pub ratio: Option<f64>,
+    pub verdict: Verdict,
+    pub worst_height_m: Option<f64>,
+    /// Ratio of the mean over heights (IEC 62110 practice for public
+    /// exposure, from memory); information beside the worst-height verdict.
+    pub ratio_of_height_mean: Option<f64>,
+    /// The table's level at the fundamental, µT.
+    pub level_ut: Option<f64>,
+    pub per_frequency: Vec<FrequencyRatio>,
+    pub uncovered_hz: Vec<f64>,
+}
+
+/// Time-weighted average over an 8-hour day (information only): the
+/// highest value for the hours of occupancy (at most 8 counted), no field
+/// for the rest of the day.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct TimeWeighted {
+    pub occupancy_h: f64,
+    /// `B_max · min(occupancy_h, 8 h) / 8 h`, µT; never above B_max.
+    pub twa_8h_ut: f64,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PositionResult {
+    pub id: String,
+    pub body_region: BodyRegion,
+    pub group: Group,
+    pub heights: Vec<HeightResult>,
+    /// Highest resultant over the heights, µT, and where.
+    pub max_resultant_ut: Option<f64>,
+    pub max_height_m: Option<f64>,
+    /// Mean resultant over the heights, µT (the three-height mean with the
+    /// default 0.5/1.0/1.5 m).
+    pub mean_resultant_ut: Option<f64>,
+    pub comparisons: Vec<PositionComparison>,
+    pub verdict: Verdict,
+    pub time_weighted: Option<TimeWeighted>,
+    pub notes: Vec<String>,
+}
+
+/// An area's result against one table.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct AreaComparison {
+    pub table_id: String,
+    pub max_ratio: Option<f64>,
+    pub verdict: Verdict,
+    pub level_ut: Option<f64>,
+    /// Share of computed cells at or above the level (0–1).
+    pub share_at_or_above_level: Option<f64>,
+    /// Share of computed cells at or above the review fraction of the level.
+    pub share_at_or_above_review: Option<f64>,
+    pub uncovered_hz: Vec<f64>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct AreaResult {
+    pub id: String,
+    pub height_m: f64,
+    pub spacing_m: f64,
+    /// Cells whose centre lies in the polygon.
+    pub cells: usize,
+    /// Cells inside a conductor: marked, never counted as exposure.
+    pub cells_inside_conductors: usize,
+    pub max_resultant_ut: Option<f64>,
+    pub max_at: Option<[f64; 3]>,
+    pub mean_resultant_ut: Option<f64>,
+    pub comparisons: Vec<AreaComparison>,
+    pub verdict: Verdict,
+    pub time_weighted: Option<TimeWeighted>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Summary {
+    pub worst_verdict: Verdict,
+    pub positions_exceeding: Vec<String>,
+    pub positions_approaching: Vec<String>,
+    pub positions_not_judged: Vec<String>,
+    pub areas_exceeding: Vec<String>,
+    pub areas_approaching: Vec<String>,
+}
+
+/// A complete assessment result.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Assessment {
+    pub site_name: Option<String>,
+    pub frequency_hz: f64,
+    pub load_case: LoadCaseReport,
+    pub review_fraction: f64,
+    pub tables: Vec<TableRef>,
+    pub positions: Vec<PositionResult>,
+    pub areas: Vec<AreaResult>,
+    pub summary: Summary,
+    pub notes: Vec<String>,
+    pub cautions: Vec<String>,
+}
+
+/// Notes every assessment carries beside the cautions.
+pub const NOTES: [&str; 3] = [
+    "Compared quantity: resultant RMS flux density (root-sum-square of three RMS components).",
+    "Several frequencies are combined as the sum of B_f / B_RL(f) over frequencies (ICNIRP 2010 multi-frequency rule, cited from memory).",
+    "Time-weighted averages are information only (the highest value for the hours of occupancy, at most 8, in an 8-hour day): power-frequency reference levels are ceilings and are not time-averaged.",
+];
+
+/// Samples of the field at one point.
+struct Sample {
+    resultant_ut: f64,
+    maximum_ut: f64,
+    /// `(frequency_hz, resultant_ut)` per spectral line.
+    spectrum: Vec<(f64, f64)>,
+    inside: Vec<String>,
+}
+
+/// Assesses every position and area of `site` at `load` against `tables`.
+/// Implant wearers are also screened against the implant table.
+pub fn assess(
+    site: &Site,
+    load: &LoadCase,
+    tables: &[ReferenceTable],
+    options: &Options,
+) -> Result<Assessment, Problems> {
+    let root = Pointer::root();
+    let mut p = Problems::default();
+    let rf = options.review_fraction;
+    if !(rf.is_finite() && rf > 0.0 && rf < 1.0) {
+        p.push(&root.key("options").key("review_fraction"), "review fraction must be greater than 0 and less than 1");
+    }
+    if tables.is_empty() {
+        p.push(&root.key("tables"), "choose at least one reference-level table");
+    }
+    let loads = match load.resolve(site, &root.key("load")) {
+        Ok(l) => l,
+        Err(e) => {
+            p.0.extend(e.0);
+            Vec::new()
+        }
+    };
+    let mut total_cells = 0u64;
+    for (i, a) in site.areas.iter().enumerate() {
+        total_cells = total_cells.saturating_add(bounding_cells(&a.polygon, a.spacing_m));
+        if total_cells > options.max_grid_cells {
+            p.push(
+                &root.key("areas").index(i).key("spacing_m"),
+                format!("the area grids would exceed {} cells: increase spacing_m", options.max_grid_cells),
+            );
+            break;
+        }
+    }
+    p.into_result(())?;
+
+    let mut tables: Vec<ReferenceTable> = dedup_tables(tables);
+    if site.positions.iter().any(|q| q.group == Group::ImplantWearer)
+        && !tables.iter().any(|t| t.applies_to().population == Population::ImplantWearers)
+        && let Some(t) = builtin_table(IMPLANT_TABLE_ID)
+    {
+        tables.push(t.clone());
+    }
+
+    // Every point of every position and area, evaluated in one pass.
+    let mut points: Vec<Point3<f64>> = Vec::new();
+    let mut position_spans = Vec::new();
+    for q in &site.positions {
+        let start = points.len();
+        match &q.placement {
+            Placement::Standing { x_m, y_m, heights_m } => {
+                points.extend(heights_m.iter().map(|h| Point3::new(*x_m, *y_m, *h)))
+            }
+            Placement::Point(pt) => points.push(*pt),
+        }
+        position_spans.push(start..points.len());
+    }
+    let mut area_spans = Vec::new();
+    for a in &site.areas {
+        let start = points.len();
+        points.extend(area_grid(&a.polygon, a.height_m, a.spacing_m));
+        area_spans.push(start..points.len());
+    }
+    let filaments = crate::site::filaments(&site.conductors);
+    let excitation = site.excitation_at(&loads);
+    let set = field::evaluate(&filaments, &points, &excitation);
+    let line_hz: Vec<f64> = excitation.lines.iter().map(|l| l.frequency_hz).collect();
+    let sample = |i: usize| {
+        let inside: Vec<String> = set.inside_of(i).map(|k| site.conductors[k].id.clone()).collect();
+        let phasors = set.at(i);
+        Sample {
+            resultant_ut: field::total_resultant_ut(phasors),
+            maximum_ut: field::total_maximum_ut(phasors),
+            spectrum: line_hz.iter().zip(phasors).map(|(f, b)| (*f, field::resultant_ut(b))).collect(),
+            inside,
+        }
+    };
+
+    let positions: Vec<PositionResult> = site
+        .positions
+        .iter()
+        .zip(&position_spans)
+        .map(|(q, span)| {
+            let samples: Vec<(Option<f64>, Point3<f64>, Sample)> = span
+                .clone()
+                .map(|i| {
+                    let h = match q.placement {
+                        Placement::Standing { .. } => Some(points[i].z),
+                        Placement::Point(_) => None,
+                    };
+                    (h, points[i], sample(i))
+                })
+                .collect();
+            let applicable: Vec<&ReferenceTable> =
+                tables.iter().filter(|t| applies(t, q.body_region, q.group)).collect();
+            assess_position(q, &samples, &applicable, rf, site.frequency_hz)
+        })
+        .collect();
+
+    let area_tables: Vec<&ReferenceTable> =
+        tables.iter().filter(|t| applies(t, BodyRegion::WholeBody, Group::General)).collect();
+    let areas: Vec<AreaResult> = site
+        .areas
+        .iter()
+        .zip(&area_spans)
+        .map(|(a, span)| {
+            let samples: Vec<(Point3<f64>, Sample)> = span.clone().map(|i| (points[i], sample(i))).collect();
+            assess_area(a, &samples, &area_tables, rf, site.frequency_hz)
+        })
+        .collect();
+
+    let summary = summarise(&positions, &areas);
+    Ok(Assessment {
+        site_name: site.name.clone(),
+        frequency_hz: site.frequency_hz,
+        load_case: load::report(load, site, &loads),
+        review_fraction: rf,
+        tables: tables
+            .iter()
+            .map(|t| TableRef {
+                id: t.id().to_string(),
+                version: t.version(),
+                title: t.doc().title.clone(),
+                kind: t.doc().kind,
+                applies_to: t.applies_to(),
+                source: t.doc().source.clone(),
+            })
+            .collect(),
+        positions,
+        areas,
+        summary,
+        notes: NOTES.iter().map(|s| s.to_string()).collect(),
+        cautions: cautions(),
+    })
+}
+
+fn dedup_tables(tables: &[ReferenceTable]) -> Vec<ReferenceTable> {
+    let mut out: Vec<ReferenceTable> = Vec::new();
+    for t in tables {
+        if !out.iter().any(|o| o.id() == t.id()) {
+            out.push(t.clone());
+        }
+    }
+    out
+}
+
+/// Whether `table` applies to a point of `region` for `group`: whole-body
+/// tables to whole-body positions and areas, limb tables to limb positions,
+/// implant-wearer tables to implant wearers only.
+fn applies(table: &ReferenceTable, region: BodyRegion, group: Group) -> bool {
+    let a = table.applies_to();
+    let region_ok = match region {
+        BodyRegion::WholeBody => a.body_region == TableBodyRegion::WholeBody,
+        BodyRegion::Limb => a.body_region == TableBodyRegion::Limbs,
+    };
+    let group_ok = a.population != Population::ImplantWearers || group == Group::ImplantWearer;
+    // Implant screening is a whole-body figure, and applies to a device
+    // wearer's limb positions as well.
+    let implant_any_region = a.population == Population::ImplantWearers && group == Group::ImplantWearer;
+    (region_ok && group_ok) || implant_any_region
+}
+
+fn level_at_fundamental(t: &ReferenceTable, f_hz: f64) -> Option<f64> {
+    t.level_ut(f_hz).ok()
+}
+
+fn assess_position(
+    q: &crate::site::Position,
+    samples: &[(Option<f64>, Point3<f64>, Sample)],
+    tables: &[&ReferenceTable],
+    rf: f64,
+    f0_hz: f64,
+) -> PositionResult {
+    let computed: Vec<&(Option<f64>, Point3<f64>, Sample)> = samples.iter().filter(|s| s.2.inside.is_empty()).collect();
+    let heights = samples
+        .iter()
+        .map(|(h, at, s)| {
+            let ok = s.inside.is_empty();
+            HeightResult {
+                height_m: *h,
+                at: [at.x, at.y, at.z],
+                resultant_ut: ok.then_some(s.resultant_ut),
+                maximum_ut: ok.then_some(s.maximum_ut),
+                frequencies: if ok {
+                    s.spectrum.iter().map(|(f, b)| SpectralValue { frequency_hz: *f, resultant_ut: *b }).collect()
+                } else {
+                    Vec::new()
+                },
+                inside_conductors: s.inside.clone(),
+                comparisons: tables
+                    .iter()
+                    .map(|t| {
+                        if !ok {
+                            return PointComparison {
+                                table_id: t.id().into(),
+                                ratio: None,
+                                verdict: Verdict::NotComputed,
+                            };
+                        }
+                        let r = ratio_of(&s.spectrum, t);
+                        PointComparison { table_id: t.id().into(), ratio: r.ratio, verdict: r.verdict(rf) }
+                    })
+                    .collect(),
+            }
+        })
+        .collect();
+    let max = computed.iter().max_by(|a, b| a.2.resultant_ut.total_cmp(&b.2.resultant_ut));
+    let mean =
+        (!computed.is_empty()).then(|| computed.iter().map(|s| s.2.resultant_ut).sum::<f64>() / computed.len() as f64);
+    let mean_spectrum: Vec<(f64, f64)> = match computed.first() {
+        Some(first) => (0..first.2.spectrum.len())
+            .map(|k| {
+                let f = first.2.spectrum[k].0;
+                (f, computed.iter().map(|s| s.2.spectrum[k].1).sum::<f64>() / computed.len() as f64)
+            })
+            .collect(),
+        None => Vec::new(),
+    };
+    let comparisons: Vec<PositionComparison> = tables
+        .iter()
+        .map(|t| {
+            let level_ut = level_at_fundamental(t, f0_hz);
+            if computed.is_empty() {
+                return PositionComparison {
+                    table_id: t.id().into(),
+                    ratio: None,
+                    verdict: Verdict::NotComputed,
+                    worst_height_m: None,
+                    ratio_of_height_mean: None,
+                    level_ut,
+                    per_frequency: Vec::new(),
+                    uncovered_hz: Vec::new(),
+                };
+            }
+            let ratios: Vec<(Option<f64>, Ratio)> =
+                computed.iter().map(|s| (s.0, ratio_of(&s.2.spectrum, t))).collect();
+            let worst = ratios
+                .iter()
+                .max_by(|a, b| a.1.ratio.unwrap_or(f64::INFINITY).total_cmp(&b.1.ratio.unwrap_or(f64::INFINITY)))
+                .expect("at least one computed height");
+            PositionComparison {
+                table_id: t.id().into(),
+                ratio: worst.1.ratio,
+                verdict: worst.1.verdict(rf),
+                worst_height_m: worst.0,
+                ratio_of_height_mean: ratio_of(&mean_spectrum, t).ratio,
+                level_ut,
+                per_frequency: worst.1.per_frequency.clone(),
+                uncovered_hz: worst.1.uncovered_hz.clone(),
+            }
+        })
+        .collect();
+    let mut notes = Vec::new();
+    if tables.is_empty() {
+        notes.push(
+            match q.body_region {
+                BodyRegion::Limb => {
+                    "no selected table applies to limb positions: add a limb table (for example eu-2013-35-limbs)"
+                }
+                BodyRegion::WholeBody => "no selected table applies to whole-body positions",
+            }
+            .to_string(),
+        );
+    }
+    if q.group == Group::ImplantWearer {
+        notes.push(
+            "implant wearer: passing the screening level does not clear a device wearer; the device's data and a specialist assessment decide"
+                .to_string(),
+        );
+    }
+    if computed.len() < samples.len() {
+        notes.push("some evaluation points lie inside a conductor and are not computed: move the position".to_string());
+    }
+    let verdict = if tables.is_empty() {
+        Verdict::NotCovered
+    } else {
+        comparisons.iter().map(|c| c.verdict).max_by_key(|v| v.severity()).unwrap_or(Verdict::NotComputed)
+    };
+    let max_resultant_ut = max.map(|s| s.2.resultant_ut);
+    PositionResult {
+        id: q.id.clone(),
+        body_region: q.body_region,
+        group: q.group,
+        heights,
+        max_resultant_ut,
+        max_height_m: max.and_then(|s| s.0),
+        mean_resultant_ut: mean,
+        comparisons,
+        verdict,
+        time_weighted: time_weighted(q.occupancy_h, max_resultant_ut),
+        notes,
+    }
+}
+
+fn time_weighted(occupancy_h: Option<f64>, b_ut: Option<f64>) -> Option<TimeWeighted> {
+    let (h, b) = (occupancy_h?, b_ut?);
+    Some(TimeWeighted { occupancy_h: h, twa_8h_ut: b * h.min(8.0) / 8.0 })
+}
+
+fn assess_area(
+    a: &crate::site::Area,
+    samples: &[(Point3<f64>, Sample)],
+    tables: &[&ReferenceTable],
+    rf: f64,
+    f0_hz: f64,
+) -> AreaResult {
+    let computed: Vec<&(Point3<f64>, Sample)> = samples.iter().filter(|s| s.1.inside.is_empty()).collect();
+    let n = computed.len();
+    let max = computed.iter().max_by(|x, y| x.1.resultant_ut.total_cmp(&y.1.resultant_ut));
+    let mean = (n > 0).then(|| computed.iter().map(|s| s.1.resultant_ut).sum::<f64>() / n as f64);
+    let comparisons: Vec<AreaComparison> = tables
+        .iter()
+        .map(|t| {
+            // Levels per spectral line, computed once per table.
+            let levels: Vec<Option<f64>> = computed
+                .first()
+                .map(|s| s.1.spectrum.iter().map(|(f, _)| t.level_ut(*f).ok()).collect())
+                .unwrap_or_default();
+            let mut uncovered: Vec<f64> = Vec::new();
+            let mut ratios = Vec::with_capacity(n);
+            for s in &computed {
+                let mut r = 0.0;
+                for ((f, b), l) in s.1.spectrum.iter().zip(&levels) {
+                    match l {
+                        _ if *b <= 0.0 => {}
+                        Some(l) => r += b / l,
+                        None => {
+                            if !uncovered.contains(f) {
+                                uncovered.push(*f);
+                            }
+                        }
+                    }
+                }
+                ratios.push(r);
+            }
+            let level_ut = level_at_fundamental(t, f0_hz);
+            if !uncovered.is_empty() || n == 0 {
+                let verdict = if n == 0 { Verdict::NotComputed } else { Verdict::NotCovered };
+                return AreaComparison {
+                    table_id: t.id().into(),
+                    max_ratio: None,
+                    verdict,
+                    level_ut,
+                    share_at_or_above_level: None,
+                    share_at_or_above_review: None,
+                    uncovered_hz: uncovered,
+                };
+            }
+            let max_ratio = ratios.iter().cloned().fold(0.0, f64::max);
+            let share = |threshold: f64| ratios.iter().filter(|r| **r >= threshold).count() as f64 / n as f64;
+            AreaComparison {
+                table_id: t.id().into(),
+                max_ratio: Some(max_ratio),
+                verdict: Verdict::of_ratio(max_ratio, rf),
+                level_ut,
+                share_at_or_above_level: Some(share(1.0)),
+                share_at_or_above_review: Some(share(rf)),
+                uncovered_hz: Vec::new(),
+            }
+        })
+        .collect();
+    let verdict = comparisons.iter().map(|c| c.verdict).max_by_key(|v| v.severity()).unwrap_or(Verdict::NotCovered);
+    let max_resultant_ut = max.map(|s| s.1.resultant_ut);
+    AreaResult {
+        id: a.id.clone(),
+        height_m: a.height_m,
+        spacing_m: a.spacing_m,
+        cells: samples.len(),
+        cells_inside_conductors: samples.len() - n,
+        max_resultant_ut,
+        max_at: max.map(|s| [s.0.x, s.0.y, s.0.z]),
+        mean_resultant_ut: mean,
+        comparisons,
+        verdict,
+        time_weighted: time_weighted(a.occupancy_h, max_resultant_ut),
+    }
+}
+
+fn summarise(positions: &[PositionResult], areas: &[AreaResult]) -> Summary {
+    let ids = |pred: &dyn Fn(Verdict) -> bool| -> Vec<String> {
+        positions.iter().filter(|p| pred(p.verdict)).map(|p| p.id.clone()).collect()
+    };
+    let area_ids =
+        |v: Verdict| -> Vec<String> { areas.iter().filter(|a| a.verdict == v).map(|a| a.id.clone()).collect() };
+    let worst = positions
+        .iter()
+        .map(|p| p.verdict)
+        .chain(areas.iter().map(|a| a.verdict))
+        .max_by_key(|v| v.severity())
+        .unwrap_or(Verdict::Within);
+    Summary {
+        worst_verdict: worst,
+        positions_exceeding: ids(&|v| v == Verdict::Exceeds),
+        positions_approaching: ids(&|v| v == Verdict::Approaching),
+        positions_not_judged: ids(&|v| matches!(v, Verdict::NotCovered | Verdict::NotComputed)),
+        areas_exceeding: area_ids(Verdict::Exceeds),
+        areas_approaching: area_ids(Verdict::Approaching),
+    }
+}

@@ -1,0 +1,176 @@
+//! The stateless evaluation document: conductors and points in, field out.
+//!
+//! The same JSON is read by `fluxbound evaluate` and (in the service) by
+//! `POST /v1/evaluate`, so its key names are a published interface.
+
+use crate::cautions::cautions;
+use crate::field::{self, FieldPhasor};
+use crate::site::wire::{CircuitDoc, ConductorDoc};
+use crate::site::{
+    self, Conductor, Pointer, Problems, check_circuits, check_conductors, check_coordinate, check_frequency,
+    excitation_of,
+};
+use nalgebra::Point3;
+use serde::{Deserialize, Serialize};
+
+/// Most points one document may ask for (the HTTP layer sets its own,
+/// smaller, configurable bound).
+pub const MAX_POINTS: usize = 10_000_000;
+
+/// Request: conductors (explicit phasors or circuit + phase) and points.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct EvaluateRequest {
+    pub frequency_hz: f64,
+    #[serde(default)]
+    pub circuits: Vec<CircuitDoc>,
+    pub conductors: Vec<ConductorDoc>,
+    /// Points `[x, y, z]`, m.
+    pub points: Vec<[f64; 3]>,
+}
+
+/// A real and imaginary part, µT RMS.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct ComplexUt {
+    pub re: f64,
+    pub im: f64,
+}
+
+/// Complex RMS components along x, y, z, µT.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct ComponentsUt {
+    pub x: ComplexUt,
+    pub y: ComplexUt,
+    pub z: ComplexUt,
+}
+
+impl From<&FieldPhasor> for ComponentsUt {
+    fn from(b: &FieldPhasor) -> Self {
+        let c = |i: usize| ComplexUt { re: b[i].re, im: b[i].im };
+        ComponentsUt { x: c(0), y: c(1), z: c(2) }
+    }
+}
+
+/// Field at one frequency.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct FrequencyResult {
+    pub order: u32,
+    pub frequency_hz: f64,
+    pub resultant_ut: f64,
+    pub maximum_ut: f64,
+    pub components_ut: ComponentsUt,
+}
+
+/// Field at one point. When the point lies inside a conductor the thin-wire
+/// field is meaningless there: `resultant_ut` and `maximum_ut` are `null`,
+/// `frequencies` is empty and `inside_conductors` names the conductors.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PointResult {
+    pub at: [f64; 3],
+    /// Resultant RMS over all frequencies (quadrature sum), µT.
+    pub resultant_ut: Option<f64>,
+    /// RMS along the direction of largest field over all frequencies, µT.
+    pub maximum_ut: Option<f64>,
+    pub frequencies: Vec<FrequencyResult>,
+    pub inside_conductors: Vec<String>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct EvaluateResponse {
+    pub frequency_hz: f64,
+    pub points: Vec<PointResult>,
+    /// Segment–point pairs computed (a measure of the work done).
+    pub segment_point_pairs: u64,
+    pub cautions: Vec<String>,
+}
+
+/// A checked request, ready to compute.
+#[derive(Debug, Clone)]
+pub struct Evaluation {
+    frequency_hz: f64,
+    conductors: Vec<Conductor>,
+    circuits: Vec<site::Circuit>,
+    points: Vec<Point3<f64>>,
+}
+
+impl Evaluation {
+    /// Segment–point pairs this evaluation will compute.
+    pub fn pair_count(&self) -> u64 {
+        let segments: usize = self.conductors.iter().map(|c| c.path.len().saturating_sub(1)).sum();
+        segments as u64 * self.points.len() as u64
+    }
+}
+
+/// Checks a request, reporting every problem with its pointer.
+pub fn validate_request(req: &EvaluateRequest) -> Result<Evaluation, Problems> {
+    let root = Pointer::root();
+    let mut p = Problems::default();
+    check_frequency(req.frequency_hz, &root.key("frequency_hz"), &mut p);
+    let circuits = check_circuits(&req.circuits, &root.key("circuits"), &mut p);
+    let conductors = check_conductors(&req.conductors, &root.key("conductors"), &req.circuits, &mut p);
+    let pp = root.key("points");
+    if req.points.len() > MAX_POINTS {
+        p.push(&pp, format!("at most {MAX_POINTS} points per document"));
+    }
+    for (i, pt) in req.points.iter().enumerate() {
+        for (d, x) in pt.iter().enumerate() {
+            check_coordinate(*x, &pp.index(i).index(d), &mut p);
+        }
+    }
+    let points = req.points.iter().map(|v| Point3::new(v[0], v[1], v[2])).collect();
+    p.into_result(Evaluation { frequency_hz: req.frequency_hz, conductors, circuits, points })
+}
+
+/// Computes the field at every point, in input order.
+pub fn evaluate(ev: &Evaluation) -> EvaluateResponse {
+    let filaments = site::filaments(&ev.conductors);
+    let drives: Vec<_> = ev.conductors.iter().map(|c| c.drive).collect();
+    let excitation = excitation_of(ev.frequency_hz, &ev.circuits, &drives, &[]);
+    let set = field::evaluate(&filaments, &ev.points, &excitation);
+    let points = ev
+        .points
+        .iter()
+        .enumerate()
+        .map(|(i, at)| {
+            let inside: Vec<String> = set.inside_of(i).map(|k| ev.conductors[k].id.clone()).collect();
+            let phasors = set.at(i);
+            let (resultant, maximum, frequencies) = if inside.is_empty() {
+                let freqs = excitation
+                    .lines
+                    .iter()
+                    .zip(phasors)
+                    .map(|(line, b)| FrequencyResult {
+                        order: line.order,
+                        frequency_hz: line.frequency_hz,
+                        resultant_ut: field::resultant_ut(b),
+                        maximum_ut: field::maximum_ut(b),
+                        components_ut: b.into(),
+                    })
+                    .collect();
+                (Some(field::total_resultant_ut(phasors)), Some(field::total_maximum_ut(phasors)), freqs)
+            } else {
+                (None, None, Vec::new())
+            };
+            PointResult {
+                at: [at.x, at.y, at.z],
+                resultant_ut: resultant,
+                maximum_ut: maximum,
+                frequencies,
+                inside_conductors: inside,
+            }
+        })
+        .collect();
+    EvaluateResponse {
+        frequency_hz: ev.frequency_hz,
+        points,
+        segment_point_pairs: ev.pair_count(),
+        cautions: cautions(),
+    }
+}
+
+/// Parses, checks and computes a request document.
+pub fn evaluate_json(text: &str) -> Result<EvaluateResponse, Problems> {
+    let req: EvaluateRequest = site::parse_json(text)?;
+    let ev = validate_request(&req)?;
+    Ok(evaluate(&ev))
+}

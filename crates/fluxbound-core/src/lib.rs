@@ -1,0 +1,44 @@
+//! The pure core of Fluxbound: no I/O, no async, no framework.
+//!
+//! Its normal dependencies are nalgebra, num-complex, serde, serde_json,
+//! serde_path_to_error, thiserror and rayon; `utoipa` enters only with the
+//! optional `schema` feature, which the service turns on to generate its
+//! OpenAPI document from these types. Cargo enforces the rule (the core
+//! cannot name tokio, axum or sqlx because they are not its dependencies);
+//! `tests/core/layering.rs` checks the graph from `cargo metadata`, and
+//! `clippy.toml` forbids std's file, network, clock and process calls.
+//!
+//! # Layout
+//!
+//! ```text
+//! field/      phasor Biot–Savart kernel, influence matrices, resultant and maximum
+//! site/       the site document: wire types, strict parsing, validation with
+//!             JSON pointers, the checked model, phase and harmonic conventions
+//! limits/     reference-level tables as data: bands, lookup, validation, built-ins
+//! assess/     exposure at positions and areas, load cases, ratios and verdicts,
+//!             area grids and field maps
+//! survey/     measured against modelled, bounded least-squares load fit,
+//!             extrapolation to rated load
+//! mitigate/   distance to a level along a direction
+//! report/     pure renderers: text, CSV, SVG, GeoJSON, contours, geodesy
+//! usecase     one function per thing a caller can do (CLI and service alike)
+//! evaluate    the stateless evaluation document
+//! cautions    the cautions every result carries
+//! ```
+//!
+//! Every result is a computed pre-screen: compliance is decided under local
+//! codes by licensed or otherwise qualified assessors.
+
+#![deny(clippy::print_stdout, clippy::print_stderr)]
+
+pub mod assess;
+pub mod cautions;
+pub mod evaluate;
+pub mod field;
+pub mod limits;
+pub mod mitigate;
+pub mod report;
+#[cfg(feature = "schema")]
+pub mod schema;
+pub mod site;
+pub mod survey;

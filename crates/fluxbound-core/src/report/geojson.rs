@@ -1,0 +1,137 @@
+//! GeoJSON (RFC 7946) of conductors, positions, contour lines and zone
+//! polygons. With a georeference the coordinates are WGS 84 longitude and
+//! latitude (see `geo.rs` for the conversion and its accuracy); without
+//! one they stay in the site's local frame in metres, which the
+//! FeatureCollection says in its `coordinate_frame` member (RFC 7946 §4
+//! allows another frame only by prior arrangement between the parties).
+
+use super::contour::{self, Polyline};
+use super::geo::to_lon_lat;
+use crate::assess::{AreaMap, Assessment};
+use crate::cautions::cautions;
+use crate::site::Site;
+use serde_json::{Value, json};
+
+struct Frame<'a>(&'a Site);
+
+impl Frame<'_> {
+    fn xy(&self, x: f64, y: f64) -> Vec<f64> {
+        match &self.0.georeference {
+            Some(g) => to_lon_lat(g, x, y).to_vec(),
+            None => vec![x, y],
+        }
+    }
+    fn xyz(&self, x: f64, y: f64, z: f64) -> Vec<f64> {
+        let mut v = self.xy(x, y);
+        v.push(z);
+        v
+    }
+}
+
+/// Zone polygons (exterior rings counter-clockwise, holes clockwise, as RFC
+/// 7946 §3.1.6 recommends) from the closed rings of a level.
+fn polygons(rings: &[Polyline]) -> Vec<Vec<Vec<[f64; 2]>>> {
+    let inside = |p: [f64; 2], ring: &[[f64; 2]]| {
+        let mut c = false;
+        let n = ring.len();
+        for i in 0..n {
+            let (a, b) = (ring[i], ring[(i + n - 1) % n]);
+            if (a[1] > p[1]) != (b[1] > p[1]) && p[0] < (b[0] - a[0]) * (p[1] - a[1]) / (b[1] - a[1]) + a[0] {
+                c = !c;
+            }
+        }
+        c
+    };
+    let rings: Vec<&Vec<[f64; 2]>> =
+        rings.iter().filter(|r| r.closed && r.points.len() >= 4).map(|r| &r.points).collect();
+    let depth: Vec<usize> = rings
+        .iter()
+        .enumerate()
+        .map(|(i, r)| rings.iter().enumerate().filter(|(j, o)| *j != i && inside(r[0], o)).count())
+        .collect();
+    let orient = |r: &Vec<[f64; 2]>, ccw: bool| {
+        let mut r = r.clone();
+        if (contour::signed_area2(&r) > 0.0) != ccw {
+            r.reverse();
+        }
+        r
+    };
+    let mut out: Vec<(usize, Vec<Vec<[f64; 2]>>)> = Vec::new();
+    for (i, r) in rings.iter().enumerate() {
+        if depth[i].is_multiple_of(2) {
+            out.push((i, vec![orient(r, true)]));
+        }
+    }
+    for (i, r) in rings.iter().enumerate() {
+        if depth[i] % 2 == 1 {
+            // The hole belongs to the smallest exterior ring containing it.
+            let owner = out
+                .iter_mut()
+                .filter(|(k, _)| inside(r[0], rings[*k]))
+                .min_by(|a, b| contour::signed_area2(&a.1[0]).abs().total_cmp(&contour::signed_area2(&b.1[0]).abs()));
+            if let Some((_, poly)) = owner {
+                poly.push(orient(r, false));
+            }
+        }
+    }
+    out.into_iter().map(|(_, p)| p).collect()
+}
+
+/// The GeoJSON document of an assessment and the maps of its areas.
+pub fn assessment_geojson(site: &Site, a: &Assessment, maps: &[AreaMap]) -> Value {
+    let f = Frame(site);
+    let mut features = Vec::new();
+    for c in &site.conductors {
+        features.push(json!({
+            "type": "Feature",
+            "geometry": {"type": "LineString", "coordinates": c.path.iter().map(|p| f.xyz(p.x, p.y, p.z)).collect::<Vec<_>>()},
+            "properties": {"kind": "conductor", "id": c.id, "radius_m": c.radius_m}
+        }));
+    }
+    for (q, r) in site.positions.iter().zip(&a.positions) {
+        let (x, y, z) = match &q.placement {
+            crate::site::Placement::Standing { x_m, y_m, .. } => (*x_m, *y_m, r.max_height_m.unwrap_or(0.0)),
+            crate::site::Placement::Point(p) => (p.x, p.y, p.z),
+        };
+        features.push(json!({
+            "type": "Feature",
+            "geometry": {"type": "Point", "coordinates": f.xyz(x, y, z)},
+            "properties": {"kind": "position", "id": q.id, "verdict": r.verdict, "max_resultant_ut": r.max_resultant_ut}
+        }));
+    }
+    for m in maps {
+        for t in &m.tables {
+            let Some(ratio) = t.ratio.iter().copied().collect::<Option<Vec<f64>>>() else { continue };
+            for (what, level) in [("level", 1.0), ("review", a.review_fraction)] {
+                let lines = contour::isolines(&m.grid, &ratio, &m.inside_conductor, level);
+                let coords: Vec<Vec<Vec<f64>>> =
+                    lines.iter().map(|l| l.points.iter().map(|p| f.xy(p[0], p[1])).collect()).collect();
+                let b_ut = t.level_ut.map(|l| l * level);
+                features.push(json!({
+                    "type": "Feature",
+                    "geometry": {"type": "MultiLineString", "coordinates": coords},
+                    "properties": {"kind": "contour", "area": m.area_id, "height_m": m.height_m, "table_id": t.table_id,
+                                   "threshold": what, "ratio": level, "b_ut": b_ut}
+                }));
+                let zones = polygons(&contour::zone_rings(&m.grid, &ratio, &m.inside_conductor, level));
+                let zcoords: Vec<Vec<Vec<Vec<f64>>>> = zones
+                    .iter()
+                    .map(|poly| poly.iter().map(|ring| ring.iter().map(|p| f.xy(p[0], p[1])).collect()).collect())
+                    .collect();
+                features.push(json!({
+                    "type": "Feature",
+                    "geometry": {"type": "MultiPolygon", "coordinates": zcoords},
+                    "properties": {"kind": "zone", "area": m.area_id, "height_m": m.height_m, "table_id": t.table_id,
+                                   "threshold": what, "ratio": level, "b_ut": b_ut}
+                }));
+            }
+        }
+    }
+    json!({
+        "type": "FeatureCollection",
+        "coordinate_frame": if site.georeference.is_some() { "wgs84-lon-lat" } else { "site-local-metres" },
+        "load_case": a.load_case.kind,
+        "cautions": cautions(),
+        "features": features,
+    })
+}

@@ -1,0 +1,341 @@
+//! Plain-text rendering of an assessment for a terminal or a printout.
+//!
+//! Layout of our own: a heading block, one block per position with a row
+//! per height and a summary row, one block per area, then notes and
+//! cautions. Every table is numbered once in the heading so the columns stay
+//! narrow.
+
+use super::snake;
+use crate::assess::{Assessment, Verdict};
+use crate::limits::ReferenceTable;
+use std::fmt::Write;
+
+fn num(v: Option<f64>, digits: usize) -> String {
+    match v {
+        Some(x) => format!("{x:.digits$}"),
+        None => "—".to_string(),
+    }
+}
+
+fn verdict_word(v: Verdict) -> &'static str {
+    match v {
+        Verdict::Within => "within",
+        Verdict::Approaching => "APPROACHING",
+        Verdict::Exceeds => "EXCEEDS",
+        Verdict::NotCovered => "not covered",
+        Verdict::NotComputed => "not computed",
+    }
+}
+
+fn time_weighted_line(s: &mut String, tw: Option<&crate::assess::TimeWeighted>) {
+    if let Some(tw) = tw {
+        let _ = writeln!(
+            s,
+            "    8-h time-weighted {:.2} µT ({} h at the highest value; information only)",
+            tw.twa_8h_ut, tw.occupancy_h
+        );
+    }
+}
+
+/// Renders an assessment as aligned plain text.
+pub fn assessment_text(a: &Assessment) -> String {
+    let mut s = String::new();
+    let name = a.site_name.as_deref().unwrap_or("(unnamed site)");
+    let _ = writeln!(s, "MAGNETIC FIELD EXPOSURE PRE-SCREEN — {name}");
+    let _ = writeln!(s, "Computed pre-screen only: compliance is decided under local codes by qualified assessors.");
+    let _ = writeln!(s);
+    let loads: Vec<String> = a.load_case.circuits.iter().map(|c| format!("{} {:.0} A", c.id, c.assessed_a)).collect();
+    let _ = writeln!(
+        s,
+        "Load case     {} ({})",
+        a.load_case.kind,
+        if loads.is_empty() { "no circuits".into() } else { loads.join(", ") }
+    );
+    let _ = writeln!(s, "Frequency     {} Hz", a.frequency_hz);
+    let _ = writeln!(s, "Review from   {:.0} % of a level", a.review_fraction * 100.0);
+    let _ = writeln!(s, "Tables");
+    for (i, t) in a.tables.iter().enumerate() {
+        let _ = writeln!(s, "  T{}  {} (v{}) — {}", i + 1, t.id, t.version, t.title);
+    }
+    let col = |id: &str| a.tables.iter().position(|t| t.id == id).map(|i| format!("T{}", i + 1)).unwrap_or_default();
+
+    if !a.positions.is_empty() {
+        let _ = writeln!(s);
+        let _ = writeln!(s, "POSITIONS   B in µT RMS; under each table: exposure ratio B / level, and verdict");
+        for p in &a.positions {
+            let _ = writeln!(s);
+            let region = match p.body_region {
+                crate::site::wire::BodyRegion::WholeBody => "whole body",
+                crate::site::wire::BodyRegion::Limb => "limb",
+            };
+            let group = match p.group {
+                crate::site::wire::Group::General => "",
+                crate::site::wire::Group::ImplantWearer => ", implant wearer",
+            };
+            let _ = writeln!(s, "  {}  ({region}{group})  →  {}", p.id, verdict_word(p.verdict));
+            let mut header = format!("    {:<20} {:>11} {:>11}", "height or point", "B resultant", "B major-ax.");
+            for c in &p.comparisons {
+                let _ = write!(header, "  {:>7} {:<12}", col(&c.table_id), "");
+            }
+            let _ = writeln!(s, "{}", header.trim_end());
+            for h in &p.heights {
+                let label = match h.height_m {
+                    Some(z) => format!("{z:.2} m"),
+                    None => format!("({:.2}, {:.2}, {:.2})", h.at[0], h.at[1], h.at[2]),
+                };
+                let mut row = format!("    {:<20} {:>11} {:>11}", label, num(h.resultant_ut, 2), num(h.maximum_ut, 2));
+                for c in &h.comparisons {
+                    let _ = write!(row, "  {:>7} {:<12}", num(c.ratio, 3), verdict_word(c.verdict));
+                }
+                if !h.inside_conductors.is_empty() {
+                    let _ = write!(row, "  inside {}", h.inside_conductors.join(", "));
+                }
+                let _ = writeln!(s, "{}", row.trim_end());
+            }
+            if p.heights.len() > 1 {
+                let mut row =
+                    format!("    {:<20} {:>11} {:>11}", "mean (information)", num(p.mean_resultant_ut, 2), "");
+                for c in &p.comparisons {
+                    let _ = write!(row, "  {:>7} {:<12}", num(c.ratio_of_height_mean, 3), "");
+                }
+                let _ = writeln!(s, "{}", row.trim_end());
+            }
+            time_weighted_line(&mut s, p.time_weighted.as_ref());
+            for n in &p.notes {
+                let _ = writeln!(s, "    note: {n}");
+            }
+        }
+    }
+
+    if !a.areas.is_empty() {
+        let _ = writeln!(s);
+        let _ = writeln!(
+            s,
+            "AREAS   shares: part of the area at or above the level, and at or above the review fraction of it"
+        );
+        for ar in &a.areas {
+            let _ = writeln!(s);
+            let _ = writeln!(
+                s,
+                "  {}  (height {:.2} m, grid {:.2} m, {} cells)  →  {}",
+                ar.id,
+                ar.height_m,
+                ar.spacing_m,
+                ar.cells,
+                verdict_word(ar.verdict)
+            );
+            let at = ar.max_at.map(|p| format!(" at ({:.2}, {:.2})", p[0], p[1])).unwrap_or_default();
+            let _ = writeln!(
+                s,
+                "    B highest {} µT{at}, mean {} µT",
+                num(ar.max_resultant_ut, 2),
+                num(ar.mean_resultant_ut, 2)
+            );
+            if ar.cells_inside_conductors > 0 {
+                let _ = writeln!(
+                    s,
+                    "    {} cells inside conductors are marked and not counted",
+                    ar.cells_inside_conductors
+                );
+            }
+            for c in &ar.comparisons {
+                let pct = |v: Option<f64>| v.map(|x| format!("{:.1} %", 100.0 * x)).unwrap_or_else(|| "—".into());
+                let _ = writeln!(
+                    s,
+                    "    {:>4}  highest ratio {:>7}  share ≥ level {:>7}  share ≥ review {:>7}  {}",
+                    col(&c.table_id),
+                    num(c.max_ratio, 3),
+                    pct(c.share_at_or_above_level),
+                    pct(c.share_at_or_above_review),
+                    verdict_word(c.verdict)
+                );
+            }
+            time_weighted_line(&mut s, ar.time_weighted.as_ref());
+        }
+    }
+
+    let _ = writeln!(s);
+    let _ = writeln!(s, "SUMMARY   worst result: {}", verdict_word(a.summary.worst_verdict));
+    let list = |v: &[String]| if v.is_empty() { "none".to_string() } else { v.join(", ") };
+    let _ = writeln!(s, "  positions at or above a level:   {}", list(&a.summary.positions_exceeding));
+    let _ = writeln!(s, "  positions in the review band:    {}", list(&a.summary.positions_approaching));
+    if !a.summary.positions_not_judged.is_empty() {
+        let _ = writeln!(s, "  positions not judged:            {}", list(&a.summary.positions_not_judged));
+    }
+    if !a.areas.is_empty() {
+        let _ = writeln!(s, "  areas at or above a level:       {}", list(&a.summary.areas_exceeding));
+        let _ = writeln!(s, "  areas in the review band:        {}", list(&a.summary.areas_approaching));
+    }
+    let _ = writeln!(s);
+    let _ = writeln!(s, "NOTES");
+    for n in &a.notes {
+        let _ = writeln!(s, "  - {n}");
+    }
+    let _ = writeln!(s);
+    let _ = writeln!(s, "CAUTIONS");
+    for c in &a.cautions {
+        let _ = writeln!(s, "  - {c}");
+    }
+    s
+}
+
+/// One line per table: id, kind, who, and its level at 50 and 60 Hz.
+pub fn tables_text(tables: &[ReferenceTable]) -> String {
+    let mut s = String::new();
+    let _ = writeln!(s, "{:<30} {:<16} {:<28} {:>10} {:>10}", "id", "kind", "applies to", "50 Hz µT", "60 Hz µT");
+    for t in tables {
+        let a = t.applies_to();
+        let who = format!("{}, {}", snake(&a.population), snake(&a.body_region));
+        let lv = |f: f64| t.level_ut(f).map(|v| format!("{v:.1}")).unwrap_or_else(|_| "—".into());
+        let _ =
+            writeln!(s, "{:<30} {:<16} {:<28} {:>10} {:>10}", t.id(), snake(&t.doc().kind), who, lv(50.0), lv(60.0));
+    }
+    s
+}
+
+/// One table in full: title, source, bands and notes.
+pub fn table_text(t: &ReferenceTable) -> String {
+    let d = t.doc();
+    let mut s = String::new();
+    let _ = writeln!(s, "{} (version {})", d.id, t.version());
+    let _ = writeln!(s, "{}", d.title);
+    let _ = writeln!(
+        s,
+        "kind: {}; applies to: {}, {}",
+        snake(&d.kind),
+        snake(&d.applies_to.population),
+        snake(&d.applies_to.body_region)
+    );
+    let _ = writeln!(s, "source: {}", d.source);
+    let _ = writeln!(s);
+    let _ = writeln!(s, "  {:>12} {:>12}   B_RL(f), µT RMS", "from Hz", "to Hz");
+    for b in &d.bands {
+        let formula = if b.exponent == 0.0 {
+            format!("{}", b.coefficient)
+        } else {
+            format!("{:e} · f^{}", b.coefficient, b.exponent)
+        };
+        let _ = writeln!(s, "  {:>12} {:>12}   {formula}", b.from_hz, b.to_hz);
+    }
+    for g in &d.gaps {
+        let _ = writeln!(
+            s,
+            "  {:>12} {:>12}   (not covered{})",
+            g.from_hz,
+            g.to_hz,
+            g.reason.as_ref().map(|r| format!(": {r}")).unwrap_or_default()
+        );
+    }
+    if !d.notes.is_empty() {
+        let _ = writeln!(s);
+        for n in &d.notes {
+            let _ = writeln!(s, "note: {n}");
+        }
+    }
+    s
+}
+
+/// Plain-text survey reconciliation, load fit and extrapolation.
+pub fn survey_text(site_name: Option<&str>, s: &crate::survey::SurveyAnalysis) -> String {
+    let mut out = String::new();
+    let r = &s.reconciliation;
+    let _ = writeln!(out, "SURVEY RECONCILIATION — {}", site_name.unwrap_or("(unnamed site)"));
+    let _ = writeln!(
+        out,
+        "Measured at {}; meter ±{:.0} % and model ±{:.0} % (expanded, k = 2)",
+        s.measured_at, r.meter_expanded_uncertainty_percent, r.model_expanded_uncertainty_percent
+    );
+    let _ = writeln!(out);
+    let _ = writeln!(
+        out,
+        "    {:<16} {:>12} {:>12} {:>8} {:>12}  flag",
+        "point", "measured µT", "model µT", "ratio", "allowed ±µT"
+    );
+    for p in &r.points {
+        let _ = writeln!(
+            out,
+            "    {:<16} {:>12.2} {:>12} {:>8} {:>12}  {}",
+            p.id,
+            p.measured_ut,
+            num(p.model_ut, 2),
+            num(p.ratio, 3),
+            num(p.allowed_difference_ut, 2),
+            if p.flagged { "OUTSIDE UNCERTAINTY" } else { "" }
+        );
+    }
+    let sm = &r.summary;
+    let _ = writeln!(
+        out,
+        "    median ratio {}, range {} – {}, geometric spread {}, {} of {} flagged; worst: {}",
+        num(sm.median_ratio, 3),
+        num(sm.min_ratio, 3),
+        num(sm.max_ratio, 3),
+        num(sm.geometric_spread, 3),
+        sm.flagged,
+        sm.points,
+        if sm.worst.is_empty() { "none".into() } else { sm.worst.join(", ") }
+    );
+    let f = &s.load_fit;
+    let _ = writeln!(out);
+    let _ = writeln!(out, "LOAD FIT (least squares on the measurements; scale = fitted / stated current)");
+    for c in &f.circuits {
+        let status = snake(&c.status);
+        let _ = writeln!(
+            out,
+            "    {:<20} stated {:>9.1} A   scale {:>7} ± {:<7}  fitted {:>9} A   {status}",
+            c.circuit,
+            c.stated_a,
+            num(c.scale, 3),
+            num(c.scale_std_error, 3),
+            num(c.fitted_a, 1)
+        );
+    }
+    let _ = writeln!(
+        out,
+        "    residual {:.2} % RMS, reduced χ² {}, {} iterations{}",
+        100.0 * f.residual_rms_relative,
+        num(f.reduced_chi2, 2),
+        f.iterations,
+        if f.converged { "" } else { " (not converged)" }
+    );
+    for n in &f.notes {
+        let _ = writeln!(out, "    note: {n}");
+    }
+    let _ = writeln!(out);
+    match &s.extrapolation {
+        Some(e) => {
+            let _ = writeln!(out, "EXTRAPOLATION TO RATED LOAD");
+            for p in &e.points {
+                let cmp: Vec<String> = p
+                    .comparisons
+                    .iter()
+                    .map(|c| format!("{} {} {}", c.table_id, num(c.ratio, 3), verdict_word(c.verdict)))
+                    .collect();
+                let _ = writeln!(
+                    out,
+                    "    {:<16} {:>10.2} µT × {:>7} = {:>10} µT   {}",
+                    p.id,
+                    p.measured_ut,
+                    num(p.factor, 3),
+                    num(p.extrapolated_ut, 2),
+                    cmp.join("; ")
+                );
+            }
+            for a in &e.assumptions {
+                let _ = writeln!(out, "    assumption: {a}");
+            }
+        }
+        None => {
+            let _ = writeln!(out, "EXTRAPOLATION TO RATED LOAD: not possible (see notes)");
+        }
+    }
+    for n in &s.notes {
+        let _ = writeln!(out, "note: {n}");
+    }
+    let _ = writeln!(out);
+    let _ = writeln!(out, "CAUTIONS");
+    for c in &s.cautions {
+        let _ = writeln!(out, "  - {c}");
+    }
+    out
+}

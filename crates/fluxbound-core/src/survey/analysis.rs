@@ -1,0 +1,551 @@
+//! Reconciliation, load fit and extrapolation of a survey.
+//!
+//! All three work from one influence matrix over the measurement points:
+//! the field of each circuit (and of the explicitly driven conductors) at
+//! the survey's loads, per frequency, so that scaling a circuit is a
+//! multiplication, not a new field computation.
+
+use super::Survey;
+use crate::assess::{Verdict, ratio_of};
+use crate::cautions::cautions;
+use crate::field::{self, FieldPhasor, influence_matrix};
+use crate::limits::ReferenceTable;
+use crate::site::{CircuitLoad, Drive, Problems, Site, excitation_of};
+use nalgebra::{DMatrix, DVector};
+use serde::{Deserialize, Serialize};
+
+/// Per point and frequency, the phasor of each group: circuits in site order,
+/// then the explicitly driven conductors.
+struct GroupFields {
+    /// `[point][group][line]`.
+    b: Vec<Vec<Vec<FieldPhasor>>>,
+    line_hz: Vec<f64>,
+    inside: Vec<bool>,
+}
+
+fn group_fields(site: &Site, points: &[nalgebra::Point3<f64>], loads: &[CircuitLoad]) -> GroupFields {
+    let filaments = crate::site::filaments(&site.conductors);
+    let g = influence_matrix(&filaments, points);
+    let drives: Vec<Drive> = site.conductors.iter().map(|c| c.drive).collect();
+    let exc = excitation_of(site.frequency_hz, &site.circuits, &drives, loads);
+    let groups = site.circuits.len() + 1;
+    let group_of = |k: usize| match drives[k] {
+        Drive::Phase { circuit, .. } => circuit,
+        Drive::Explicit { .. } => groups - 1,
+    };
+    let b = (0..points.len())
+        .map(|i| {
+            let mut per = vec![vec![FieldPhasor::zeros(); exc.lines.len()]; groups];
+            for k in 0..drives.len() {
+                let gk = g.coefficient(i, k);
+                for (f, line) in exc.lines.iter().enumerate() {
+                    per[group_of(k)][f] += gk.map(|x| line.currents_a[k] * x);
+                }
+            }
+            per
+        })
+        .collect();
+    GroupFields {
+        b,
+        line_hz: exc.lines.iter().map(|l| l.frequency_hz).collect(),
+        inside: (0..points.len()).map(|i| g.is_inside(i)).collect(),
+    }
+}
+
+/// Resultant (µT) of point `i` with group scales `s` (the last group fixed at 1).
+fn resultant_scaled(gf: &GroupFields, i: usize, s: &[f64]) -> f64 {
+    let groups = gf.b[i].len();
+    (0..gf.line_hz.len())
+        .map(|f| {
+            let b: FieldPhasor =
+                (0..groups).map(|g| gf.b[i][g][f] * nalgebra::Complex::new(*s.get(g).unwrap_or(&1.0), 0.0)).sum();
+            field::resultant_ut(&b).powi(2)
+        })
+        .sum::<f64>()
+        .sqrt()
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct PointCheck {
+    pub id: String,
+    pub at: [f64; 3],
+    pub measured_ut: f64,
+    /// Model at the survey's loads, µT (`null` inside a conductor).
+    pub model_ut: Option<f64>,
+    /// measured / model.
+    pub ratio: Option<f64>,
+    pub difference_ut: Option<f64>,
+    /// Combined expanded uncertainty of the difference, µT:
+    /// sqrt((U_meter · measured)² + (U_model · model)²).
+    pub allowed_difference_ut: Option<f64>,
+    /// The difference is outside the combined uncertainty.
+    pub flagged: bool,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ReconciliationSummary {
+    pub points: usize,
+    pub flagged: usize,
+    pub median_ratio: Option<f64>,
+    pub min_ratio: Option<f64>,
+    pub max_ratio: Option<f64>,
+    /// exp(standard deviation of ln(ratio)): 1.1 means a typical ±10 % scatter.
+    pub geometric_spread: Option<f64>,
+    /// Up to three ids with the largest |ln(ratio)|.
+    pub worst: Vec<String>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Reconciliation {
+    pub meter_expanded_uncertainty_percent: f64,
+    pub model_expanded_uncertainty_percent: f64,
+    pub points: Vec<PointCheck>,
+    pub summary: ReconciliationSummary,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum FitStatus {
+    Fitted,
+    /// Fitted at the lower bound (0): the data want less than no current.
+    AtBound,
+    /// No measurement is sensitive to this circuit: not estimated.
+    Unidentifiable,
+    /// The circuits' effects cannot be told apart at these points.
+    IllConditioned,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct CircuitFit {
+    pub circuit: String,
+    /// Nominal RMS phase current stated for the survey, A.
+    pub stated_a: f64,
+    /// Factor on the stated currents that best explains the measurements.
+    pub scale: Option<f64>,
+    pub fitted_a: Option<f64>,
+    /// One standard uncertainty of `scale` (from the fit's covariance,
+    /// scaled up by the reduced χ² when the scatter exceeds the meter's).
+    pub scale_std_error: Option<f64>,
+    pub status: FitStatus,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct LoadFit {
+    pub circuits: Vec<CircuitFit>,
+    /// RMS of (model − measured) / measured over the fitted points, after the fit.
+    pub residual_rms_relative: f64,
+    /// Reduced χ² with the meter's standard uncertainty (U/2).
+    pub reduced_chi2: Option<f64>,
+    pub iterations: usize,
+    pub converged: bool,
+    pub condition_number: Option<f64>,
+    pub notes: Vec<String>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ExtrapolatedComparison {
+    pub table_id: String,
+    pub ratio: Option<f64>,
+    pub verdict: Verdict,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ExtrapolatedPoint {
+    pub id: String,
+    pub measured_ut: f64,
+    /// Model at rated load / model at the survey's loads, at this point.
+    pub factor: Option<f64>,
+    pub extrapolated_ut: Option<f64>,
+    pub comparisons: Vec<ExtrapolatedComparison>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Extrapolation {
+    pub points: Vec<ExtrapolatedPoint>,
+    pub assumptions: Vec<String>,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SurveyAnalysis {
+    pub measured_at: String,
+    pub reconciliation: Reconciliation,
+    pub load_fit: LoadFit,
+    /// `null` when a circuit has no rated current (named in the notes).
+    pub extrapolation: Option<Extrapolation>,
+    pub notes: Vec<String>,
+    pub cautions: Vec<String>,
+}
+
+fn median(mut v: Vec<f64>) -> Option<f64> {
+    if v.is_empty() {
+        return None;
+    }
+    v.sort_by(f64::total_cmp);
+    let n = v.len();
+    Some(if n % 2 == 1 { v[n / 2] } else { 0.5 * (v[n / 2 - 1] + v[n / 2]) })
+}
+
+fn reconcile(survey: &Survey, gf: &GroupFields) -> Reconciliation {
+    let ones = vec![1.0; gf.b.first().map_or(0, |p| p.len())];
+    let points: Vec<PointCheck> = survey
+        .points
+        .iter()
+        .enumerate()
+        .map(|(i, m)| {
+            let model = (!gf.inside[i]).then(|| resultant_scaled(gf, i, &ones));
+            let allowed =
+                model.map(|c| ((survey.meter_u * m.measured_ut).powi(2) + (survey.model_u * c).powi(2)).sqrt());
+            let difference = model.map(|c| m.measured_ut - c);
+            PointCheck {
+                id: m.id.clone(),
+                at: [m.at.x, m.at.y, m.at.z],
+                measured_ut: m.measured_ut,
+                model_ut: model,
+                ratio: model.filter(|c| *c > 0.0).map(|c| m.measured_ut / c),
+                difference_ut: difference,
+                allowed_difference_ut: allowed,
+                flagged: match (difference, allowed) {
+                    (Some(d), Some(a)) => d.abs() > a,
+                    _ => true,
+                },
+            }
+        })
+        .collect();
+    let ratios: Vec<f64> = points.iter().filter_map(|p| p.ratio).filter(|r| *r > 0.0).collect();
+    let logs: Vec<f64> = ratios.iter().map(|r| r.ln()).collect();
+    let spread = (logs.len() > 1).then(|| {
+        let mean = logs.iter().sum::<f64>() / logs.len() as f64;
+        (logs.iter().map(|l| (l - mean).powi(2)).sum::<f64>() / (logs.len() - 1) as f64).sqrt().exp()
+    });
+    let mut by_badness: Vec<(f64, String)> =
+        points.iter().filter_map(|p| p.ratio.filter(|r| *r > 0.0).map(|r| (r.ln().abs(), p.id.clone()))).collect();
+    by_badness.sort_by(|a, b| b.0.total_cmp(&a.0));
+    Reconciliation {
+        meter_expanded_uncertainty_percent: survey.meter_u * 100.0,
+        model_expanded_uncertainty_percent: survey.model_u * 100.0,
+        summary: ReconciliationSummary {
+            points: points.len(),
+            flagged: points.iter().filter(|p| p.flagged).count(),
+            median_ratio: median(ratios.clone()),
+            min_ratio: ratios.iter().cloned().reduce(f64::min),
+            max_ratio: ratios.iter().cloned().reduce(f64::max),
+            geometric_spread: spread,
+            worst: by_badness.into_iter().take(3).map(|(_, id)| id).collect(),
+        },
+        points,
+    }
+}
+
+/// Sensitivity below which a circuit is not estimated: doubling its current
+/// would move the normalised residuals by less than this many standard
+/// uncertainties in total.
+const MIN_SENSITIVITY: f64 = 1.0e-3;
+/// Condition number of the Jacobian beyond which the fit is ill-conditioned.
+const MAX_CONDITION: f64 = 1.0e8;
+
+/// Levenberg–Marquardt on `r_i(s) = (|B_i(s)| − m_i) / σ_i` with `s ≥ 0`
+/// (projected), over the identifiable circuits; σ_i is the meter's standard
+/// uncertainty (U/2) of each reading.
+fn fit(site: &Site, survey: &Survey, gf: &GroupFields) -> LoadFit {
+    let nc = site.circuits.len();
+    let used: Vec<usize> = (0..survey.points.len()).filter(|&i| !gf.inside[i]).collect();
+    let meds = median(used.iter().map(|&i| survey.points[i].measured_ut).collect()).unwrap_or(1.0).max(1e-12);
+    let sigma: Vec<f64> = used
+        .iter()
+        .map(|&i| {
+            (0.5 * survey.meter_u * survey.points[i].measured_ut).max(1e-3 * meds * 0.5 * survey.meter_u).max(1e-12)
+        })
+        .collect();
+    let m: Vec<f64> = used.iter().map(|&i| survey.points[i].measured_ut).collect();
+    // Sensitivity of each circuit: |∂B/∂s_c| over the points, in σ units.
+    let sens: Vec<f64> = (0..nc)
+        .map(|c| {
+            used.iter()
+                .zip(&sigma)
+                .map(|(&i, s)| {
+                    let own: f64 = gf.b[i][c].iter().map(|b| field::resultant_ut(b).powi(2)).sum::<f64>().sqrt();
+                    (own / s).powi(2)
+                })
+                .sum::<f64>()
+                .sqrt()
+        })
+        .collect();
+    let free: Vec<usize> = (0..nc).filter(|&c| sens[c] >= MIN_SENSITIVITY).collect();
+    let mut s = vec![1.0; nc];
+    let residuals = |s: &[f64]| -> Vec<f64> {
+        used.iter().zip(&m).zip(&sigma).map(|((&i, m), sg)| (resultant_scaled(gf, i, s) - m) / sg).collect()
+    };
+    let cost = |r: &[f64]| r.iter().map(|x| x * x).sum::<f64>();
+    let jacobian = |s: &[f64]| -> DMatrix<f64> {
+        // Analytic: ∂|B|/∂s_c = Re Σ_f conj(B_f)·B_fc / |B|.
+        let mut j = DMatrix::zeros(used.len(), free.len());
+        for (row, (&i, sg)) in used.iter().zip(&sigma).enumerate() {
+            let groups = gf.b[i].len();
+            let lines = gf.line_hz.len();
+            let total: Vec<FieldPhasor> = (0..lines)
+                .map(|f| {
+                    (0..groups).map(|g| gf.b[i][g][f] * nalgebra::Complex::new(*s.get(g).unwrap_or(&1.0), 0.0)).sum()
+                })
+                .collect();
+            let mag = total.iter().map(|b| field::resultant_ut(b).powi(2)).sum::<f64>().sqrt().max(1e-300);
+            for (col, &c) in free.iter().enumerate() {
+                let d: f64 = (0..lines).map(|f| total[f].dotc(&gf.b[i][c][f]).re).sum::<f64>() / mag;
+                j[(row, col)] = d / sg;
+            }
+        }
+        j
+    };
+    let mut notes = Vec::new();
+    let (mut iterations, mut converged) = (0, free.is_empty());
+    let mut r = residuals(&s);
+    let mut c0 = cost(&r);
+    let mut lambda = 1e-3;
+    while !free.is_empty() && iterations < 500 {
+        iterations += 1;
+        let j = jacobian(&s);
+        let jtj = j.transpose() * &j;
+        let g = j.transpose() * DVector::from_column_slice(&r);
+        let mut improved = false;
+        // Projected steps: a circuit held at 0 whose gradient pushes it
+        // further down stays out of this step.
+        let active: Vec<usize> = (0..free.len()).filter(|&k| !(s[free[k]] == 0.0 && g[k] > 0.0)).collect();
+        if active.is_empty() {
+            converged = true;
+            break;
+        }
+        for _ in 0..30 {
+            let n = active.len();
+            let mut a = DMatrix::zeros(n, n);
+            let mut rhs = DVector::zeros(n);
+            for (x, &kx) in active.iter().enumerate() {
+                rhs[x] = -g[kx];
+                for (y, &ky) in active.iter().enumerate() {
+                    a[(x, y)] = jtj[(kx, ky)];
+                }
+                a[(x, x)] += lambda * jtj[(kx, kx)].max(1e-12);
+            }
+            let Some(step) = a.lu().solve(&rhs) else { break };
+            let mut trial = s.clone();
+            for (x, &k) in active.iter().enumerate() {
+                let c = free[k];
+                trial[c] = (s[c] + step[x]).max(0.0);
+            }
+            let rt = residuals(&trial);
+            let ct = cost(&rt);
+            if ct <= c0 {
+                let change = free.iter().map(|&c| (trial[c] - s[c]).abs()).fold(0.0, f64::max);
+                let rel = (c0 - ct) / c0.max(1e-300);
+                s = trial;
+                r = rt;
+                c0 = ct;
+                lambda = (lambda / 3.0).max(1e-12);
+                improved = true;
+                if change < 1e-11 || rel < 1e-13 || c0 < 1e-26 {
+                    converged = true;
+                }
+                break;
+            }
+            lambda *= 4.0;
+        }
+        if !improved {
+            converged = true;
+        }
+        if converged {
+            break;
+        }
+    }
+    let dof = used.len() as f64 - free.len() as f64;
+    let chi2 = (dof > 0.0).then(|| c0 / dof);
+    let j = jacobian(&s);
+    let svd = j.clone().svd(false, false);
+    let (smax, smin) = (svd.singular_values.max(), svd.singular_values.min());
+    let condition = (!free.is_empty()).then(|| if smin > 0.0 { smax / smin } else { f64::INFINITY });
+    let ill = condition.is_some_and(|c| c.is_nan() || c > MAX_CONDITION);
+    if ill {
+        notes.push("the circuits' effects cannot be told apart at these measurement points: add points where one circuit dominates".into());
+    }
+    let cov = (j.transpose() * &j).try_inverse();
+    let inflate = chi2.map_or(1.0, |c| c.max(1.0));
+    let circuits = site
+        .circuits
+        .iter()
+        .enumerate()
+        .map(|(c, circ)| {
+            let stated = circ.nominal_current_a(survey.loads[c]);
+            let col = free.iter().position(|&f| f == c);
+            match col {
+                None => CircuitFit {
+                    circuit: circ.id.clone(),
+                    stated_a: stated,
+                    scale: None,
+                    fitted_a: None,
+                    scale_std_error: None,
+                    status: FitStatus::Unidentifiable,
+                },
+                Some(k) => {
+                    let se = cov.as_ref().map(|cv| (cv[(k, k)].max(0.0) * inflate).sqrt()).filter(|v| v.is_finite());
+                    let status = if ill {
+                        FitStatus::IllConditioned
+                    } else if s[c] == 0.0 {
+                        FitStatus::AtBound
+                    } else {
+                        FitStatus::Fitted
+                    };
+                    let scale = (!ill).then_some(s[c]);
+                    CircuitFit {
+                        circuit: circ.id.clone(),
+                        stated_a: stated,
+                        scale,
+                        fitted_a: scale.map(|x| x * stated),
+                        scale_std_error: if ill { None } else { se },
+                        status,
+                    }
+                }
+            }
+        })
+        .collect::<Vec<_>>();
+    for c in circuits.iter().filter(|c| c.scale_std_error.is_some_and(|e| e > 0.5)) {
+        notes.push(format!(
+            "circuit '{}' is poorly determined by these points (± {:.2} on its scale): measure nearer to it",
+            c.circuit,
+            c.scale_std_error.unwrap_or(0.0)
+        ));
+    }
+    for c in circuits.iter().filter(|c| c.status == FitStatus::Unidentifiable) {
+        notes.push(format!(
+            "circuit '{}' has no measurable effect at any measurement point: its load is not estimated",
+            c.circuit
+        ));
+    }
+    let rel: Vec<f64> = used.iter().zip(&m).map(|(&i, m)| (resultant_scaled(gf, i, &s) - m) / m.max(1e-300)).collect();
+    LoadFit {
+        circuits,
+        residual_rms_relative: if rel.is_empty() {
+            0.0
+        } else {
+            (rel.iter().map(|x| x * x).sum::<f64>() / rel.len() as f64).sqrt()
+        },
+        reduced_chi2: chi2,
+        iterations,
+        converged,
+        condition_number: condition.filter(|c| c.is_finite()),
+        notes,
+    }
+}
+
+/// Assumptions of the extrapolation, stated with every result.
+pub const EXTRAPOLATION_ASSUMPTIONS: [&str; 4] = [
+    "Each measured value is scaled by the model's ratio of the field at rated load to the field at the survey's loads at that point, so each circuit's share at that point counts (no single global factor).",
+    "Geometry, phase angles and harmonic content are as modelled; only the currents change.",
+    "The measured value carries the model's error at the survey's loads proportionally to rated load.",
+    "Circuits without a stated survey load are taken at their present current_a.",
+];
+
+fn extrapolate(
+    site: &Site,
+    survey: &Survey,
+    gf: &GroupFields,
+    tables: &[ReferenceTable],
+    review_fraction: f64,
+) -> Option<Extrapolation> {
+    let rated: Option<Vec<CircuitLoad>> =
+        site.circuits.iter().map(|c| c.rated_current_a.map(CircuitLoad::CurrentA)).collect();
+    let rated = rated?;
+    let points: Vec<nalgebra::Point3<f64>> = survey.points.iter().map(|m| m.at).collect();
+    let at_rated = group_fields(site, &points, &rated);
+    let ones = vec![1.0; site.circuits.len() + 1];
+    let whole_body: Vec<&ReferenceTable> = tables
+        .iter()
+        .filter(|t| t.applies_to().body_region == crate::limits::TableBodyRegion::WholeBody)
+        .filter(|t| t.applies_to().population != crate::limits::Population::ImplantWearers)
+        .collect();
+    let out = survey
+        .points
+        .iter()
+        .enumerate()
+        .map(|(i, m)| {
+            let now = (!gf.inside[i]).then(|| resultant_scaled(gf, i, &ones)).filter(|b| *b > 0.0);
+            let full = resultant_scaled(&at_rated, i, &ones);
+            let factor = now.map(|b| full / b);
+            let extrapolated = factor.map(|f| m.measured_ut * f);
+            // Spectrum at rated load, scaled to the measurement.
+            let spectrum: Vec<(f64, f64)> = match now {
+                Some(b_now) => at_rated
+                    .line_hz
+                    .iter()
+                    .enumerate()
+                    .map(|(f, hz)| {
+                        let b: FieldPhasor = at_rated.b[i].iter().map(|g| g[f]).sum();
+                        (*hz, field::resultant_ut(&b) * m.measured_ut / b_now)
+                    })
+                    .collect(),
+                None => Vec::new(),
+            };
+            let comparisons = whole_body
+                .iter()
+                .map(|t| {
+                    if extrapolated.is_none() {
+                        return ExtrapolatedComparison {
+                            table_id: t.id().into(),
+                            ratio: None,
+                            verdict: Verdict::NotComputed,
+                        };
+                    }
+                    let r = ratio_of(&spectrum, t);
+                    ExtrapolatedComparison {
+                        table_id: t.id().into(),
+                        ratio: r.ratio,
+                        verdict: r.verdict(review_fraction),
+                    }
+                })
+                .collect();
+            ExtrapolatedPoint {
+                id: m.id.clone(),
+                measured_ut: m.measured_ut,
+                factor,
+                extrapolated_ut: extrapolated,
+                comparisons,
+            }
+        })
+        .collect();
+    Some(Extrapolation { points: out, assumptions: EXTRAPOLATION_ASSUMPTIONS.iter().map(|s| s.to_string()).collect() })
+}
+
+/// Reconciles, fits and extrapolates a survey of `site`.
+pub fn analyse(
+    site: &Site,
+    survey: &Survey,
+    tables: &[ReferenceTable],
+    review_fraction: f64,
+) -> Result<SurveyAnalysis, Problems> {
+    let points: Vec<nalgebra::Point3<f64>> = survey.points.iter().map(|m| m.at).collect();
+    let gf = group_fields(site, &points, &survey.loads);
+    let reconciliation = reconcile(survey, &gf);
+    let load_fit = fit(site, survey, &gf);
+    let extrapolation = extrapolate(site, survey, &gf, tables, review_fraction);
+    let mut notes = Vec::new();
+    if extrapolation.is_none() {
+        let missing: Vec<&str> =
+            site.circuits.iter().filter(|c| c.rated_current_a.is_none()).map(|c| c.id.as_str()).collect();
+        notes.push(format!("no extrapolation: circuits without rated_current_a: {}", missing.join(", ")));
+    }
+    let unstated: Vec<&str> =
+        site.circuits.iter().zip(&survey.load_stated).filter(|(_, s)| !**s).map(|(c, _)| c.id.as_str()).collect();
+    if !unstated.is_empty() {
+        notes.push(format!("survey loads not stated for {}: taken at their present current_a", unstated.join(", ")));
+    }
+    if gf.inside.iter().any(|x| *x) {
+        notes.push(
+            "some measurement points lie inside a conductor in the model: they are flagged and left out of the fit"
+                .into(),
+        );
+    }
+    Ok(SurveyAnalysis {
+        measured_at: survey.measured_at.clone(),
+        reconciliation,
+        load_fit,
+        extrapolation,
+        notes,
+        cautions: cautions(),
+    })
+}

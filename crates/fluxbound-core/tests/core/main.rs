@@ -1,0 +1,19 @@
+#![allow(clippy::disallowed_methods, clippy::disallowed_types)] // tests read fixtures and run `cargo metadata`
+
+//! The pure core's tests, in one binary (one link instead of six).
+//!
+//! - `engine`: closed forms, magpylib conformance, invariants, variants;
+//! - `site`: one test per validation rule, current conventions;
+//! - `limits`: built-in table values, band edges, custom tables;
+//! - `assess`: hand-computable assessments;
+//! - `report`: contours, distances, pictures, exports, geodesy;
+//! - `survey`: synthetic surveys, fit, extrapolation, CSV rows;
+//! - `layering`: the core's dependency graph is pure (from `cargo metadata`).
+
+mod assess;
+mod engine;
+mod layering;
+mod limits;
+mod report;
+mod site;
+mod survey;

@@ -1,0 +1,293 @@
+//! Pictures and exports, checked against closed forms (Source: OpenStax
+//! University Physics Vol. 2 §12.2, B = 0.2 · I / R µT; REFERENCES.md "D" for
+//! the antiparallel pair), an outside geodesy library, and general-purpose
+//! parsers and renderers.
+
+use fluxbound_core::assess::{self, AreaMap, Assessment, GridSpec, LoadCase, Options};
+use fluxbound_core::limits::builtin_table;
+use fluxbound_core::mitigate::{Direction, Origin, distance_to_level};
+use fluxbound_core::report::{contour, csv as csv_export, geo, geojson, palette, svg};
+use fluxbound_core::site::wire::GeoreferenceDoc;
+use fluxbound_core::site::{CircuitLoad, Site, parse_site};
+use nalgebra::{Point3, Unit, Vector3};
+use serde_json::{Value, json};
+
+const L: f64 = 10_000.0;
+
+/// A vertical long wire through the origin carrying `current_a`, and a
+/// square area of half-side `half_m` around it at z = 0.
+fn vertical_wire_site(current_a: f64, half_m: f64, spacing_m: f64) -> Site {
+    parse_site(
+        &json!({
+            "name": "vertical wire",
+            "frequency_hz": 50,
+            "circuits": [{"id": "v", "kind": "single_phase", "current_a": current_a}],
+            "conductors": [{"id": "v-A", "circuit": "v", "phase": "A", "radius_m": 0.02, "path": [[0.0, 0.0, -L], [0.0, 0.0, L]]}],
+            "positions": [{"id": "near", "at": [0.3, 0.0, 0.0]}, {"id": "far", "at": [-1.9, -1.9, 0.0]}],
+            "areas": [{"id": "floor", "polygon": [[-half_m, -half_m], [half_m, -half_m], [half_m, half_m], [-half_m, half_m]], "height_m": 0.0, "spacing_m": spacing_m}]
+        })
+        .to_string(),
+    )
+    .unwrap()
+}
+
+fn tables(ids: &[&str]) -> Vec<fluxbound_core::limits::ReferenceTable> {
+    ids.iter().map(|id| builtin_table(id).unwrap().clone()).collect()
+}
+
+fn map_and_result(site: &Site, ids: &[&str]) -> (AreaMap, Assessment) {
+    let t = tables(ids);
+    let map = assess::area_map(site, &LoadCase::Present, &t, 0, 40_000).unwrap();
+    let result = assess::assess(site, &LoadCase::Present, &t, &Options::default()).unwrap();
+    (map, result)
+}
+
+#[test]
+fn the_contour_at_a_level_around_a_long_wire_is_a_circle_of_radius_point_two_i_over_b() {
+    // 5000 A: B = 1000 µT at r = 0.2 · 5000 / 1000 = 1.0 m.
+    let site = vertical_wire_site(5000.0, 2.0, 0.02);
+    let (map, _) = map_and_result(&site, &["icnirp-2010-occupational"]);
+    let lines = contour::isolines(&map.grid, &map.b_ut, &map.inside_conductor, 1000.0);
+    let circle = lines.iter().max_by_key(|l| l.points.len()).unwrap();
+    assert!(circle.closed, "the circle lies inside the grid, so it closes");
+    for p in &circle.points {
+        let r = p[0].hypot(p[1]);
+        assert!((r - 1.0).abs() < map.grid.spacing_m, "r = {r}");
+    }
+    // Linear interpolation of 1/r between nodes 0.02 m apart errs far less
+    // than a spacing; check the mean radius tightly (1e-3 m).
+    let mean: f64 = circle.points.iter().map(|p| p[0].hypot(p[1])).sum::<f64>() / circle.points.len() as f64;
+    assert!((mean - 1.0).abs() < 1e-3, "mean r = {mean}");
+    // The zone ring is the same circle; the ratio contour of the table too.
+    let ratio: Vec<f64> = map.tables[0].ratio.iter().map(|r| r.unwrap()).collect();
+    let by_ratio = contour::isolines(&map.grid, &ratio, &map.inside_conductor, 1.0);
+    assert_eq!(by_ratio.iter().map(|l| l.points.len()).max(), Some(circle.points.len()));
+}
+
+fn tiny_grid(nx: usize, ny: usize) -> GridSpec {
+    GridSpec { x0_m: 0.0, y0_m: 0.0, spacing_m: 1.0, nx, ny }
+}
+
+#[test]
+fn a_saddle_cell_is_split_by_its_centre_value_and_its_two_lines_never_cross() {
+    // Corners (0,0)=1, (1,0)=0, (1,1)=1, (0,1)=0: a saddle with mean 0.5.
+    let g = tiny_grid(2, 2);
+    let values = [1.0, 0.0, 0.0, 1.0]; // row-major: (0,0), (1,0), (0,1), (1,1)
+    let inside = [false; 4];
+    // Level 0.4: the centre is above, so the high corners connect and the
+    // two lines cut off the low corners (1,0) and (0,1).
+    let lines = contour::isolines(&g, &values, &inside, 0.4);
+    assert_eq!(lines.len(), 2);
+    let near = |l: &contour::Polyline, c: [f64; 2]| l.points.iter().all(|p| (p[0] - c[0]).hypot(p[1] - c[1]) < 0.71);
+    let (low_a, low_b) = ([1.5, 0.5], [0.5, 1.5]);
+    assert!(lines.iter().any(|l| near(l, low_a)) && lines.iter().any(|l| near(l, low_b)), "{lines:?}");
+    // Level 0.6: the centre is below, so the lines cut off the high corners.
+    let lines = contour::isolines(&g, &values, &inside, 0.6);
+    let (high_a, high_b) = ([0.5, 0.5], [1.5, 1.5]);
+    assert!(lines.iter().any(|l| near(l, high_a)) && lines.iter().any(|l| near(l, high_b)), "{lines:?}");
+}
+
+#[test]
+fn a_node_inside_a_conductor_counts_as_above_every_level_so_its_zone_closes_around_it() {
+    let g = tiny_grid(3, 3);
+    let values = [0.0; 9];
+    let mut inside = [false; 9];
+    inside[4] = true; // the centre node
+    let lines = contour::isolines(&g, &values, &inside, 1.0);
+    assert_eq!(lines.len(), 1);
+    assert!(lines[0].closed);
+    for p in &lines[0].points {
+        let d = (p[0] - 1.5).hypot(p[1] - 1.5);
+        assert!(d > 0.0 && d <= 1.0, "{p:?}");
+    }
+}
+
+#[test]
+fn zone_rings_close_along_the_edge_of_the_grid() {
+    // A field high on the whole left column: the zone reaches the edge.
+    let g = tiny_grid(3, 2);
+    let values = [5.0, 0.0, 0.0, 5.0, 0.0, 0.0];
+    let rings = contour::zone_rings(&g, &values, &[false; 6], 1.0);
+    assert_eq!(rings.len(), 1);
+    assert!(rings[0].closed);
+    let open = contour::isolines(&g, &values, &[false; 6], 1.0);
+    assert!(!open[0].closed, "the plain contour stays open at the edge");
+}
+
+#[test]
+fn the_distance_to_a_level_from_a_single_wire_is_point_two_i_over_b() {
+    // 2000 A, level 100 µT → 0.2 · 2000 / 100 = 4.0 m from the axis.
+    let site = vertical_wire_site(2000.0, 2.0, 0.5);
+    let loads = vec![CircuitLoad::PRESENT];
+    let from = Origin::Conductor("v-A".into()).locate(&site, &loads).unwrap();
+    let east = Direction::Along(Unit::new_normalize(Vector3::new(1.0, 0.0, 0.0)));
+    let r = distance_to_level(&site, &loads, from, east, 100.0);
+    // Tolerance: the bisection's 1e-4 m plus the finite length, (R/L)² ≈ 2e-7.
+    assert!((r.distance_m.unwrap() - 4.0).abs() < 2e-4, "{r:?}");
+    assert_eq!(r.b_at_origin_ut, None, "the origin is on the conductor's axis");
+    let shortest = distance_to_level(&site, &loads, from, Direction::Shortest, 100.0);
+    assert!((shortest.distance_m.unwrap() - 4.0).abs() < 2e-4);
+    // From a point already below the level the distance is zero.
+    let far = distance_to_level(&site, &loads, Point3::new(10.0, 0.0, 0.0), east, 100.0);
+    assert_eq!(far.distance_m, Some(0.0));
+}
+
+#[test]
+fn the_distance_to_a_level_from_a_go_and_return_pair_follows_the_exact_two_wire_form() {
+    // Derived (REFERENCES.md, D): |B| = µ0 I d / (2π r1 r2); from the
+    // midpoint along y, r1 = r2 = sqrt(d²/4 + y²), so B = 0.2 I d / (d²/4 + y²)
+    // and the distance to B is y = sqrt(0.2 I d / B − d²/4).
+    let (i, d, level) = (1500.0, 0.4, 20.0);
+    let site = parse_site(
+        &json!({
+            "frequency_hz": 50,
+            "circuits": [{"id": "pair", "kind": "single_phase", "current_a": i}],
+            "conductors": [
+                {"id": "go", "circuit": "pair", "phase": "A", "radius_m": 0.01, "path": [[-d / 2.0, 0.0, -L], [-d / 2.0, 0.0, L]]},
+                {"id": "return", "circuit": "pair", "phase": "N", "radius_m": 0.01, "path": [[d / 2.0, 0.0, -L], [d / 2.0, 0.0, L]]}
+            ]
+        })
+        .to_string(),
+    )
+    .unwrap();
+    let loads = vec![CircuitLoad::PRESENT];
+    let along_y = Direction::Along(Unit::new_normalize(Vector3::new(0.0, 1.0, 0.0)));
+    let r = distance_to_level(&site, &loads, Point3::origin(), along_y, level);
+    let expected = (0.2 * i * d / level - d * d / 4.0).sqrt();
+    assert!((r.distance_m.unwrap() - expected).abs() < 2e-4, "{} vs {expected}", r.distance_m.unwrap());
+}
+
+#[test]
+fn the_svg_map_renders_with_the_high_colour_near_the_wire_and_the_low_colour_far_away() {
+    let site = vertical_wire_site(5000.0, 2.0, 0.05);
+    let (map, result) = map_and_result(&site, &["icnirp-2010-occupational"]);
+    let text = svg::area_map_svg(&site, &result, &map);
+    assert!(text.contains("Resultant flux density") && text.contains("µT RMS, log scale"), "legend");
+    assert!(text.contains("licensed or otherwise qualified assessors"), "cautions");
+    assert!(text.contains("near: exceeds"), "position verdicts");
+    let tree = resvg::usvg::Tree::from_str(&text, &resvg::usvg::Options::default()).expect("the SVG parses");
+    let size = tree.size().to_int_size();
+    let mut pixmap = resvg::tiny_skia::Pixmap::new(size.width(), size.height()).unwrap();
+    resvg::render(&tree, resvg::tiny_skia::Transform::default(), &mut pixmap.as_mut());
+    let range = svg::colour_range(&map);
+    let pixel = |x: f64, y: f64| {
+        let (px, py) = svg::plan_to_px(&map, x, y);
+        let c = pixmap.pixel(px.round() as u32, py.round() as u32).unwrap();
+        [c.red(), c.green(), c.blue()]
+    };
+    let close = |a: [u8; 3], b: [u8; 3]| a.iter().zip(b).all(|(x, y)| (i16::from(*x) - i16::from(y)).abs() <= 12);
+    // Far corner: the lowest field of the area, the scale's low end.
+    let low = pixel(1.95, 1.95 - 0.5);
+    let b_low = 1000.0 / 1.95f64.hypot(1.45);
+    assert!(close(low, palette::colour(svg::scale_position(b_low, range))), "{low:?}");
+    assert!(svg::scale_position(b_low, range) < 0.1);
+    // Next to the wire (0.1 m off the axis, outside its 0.02 m radius): the high end.
+    let high = pixel(0.1, 0.12);
+    let b_high = 1000.0 / 0.1f64.hypot(0.12);
+    assert!(close(high, palette::colour(svg::scale_position(b_high, range))), "{high:?}");
+    assert!(svg::scale_position(b_high, range) > 0.5);
+    assert!(palette::luminance(high) < 0.5 * palette::luminance(low), "high field is drawn darker");
+    // Independently of the scale's own functions: the far corner renders
+    // light and the cell next to the wire dark (relative luminance, IEC
+    // 61966-2-1 weights).
+    assert!(palette::luminance(low) > 0.6, "{low:?}");
+    assert!(palette::luminance(high) < 0.3, "{high:?}");
+}
+
+#[test]
+fn the_colour_scale_gets_darker_steadily_so_it_reads_in_grey() {
+    let lum: Vec<f64> = (0..=100).map(|k| palette::luminance(palette::colour(k as f64 / 100.0))).collect();
+    assert!(lum.windows(2).all(|w| w[1] < w[0]), "luminance falls monotonically");
+    assert!(lum[0] > 0.8 && lum[100] < 0.05);
+}
+
+#[test]
+fn the_csv_parses_and_carries_the_numbers_of_the_json_result() {
+    let site = vertical_wire_site(1000.0, 2.0, 0.25);
+    let (_, result) = map_and_result(&site, &["icnirp-2010-occupational", "eu-2013-35-high"]);
+    let text = csv_export::positions_csv(&result);
+    let mut reader = csv::Reader::from_reader(text.as_bytes());
+    let headers: Vec<String> = reader.headers().unwrap().iter().map(String::from).collect();
+    assert_eq!(headers, csv_export::CSV_HEADER);
+    let rows: Vec<csv::StringRecord> = reader.records().map(|r| r.unwrap()).collect();
+    assert_eq!(rows.len(), 2 * 2, "2 positions × 1 point × 2 tables");
+    let json = serde_json::to_value(&result).unwrap();
+    let near = &json["positions"][0]["heights"][0];
+    let row = &rows[0];
+    assert_eq!(&row[2], "near");
+    assert_eq!(row[9].parse::<f64>().unwrap(), near["resultant_ut"].as_f64().unwrap());
+    assert_eq!(row[14].parse::<f64>().unwrap(), near["comparisons"][0]["ratio"].as_f64().unwrap());
+    assert_eq!(&row[15], near["comparisons"][0]["verdict"].as_str().unwrap());
+    // 0.2 · 1000 / 0.3 = 666.67 µT (OpenStax §12.2).
+    assert!((row[9].parse::<f64>().unwrap() - 200.0 / 0.3).abs() < 1e-4);
+}
+
+#[test]
+fn the_geojson_is_a_feature_collection_with_the_same_numbers_in_the_local_frame() {
+    let site = vertical_wire_site(5000.0, 2.0, 0.05);
+    let (map, result) = map_and_result(&site, &["icnirp-2010-occupational"]);
+    let doc: Value = serde_json::from_str(&geojson::assessment_geojson(&site, &result, &[map]).to_string()).unwrap();
+    assert_eq!(doc["type"], "FeatureCollection");
+    assert_eq!(doc["coordinate_frame"], "site-local-metres");
+    let features = doc["features"].as_array().unwrap();
+    fn kind<'a>(features: &'a [Value], k: &'a str) -> impl Iterator<Item = &'a Value> + 'a {
+        features.iter().filter(move |f| f["properties"]["kind"] == k)
+    }
+    let near = kind(features, "position").find(|f| f["properties"]["id"] == "near").unwrap();
+    assert_eq!(near["geometry"]["coordinates"], json!([0.3, 0.0, 0.0]));
+    assert_eq!(near["properties"]["max_resultant_ut"], json!(result.positions[0].max_resultant_ut));
+    let zone = kind(features, "zone").find(|f| f["properties"]["threshold"] == "level").unwrap();
+    let ring = &zone["geometry"]["coordinates"][0][0];
+    let pts: Vec<[f64; 2]> =
+        ring.as_array().unwrap().iter().map(|p| [p[0].as_f64().unwrap(), p[1].as_f64().unwrap()]).collect();
+    // RFC 7946 §3.1.6: exterior rings counter-clockwise; the zone is the
+    // 1 m disc (0.2 · 5000 / 1000 µT), area π within one grid spacing band.
+    assert!(contour::signed_area2(&pts) > 0.0);
+    let area = contour::signed_area2(&pts) / 2.0;
+    assert!((area - std::f64::consts::PI).abs() < 2.0 * std::f64::consts::PI * 0.05, "{area}");
+    assert_eq!(kind(features, "conductor").count(), 1);
+}
+
+#[test]
+fn the_tangent_plane_conversion_agrees_with_geographiclib_to_the_documented_accuracy() {
+    // Source: tests/conformance/geographiclib (GeographicLib geodesic direct
+    // problem on WGS 84). Documented accuracy (src/report/geo.rs): 0.25 m
+    // within 1 km, 1 m within 3 km, latitudes up to 60°.
+    let fixture: Value = serde_json::from_str(include_str!("../../conformance/geographiclib/fixture.json")).unwrap();
+    let mut worst = 0.0f64;
+    for c in fixture["cases"].as_array().unwrap() {
+        let f = |k: &str| c[k].as_f64().unwrap();
+        let g = GeoreferenceDoc {
+            origin_lon_deg: f("origin_lon_deg"),
+            origin_lat_deg: f("origin_lat_deg"),
+            y_axis_bearing_deg: f("y_axis_bearing_deg"),
+        };
+        let [lon, lat] = geo::to_lon_lat(&g, f("x_m"), f("y_m"));
+        let phi = f("lat_deg").to_radians();
+        let north_err = (lat - f("lat_deg")).to_radians() * 6_367_000.0;
+        let east_err = (lon - f("lon_deg")).to_radians() * 6_378_137.0 * phi.cos();
+        let err = north_err.hypot(east_err);
+        let bound = if f("distance_m") <= 1000.0 { 0.25 } else { 1.0 };
+        assert!(err < bound, "{c}: {err} m");
+        worst = worst.max(err);
+    }
+    eprintln!("tangent-plane vs GeographicLib: worst {worst:.3} m");
+}
+
+#[test]
+fn a_georeferenced_site_exports_longitude_and_latitude() {
+    let mut doc: Value = serde_json::from_str(
+        &std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/../../examples/site-switch-room.json")).unwrap(),
+    )
+    .unwrap();
+    doc["georeference"] = json!({"origin_lon_deg": 9.19, "origin_lat_deg": 45.46, "y_axis_bearing_deg": 0});
+    let site = parse_site(&doc.to_string()).unwrap();
+    let t = tables(&["icnirp-2010-occupational"]);
+    let result = assess::assess(&site, &LoadCase::Present, &t, &Options::default()).unwrap();
+    let out = geojson::assessment_geojson(&site, &result, &[]);
+    assert_eq!(out["coordinate_frame"], "wgs84-lon-lat");
+    let p = out["features"].as_array().unwrap().iter().find(|f| f["properties"]["id"] == "desk-1").unwrap();
+    let lon = p["geometry"]["coordinates"][0].as_f64().unwrap();
+    let lat = p["geometry"]["coordinates"][1].as_f64().unwrap();
+    assert!((lon - 9.19).abs() < 0.001 && (lat - 45.46).abs() < 0.001, "{lon} {lat}");
+}
