@@ -437,13 +437,13 @@ fn survey_command(
     let (ids, at) = limits::choose_table_ids(
         vec![
             (table_ids, root.key("--tables")),
-            (checked.tables.clone(), root.key("tables")),
+            (checked.tables().to_vec(), root.key("tables")),
             (site.tables.clone(), root.key("tables")),
         ],
         root.key("tables"),
     );
     let tables = limits::resolve_tables(&ids, &[], &at).map_err(CliError::Problems)?;
-    let analysis = survey::analyse(&site, &checked, &tables, 0.5).map_err(CliError::Problems)?;
+    let analysis = survey::analyse(&checked, &tables, 0.5).map_err(CliError::Problems)?;
     match format {
         Format::Json => write_json(out, &analysis)?,
         Format::Table => {

@@ -25,7 +25,7 @@ impl Service {
         let survey = validate_survey(&doc, &site).map_err(ServiceError::Validation)?;
         let segments = super::bounds::segment_count(&site) as u64;
         // Field at the survey's loads, at rated load, and the fit's matrix.
-        let pairs = 3 * segments * survey.points.len() as u64;
+        let pairs = 3 * segments * survey.points().len() as u64;
         if pairs > self.limits().max_pairs {
             let mut p = Problems::default();
             p.push(
@@ -36,12 +36,11 @@ impl Service {
         }
         let root = Pointer::root();
         let (ids, at) = choose_table_ids(
-            vec![(survey.tables.clone(), root.key("tables")), (site.tables.clone(), root.key("site").key("tables"))],
+            vec![(survey.tables().to_vec(), root.key("tables")), (site.tables.clone(), root.key("site").key("tables"))],
             root.key("tables"),
         );
         let (tables, _) = self.resolve_tables(caller, &ids, &at).await?;
-        let analysis =
-            self.compute(move || analyse(&site, &survey, &tables, 0.5)).await?.map_err(ServiceError::Validation)?;
+        let analysis = self.compute(move || analyse(&survey, &tables, 0.5)).await?.map_err(ServiceError::Validation)?;
         self.count_pairs(pairs);
         let row = self
             .store()

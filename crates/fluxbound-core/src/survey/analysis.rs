@@ -5,13 +5,13 @@
 //! the survey's loads, per frequency, so that scaling a circuit is a
 //! multiplication, not a new field computation.
 
-use super::Survey;
+use super::{Survey, lm};
 use crate::assess::{Verdict, ratio_of};
 use crate::cautions::cautions;
 use crate::field::{self, FieldPhasor, influence_matrix};
 use crate::limits::ReferenceTable;
 use crate::site::{CircuitLoad, Drive, Problems, Site, excitation_of};
-use nalgebra::{DMatrix, DVector};
+use nalgebra::DMatrix;
 use serde::{Deserialize, Serialize};
 
 /// Per point and frequency, the phasor of each group: circuits in site order,
@@ -242,26 +242,49 @@ fn reconcile(survey: &Survey, gf: &GroupFields) -> Reconciliation {
 const MIN_SENSITIVITY: f64 = 1.0e-3;
 /// Condition number of the Jacobian beyond which the fit is ill-conditioned.
 const MAX_CONDITION: f64 = 1.0e8;
+/// Floor on a reading's standard uncertainty, as a fraction of the median
+/// reading's: a zero or tiny reading would otherwise get σ → 0 and an
+/// unbounded weight.
+const SIGMA_FLOOR_OF_MEDIAN: f64 = 1e-3;
+/// A fitted scale whose standard uncertainty exceeds this (dimensionless,
+/// ±50 % of the stated load) is reported as poorly determined.
+const POORLY_DETERMINED_SCALE_ERROR: f64 = 0.5;
 
-/// Levenberg–Marquardt on `r_i(s) = (|B_i(s)| − m_i) / σ_i` with `s ≥ 0`
-/// (projected), over the identifiable circuits; σ_i is the meter's standard
-/// uncertainty (U/2) of each reading.
-fn fit(site: &Site, survey: &Survey, gf: &GroupFields) -> LoadFit {
-    let nc = site.circuits.len();
+/// The readings the fit uses (points outside every conductor) with their
+/// standard uncertainties.
+struct Observations {
+    /// Index of each used point in the survey.
+    used: Vec<usize>,
+    /// Measured resultant, µT RMS.
+    measured_ut: Vec<f64>,
+    /// Standard (k = 1) uncertainty of each reading, µT: half the meter's
+    /// expanded (k = 2) uncertainty.
+    sigma_ut: Vec<f64>,
+}
+
+fn observations(survey: &Survey, gf: &GroupFields) -> Observations {
     let used: Vec<usize> = (0..survey.points.len()).filter(|&i| !gf.inside[i]).collect();
     let meds = median(used.iter().map(|&i| survey.points[i].measured_ut).collect()).unwrap_or(1.0).max(1e-12);
-    let sigma: Vec<f64> = used
+    let sigma_ut = used
         .iter()
         .map(|&i| {
-            (0.5 * survey.meter_u * survey.points[i].measured_ut).max(1e-3 * meds * 0.5 * survey.meter_u).max(1e-12)
+            (0.5 * survey.meter_u * survey.points[i].measured_ut)
+                .max(SIGMA_FLOOR_OF_MEDIAN * meds * 0.5 * survey.meter_u)
+                .max(1e-12)
         })
         .collect();
-    let m: Vec<f64> = used.iter().map(|&i| survey.points[i].measured_ut).collect();
-    // Sensitivity of each circuit: |∂B/∂s_c| over the points, in σ units.
-    let sens: Vec<f64> = (0..nc)
+    let measured_ut = used.iter().map(|&i| survey.points[i].measured_ut).collect();
+    Observations { used, measured_ut, sigma_ut }
+}
+
+/// Sensitivity of each circuit: |∂B/∂s_c| over the used points, in σ units
+/// (root sum of squares).
+fn sensitivities(gf: &GroupFields, obs: &Observations, circuits: usize) -> Vec<f64> {
+    (0..circuits)
         .map(|c| {
-            used.iter()
-                .zip(&sigma)
+            obs.used
+                .iter()
+                .zip(&obs.sigma_ut)
                 .map(|(&i, s)| {
                     let own: f64 = gf.b[i][c].iter().map(|b| field::resultant_ut(b).powi(2)).sum::<f64>().sqrt();
                     (own / s).powi(2)
@@ -269,17 +292,33 @@ fn fit(site: &Site, survey: &Survey, gf: &GroupFields) -> LoadFit {
                 .sum::<f64>()
                 .sqrt()
         })
-        .collect();
-    let free: Vec<usize> = (0..nc).filter(|&c| sens[c] >= MIN_SENSITIVITY).collect();
-    let mut s = vec![1.0; nc];
-    let residuals = |s: &[f64]| -> Vec<f64> {
-        used.iter().zip(&m).zip(&sigma).map(|((&i, m), sg)| (resultant_scaled(gf, i, s) - m) / sg).collect()
-    };
-    let cost = |r: &[f64]| r.iter().map(|x| x * x).sum::<f64>();
-    let jacobian = |s: &[f64]| -> DMatrix<f64> {
-        // Analytic: ∂|B|/∂s_c = Re Σ_f conj(B_f)·B_fc / |B|.
-        let mut j = DMatrix::zeros(used.len(), free.len());
-        for (row, (&i, sg)) in used.iter().zip(&sigma).enumerate() {
+        .collect()
+}
+
+/// The load fit as a least-squares problem: `r_i(s) = (|B_i(s)| − m_i) / σ_i`
+/// over the used points, with one column per free circuit.
+struct LoadProblem<'a> {
+    gf: &'a GroupFields,
+    obs: &'a Observations,
+    free: &'a [usize],
+}
+
+impl lm::Problem for LoadProblem<'_> {
+    fn residuals(&self, s: &[f64]) -> Vec<f64> {
+        let o = self.obs;
+        o.used
+            .iter()
+            .zip(&o.measured_ut)
+            .zip(&o.sigma_ut)
+            .map(|((&i, m), sg)| (resultant_scaled(self.gf, i, s) - m) / sg)
+            .collect()
+    }
+
+    /// Analytic: ∂|B|/∂s_c = Re Σ_f conj(B_f)·B_fc / |B|.
+    fn jacobian(&self, s: &[f64]) -> DMatrix<f64> {
+        let gf = self.gf;
+        let mut j = DMatrix::zeros(self.obs.used.len(), self.free.len());
+        for (row, (&i, sg)) in self.obs.used.iter().zip(&self.obs.sigma_ut).enumerate() {
             let groups = gf.b[i].len();
             let lines = gf.line_hz.len();
             let total: Vec<FieldPhasor> = (0..lines)
@@ -288,92 +327,43 @@ fn fit(site: &Site, survey: &Survey, gf: &GroupFields) -> LoadFit {
                 })
                 .collect();
             let mag = total.iter().map(|b| field::resultant_ut(b).powi(2)).sum::<f64>().sqrt().max(1e-300);
-            for (col, &c) in free.iter().enumerate() {
+            for (col, &c) in self.free.iter().enumerate() {
                 let d: f64 = (0..lines).map(|f| total[f].dotc(&gf.b[i][c][f]).re).sum::<f64>() / mag;
                 j[(row, col)] = d / sg;
             }
         }
         j
-    };
-    let mut notes = Vec::new();
-    let (mut iterations, mut converged) = (0, free.is_empty());
-    let mut r = residuals(&s);
-    let mut c0 = cost(&r);
-    let mut lambda = 1e-3;
-    while !free.is_empty() && iterations < 500 {
-        iterations += 1;
-        let j = jacobian(&s);
-        let jtj = j.transpose() * &j;
-        let g = j.transpose() * DVector::from_column_slice(&r);
-        let mut improved = false;
-        // Projected steps: a circuit held at 0 whose gradient pushes it
-        // further down stays out of this step.
-        let active: Vec<usize> = (0..free.len()).filter(|&k| !(s[free[k]] == 0.0 && g[k] > 0.0)).collect();
-        if active.is_empty() {
-            converged = true;
-            break;
-        }
-        for _ in 0..30 {
-            let n = active.len();
-            let mut a = DMatrix::zeros(n, n);
-            let mut rhs = DVector::zeros(n);
-            for (x, &kx) in active.iter().enumerate() {
-                rhs[x] = -g[kx];
-                for (y, &ky) in active.iter().enumerate() {
-                    a[(x, y)] = jtj[(kx, ky)];
-                }
-                a[(x, x)] += lambda * jtj[(kx, kx)].max(1e-12);
-            }
-            let Some(step) = a.lu().solve(&rhs) else { break };
-            let mut trial = s.clone();
-            for (x, &k) in active.iter().enumerate() {
-                let c = free[k];
-                trial[c] = (s[c] + step[x]).max(0.0);
-            }
-            let rt = residuals(&trial);
-            let ct = cost(&rt);
-            if ct <= c0 {
-                let change = free.iter().map(|&c| (trial[c] - s[c]).abs()).fold(0.0, f64::max);
-                let rel = (c0 - ct) / c0.max(1e-300);
-                s = trial;
-                r = rt;
-                c0 = ct;
-                lambda = (lambda / 3.0).max(1e-12);
-                improved = true;
-                if change < 1e-11 || rel < 1e-13 || c0 < 1e-26 {
-                    converged = true;
-                }
-                break;
-            }
-            lambda *= 4.0;
-        }
-        if !improved {
-            converged = true;
-        }
-        if converged {
-            break;
-        }
     }
-    let dof = used.len() as f64 - free.len() as f64;
-    let chi2 = (dof > 0.0).then(|| c0 / dof);
-    let j = jacobian(&s);
+}
+
+/// Condition number of the Jacobian (`None` with no free circuit; infinite
+/// when a singular value is 0).
+fn condition_number(j: &DMatrix<f64>, free: &[usize]) -> Option<f64> {
     let svd = j.clone().svd(false, false);
     let (smax, smin) = (svd.singular_values.max(), svd.singular_values.min());
-    let condition = (!free.is_empty()).then(|| if smin > 0.0 { smax / smin } else { f64::INFINITY });
-    let ill = condition.is_some_and(|c| c.is_nan() || c > MAX_CONDITION);
-    if ill {
-        notes.push("the circuits' effects cannot be told apart at these measurement points: add points where one circuit dominates".into());
-    }
-    let cov = (j.transpose() * &j).try_inverse();
-    let inflate = chi2.map_or(1.0, |c| c.max(1.0));
-    let circuits = site
+    (!free.is_empty()).then(|| if smin > 0.0 { smax / smin } else { f64::INFINITY })
+}
+
+/// What the fit found, for turning into per-circuit results.
+struct FitOutcome<'a> {
+    free: &'a [usize],
+    s: &'a [f64],
+    /// Covariance of the free scales, (JᵀJ)⁻¹, if invertible.
+    cov: Option<DMatrix<f64>>,
+    /// Factor on the covariance: the reduced χ² when above 1.
+    inflate: f64,
+    ill: bool,
+}
+
+fn circuit_fits(survey: &Survey, out: &FitOutcome) -> Vec<CircuitFit> {
+    survey
+        .site()
         .circuits
         .iter()
         .enumerate()
         .map(|(c, circ)| {
             let stated = circ.nominal_current_a(survey.loads[c]);
-            let col = free.iter().position(|&f| f == c);
-            match col {
+            match out.free.iter().position(|&f| f == c) {
                 None => CircuitFit {
                     circuit: circ.id.clone(),
                     stated_a: stated,
@@ -382,29 +372,39 @@ fn fit(site: &Site, survey: &Survey, gf: &GroupFields) -> LoadFit {
                     scale_std_error: None,
                     status: FitStatus::Unidentifiable,
                 },
-                Some(k) => {
-                    let se = cov.as_ref().map(|cv| (cv[(k, k)].max(0.0) * inflate).sqrt()).filter(|v| v.is_finite());
-                    let status = if ill {
-                        FitStatus::IllConditioned
-                    } else if s[c] == 0.0 {
-                        FitStatus::AtBound
-                    } else {
-                        FitStatus::Fitted
-                    };
-                    let scale = (!ill).then_some(s[c]);
-                    CircuitFit {
-                        circuit: circ.id.clone(),
-                        stated_a: stated,
-                        scale,
-                        fitted_a: scale.map(|x| x * stated),
-                        scale_std_error: if ill { None } else { se },
-                        status,
-                    }
-                }
+                Some(k) => fitted_circuit(circ.id.clone(), stated, out.s[c], k, out),
             }
         })
-        .collect::<Vec<_>>();
-    for c in circuits.iter().filter(|c| c.scale_std_error.is_some_and(|e| e > 0.5)) {
+        .collect()
+}
+
+/// Result of free circuit `k` (column) with fitted scale `scale`.
+fn fitted_circuit(circuit: String, stated: f64, scale: f64, k: usize, out: &FitOutcome) -> CircuitFit {
+    let se = out.cov.as_ref().map(|cv| (cv[(k, k)].max(0.0) * out.inflate).sqrt()).filter(|v| v.is_finite());
+    let status = if out.ill {
+        FitStatus::IllConditioned
+    } else if scale == 0.0 {
+        FitStatus::AtBound
+    } else {
+        FitStatus::Fitted
+    };
+    let scale = (!out.ill).then_some(scale);
+    CircuitFit {
+        circuit,
+        stated_a: stated,
+        scale,
+        fitted_a: scale.map(|x| x * stated),
+        scale_std_error: if out.ill { None } else { se },
+        status,
+    }
+}
+
+fn fit_notes(circuits: &[CircuitFit], ill: bool) -> Vec<String> {
+    let mut notes = Vec::new();
+    if ill {
+        notes.push("the circuits' effects cannot be told apart at these measurement points: add points where one circuit dominates".into());
+    }
+    for c in circuits.iter().filter(|c| c.scale_std_error.is_some_and(|e| e > POORLY_DETERMINED_SCALE_ERROR)) {
         notes.push(format!(
             "circuit '{}' is poorly determined by these points (± {:.2} on its scale): measure nearer to it",
             c.circuit,
@@ -417,17 +417,48 @@ fn fit(site: &Site, survey: &Survey, gf: &GroupFields) -> LoadFit {
             c.circuit
         ));
     }
-    let rel: Vec<f64> = used.iter().zip(&m).map(|(&i, m)| (resultant_scaled(gf, i, &s) - m) / m.max(1e-300)).collect();
+    notes
+}
+
+/// RMS of (model − measured) / measured over the used points at scales `s`.
+fn residual_rms_relative(gf: &GroupFields, obs: &Observations, s: &[f64]) -> f64 {
+    let rel: Vec<f64> =
+        obs.used.iter().zip(&obs.measured_ut).map(|(&i, m)| (resultant_scaled(gf, i, s) - m) / m.max(1e-300)).collect();
+    if rel.is_empty() { 0.0 } else { (rel.iter().map(|x| x * x).sum::<f64>() / rel.len() as f64).sqrt() }
+}
+
+/// Fits a scale on each identifiable circuit's stated load (bounded below by
+/// 0) to the readings by Levenberg–Marquardt (see [`lm`]) on
+/// `r_i(s) = (|B_i(s)| − m_i) / σ_i`; σ_i is the meter's standard
+/// uncertainty (U/2) of each reading.
+fn fit(survey: &Survey, gf: &GroupFields) -> LoadFit {
+    let nc = survey.site().circuits.len();
+    let obs = observations(survey, gf);
+    let sens = sensitivities(gf, &obs, nc);
+    let free: Vec<usize> = (0..nc).filter(|&c| sens[c] >= MIN_SENSITIVITY).collect();
+    let problem = LoadProblem { gf, obs: &obs, free: &free };
+    let solution = lm::minimise(&problem, vec![1.0; nc], &free);
+    let s = &solution.s;
+    let dof = obs.used.len() as f64 - free.len() as f64;
+    let chi2 = (dof > 0.0).then(|| solution.cost / dof);
+    let j = lm::Problem::jacobian(&problem, s);
+    let condition = condition_number(&j, &free);
+    let ill = condition.is_some_and(|c| c.is_nan() || c > MAX_CONDITION);
+    let outcome = FitOutcome {
+        free: &free,
+        s,
+        cov: (j.transpose() * &j).try_inverse(),
+        inflate: chi2.map_or(1.0, |c| c.max(1.0)),
+        ill,
+    };
+    let circuits = circuit_fits(survey, &outcome);
+    let notes = fit_notes(&circuits, ill);
     LoadFit {
+        residual_rms_relative: residual_rms_relative(gf, &obs, s),
         circuits,
-        residual_rms_relative: if rel.is_empty() {
-            0.0
-        } else {
-            (rel.iter().map(|x| x * x).sum::<f64>() / rel.len() as f64).sqrt()
-        },
         reduced_chi2: chi2,
-        iterations,
-        converged,
+        iterations: solution.iterations,
+        converged: solution.converged,
         condition_number: condition.filter(|c| c.is_finite()),
         notes,
     }
@@ -441,88 +472,100 @@ pub const EXTRAPOLATION_ASSUMPTIONS: [&str; 4] = [
     "Circuits without a stated survey load are taken at their present current_a.",
 ];
 
+/// Extrapolates every measurement to rated load; `None` when a circuit has
+/// no rated current.
 fn extrapolate(
-    site: &Site,
     survey: &Survey,
     gf: &GroupFields,
     tables: &[ReferenceTable],
     review_fraction: f64,
 ) -> Option<Extrapolation> {
+    let site = survey.site();
     let rated: Option<Vec<CircuitLoad>> =
         site.circuits.iter().map(|c| c.rated_current_a.map(CircuitLoad::CurrentA)).collect();
     let rated = rated?;
     let points: Vec<nalgebra::Point3<f64>> = survey.points.iter().map(|m| m.at).collect();
-    let at_rated = group_fields(site, &points, &rated);
-    let ones = vec![1.0; site.circuits.len() + 1];
-    let whole_body: Vec<&ReferenceTable> = tables
-        .iter()
-        .filter(|t| t.applies_to().body_region == crate::limits::TableBodyRegion::WholeBody)
-        .filter(|t| t.applies_to().population != crate::limits::Population::ImplantWearers)
-        .collect();
-    let out = survey
-        .points
-        .iter()
-        .enumerate()
-        .map(|(i, m)| {
-            let now = (!gf.inside[i]).then(|| resultant_scaled(gf, i, &ones)).filter(|b| *b > 0.0);
-            let full = resultant_scaled(&at_rated, i, &ones);
-            let factor = now.map(|b| full / b);
-            let extrapolated = factor.map(|f| m.measured_ut * f);
-            // Spectrum at rated load, scaled to the measurement.
-            let spectrum: Vec<(f64, f64)> = match now {
-                Some(b_now) => at_rated
-                    .line_hz
-                    .iter()
-                    .enumerate()
-                    .map(|(f, hz)| {
-                        let b: FieldPhasor = at_rated.b[i].iter().map(|g| g[f]).sum();
-                        (*hz, field::resultant_ut(&b) * m.measured_ut / b_now)
-                    })
-                    .collect(),
-                None => Vec::new(),
-            };
-            let comparisons = whole_body
-                .iter()
-                .map(|t| {
-                    if extrapolated.is_none() {
-                        return ExtrapolatedComparison {
-                            table_id: t.id().into(),
-                            ratio: None,
-                            verdict: Verdict::NotComputed,
-                        };
-                    }
-                    let r = ratio_of(&spectrum, t);
-                    ExtrapolatedComparison {
-                        table_id: t.id().into(),
-                        ratio: r.ratio,
-                        verdict: r.verdict(review_fraction),
-                    }
-                })
-                .collect();
-            ExtrapolatedPoint {
-                id: m.id.clone(),
-                measured_ut: m.measured_ut,
-                factor,
-                extrapolated_ut: extrapolated,
-                comparisons,
-            }
-        })
-        .collect();
+    let at = RatedFields {
+        survey: gf,
+        rated: group_fields(site, &points, &rated),
+        ones: vec![1.0; site.circuits.len() + 1],
+        whole_body: whole_body_tables(tables),
+        review_fraction,
+    };
+    let out = survey.points.iter().enumerate().map(|(i, m)| extrapolated_point(&at, i, m)).collect();
     Some(Extrapolation { points: out, assumptions: EXTRAPOLATION_ASSUMPTIONS.iter().map(|s| s.to_string()).collect() })
 }
 
-/// Reconciles, fits and extrapolates a survey of `site`.
-pub fn analyse(
-    site: &Site,
-    survey: &Survey,
-    tables: &[ReferenceTable],
+/// The tables the extrapolation compares with: whole-body tables, not those
+/// for implant wearers.
+fn whole_body_tables(tables: &[ReferenceTable]) -> Vec<&ReferenceTable> {
+    tables
+        .iter()
+        .filter(|t| t.applies_to().body_region == crate::limits::TableBodyRegion::WholeBody)
+        .filter(|t| t.applies_to().population != crate::limits::Population::ImplantWearers)
+        .collect()
+}
+
+/// Fields at the survey's loads and at rated load over the same points.
+struct RatedFields<'a> {
+    survey: &'a GroupFields,
+    rated: GroupFields,
+    /// Scale 1 on every group.
+    ones: Vec<f64>,
+    whole_body: Vec<&'a ReferenceTable>,
     review_fraction: f64,
-) -> Result<SurveyAnalysis, Problems> {
+}
+
+/// Measurement `i` scaled by the model's rated / survey ratio at its point,
+/// and compared with each whole-body table.
+fn extrapolated_point(at: &RatedFields, i: usize, m: &super::Measurement) -> ExtrapolatedPoint {
+    let now = (!at.survey.inside[i]).then(|| resultant_scaled(at.survey, i, &at.ones)).filter(|b| *b > 0.0);
+    let full = resultant_scaled(&at.rated, i, &at.ones);
+    let factor = now.map(|b| full / b);
+    let extrapolated = factor.map(|f| m.measured_ut * f);
+    // Spectrum at rated load, scaled to the measurement.
+    let spectrum: Vec<(f64, f64)> = match now {
+        Some(b_now) => at
+            .rated
+            .line_hz
+            .iter()
+            .enumerate()
+            .map(|(f, hz)| {
+                let b: FieldPhasor = at.rated.b[i].iter().map(|g| g[f]).sum();
+                (*hz, field::resultant_ut(&b) * m.measured_ut / b_now)
+            })
+            .collect(),
+        None => Vec::new(),
+    };
+    let comparisons = at
+        .whole_body
+        .iter()
+        .map(|t| {
+            if extrapolated.is_none() {
+                return ExtrapolatedComparison { table_id: t.id().into(), ratio: None, verdict: Verdict::NotComputed };
+            }
+            let r = ratio_of(&spectrum, t);
+            ExtrapolatedComparison { table_id: t.id().into(), ratio: r.ratio, verdict: r.verdict(at.review_fraction) }
+        })
+        .collect();
+    ExtrapolatedPoint {
+        id: m.id.clone(),
+        measured_ut: m.measured_ut,
+        factor,
+        extrapolated_ut: extrapolated,
+        comparisons,
+    }
+}
+
+/// Reconciles, fits and extrapolates a checked survey against the site it
+/// was checked against (which it carries: see [`Survey`]).
+pub fn analyse(survey: &Survey, tables: &[ReferenceTable], review_fraction: f64) -> Result<SurveyAnalysis, Problems> {
+    let site = survey.site();
     let points: Vec<nalgebra::Point3<f64>> = survey.points.iter().map(|m| m.at).collect();
     let gf = group_fields(site, &points, &survey.loads);
     let reconciliation = reconcile(survey, &gf);
-    let load_fit = fit(site, survey, &gf);
-    let extrapolation = extrapolate(site, survey, &gf, tables, review_fraction);
+    let load_fit = fit(survey, &gf);
+    let extrapolation = extrapolate(survey, &gf, tables, review_fraction);
     let mut notes = Vec::new();
     if extrapolation.is_none() {
         let missing: Vec<&str> =

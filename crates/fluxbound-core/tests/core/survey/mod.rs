@@ -5,6 +5,7 @@
 use fluxbound_core::field::{self, Filament, Filaments};
 use fluxbound_core::limits::builtin_table;
 use fluxbound_core::site::{CircuitLoad, Site, parse_site};
+use fluxbound_core::survey::lm;
 use fluxbound_core::survey::{FitStatus, analyse, validate_survey, wire::SurveyDoc};
 use nalgebra::Point3;
 use rand::{RngExt, SeedableRng};
@@ -80,7 +81,7 @@ fn with_no_noise_the_load_fit_recovers_the_true_scale_factors_to_one_part_in_a_b
     let stated = [("west", 700.0), ("east", 450.0)];
     let m = synthetic(&site, &[700.0, 450.0], &[0.8, 1.3], &[0.0; 24]);
     let survey = validate_survey(&survey_doc(&stated, m, 6.0), &site).unwrap();
-    let a = analyse(&site, &survey, &tables(), 0.5).unwrap();
+    let a = analyse(&survey, &tables(), 0.5).unwrap();
     let f = &a.load_fit;
     assert!(f.converged, "{f:?}");
     for (c, truth) in f.circuits.iter().zip([0.8, 1.3]) {
@@ -100,7 +101,7 @@ fn with_seeded_noise_the_fit_recovers_the_factors_within_four_standard_errors() 
     let noise: Vec<f64> = (0..24).map(|_| 0.03 * ((0..12).map(|_| rng.random::<f64>()).sum::<f64>() - 6.0)).collect();
     let m = synthetic(&site, &[700.0, 450.0], &[0.8, 1.3], &noise);
     let survey = validate_survey(&survey_doc(&stated, m, 6.0), &site).unwrap();
-    let f = analyse(&site, &survey, &tables(), 0.5).unwrap().load_fit;
+    let f = analyse(&survey, &tables(), 0.5).unwrap().load_fit;
     for (c, truth) in f.circuits.iter().zip([0.8, 1.3]) {
         let se = c.scale_std_error.unwrap();
         assert!(se > 0.0 && se < 0.1, "{se}");
@@ -116,7 +117,7 @@ fn a_circuit_with_no_sensitivity_at_any_point_is_reported_as_unidentifiable_not_
     let stated = [("west", 700.0), ("east", 450.0), ("far", 100.0)];
     let m = synthetic(&site, &[700.0, 450.0, 100.0], &[1.0, 1.0, 1.0], &[0.0; 24]);
     let survey = validate_survey(&survey_doc(&stated, m, 6.0), &site).unwrap();
-    let f = analyse(&site, &survey, &tables(), 0.5).unwrap().load_fit;
+    let f = analyse(&survey, &tables(), 0.5).unwrap().load_fit;
     let far = f.circuits.iter().find(|c| c.circuit == "far").unwrap();
     assert_eq!(far.status, FitStatus::Unidentifiable);
     assert_eq!(far.scale, None);
@@ -146,7 +147,7 @@ fn extrapolating_a_single_circuit_site_multiplies_each_measurement_by_rated_over
         json!({"id": "p2", "at": [0.0, -4.0, 0.3], "resultant_ut": 2.25}),
     ];
     let survey = validate_survey(&survey_doc(&[("w", 600.0)], m, 10.0), &site).unwrap();
-    let e = analyse(&site, &survey, &tables(), 0.5).unwrap().extrapolation.unwrap();
+    let e = analyse(&survey, &tables(), 0.5).unwrap().extrapolation.unwrap();
     for (p, measured) in e.points.iter().zip([37.5, 2.25]) {
         assert!((p.factor.unwrap() - 2.0).abs() < 1e-12, "{:?}", p.factor);
         assert!((p.extrapolated_ut.unwrap() - measured * 1200.0 / 600.0).abs() < 1e-12 * measured);
@@ -171,7 +172,7 @@ fn a_point_outside_the_combined_uncertainty_is_flagged_and_one_inside_is_not() {
         json!({"id": "bad", "at": [0.0, -1.0, 0.0], "resultant_ut": 300.0}),
     ];
     let survey = validate_survey(&survey_doc(&[("w", 1000.0)], m, 10.0), &site).unwrap();
-    let r = analyse(&site, &survey, &tables(), 0.5).unwrap().reconciliation;
+    let r = analyse(&survey, &tables(), 0.5).unwrap().reconciliation;
     let allowed_ok = (23.0f64.powi(2) + 40.0f64.powi(2)).sqrt(); // 46.14 > 30
     let allowed_bad = (30.0f64.powi(2) + 40.0f64.powi(2)).sqrt(); // 50 < 100
     assert!((r.points[0].allowed_difference_ut.unwrap() - allowed_ok).abs() < 1e-6);
@@ -202,8 +203,8 @@ fn a_bad_csv_row_is_rejected_with_its_line_number_and_column() {
     // A good CSV parses into the same measurements as JSON points.
     doc.points_csv = Some("id,x_m,y_m,z_m,resultant_ut,bx_ut,by_ut,bz_ut\n\"m 1\",0,0,1,5,3,4,0\n".into());
     let s = validate_survey(&doc, &site).unwrap();
-    assert_eq!(s.points[0].id, "m 1");
-    assert_eq!(s.points[0].axes_ut, Some([3.0, 4.0, 0.0]));
+    assert_eq!(s.points()[0].id(), "m 1");
+    assert_eq!(s.points()[0].axes_ut(), Some([3.0, 4.0, 0.0]));
 }
 
 #[test]
@@ -240,9 +241,95 @@ fn the_example_survey_reconciles_and_its_odd_point_is_flagged() {
         serde_json::from_str(&std::fs::read_to_string(format!("{root}/examples/survey-switch-room.json")).unwrap())
             .unwrap();
     let survey = validate_survey(&doc, &site).unwrap();
-    let a = analyse(&site, &survey, &tables(), 0.5).unwrap();
+    let a = analyse(&survey, &tables(), 0.5).unwrap();
     assert_eq!(a.reconciliation.summary.worst[0], "S8-riser");
     assert!(a.reconciliation.points.iter().find(|p| p.id == "S8-riser").unwrap().flagged);
     assert!(a.load_fit.converged);
     assert!(a.cautions.iter().any(|c| c.contains("qualified assessors")));
+}
+
+#[test]
+fn a_checked_survey_is_analysed_against_the_site_it_was_checked_against_and_no_other() {
+    // Before, `analyse(site, survey, …)` took the site separately: a survey
+    // checked against a three-circuit site and analysed with a two-circuit
+    // one indexed its loads out of bounds. Now the checked survey carries its
+    // site and `analyse` takes no site (the compile_fail examples on
+    // `Survey` show that neither a second site nor a hand-built survey
+    // compiles); what is left to test is that each check binds its own site.
+    let two = two_wire_site(false);
+    let three = two_wire_site(true);
+    let stated = [("west", 700.0), ("east", 450.0)];
+    let m = synthetic(&two, &[700.0, 450.0], &[1.0, 1.0], &[0.0; 24]);
+    let doc = survey_doc(&stated, m, 6.0);
+    for site in [&two, &three] {
+        let survey = validate_survey(&doc, site).unwrap();
+        assert_eq!(survey.site(), site);
+        assert_eq!(survey.loads().len(), site.circuits.len());
+        let fit = analyse(&survey, &tables(), 0.5).unwrap().load_fit;
+        let fitted: Vec<&str> = fit.circuits.iter().map(|c| c.circuit.as_str()).collect();
+        let expected: Vec<&str> = site.circuits.iter().map(|c| c.id.as_str()).collect();
+        assert_eq!(fitted, expected);
+    }
+    // A survey naming a circuit of the three-circuit site only is refused by
+    // the two-circuit one, with a pointer to the load that names it.
+    let doc =
+        survey_doc(&[("west", 700.0), ("far", 100.0)], vec![json!({"id": "m", "at": [0, 0], "resultant_ut": 1})], 6.0);
+    assert!(validate_survey(&doc, &three).is_ok());
+    let p = validate_survey(&doc, &two).unwrap_err();
+    assert!(p.iter().any(|x| x.pointer == "/loads/1/circuit" && x.detail.contains("unknown circuit 'far'")), "{p:?}");
+}
+
+/// A linear problem with a known minimiser: r(s) = A s − b.
+struct Linear {
+    a: nalgebra::DMatrix<f64>,
+    b: nalgebra::DVector<f64>,
+}
+
+impl lm::Problem for Linear {
+    fn residuals(&self, s: &[f64]) -> Vec<f64> {
+        (&self.a * nalgebra::DVector::from_column_slice(s) - &self.b).iter().copied().collect()
+    }
+    fn jacobian(&self, _: &[f64]) -> nalgebra::DMatrix<f64> {
+        self.a.clone()
+    }
+}
+
+#[test]
+fn the_solver_finds_the_least_squares_solution_of_an_overdetermined_linear_problem() {
+    // Rows (1, 0), (0, 1), (1, 1) against b = (1, 2, 4): the normal equations
+    // [[2, 1], [1, 2]] s = (5, 6) give s = (4/3, 7/3) by hand. Tolerance 1e-9:
+    // the solver stops on relative steps of 1e-11 and cost decreases of 1e-13.
+    let p = Linear {
+        a: nalgebra::DMatrix::from_row_slice(3, 2, &[1.0, 0.0, 0.0, 1.0, 1.0, 1.0]),
+        b: nalgebra::DVector::from_column_slice(&[1.0, 2.0, 4.0]),
+    };
+    let sol = lm::minimise(&p, vec![1.0, 1.0], &[0, 1]);
+    assert!(sol.converged);
+    assert!((sol.s[0] - 4.0 / 3.0).abs() < 1e-9 && (sol.s[1] - 7.0 / 3.0).abs() < 1e-9, "{:?}", sol.s);
+    // Residuals (1/3, 1/3, −1/3): cost 1/3.
+    assert!((sol.cost - 1.0 / 3.0).abs() < 1e-9, "{}", sol.cost);
+}
+
+#[test]
+fn the_solver_holds_a_parameter_at_zero_when_the_data_want_it_negative_and_leaves_fixed_ones_alone() {
+    // r = (s0 + 1, s1 − 2, s2 − 5) with s2 not free: the unconstrained
+    // minimum s0 = −1 is outside s0 ≥ 0, so s0 = 0; s1 = 2; s2 stays 7.
+    let p = Linear { a: nalgebra::DMatrix::identity(3, 3), b: nalgebra::DVector::from_column_slice(&[-1.0, 2.0, 5.0]) };
+    struct FreeColumns(Linear);
+    impl lm::Problem for FreeColumns {
+        fn residuals(&self, s: &[f64]) -> Vec<f64> {
+            self.0.residuals(s)
+        }
+        fn jacobian(&self, s: &[f64]) -> nalgebra::DMatrix<f64> {
+            self.0.jacobian(s).columns(0, 2).into_owned()
+        }
+    }
+    let sol = lm::minimise(&FreeColumns(p), vec![1.0, 1.0, 7.0], &[0, 1]);
+    assert!(sol.converged);
+    // Exact on purpose: the projection is max(s, 0), which yields 0.0 itself,
+    // and a fit is reported at its bound by `s == 0`.
+    assert_eq!(sol.s[0], 0.0, "clipped exactly at the bound");
+    assert!((sol.s[1] - 2.0).abs() < 1e-9, "{:?}", sol.s);
+    // Exact on purpose: a parameter that is not free is copied, never computed.
+    assert_eq!(sol.s[2], 7.0, "a parameter that is not free is never touched");
 }
