@@ -100,10 +100,38 @@ pub fn plan_to_px(map: &AreaMap, x: f64, y: f64) -> (f64, f64) {
 /// The field map of `map` as an SVG document.
 pub fn area_map_svg(site: &Site, a: &Assessment, map: &AreaMap) -> String {
     let mut s = String::new();
-    let g = &map.grid;
     let v = View::new(map);
+    // The page grows with a tall map; the space below holds the scale bar,
+    // north arrow and cautions.
     let bottom = (MAP_Y + v.h_px).max(560.0);
-    let height = bottom + 150.0;
+    let range = colour_range(map);
+    open_document(&mut s, map, &v, bottom + 150.0);
+    title_block(&mut s, a, map);
+    cells(&mut s, map, &v, range);
+    area_outline(&mut s, map, &v);
+    contours(&mut s, a, map, &v);
+    conductors(&mut s, site, &v);
+    positions(&mut s, site, a, &v);
+    legend(&mut s, a, map, range);
+    scale_bar_and_north(&mut s, site, &v, bottom);
+    cautions(&mut s, bottom);
+    s.push_str("</svg>\n");
+    s
+}
+
+/// Plan points as an SVG `points` list, px to 0.1.
+fn px_list(v: &View, pts: impl Iterator<Item = (f64, f64)>) -> String {
+    pts.map(|(x, y)| {
+        let (x, y) = v.px(x, y);
+        format!("{x:.1},{y:.1}")
+    })
+    .collect::<Vec<_>>()
+    .join(" ")
+}
+
+/// The root element, white background, shared definitions (hatching for
+/// cells inside conductors, the area and frame clip paths) and the frame.
+fn open_document(s: &mut String, map: &AreaMap, v: &View, height: f64) {
     let _ = writeln!(
         s,
         r#"<svg xmlns="http://www.w3.org/2000/svg" width="{WIDTH}" height="{height}" viewBox="0 0 {WIDTH} {height}" font-family="DejaVu Sans, Arial, sans-serif" font-size="12">"#
@@ -112,14 +140,7 @@ pub fn area_map_svg(site: &Site, a: &Assessment, map: &AreaMap) -> String {
     let _ = writeln!(
         s,
         r##"<defs><pattern id="inside" width="6" height="6" patternUnits="userSpaceOnUse" patternTransform="rotate(45)"><rect width="6" height="6" fill="#ffffff"/><line x1="0" y1="0" x2="0" y2="6" stroke="#000000" stroke-width="2"/></pattern><clipPath id="area"><polygon points="{}"/></clipPath><clipPath id="frame"><rect x="{MAP_X}" y="{MAP_Y}" width="{:.1}" height="{:.1}"/></clipPath></defs>"##,
-        map.polygon
-            .iter()
-            .map(|p| {
-                let (x, y) = v.px(p.x, p.y);
-                format!("{x:.1},{y:.1}")
-            })
-            .collect::<Vec<_>>()
-            .join(" "),
+        px_list(v, map.polygon.iter().map(|p| (p.x, p.y))),
         v.w_px,
         v.h_px
     );
@@ -128,7 +149,11 @@ pub fn area_map_svg(site: &Site, a: &Assessment, map: &AreaMap) -> String {
         r##"<rect x="{MAP_X}" y="{MAP_Y}" width="{:.1}" height="{:.1}" fill="none" stroke="#777777" stroke-width="0.8"/>"##,
         v.w_px, v.h_px
     );
-    // Title block.
+}
+
+/// Site name, area and load case, the numbered tables, and how to read the
+/// contours.
+fn title_block(s: &mut String, a: &Assessment, map: &AreaMap) {
     let name = esc(a.site_name.as_deref().unwrap_or("(unnamed site)"));
     let _ = writeln!(s, r#"<text x="{MAP_X}" y="30" font-size="18" font-weight="bold">{name}</text>"#);
     let _ = writeln!(
@@ -146,21 +171,25 @@ pub fn area_map_svg(site: &Site, a: &Assessment, map: &AreaMap) -> String {
         r#"<text x="{MAP_X}" y="90" font-size="11">Contours: solid = at the level (ratio 1); dashed = review fraction ({:.0} %). Hatched = inside a conductor.</text>"#,
         a.review_fraction * 100.0
     );
-    // Cells, run-length encoded by colour step, clipped to the area.
-    let range = colour_range(map);
-    let steps = 64.0;
+}
+
+/// Colour steps of the cell fill (and of the legend's bar).
+const COLOUR_STEPS: f64 = 64.0;
+
+/// Cells, run-length encoded by colour step along each row (fewer
+/// elements), clipped to the area.
+fn cells(s: &mut String, map: &AreaMap, v: &View, range: (f64, f64)) {
+    let g = &map.grid;
+    let steps = COLOUR_STEPS;
+    // Colour step of cell k; −1 marks a cell inside a conductor (hatched).
+    let key = |k: usize| {
+        if map.inside_conductor[k] { -1 } else { (scale_position(map.b_ut[k], range) * (steps - 1.0)).round() as i64 }
+    };
     let _ = writeln!(s, r#"<g clip-path="url(#area)" shape-rendering="crispEdges">"#);
     for j in 0..g.ny {
         let mut i = 0;
         while i < g.nx {
             let k = j * g.nx + i;
-            let key = |k: usize| {
-                if map.inside_conductor[k] {
-                    -1
-                } else {
-                    (scale_position(map.b_ut[k], range) * (steps - 1.0)).round() as i64
-                }
-            };
             let c = key(k);
             let mut run = 1;
             while i + run < g.nx && key(k + run) == c {
@@ -169,6 +198,7 @@ pub fn area_map_svg(site: &Site, a: &Assessment, map: &AreaMap) -> String {
             let (x, y) = (g.x0_m + i as f64 * g.spacing_m, g.y0_m + (j + 1) as f64 * g.spacing_m);
             let (px, py) = v.px(x, y);
             let fill = if c < 0 { "url(#inside)".to_string() } else { palette::hex(c as f64 / (steps - 1.0)) };
+            // 0.3 px overlap hides hairline seams between runs in viewers.
             let _ = writeln!(
                 s,
                 r#"<rect x="{px:.2}" y="{py:.2}" width="{:.2}" height="{:.2}" fill="{fill}"/>"#,
@@ -179,17 +209,19 @@ pub fn area_map_svg(site: &Site, a: &Assessment, map: &AreaMap) -> String {
         }
     }
     let _ = writeln!(s, "</g>");
-    let outline: Vec<String> = map
-        .polygon
-        .iter()
-        .map(|p| {
-            let (x, y) = v.px(p.x, p.y);
-            format!("{x:.1},{y:.1}")
-        })
-        .collect();
-    let _ =
-        writeln!(s, r##"<polygon points="{}" fill="none" stroke="#000000" stroke-width="1.5"/>"##, outline.join(" "));
-    // Contours; tables with identical ratio fields share one line and label.
+}
+
+fn area_outline(s: &mut String, map: &AreaMap, v: &View) {
+    let _ = writeln!(
+        s,
+        r##"<polygon points="{}" fill="none" stroke="#000000" stroke-width="1.5"/>"##,
+        px_list(v, map.polygon.iter().map(|p| (p.x, p.y)))
+    );
+}
+
+/// Contours at each table's level and review fraction; tables with
+/// identical ratio fields share one line and one label.
+fn contours(s: &mut String, a: &Assessment, map: &AreaMap, v: &View) {
     let mut drawn: Vec<usize> = Vec::new();
     for (ti, t) in map.tables.iter().enumerate() {
         if drawn.iter().any(|&d| map.tables[d].ratio == t.ratio) {
@@ -206,35 +238,53 @@ pub fn area_map_svg(site: &Site, a: &Assessment, map: &AreaMap) -> String {
         let names = names.join(", ");
         let Some(ratio) = t.ratio.iter().copied().collect::<Option<Vec<f64>>>() else { continue };
         for (level, dash, width, label) in [(1.0, "none", 2.4, "100 %"), (a.review_fraction, "7 4", 1.4, "review")] {
-            let lines = contour::isolines(g, &ratio, &map.inside_conductor, level);
-            for l in &lines {
-                let pts: Vec<String> = l
-                    .points
-                    .iter()
-                    .map(|p| {
-                        let (x, y) = v.px(p[0], p[1]);
-                        format!("{x:.1},{y:.1}")
-                    })
-                    .collect();
-                let _ = writeln!(
-                    s,
-                    r##"<polyline points="{}" fill="none" stroke="#000000" stroke-width="{width}" stroke-dasharray="{dash}" clip-path="url(#area)"/>"##,
-                    pts.join(" ")
-                );
-            }
-            if let Some(longest) = lines.iter().max_by_key(|l| l.points.len()) {
-                let p = longest.points[longest.points.len() * 3 / 4];
-                let (x, y) = v.px(p[0], p[1]);
-                let b = t.level_ut.map(|l| format!(" ({} µT)", fmt_ut(l * level))).unwrap_or_default();
-                let _ = writeln!(
-                    s,
-                    r##"<text x="{x:.1}" y="{:.1}" font-size="11" stroke="#ffffff" stroke-width="3" paint-order="stroke">{names} {label}{b}</text>"##,
-                    y - 4.0
-                );
-            }
+            let style = ContourStyle { level, dash, width, label: format!("{names} {label}") };
+            contour_level(s, map, v, &ratio, t.level_ut, &style);
         }
     }
-    // Conductors in plan, clipped to the frame.
+}
+
+/// How one contour level is drawn and labelled.
+struct ContourStyle {
+    /// Exposure ratio of the line.
+    level: f64,
+    /// SVG dash array (`none` for solid).
+    dash: &'static str,
+    /// Stroke width, px.
+    width: f64,
+    /// Label before the level in µT.
+    label: String,
+}
+
+/// The isolines of `ratio` at one level, and a label on the longest one
+/// (three quarters along it, clear of the ends).
+fn contour_level(s: &mut String, map: &AreaMap, v: &View, ratio: &[f64], level_ut: Option<f64>, st: &ContourStyle) {
+    let lines = contour::isolines(&map.grid, ratio, &map.inside_conductor, st.level);
+    for l in &lines {
+        let _ = writeln!(
+            s,
+            r##"<polyline points="{}" fill="none" stroke="#000000" stroke-width="{}" stroke-dasharray="{}" clip-path="url(#area)"/>"##,
+            px_list(v, l.points.iter().map(|p| (p[0], p[1]))),
+            st.width,
+            st.dash
+        );
+    }
+    if let Some(longest) = lines.iter().max_by_key(|l| l.points.len()) {
+        let p = longest.points[longest.points.len() * 3 / 4];
+        let (x, y) = v.px(p[0], p[1]);
+        let b = level_ut.map(|l| format!(" ({} µT)", fmt_ut(l * st.level))).unwrap_or_default();
+        let _ = writeln!(
+            s,
+            r##"<text x="{x:.1}" y="{:.1}" font-size="11" stroke="#ffffff" stroke-width="3" paint-order="stroke">{}{b}</text>"##,
+            y - 4.0,
+            st.label
+        );
+    }
+}
+
+/// Conductors in plan with their ids, clipped to the frame; one seen end-on
+/// (under 2 px long in plan) is a small square.
+fn conductors(s: &mut String, site: &Site, v: &View) {
     let _ = writeln!(s, r#"<g clip-path="url(#frame)">"#);
     for c in &site.conductors {
         let pts: Vec<(f64, f64)> = c.path.iter().map(|p| v.px(p.x, p.y)).collect();
@@ -261,7 +311,10 @@ pub fn area_map_svg(site: &Site, a: &Assessment, map: &AreaMap) -> String {
         );
     }
     let _ = writeln!(s, "</g>");
-    // Positions with verdicts.
+}
+
+/// Positions inside the frame, each with its verdict.
+fn positions(s: &mut String, site: &Site, a: &Assessment, v: &View) {
     for (q, r) in site.positions.iter().zip(&a.positions) {
         let (x, y) = match &q.placement {
             crate::site::Placement::Standing { x_m, y_m, .. } => (*x_m, *y_m),
@@ -285,8 +338,17 @@ pub fn area_map_svg(site: &Site, a: &Assessment, map: &AreaMap) -> String {
             esc(verdict)
         );
     }
-    // Legend: colour bar (log scale).
-    let (lx, ly, lh) = (MAP_X + MAP_W + 60.0, MAP_Y + 20.0, 300.0);
+}
+
+/// Legend position: left edge and top of the colour bar, and its height, px.
+const LEGEND_X: f64 = MAP_X + MAP_W + 60.0;
+const LEGEND_Y: f64 = MAP_Y + 20.0;
+const LEGEND_H: f64 = 300.0;
+
+/// The colour bar (log scale) with 1-2-5 ticks, the highest value in the
+/// area, and each table's level.
+fn legend(s: &mut String, a: &Assessment, map: &AreaMap, range: (f64, f64)) {
+    let (lx, ly, lh) = (LEGEND_X, LEGEND_Y, LEGEND_H);
     let _ = writeln!(
         s,
         r#"<text x="{lx}" y="{:.1}" font-size="12" font-weight="bold">Resultant flux density</text>"#,
@@ -304,19 +366,7 @@ pub fn area_map_svg(site: &Site, a: &Assessment, map: &AreaMap) -> String {
         );
     }
     let _ = writeln!(s, r##"<rect x="{lx}" y="{ly}" width="24" height="{lh}" fill="none" stroke="#000000"/>"##);
-    let (lo, hi) = range;
-    let mut ticks = Vec::new();
-    let mut d = 10f64.powf(lo.log10().floor());
-    while d <= hi * 1.0001 {
-        for m in [1.0, 2.0, 5.0] {
-            let t = d * m;
-            if t >= lo * 0.9999 && t <= hi * 1.0001 {
-                ticks.push(t);
-            }
-        }
-        d *= 10.0;
-    }
-    for t in ticks {
+    for t in legend_ticks(range) {
         let y = ly + lh * (1.0 - scale_position(t, range));
         let _ = writeln!(
             s,
@@ -330,7 +380,7 @@ pub fn area_map_svg(site: &Site, a: &Assessment, map: &AreaMap) -> String {
         s,
         r#"<text x="{lx}" y="{:.1}" font-size="11">highest in area: {} µT</text>"#,
         ly + lh + 22.0,
-        fmt_ut(hi)
+        fmt_ut(range.1)
     );
     for (i, t) in map.tables.iter().enumerate() {
         if let Some(l) = t.level_ut {
@@ -344,7 +394,28 @@ pub fn area_map_svg(site: &Site, a: &Assessment, map: &AreaMap) -> String {
             );
         }
     }
-    // Scale bar and north arrow.
+}
+
+/// Tick values 1, 2 and 5 × 10ⁿ µT within `range` (with a 1e-4 relative
+/// allowance so an end that is itself a tick value is kept).
+fn legend_ticks((lo, hi): (f64, f64)) -> Vec<f64> {
+    let mut ticks = Vec::new();
+    let mut d = 10f64.powf(lo.log10().floor());
+    while d <= hi * 1.0001 {
+        for m in [1.0, 2.0, 5.0] {
+            let t = d * m;
+            if t >= lo * 0.9999 && t <= hi * 1.0001 {
+                ticks.push(t);
+            }
+        }
+        d *= 10.0;
+    }
+    ticks
+}
+
+/// A scale bar of a round length about a quarter of the map's width, and a
+/// north arrow: true north with a georeference, else the frame's y axis.
+fn scale_bar_and_north(s: &mut String, site: &Site, v: &View, bottom: f64) {
     let bar_m = nice_length(MAP_W / v.k / 4.0);
     let (bx, by) = (MAP_X, bottom + 24.0);
     let _ = writeln!(s, r##"<rect x="{bx}" y="{by}" width="{:.1}" height="6" fill="#000000"/>"##, bar_m * v.k);
@@ -369,11 +440,11 @@ pub fn area_map_svg(site: &Site, a: &Assessment, map: &AreaMap) -> String {
         nx + 30.0,
         ny + 22.0
     );
-    // Cautions.
+}
+
+fn cautions(s: &mut String, bottom: f64) {
     let cy = bottom + 78.0;
     for (i, c) in CAUTIONS.iter().enumerate() {
         let _ = writeln!(s, r#"<text x="{MAP_X}" y="{:.1}" font-size="10">{}</text>"#, cy + 13.0 * i as f64, esc(c));
     }
-    s.push_str("</svg>\n");
-    s
 }

@@ -6,7 +6,7 @@
 //! narrow.
 
 use super::snake;
-use crate::assess::{Assessment, Verdict};
+use crate::assess::{AreaResult, Assessment, HeightResult, PositionResult, Verdict};
 use crate::limits::ReferenceTable;
 use std::fmt::Write;
 
@@ -40,6 +40,42 @@ fn time_weighted_line(s: &mut String, tw: Option<&crate::assess::TimeWeighted>) 
 /// Renders an assessment as aligned plain text.
 pub fn assessment_text(a: &Assessment) -> String {
     let mut s = String::new();
+    heading(&mut s, a);
+    if !a.positions.is_empty() {
+        let _ = writeln!(s);
+        let _ = writeln!(s, "POSITIONS   B in µT RMS; under each table: exposure ratio B / level, and verdict");
+        for p in &a.positions {
+            position_block(&mut s, a, p);
+        }
+    }
+    if !a.areas.is_empty() {
+        let _ = writeln!(s);
+        let _ = writeln!(
+            s,
+            "AREAS   shares: part of the area at or above the level, and at or above the review fraction of it"
+        );
+        for ar in &a.areas {
+            area_block(&mut s, a, ar);
+        }
+    }
+    summary(&mut s, a);
+    let _ = writeln!(s);
+    let _ = writeln!(s, "NOTES");
+    for n in &a.notes {
+        let _ = writeln!(s, "  - {n}");
+    }
+    cautions(&mut s, &a.cautions);
+    s
+}
+
+/// The short column name (`T1`, `T2`, …) of a table, numbered in the heading.
+fn table_column(a: &Assessment, id: &str) -> String {
+    a.tables.iter().position(|t| t.id == id).map(|i| format!("T{}", i + 1)).unwrap_or_default()
+}
+
+/// Title, the pre-screen caution, load case, frequency, review fraction and
+/// the numbered tables.
+fn heading(s: &mut String, a: &Assessment) {
     let name = a.site_name.as_deref().unwrap_or("(unnamed site)");
     let _ = writeln!(s, "MAGNETIC FIELD EXPOSURE PRE-SCREEN — {name}");
     let _ = writeln!(s, "Computed pre-screen only: compliance is decided under local codes by qualified assessors.");
@@ -57,103 +93,95 @@ pub fn assessment_text(a: &Assessment) -> String {
     for (i, t) in a.tables.iter().enumerate() {
         let _ = writeln!(s, "  T{}  {} (v{}) — {}", i + 1, t.id, t.version, t.title);
     }
-    let col = |id: &str| a.tables.iter().position(|t| t.id == id).map(|i| format!("T{}", i + 1)).unwrap_or_default();
+}
 
-    if !a.positions.is_empty() {
-        let _ = writeln!(s);
-        let _ = writeln!(s, "POSITIONS   B in µT RMS; under each table: exposure ratio B / level, and verdict");
-        for p in &a.positions {
-            let _ = writeln!(s);
-            let region = match p.body_region {
-                crate::site::wire::BodyRegion::WholeBody => "whole body",
-                crate::site::wire::BodyRegion::Limb => "limb",
-            };
-            let group = match p.group {
-                crate::site::wire::Group::General => "",
-                crate::site::wire::Group::ImplantWearer => ", implant wearer",
-            };
-            let _ = writeln!(s, "  {}  ({region}{group})  →  {}", p.id, verdict_word(p.verdict));
-            let mut header = format!("    {:<20} {:>11} {:>11}", "height or point", "B resultant", "B major-ax.");
-            for c in &p.comparisons {
-                let _ = write!(header, "  {:>7} {:<12}", col(&c.table_id), "");
-            }
-            let _ = writeln!(s, "{}", header.trim_end());
-            for h in &p.heights {
-                let label = match h.height_m {
-                    Some(z) => format!("{z:.2} m"),
-                    None => format!("({:.2}, {:.2}, {:.2})", h.at[0], h.at[1], h.at[2]),
-                };
-                let mut row = format!("    {:<20} {:>11} {:>11}", label, num(h.resultant_ut, 2), num(h.maximum_ut, 2));
-                for c in &h.comparisons {
-                    let _ = write!(row, "  {:>7} {:<12}", num(c.ratio, 3), verdict_word(c.verdict));
-                }
-                if !h.inside_conductors.is_empty() {
-                    let _ = write!(row, "  inside {}", h.inside_conductors.join(", "));
-                }
-                let _ = writeln!(s, "{}", row.trim_end());
-            }
-            if p.heights.len() > 1 {
-                let mut row =
-                    format!("    {:<20} {:>11} {:>11}", "mean (information)", num(p.mean_resultant_ut, 2), "");
-                for c in &p.comparisons {
-                    let _ = write!(row, "  {:>7} {:<12}", num(c.ratio_of_height_mean, 3), "");
-                }
-                let _ = writeln!(s, "{}", row.trim_end());
-            }
-            time_weighted_line(&mut s, p.time_weighted.as_ref());
-            for n in &p.notes {
-                let _ = writeln!(s, "    note: {n}");
-            }
-        }
+/// One position: its line with the verdict, a row per height or point, the
+/// mean row when there are several heights, time-weighted value and notes.
+fn position_block(s: &mut String, a: &Assessment, p: &PositionResult) {
+    let _ = writeln!(s);
+    let region = match p.body_region {
+        crate::site::wire::BodyRegion::WholeBody => "whole body",
+        crate::site::wire::BodyRegion::Limb => "limb",
+    };
+    let group = match p.group {
+        crate::site::wire::Group::General => "",
+        crate::site::wire::Group::ImplantWearer => ", implant wearer",
+    };
+    let _ = writeln!(s, "  {}  ({region}{group})  →  {}", p.id, verdict_word(p.verdict));
+    let mut header = format!("    {:<20} {:>11} {:>11}", "height or point", "B resultant", "B major-ax.");
+    for c in &p.comparisons {
+        let _ = write!(header, "  {:>7} {:<12}", table_column(a, &c.table_id), "");
     }
+    let _ = writeln!(s, "{}", header.trim_end());
+    for h in &p.heights {
+        height_row(s, h);
+    }
+    if p.heights.len() > 1 {
+        let mut row = format!("    {:<20} {:>11} {:>11}", "mean (information)", num(p.mean_resultant_ut, 2), "");
+        for c in &p.comparisons {
+            let _ = write!(row, "  {:>7} {:<12}", num(c.ratio_of_height_mean, 3), "");
+        }
+        let _ = writeln!(s, "{}", row.trim_end());
+    }
+    time_weighted_line(s, p.time_weighted.as_ref());
+    for n in &p.notes {
+        let _ = writeln!(s, "    note: {n}");
+    }
+}
 
-    if !a.areas.is_empty() {
-        let _ = writeln!(s);
+/// One height (or point) of a position: B, major axis, each table's ratio
+/// and verdict, and the conductors it lies inside.
+fn height_row(s: &mut String, h: &HeightResult) {
+    let label = match h.height_m {
+        Some(z) => format!("{z:.2} m"),
+        None => format!("({:.2}, {:.2}, {:.2})", h.at[0], h.at[1], h.at[2]),
+    };
+    let mut row = format!("    {:<20} {:>11} {:>11}", label, num(h.resultant_ut, 2), num(h.maximum_ut, 2));
+    for c in &h.comparisons {
+        let _ = write!(row, "  {:>7} {:<12}", num(c.ratio, 3), verdict_word(c.verdict));
+    }
+    if !h.inside_conductors.is_empty() {
+        let _ = write!(row, "  inside {}", h.inside_conductors.join(", "));
+    }
+    let _ = writeln!(s, "{}", row.trim_end());
+}
+
+/// One area: grid and verdict, highest and mean B, cells inside conductors,
+/// a row per table with its shares, and the time-weighted value.
+fn area_block(s: &mut String, a: &Assessment, ar: &AreaResult) {
+    let _ = writeln!(s);
+    let _ = writeln!(
+        s,
+        "  {}  (height {:.2} m, grid {:.2} m, {} cells)  →  {}",
+        ar.id,
+        ar.height_m,
+        ar.spacing_m,
+        ar.cells,
+        verdict_word(ar.verdict)
+    );
+    let at = ar.max_at.map(|p| format!(" at ({:.2}, {:.2})", p[0], p[1])).unwrap_or_default();
+    let _ =
+        writeln!(s, "    B highest {} µT{at}, mean {} µT", num(ar.max_resultant_ut, 2), num(ar.mean_resultant_ut, 2));
+    if ar.cells_inside_conductors > 0 {
+        let _ = writeln!(s, "    {} cells inside conductors are marked and not counted", ar.cells_inside_conductors);
+    }
+    for c in &ar.comparisons {
+        let pct = |v: Option<f64>| v.map(|x| format!("{:.1} %", 100.0 * x)).unwrap_or_else(|| "—".into());
         let _ = writeln!(
             s,
-            "AREAS   shares: part of the area at or above the level, and at or above the review fraction of it"
+            "    {:>4}  highest ratio {:>7}  share ≥ level {:>7}  share ≥ review {:>7}  {}",
+            table_column(a, &c.table_id),
+            num(c.max_ratio, 3),
+            pct(c.share_at_or_above_level),
+            pct(c.share_at_or_above_review),
+            verdict_word(c.verdict)
         );
-        for ar in &a.areas {
-            let _ = writeln!(s);
-            let _ = writeln!(
-                s,
-                "  {}  (height {:.2} m, grid {:.2} m, {} cells)  →  {}",
-                ar.id,
-                ar.height_m,
-                ar.spacing_m,
-                ar.cells,
-                verdict_word(ar.verdict)
-            );
-            let at = ar.max_at.map(|p| format!(" at ({:.2}, {:.2})", p[0], p[1])).unwrap_or_default();
-            let _ = writeln!(
-                s,
-                "    B highest {} µT{at}, mean {} µT",
-                num(ar.max_resultant_ut, 2),
-                num(ar.mean_resultant_ut, 2)
-            );
-            if ar.cells_inside_conductors > 0 {
-                let _ = writeln!(
-                    s,
-                    "    {} cells inside conductors are marked and not counted",
-                    ar.cells_inside_conductors
-                );
-            }
-            for c in &ar.comparisons {
-                let pct = |v: Option<f64>| v.map(|x| format!("{:.1} %", 100.0 * x)).unwrap_or_else(|| "—".into());
-                let _ = writeln!(
-                    s,
-                    "    {:>4}  highest ratio {:>7}  share ≥ level {:>7}  share ≥ review {:>7}  {}",
-                    col(&c.table_id),
-                    num(c.max_ratio, 3),
-                    pct(c.share_at_or_above_level),
-                    pct(c.share_at_or_above_review),
-                    verdict_word(c.verdict)
-                );
-            }
-            time_weighted_line(&mut s, ar.time_weighted.as_ref());
-        }
     }
+    time_weighted_line(s, ar.time_weighted.as_ref());
+}
 
+/// The worst verdict and the positions and areas at or near a level.
+fn summary(s: &mut String, a: &Assessment) {
     let _ = writeln!(s);
     let _ = writeln!(s, "SUMMARY   worst result: {}", verdict_word(a.summary.worst_verdict));
     let list = |v: &[String]| if v.is_empty() { "none".to_string() } else { v.join(", ") };
@@ -166,17 +194,15 @@ pub fn assessment_text(a: &Assessment) -> String {
         let _ = writeln!(s, "  areas at or above a level:       {}", list(&a.summary.areas_exceeding));
         let _ = writeln!(s, "  areas in the review band:        {}", list(&a.summary.areas_approaching));
     }
-    let _ = writeln!(s);
-    let _ = writeln!(s, "NOTES");
-    for n in &a.notes {
-        let _ = writeln!(s, "  - {n}");
-    }
+}
+
+/// The closing block every result carries.
+fn cautions(s: &mut String, cautions: &[String]) {
     let _ = writeln!(s);
     let _ = writeln!(s, "CAUTIONS");
-    for c in &a.cautions {
+    for c in cautions {
         let _ = writeln!(s, "  - {c}");
     }
-    s
 }
 
 /// One line per table: id, kind, who, and its level at 50 and 60 Hz.
@@ -245,6 +271,19 @@ pub fn survey_text(site_name: Option<&str>, s: &crate::survey::SurveyAnalysis) -
         "Measured at {}; meter ±{:.0} % and model ±{:.0} % (expanded, k = 2)",
         s.measured_at, r.meter_expanded_uncertainty_percent, r.model_expanded_uncertainty_percent
     );
+    reconciliation_block(&mut out, r);
+    load_fit_block(&mut out, &s.load_fit);
+    extrapolation_block(&mut out, s.extrapolation.as_ref());
+    for n in &s.notes {
+        let _ = writeln!(out, "note: {n}");
+    }
+    cautions(&mut out, &s.cautions);
+    out
+}
+
+/// A row per point (measured, model, ratio, allowed difference, flag) and
+/// the summary line.
+fn reconciliation_block(out: &mut String, r: &crate::survey::Reconciliation) {
     let _ = writeln!(out);
     let _ = writeln!(
         out,
@@ -275,7 +314,11 @@ pub fn survey_text(site_name: Option<&str>, s: &crate::survey::SurveyAnalysis) -
         sm.points,
         if sm.worst.is_empty() { "none".into() } else { sm.worst.join(", ") }
     );
-    let f = &s.load_fit;
+}
+
+/// A row per circuit (stated, scale ± error, fitted, status), the residual
+/// line and the fit's notes.
+fn load_fit_block(out: &mut String, f: &crate::survey::LoadFit) {
     let _ = writeln!(out);
     let _ = writeln!(out, "LOAD FIT (least squares on the measurements; scale = fitted / stated current)");
     for c in &f.circuits {
@@ -301,41 +344,34 @@ pub fn survey_text(site_name: Option<&str>, s: &crate::survey::SurveyAnalysis) -
     for n in &f.notes {
         let _ = writeln!(out, "    note: {n}");
     }
+}
+
+/// A row per point (measured × factor = extrapolated, each table's ratio
+/// and verdict) and the assumptions; or why there is none.
+fn extrapolation_block(out: &mut String, e: Option<&crate::survey::Extrapolation>) {
     let _ = writeln!(out);
-    match &s.extrapolation {
-        Some(e) => {
-            let _ = writeln!(out, "EXTRAPOLATION TO RATED LOAD");
-            for p in &e.points {
-                let cmp: Vec<String> = p
-                    .comparisons
-                    .iter()
-                    .map(|c| format!("{} {} {}", c.table_id, num(c.ratio, 3), verdict_word(c.verdict)))
-                    .collect();
-                let _ = writeln!(
-                    out,
-                    "    {:<16} {:>10.2} µT × {:>7} = {:>10} µT   {}",
-                    p.id,
-                    p.measured_ut,
-                    num(p.factor, 3),
-                    num(p.extrapolated_ut, 2),
-                    cmp.join("; ")
-                );
-            }
-            for a in &e.assumptions {
-                let _ = writeln!(out, "    assumption: {a}");
-            }
-        }
-        None => {
-            let _ = writeln!(out, "EXTRAPOLATION TO RATED LOAD: not possible (see notes)");
-        }
+    let Some(e) = e else {
+        let _ = writeln!(out, "EXTRAPOLATION TO RATED LOAD: not possible (see notes)");
+        return;
+    };
+    let _ = writeln!(out, "EXTRAPOLATION TO RATED LOAD");
+    for p in &e.points {
+        let cmp: Vec<String> = p
+            .comparisons
+            .iter()
+            .map(|c| format!("{} {} {}", c.table_id, num(c.ratio, 3), verdict_word(c.verdict)))
+            .collect();
+        let _ = writeln!(
+            out,
+            "    {:<16} {:>10.2} µT × {:>7} = {:>10} µT   {}",
+            p.id,
+            p.measured_ut,
+            num(p.factor, 3),
+            num(p.extrapolated_ut, 2),
+            cmp.join("; ")
+        );
     }
-    for n in &s.notes {
-        let _ = writeln!(out, "note: {n}");
+    for a in &e.assumptions {
+        let _ = writeln!(out, "    assumption: {a}");
     }
-    let _ = writeln!(out);
-    let _ = writeln!(out, "CAUTIONS");
-    for c in &s.cautions {
-        let _ = writeln!(out, "  - {c}");
-    }
-    out
 }

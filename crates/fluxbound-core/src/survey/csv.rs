@@ -36,7 +36,21 @@ fn fields(line: &str) -> Result<Vec<String>, &'static str> {
 pub fn parse_measurements(text: &str) -> Result<Vec<MeasurementDoc>, Vec<String>> {
     let mut lines = text.lines().enumerate().filter(|(_, l)| !l.trim().is_empty());
     let Some((_, header)) = lines.next() else { return Err(vec!["line 1: the CSV is empty".into()]) };
-    let header = fields(header).map_err(|e| vec![format!("line 1: {e}")])?;
+    let header = parse_header(header)?;
+    let mut errors = Vec::new();
+    let mut out = Vec::new();
+    for (n, line) in lines {
+        if let Some(m) = parse_row(&header, n + 1, line, &mut errors) {
+            out.push(m);
+        }
+    }
+    if errors.is_empty() { Ok(out) } else { Err(errors) }
+}
+
+/// The header's column names: every required column present, no unknown
+/// one.
+fn parse_header(line: &str) -> Result<Vec<String>, Vec<String>> {
+    let header = fields(line).map_err(|e| vec![format!("line 1: {e}")])?;
     let mut errors = Vec::new();
     for h in &header {
         if !REQUIRED.contains(&h.as_str()) && !OPTIONAL.contains(&h.as_str()) {
@@ -52,52 +66,50 @@ pub fn parse_measurements(text: &str) -> Result<Vec<MeasurementDoc>, Vec<String>
             errors.push(format!("line 1: missing column {r}"));
         }
     }
-    if !errors.is_empty() {
-        return Err(errors);
-    }
+    if errors.is_empty() { Ok(header) } else { Err(errors) }
+}
+
+/// One data row (1-based `line_no`); its problems go to `errors` and it
+/// yields a measurement only when every value parsed. The axes are read only
+/// when all three axis columns are present.
+fn parse_row(header: &[String], line_no: usize, line: &str, errors: &mut Vec<String>) -> Option<MeasurementDoc> {
     let col = |name: &str| header.iter().position(|h| h == name);
-    let mut out = Vec::new();
-    for (n, line) in lines {
-        let line_no = n + 1;
-        let row = match fields(line) {
-            Ok(r) => r,
-            Err(e) => {
-                errors.push(format!("line {line_no}: {e}"));
-                continue;
-            }
-        };
-        if row.len() != header.len() {
-            errors.push(format!("line {line_no}: {} fields, the header has {}", row.len(), header.len()));
-            continue;
+    let row = match fields(line) {
+        Ok(r) => r,
+        Err(e) => {
+            errors.push(format!("line {line_no}: {e}"));
+            return None;
         }
-        let mut num = |name: &str| -> Option<f64> {
-            let i = col(name)?;
-            match row[i].parse::<f64>() {
-                Ok(v) if v.is_finite() => Some(v),
-                _ => {
-                    errors.push(format!("line {line_no}, column {name}: '{}' is not a finite number", row[i]));
-                    None
-                }
-            }
-        };
-        let (x, y, z, b) = (num("x_m"), num("y_m"), num("z_m"), num("resultant_ut"));
-        let axes = if OPTIONAL.iter().all(|c| col(c).is_some()) {
-            match (num("bx_ut"), num("by_ut"), num("bz_ut")) {
-                (Some(a), Some(b), Some(c)) => Some([a, b, c]),
-                _ => None,
-            }
-        } else {
-            None
-        };
-        if let (Some(x), Some(y), Some(z), Some(b)) = (x, y, z, b) {
-            out.push(MeasurementDoc {
-                id: row[col("id").unwrap_or(0)].clone(),
-                at: vec![x, y, z],
-                height_m: None,
-                resultant_ut: b,
-                axes_ut: axes,
-            });
-        }
+    };
+    if row.len() != header.len() {
+        errors.push(format!("line {line_no}: {} fields, the header has {}", row.len(), header.len()));
+        return None;
     }
-    if errors.is_empty() { Ok(out) } else { Err(errors) }
+    let mut num = |name: &str| -> Option<f64> {
+        let i = col(name)?;
+        match row[i].parse::<f64>() {
+            Ok(v) if v.is_finite() => Some(v),
+            _ => {
+                errors.push(format!("line {line_no}, column {name}: '{}' is not a finite number", row[i]));
+                None
+            }
+        }
+    };
+    let (x, y, z, b) = (num("x_m"), num("y_m"), num("z_m"), num("resultant_ut"));
+    let axes = if OPTIONAL.iter().all(|c| col(c).is_some()) {
+        match (num("bx_ut"), num("by_ut"), num("bz_ut")) {
+            (Some(a), Some(b), Some(c)) => Some([a, b, c]),
+            _ => None,
+        }
+    } else {
+        None
+    };
+    let (x, y, z, b) = (x?, y?, z?, b?);
+    Some(MeasurementDoc {
+        id: row[col("id").unwrap_or(0)].clone(),
+        at: vec![x, y, z],
+        height_m: None,
+        resultant_ut: b,
+        axes_ut: axes,
+    })
 }
