@@ -9,28 +9,53 @@ use fluxbound::config::Config;
 use fluxbound::service::{Limits, Role, Service};
 use reqwest::{Client, Method, RequestBuilder, Response};
 use serde_json::Value;
-use std::path::PathBuf;
-use std::sync::Once;
+use std::path::{Path, PathBuf};
+use std::sync::{Arc, Once};
 use tokio::sync::oneshot;
 use tokio::task::JoinHandle;
 
 static LOGS: Once = Once::new();
 
-/// Where a test's data lives; kept across restarts of the same test.
+/// Where a test's data lives; kept across restarts of the same test (clones
+/// share it) and removed when the last clone drops.
 #[derive(Clone, Debug)]
 pub struct TestDb {
     pub data_dir: PathBuf,
     pub database_url: Option<String>,
+    _dir: Arc<TempDir>,
 }
 
 impl TestDb {
     pub async fn fresh() -> TestDb {
-        let data_dir = std::env::temp_dir().join(format!("fluxbound-test-{}", uuid::Uuid::new_v4().simple()));
+        let dir = TempDir::unique("fluxbound-test");
         let database_url = match std::env::var("FLUXBOUND_TEST_DATABASE_URL") {
             Ok(admin_url) if !admin_url.is_empty() => Some(create_pg_database(&admin_url).await),
             _ => None,
         };
-        TestDb { data_dir, database_url }
+        TestDb { data_dir: dir.path().to_path_buf(), database_url, _dir: Arc::new(dir) }
+    }
+}
+
+/// A folder in the system temp directory, removed with everything in it
+/// when the guard drops (also when the test panics). Nothing is created
+/// until someone writes there.
+#[derive(Debug)]
+pub struct TempDir(PathBuf);
+
+impl TempDir {
+    /// `<temp>/<prefix>-<uuid>`: a name no other test or run uses.
+    pub fn unique(prefix: &str) -> TempDir {
+        TempDir(std::env::temp_dir().join(format!("{prefix}-{}", uuid::Uuid::new_v4().simple())))
+    }
+
+    pub fn path(&self) -> &Path {
+        &self.0
+    }
+}
+
+impl Drop for TempDir {
+    fn drop(&mut self) {
+        let _ = std::fs::remove_dir_all(&self.0);
     }
 }
 

@@ -53,37 +53,81 @@ fn both_migration_trees_hold_the_same_versions_and_every_file_is_embedded() {
     }
 }
 
+/// Longest wait for the server to log its port, and then to exit after
+/// SIGTERM: far above the usual fraction of a second, so only a hang trips
+/// it (the child is then killed and the test fails instead of blocking CI).
+const SIGTERM_STEP_TIMEOUT: std::time::Duration = std::time::Duration::from_secs(60);
+
 #[test]
 fn the_server_exits_zero_on_sigterm_after_logging_its_real_port() {
     use std::io::{BufRead, BufReader};
-    let dir = std::env::temp_dir().join(format!("fluxbound-sigterm-{}", uuid::Uuid::new_v4().simple()));
+    use std::sync::mpsc::RecvTimeoutError;
+    let dir = TempDir::unique("fluxbound-sigterm");
     let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_fluxbound"))
         .args(["serve", "--listen", "127.0.0.1:0", "--data-dir"])
-        .arg(&dir)
+        .arg(dir.path())
         .env_remove("DATABASE_URL")
         .stderr(std::process::Stdio::piped())
         .spawn()
         .expect("start the server");
-    let mut lines = BufReader::new(child.stderr.take().unwrap()).lines();
-    let mut port = None;
-    for line in lines.by_ref() {
-        let line = line.unwrap();
-        if let Some(at) = line.find("listening on http://127.0.0.1:") {
-            let rest = &line[at + "listening on http://127.0.0.1:".len()..];
-            port = rest.split(|c: char| !c.is_ascii_digit()).next().and_then(|p| p.parse::<u16>().ok());
-            break;
+    // Read the log on a thread (also so the server never writes into a
+    // closed pipe); lines arrive here with a timeout.
+    let stderr = BufReader::new(child.stderr.take().unwrap());
+    let (tx, rx) = std::sync::mpsc::channel::<String>();
+    std::thread::spawn(move || {
+        for line in stderr.lines().map_while(Result::ok) {
+            if tx.send(line).is_err() {
+                break;
+            }
         }
-    }
-    // Keep reading the log so the server never writes into a closed pipe.
-    let drain = std::thread::spawn(move || lines.map_while(Result::ok).collect::<Vec<_>>());
-    let port = port.expect("a 'listening on' line with the real port");
+    });
+    let mut log = Vec::new();
+    let deadline = std::time::Instant::now() + SIGTERM_STEP_TIMEOUT;
+    let port = loop {
+        match rx.recv_timeout(deadline.saturating_duration_since(std::time::Instant::now())) {
+            Ok(line) => {
+                let found = line.find("listening on http://127.0.0.1:").and_then(|at| {
+                    let rest = &line[at + "listening on http://127.0.0.1:".len()..];
+                    rest.split(|c: char| !c.is_ascii_digit()).next().and_then(|p| p.parse::<u16>().ok())
+                });
+                log.push(line);
+                if let Some(port) = found {
+                    break port;
+                }
+            }
+            Err(e) => {
+                let _ = child.kill();
+                let _ = child.wait();
+                panic!("no 'listening on' line with the real port ({e:?}):\n{}", log.join("\n"));
+            }
+        }
+    };
     assert_ne!(port, 0);
     std::net::TcpStream::connect(("127.0.0.1", port)).expect("the port is open");
     let killed = std::process::Command::new("kill").args(["-TERM", &child.id().to_string()]).status().unwrap();
     assert!(killed.success());
-    let status = child.wait().unwrap();
-    let log = drain.join().unwrap().join("\n");
+    let deadline = std::time::Instant::now() + SIGTERM_STEP_TIMEOUT;
+    let status = loop {
+        if let Some(status) = child.try_wait().unwrap() {
+            break status;
+        }
+        if std::time::Instant::now() >= deadline {
+            let _ = child.kill();
+            let _ = child.wait();
+            panic!("the server did not exit within {SIGTERM_STEP_TIMEOUT:?} of SIGTERM:\n{}", log.join("\n"));
+        }
+        std::thread::sleep(std::time::Duration::from_millis(20));
+    };
+    // The child has exited, so its stderr ends; the timeout only guards
+    // against a grandchild holding the pipe.
+    loop {
+        match rx.recv_timeout(SIGTERM_STEP_TIMEOUT) {
+            Ok(line) => log.push(line),
+            Err(RecvTimeoutError::Disconnected) => break,
+            Err(RecvTimeoutError::Timeout) => panic!("the server's log did not end after it exited"),
+        }
+    }
+    let log = log.join("\n");
     assert_eq!(status.code(), Some(0), "{status:?}\n{log}");
     assert!(log.contains("draining"), "{log}");
-    let _ = std::fs::remove_dir_all(dir);
 }

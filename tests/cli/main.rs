@@ -46,14 +46,41 @@ fn stderr_of(out: &Output) -> String {
     String::from_utf8(out.stderr.clone()).expect("stderr is UTF-8")
 }
 
-/// Writes `text` to a file in the system temp directory whose name no other
-/// test (or concurrent test run) uses.
-fn temp_file(tag: &str, text: &str) -> PathBuf {
-    static COUNTER: AtomicUsize = AtomicUsize::new(0);
-    let n = COUNTER.fetch_add(1, Ordering::Relaxed);
-    let nanos = std::time::SystemTime::now().duration_since(std::time::UNIX_EPOCH).map(|d| d.as_nanos()).unwrap_or(0);
-    let path = std::env::temp_dir().join(format!("fluxbound-cli-{}-{nanos}-{n}-{tag}.json", std::process::id()));
-    std::fs::write(&path, text).expect("write a temp file");
+/// A file or folder in the system temp directory, removed when the guard
+/// drops, so a failing test leaves nothing behind either.
+struct TempPath(PathBuf);
+
+impl TempPath {
+    /// A path in the temp directory whose name no other test (or concurrent
+    /// test run) uses; nothing is created.
+    fn unique(tag: &str) -> TempPath {
+        static COUNTER: AtomicUsize = AtomicUsize::new(0);
+        let n = COUNTER.fetch_add(1, Ordering::Relaxed);
+        let nanos =
+            std::time::SystemTime::now().duration_since(std::time::UNIX_EPOCH).map(|d| d.as_nanos()).unwrap_or(0);
+        TempPath(std::env::temp_dir().join(format!("fluxbound-cli-{}-{nanos}-{n}-{tag}", std::process::id())))
+    }
+}
+
+impl std::ops::Deref for TempPath {
+    type Target = Path;
+    fn deref(&self) -> &Path {
+        &self.0
+    }
+}
+
+impl Drop for TempPath {
+    fn drop(&mut self) {
+        // Either kind may be absent (never created, or already removed).
+        let _ = std::fs::remove_dir_all(&self.0);
+        let _ = std::fs::remove_file(&self.0);
+    }
+}
+
+/// Writes `text` to a fresh temp file, removed when the guard drops.
+fn temp_file(tag: &str, text: &str) -> TempPath {
+    let path = TempPath::unique(&format!("{tag}.json"));
+    std::fs::write(&*path, text).expect("write a temp file");
     path
 }
 
@@ -357,7 +384,6 @@ fn checking_a_site_written_to_a_temp_file_reports_a_problem_in_a_position() {
         "positions": [{"id": "p", "at": [1, 2, 3, 4]}, {"id": "p", "at": [1, 2]}]}"#;
     let path = temp_file("positions", site);
     let out = fluxbound(&["check", path.to_str().unwrap()], None);
-    let _ = std::fs::remove_file(&path);
     let stdout = stdout_of(&out);
     assert_eq!(out.status.code(), Some(1), "stdout: {stdout}");
     assert!(stdout.contains("/positions/0/at"), "stdout: {stdout}");
@@ -370,7 +396,6 @@ fn checking_a_site_with_a_shape_error_exits_1_with_its_pointer() {
         r#"{"frequency_hz": 50, "conductors": [], "areas": [{"id": "a", "polygon": [], "height_m": 1, "spacing": 1}]}"#;
     let path = temp_file("shape", site);
     let out = fluxbound(&["check", path.to_str().unwrap()], None);
-    let _ = std::fs::remove_file(&path);
     let all = format!("{}{}", stdout_of(&out), stderr_of(&out));
     assert_eq!(out.status.code(), Some(1), "output: {all}");
     assert!(all.contains("/areas/0/spacing"), "output: {all}");
@@ -630,7 +655,6 @@ fn the_rated_load_on_a_site_with_a_circuit_lacking_a_rated_current_exits_1_namin
     let path = temp_file("no-rated", site);
     let rated = fluxbound(&["assess", path.to_str().unwrap(), "--load", "rated"], None);
     let present = fluxbound(&["assess", path.to_str().unwrap(), "--load", "present"], None);
-    let _ = std::fs::remove_file(&path);
     assert_rejected_with(&rated, &["/circuits/1/rated_current_a", "circuit 'aux'"]);
     assert_eq!(present.status.code(), Some(0), "the present load needs no rating: {}", stderr_of(&present));
 }
@@ -649,7 +673,6 @@ const CUSTOM_TABLE: &str = r#"{
 fn a_table_file_is_loaded_and_applied_beside_the_chosen_tables() {
     let path = temp_file("custom-table", CUSTOM_TABLE);
     let out = fluxbound(&["assess", SWITCH_ROOM, "--table-file", path.to_str().unwrap(), "--format", "json"], None);
-    let _ = std::fs::remove_file(&path);
     assert_eq!(out.status.code(), Some(0), "stderr: {}", stderr_of(&out));
     let v: Value = serde_json::from_slice(&out.stdout).expect("stdout is one JSON document");
     let ids = table_ids(&v);
@@ -665,14 +688,13 @@ fn a_table_file_is_loaded_and_applied_beside_the_chosen_tables() {
 fn an_invalid_table_file_exits_1_with_the_pointer_into_that_file() {
     let path = temp_file("bad-table", &CUSTOM_TABLE.replace(r#""coefficient": 50"#, r#""coefficient": 0"#));
     let out = fluxbound(&["assess", SWITCH_ROOM, "--table-file", path.to_str().unwrap()], None);
-    let _ = std::fs::remove_file(&path);
     assert_rejected_with(&out, &["/bands/0/coefficient", "coefficient must be positive"]);
 }
 
 #[test]
 fn assess_writes_the_area_map_csv_and_geojson_files_it_is_asked_for() {
-    let dir = std::env::temp_dir().join(format!("fluxbound-cli-exports-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
+    let dir = TempPath::unique("exports");
+    std::fs::create_dir_all(&*dir).unwrap();
     let (svg, csv, geo) = (dir.join("map.svg"), dir.join("positions.csv"), dir.join("features.geojson"));
     let out = std::process::Command::new(env!("CARGO_BIN_EXE_fluxbound"))
         .current_dir(env!("CARGO_MANIFEST_DIR"))
@@ -710,7 +732,6 @@ fn assess_writes_the_area_map_csv_and_geojson_files_it_is_asked_for() {
     assert_eq!(out.status.code(), Some(1));
     assert!(String::from_utf8_lossy(&out.stderr).contains("/--map"));
     assert!(!missing.exists());
-    let _ = std::fs::remove_dir_all(dir);
 }
 
 #[test]
