@@ -159,7 +159,7 @@ pub(crate) unsafe fn unit_field_baseline(f: &Filaments, k: usize, p: &ChunkPoint
 }
 
 /// # Safety
-/// The CPU must support AVX2 ([`select`] checks this).
+/// The CPU must support AVX2 ([`Variant::kernel`] checks this).
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx2")]
 pub(crate) unsafe fn unit_field_avx2(f: &Filaments, k: usize, p: &ChunkPoints, out: &mut UnitField) {
@@ -167,7 +167,7 @@ pub(crate) unsafe fn unit_field_avx2(f: &Filaments, k: usize, p: &ChunkPoints, o
 }
 
 /// # Safety
-/// The CPU must support AVX-512F ([`select`] checks this).
+/// The CPU must support AVX-512F ([`Variant::kernel`] checks this).
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx512f")]
 pub(crate) unsafe fn unit_field_avx512(f: &Filaments, k: usize, p: &ChunkPoints, out: &mut UnitField) {
