@@ -1,6 +1,6 @@
 //! Summary quantities of a complex RMS field phasor.
 //!
-//! Terminology follows IEC 61786 as summarised in REFERENCES.md: the
+//! Terminology follows IEC 61786 as summarised in docs/REFERENCES.md: the
 //! **resultant** is the root-sum-square of three orthogonal RMS components
 //! (what a three-axis meter reads); the **maximum** is the RMS value along the
 //! major axis of the polarisation ellipse.

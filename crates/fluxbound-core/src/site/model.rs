@@ -103,5 +103,5 @@ pub fn filaments(conductors: &[Conductor]) -> crate::field::Filaments {
 }
 
 /// Default body heights above a standing point, m: the 0.5 / 1.0 / 1.5 m set
-/// of IEC 62110 practice (REFERENCES.md, from memory).
+/// of IEC 62110 practice (docs/REFERENCES.md, from memory).
 pub const DEFAULT_HEIGHTS_M: [f64; 3] = [0.5, 1.0, 1.5];

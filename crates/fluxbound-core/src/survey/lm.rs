@@ -9,20 +9,24 @@
 //! ```
 //!
 //! over the entries not held at their bound, clips the trial point at 0 and
-//! accepts it when the cost does not rise. The scaling `diag(JᵀJ)` is
-//! Marquardt's, which Moré writes as `D = diag(‖J_k‖)` (the column norms of
-//! J) so that the step does not depend on the units of each parameter; λ
-//! falls after an accepted step and rises after a rejected one.
+//! accepts it when the cost does not rise. The scaling `diag(JᵀJ)` is `D²`
+//! with Moré's `D = diag(‖J_k‖)` (the column norms of J), so the step does
+//! not depend on the units of each parameter; λ falls after an accepted step
+//! and rises after a rejected one.
 //!
-//! Sources:
+//! Sources (listed in docs/REFERENCES.md):
 //! - J. J. Moré, "The Levenberg–Marquardt algorithm: implementation and
 //!   theory", in G. A. Watson (ed.), *Numerical Analysis*, Lecture Notes in
-//!   Mathematics 630, Springer, 1978, pp. 105–116 (the damped step, the
-//!   column scaling, the acceptance test).
+//!   Mathematics 630, Springer, 1978, pp. 105–116 (the damped step and the
+//!   column scaling; Moré accepts steps by a trust-region ratio test, this
+//!   solver by a simple decrease of the cost).
 //! - J. Nocedal and S. J. Wright, *Numerical Optimization*, 2nd ed.,
 //!   Springer, 2006, ch. 10.3 (Levenberg–Marquardt as a trust-region method
 //!   for nonlinear least squares) and §16.7 (gradient projection: a variable
 //!   at its bound whose gradient points outward is held for the step).
+//! - D. W. Marquardt, "An algorithm for least-squares estimation of
+//!   nonlinear parameters", J. SIAM 11(2):431–441, 1963 (λ multiplied or
+//!   divided by a fixed factor).
 //!
 //! The numeric tuning below (the factors on λ, the tolerances) is our own
 //! choice, not taken from those sources: they give the algorithm, not these

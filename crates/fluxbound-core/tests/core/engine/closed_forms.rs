@@ -1,4 +1,4 @@
-//! Closed forms from textbooks and derived laws (REFERENCES.md, "Closed forms
+//! Closed forms from textbooks and derived laws (docs/REFERENCES.md, "Closed forms
 //! for the field engine"). µ0 = 4π×10⁻⁷ T·m/A, so µ0/2π = 0.2 µT·m/A.
 
 use super::*;
@@ -30,7 +30,7 @@ fn a_finite_segment_of_length_twenty_times_the_distance_is_within_half_a_percent
     assert!(rel(b, infinite) < 0.005, "{b} vs {infinite}");
 }
 
-// Derived (REFERENCES.md, D): L = 2 m, 100 A, bisector at 1 m → 14.142 µT.
+// Derived (docs/REFERENCES.md, D): L = 2 m, 100 A, bisector at 1 m → 14.142 µT.
 #[test]
 fn a_two_metre_segment_seen_from_one_metre_on_its_bisector_gives_14_142_microtesla() {
     let w = [wire(&[[0.0, -1.0, 0.0], [0.0, 1.0, 0.0]], 100.0, 0.0)];
@@ -143,7 +143,7 @@ fn a_helix_of_three_hundred_turns_gives_the_solenoid_field_at_its_centre() {
     assert!(rel(b_ut * 1e-3, 1.10) < 0.01, "published 1.10 mT: {b_ut} µT");
 }
 
-// Derived (REFERENCES.md, D): two antiparallel long wires a distance d apart
+// Derived (docs/REFERENCES.md, D): two antiparallel long wires a distance d apart
 // give |B| = µ0 I d / (2π r1 r2) exactly; d = 1 m at x = ±0.5 m, 100 A →
 // 80.00 µT at the midpoint.
 #[test]
@@ -174,7 +174,7 @@ fn at(wires: &[Wire], p: [f64; 3]) -> (f64, f64) {
     (resultant_ut(&b), maximum_ut(&b))
 }
 
-// Derived (REFERENCES.md, D): a balanced flat set, spacing d centre to
+// Derived (docs/REFERENCES.md, D): a balanced flat set, spacing d centre to
 // outer, far field B ≈ √3 µ0 I d / (2π r²) = 0.346 I d / r² µT (the 2-D
 // dipole term; within 1 % at r = 10 d broadside), nearly linear
 // polarisation. In line with the conductors the next term is larger: summing
@@ -199,7 +199,7 @@ fn a_balanced_flat_three_phase_set_falls_as_one_over_r_squared_with_linear_polar
     }
 }
 
-// Derived (REFERENCES.md, D): a balanced equilateral (trefoil) set of side s,
+// Derived (docs/REFERENCES.md, D): a balanced equilateral (trefoil) set of side s,
 // far field B ≈ √(3/2) µ0 I s / (2π r²) = 0.245 I s / r² µT, circular
 // polarisation: maximum → resultant / √2 as r grows (the correction is of
 // order s/r, so it halves when r doubles).
@@ -225,8 +225,8 @@ fn a_balanced_trefoil_set_falls_as_one_over_r_squared_with_circular_polarisation
     }
 }
 
-// Source: public information pages of a national grid operator (REFERENCES
-// .md, V): 1/r for a net current. Checked against the infinite-wire law.
+// Source: public information pages of a national grid operator
+// (docs/REFERENCES.md, V): 1/r for a net current. Checked against the infinite-wire law.
 #[test]
 fn an_unbalanced_set_falls_as_one_over_r_far_away() {
     let mut set = three_phase([[-0.2, 0.0], [0.0, 0.0], [0.2, 0.0]], 500.0);

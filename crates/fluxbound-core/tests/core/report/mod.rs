@@ -1,5 +1,5 @@
 //! Pictures and exports, checked against closed forms (Source: OpenStax
-//! University Physics Vol. 2 §12.2, B = 0.2 · I / R µT; REFERENCES.md "D" for
+//! University Physics Vol. 2 §12.2, B = 0.2 · I / R µT; docs/REFERENCES.md "D" for
 //! the antiparallel pair), an outside geodesy library, and general-purpose
 //! parsers and renderers.
 
@@ -134,7 +134,7 @@ fn the_distance_to_a_level_from_a_single_wire_is_point_two_i_over_b() {
 
 #[test]
 fn the_distance_to_a_level_from_a_go_and_return_pair_follows_the_exact_two_wire_form() {
-    // Derived (REFERENCES.md, D): |B| = µ0 I d / (2π r1 r2); from the
+    // Derived (docs/REFERENCES.md, D): |B| = µ0 I d / (2π r1 r2); from the
     // midpoint along y, r1 = r2 = sqrt(d²/4 + y²), so B = 0.2 I d / (d²/4 + y²)
     // and the distance to B is y = sqrt(0.2 I d / B − d²/4).
     let (i, d, level) = (1500.0, 0.4, 20.0);
