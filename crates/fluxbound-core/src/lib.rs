@@ -17,8 +17,9 @@
 //! limits/     reference-level tables as data: bands, lookup, validation, built-ins
 //! assess/     exposure at positions and areas, load cases, ratios and verdicts,
 //!             area grids and field maps
-//! survey/     measured against modelled, bounded least-squares load fit,
-//!             extrapolation to rated load
+//! survey/     measured against modelled (a checked survey carries its site),
+//!             bounded least-squares load fit, extrapolation to rated load
+//! survey/lm   the Levenberg–Marquardt solver of the fit, tuning named and cited
 //! mitigate/   distance to a level along a direction
 //! report/     pure renderers: text, CSV, SVG, GeoJSON, contours, geodesy
 //! usecase     one function per thing a caller can do (CLI and service alike)

@@ -7,7 +7,7 @@
 //! Accuracy: the neglected curvature terms grow as d²·tan φ / R; against a
 //! geodesic reference the position error stays below 0.25 m within 1 km of
 //! the origin and below 1 m within 3 km, for latitudes up to 60°
-//! (tests/report checks this against GeographicLib). Use a proper
+//! (tests/core/report checks this against GeographicLib). Use a proper
 //! projection beyond a few kilometres.
 
 use crate::site::wire::GeoreferenceDoc;

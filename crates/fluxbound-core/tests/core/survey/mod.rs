@@ -1,6 +1,6 @@
 //! Surveys: synthetic measurements made from the model (an independent path:
 //! the streamed field engine, checked against closed forms and magpylib in
-//! tests/engine), hand arithmetic for the extrapolation, and CSV import.
+//! tests/core/engine), hand arithmetic for the extrapolation, and CSV import.
 
 use fluxbound_core::field::{self, Filament, Filaments};
 use fluxbound_core::limits::builtin_table;
