@@ -169,9 +169,17 @@ fn three_phase(positions: [[f64; 2]; 3], i: f64) -> Vec<Wire> {
         .collect()
 }
 
+/// Resultant and maximum (µT) of `wires` at `p`. `maximum_ut` clamps its
+/// result to the resultant, so a polarisation check on it alone could not see
+/// an overshoot: it must first match the major semi-axis found from the
+/// ellipse itself (`ellipse_major_rms`, no clamp) to 1e-9 of the resultant
+/// (the search's angle step of 1e-10 rad leaves an error far below that).
 fn at(wires: &[Wire], p: [f64; 3]) -> (f64, f64) {
     let b = field_at(wires, &[Point3::new(p[0], p[1], p[2])])[0];
-    (resultant_ut(&b), maximum_ut(&b))
+    let (r, m) = (resultant_ut(&b), maximum_ut(&b));
+    let major = ellipse_major_rms(&b);
+    assert!((m - major).abs() <= 1e-9 * r, "maximum_ut {m} vs the ellipse's major semi-axis {major}");
+    (r, major)
 }
 
 // Derived (docs/REFERENCES.md, D): a balanced flat set, spacing d centre to
