@@ -242,9 +242,10 @@ fn reconcile(survey: &Survey, gf: &GroupFields) -> Reconciliation {
 const MIN_SENSITIVITY: f64 = 1.0e-3;
 /// Condition number of the Jacobian beyond which the fit is ill-conditioned.
 const MAX_CONDITION: f64 = 1.0e8;
-/// Floor on a reading's standard uncertainty, as a fraction of the median
-/// reading's: a zero or tiny reading would otherwise get σ → 0 and an
-/// unbounded weight.
+/// Floor on a reading's standard uncertainty, as a fraction of the standard
+/// uncertainty of the median reading: a zero or tiny reading would otherwise
+/// get σ → 0 and an unbounded weight. Our own choice, like the three
+/// thresholds around it (no source).
 const SIGMA_FLOOR_OF_MEDIAN: f64 = 1e-3;
 /// A fitted scale whose standard uncertainty exceeds this (dimensionless,
 /// ±50 % of the stated load) is reported as poorly determined.
