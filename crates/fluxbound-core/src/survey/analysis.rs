@@ -446,7 +446,7 @@ fn extrapolate(
     survey: &Survey,
     gf: &GroupFields,
     tables: &[ReferenceTable],
-    review_fraction: f64,
+    review_fraction: crate::assess::ReviewFraction,
 ) -> Option<Extrapolation> {
     let rated: Option<Vec<CircuitLoad>> =
         site.circuits.iter().map(|c| c.rated_current_a.map(CircuitLoad::CurrentA)).collect();
@@ -516,7 +516,7 @@ pub fn analyse(
     site: &Site,
     survey: &Survey,
     tables: &[ReferenceTable],
-    review_fraction: f64,
+    review_fraction: crate::assess::ReviewFraction,
 ) -> Result<SurveyAnalysis, Problems> {
     let points: Vec<nalgebra::Point3<f64>> = survey.points.iter().map(|m| m.at).collect();
     let gf = group_fields(site, &points, &survey.loads);
