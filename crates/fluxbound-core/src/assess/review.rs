@@ -10,7 +10,7 @@ use std::fmt;
 #[derive(Debug, Clone, Copy, PartialEq, PartialOrd, Serialize, Deserialize)]
 #[serde(try_from = "f64", into = "f64")]
 #[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
-#[cfg_attr(feature = "schema", schema(value_type = f64, default = 0.5, minimum = 0, maximum = 1))]
+#[cfg_attr(feature = "schema", schema(value_type = f64, exclusive_minimum = 0, exclusive_maximum = 1))]
 pub struct ReviewFraction(f64);
 
 /// Why a number is not a review fraction (the message a caller sees).

@@ -80,6 +80,24 @@ pub fn line_levels(table: &ReferenceTable, line_hz: &[f64]) -> Vec<Option<f64>> 
     line_hz.iter().map(|f| table.level_ut(*f).ok()).collect()
 }
 
+/// One spectral line's share of an exposure ratio.
+enum LineShare {
+    /// No field at this line (0 µT): the table's coverage does not matter.
+    NoField,
+    /// `B_f / B_RL(f)`.
+    Share(f64),
+    /// Field present at a frequency the table does not cover.
+    Uncovered,
+}
+
+fn line_share(b_ut: f64, level_ut: Option<f64>) -> LineShare {
+    match level_ut {
+        _ if b_ut <= 0.0 => LineShare::NoField,
+        Some(l) => LineShare::Share(b_ut / l),
+        None => LineShare::Uncovered,
+    }
+}
+
 /// The exposure ratio `Σ_f B_f / B_RL(f)` — the ICNIRP 2010 multi-frequency
 /// rule for 1 Hz–10 MHz (from memory, REFERENCES.md), with one frequency
 /// simply `B / B_RL(f)`. `b_ut` is the resultant RMS flux density of each
@@ -92,10 +110,10 @@ pub fn exposure_ratio(b_ut: impl IntoIterator<Item = f64>, levels: &[Option<f64>
     let mut sum = 0.0;
     let mut uncovered = Vec::new();
     for (k, (b, level)) in b_ut.into_iter().zip(levels).enumerate() {
-        match level {
-            _ if b <= 0.0 => {}
-            Some(l) => sum += b / l,
-            None => uncovered.push(k),
+        match line_share(b, *level) {
+            LineShare::NoField => {}
+            LineShare::Share(r) => sum += r,
+            LineShare::Uncovered => uncovered.push(k),
         }
     }
     if uncovered.is_empty() { Ok(sum) } else { Err(uncovered) }
@@ -109,8 +127,10 @@ pub fn ratio_of(spectrum: &[(f64, f64)], table: &ReferenceTable) -> Ratio {
     let per_frequency = spectrum
         .iter()
         .zip(&levels)
-        .filter_map(|(&(f, b), level)| match level {
-            Some(l) if b > 0.0 => Some(FrequencyRatio { frequency_hz: f, b_ut: b, level_ut: *l, ratio: b / l }),
+        .filter_map(|(&(f, b), level)| match (line_share(b, *level), level) {
+            (LineShare::Share(ratio), Some(l)) => {
+                Some(FrequencyRatio { frequency_hz: f, b_ut: b, level_ut: *l, ratio })
+            }
             _ => None,
         })
         .collect();

@@ -3,6 +3,8 @@
 //! Vol. 2, §12.2: B = µ0 I / (2π R), i.e. B[µT] = 0.2 · I[A] / R[m]) and the
 //! published table values (REFERENCES.md).
 
+mod usecase;
+
 use fluxbound_core::assess::{self, Assessment, LoadCase, Options, ReviewFraction, Verdict};
 use fluxbound_core::limits::{ReferenceTable, builtin_table};
 use fluxbound_core::site::{Problem, parse_json, parse_site};
