@@ -1,7 +1,10 @@
-//! Command line: parse arguments, read input, call the core, print, exit.
+//! Command line: parse arguments, read files, call the core's use cases
+//! (`fluxbound_core::usecase`, the same ones the HTTP service calls), print,
+//! exit. Works offline on files; only `serve` and `keys` open a database.
 //!
-//! Exit codes: 0 success; 1 the input has problems (each printed with its
-//! JSON pointer); 2 usage or I/O error. Nothing here panics on user input, and
+//! Exit codes: 0 success; 1 the input has problems (each printed where the
+//! user gave it: a JSON pointer into a file, or the flag, as in
+//! `--tables: unknown table 'nope'`); 2 usage or I/O error. Nothing here panics on user input, and
 //! a panic anywhere prints one line instead of a backtrace.
 
 use clap::{Parser, Subcommand, ValueEnum};

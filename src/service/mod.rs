@@ -1,6 +1,10 @@
-//! Use cases: one function per thing a caller can do. Owns authorisation,
-//! transactions (through the store), size bounds and compute budgets, and
-//! runs CPU-heavy field work off the async threads.
+//! The service around the core's use cases (`fluxbound_core::usecase`):
+//! one method per thing an API caller can do. Owns authorisation,
+//! transactions (through the store), size bounds and the configured compute
+//! budgets, runs CPU-heavy field work off the async threads, and addresses
+//! the use cases' typed errors as pointers into the HTTP request (one place:
+//! `From<UseCaseError> for ServiceError`). The rules themselves live in the
+//! core, so the CLI and the service cannot drift apart.
 
 mod assessments;
 mod auth;
