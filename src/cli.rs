@@ -57,6 +57,8 @@ pub enum Command {
         #[command(subcommand)]
         action: Option<TablesAction>,
     },
+    /// Distance from a position, conductor or point to where the field falls below a level (JSON).
+    Distance(DistanceArgs),
     /// Spot-measurement surveys.
     Survey {
         #[command(subcommand)]
@@ -105,6 +107,25 @@ pub struct AssessArgs {
     /// Also write conductors, positions, contours and zones as GeoJSON to this file.
     #[arg(long, value_name = "FILE")]
     pub geojson: Option<PathBuf>,
+}
+
+#[derive(Debug, clap::Args)]
+pub struct DistanceArgs {
+    /// Site model (JSON), or `-` for standard input.
+    #[arg(value_name = "SITE")]
+    pub site: PathBuf,
+    /// Level, µT RMS (resultant).
+    #[arg(long = "level-ut", value_name = "MICROTESLA", allow_negative_numbers = true)]
+    pub level_ut: f64,
+    /// `position:ID`, `conductor:ID` (middle of its longest segment) or `point:x,y,z` (m).
+    #[arg(long, value_name = "ORIGIN")]
+    pub from: String,
+    /// `shortest` (horizontal directions in 5° steps and straight up) or `x,y,z`; default shortest.
+    #[arg(long, value_name = "DIRECTION", allow_hyphen_values = true)]
+    pub direction: Option<String>,
+    /// Currents to search at.
+    #[arg(long, value_enum, default_value_t = LoadArg::Present)]
+    pub load: LoadArg,
 }
 
 /// Where the database is: `DATABASE_URL=postgres://…` or SQLite in `--data-dir`.
@@ -223,6 +244,15 @@ pub enum LoadArg {
     Present,
     /// Each circuit's rated current.
     Rated,
+}
+
+impl From<LoadArg> for LoadCase {
+    fn from(load: LoadArg) -> LoadCase {
+        match load {
+            LoadArg::Present => LoadCase::Present,
+            LoadArg::Rated => LoadCase::Rated,
+        }
+    }
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
@@ -354,6 +384,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<ExitCode, CliError> {
         Command::Check { file } => check_command(&file, out),
         Command::Assess(args) => assess_command(&args, out),
         Command::Tables { action } => tables_command(action, out),
+        Command::Distance(args) => distance_command(&args, out),
         Command::Survey { action: SurveyAction::Reconcile { site, survey, tables, review_fraction, format } } => {
             survey_command(&SurveyInputs { site, survey, tables, review_fraction }, format, out)
         }
@@ -463,10 +494,7 @@ fn assess_command(args: &AssessArgs, out: &mut dyn Write) -> Result<ExitCode, Cl
     let custom = read_table_files(&args.table_files)?;
     let tables = assessment_tables(&args.tables, &site, custom)?;
     let review_fraction = review_fraction_flag(args.review_fraction)?;
-    let load = match args.load {
-        LoadArg::Present => LoadCase::Present,
-        LoadArg::Rated => LoadCase::Rated,
-    };
+    let load = LoadCase::from(args.load);
     let budget = Budget::offline();
     let result = usecase::assess_site(&site, &load, &tables, review_fraction, &budget)?;
     if let (Some(area_id), Some(path)) = (&args.map, &args.out) {
@@ -483,6 +511,13 @@ fn assess_command(args: &AssessArgs, out: &mut dyn Write) -> Result<ExitCode, Cl
         Format::Json => write_json(out, &result)?,
         Format::Table => write!(out, "{}", text::assessment_text(&result)).map_err(CliError::Write)?,
     }
+    Ok(ExitCode::SUCCESS)
+}
+
+fn distance_command(args: &DistanceArgs, out: &mut dyn Write) -> Result<ExitCode, CliError> {
+    let site = read_site(&args.site)?;
+    let query = usecase::DistanceQuery::parse(&args.from, args.direction.as_deref(), args.level_ut)?;
+    write_json(out, &usecase::distance_to_level(&site, &LoadCase::from(args.load), &query)?)?;
     Ok(ExitCode::SUCCESS)
 }
 

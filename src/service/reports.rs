@@ -85,7 +85,7 @@ impl Service {
         caller: &Caller,
         id: &str,
         from: &str,
-        direction: &str,
+        direction: Option<&str>,
         level_ut: f64,
     ) -> Result<DistanceResult> {
         let query = DistanceQuery::parse(from, direction, level_ut)?;

@@ -820,3 +820,46 @@ fn survey_reconcile_judges_the_extrapolation_at_the_review_fraction_given() {
     assert!(low.iter().any(|(_, _, _, v)| v == "approaching"), "{low:?}");
     assert!(default.iter().all(|(_, _, _, v)| v == "within"), "{default:?}");
 }
+
+/// One long single-phase wire along x at the origin carrying 100 A, and a
+/// position 1 m from it.
+const LONG_WIRE_SITE: &str = r#"{"frequency_hz": 50,
+    "circuits": [{"id": "w", "kind": "single_phase", "current_a": 100}],
+    "conductors": [{"id": "w-A", "circuit": "w", "phase": "A", "radius_m": 0.01, "path": [[-10000, 0, 0], [10000, 0, 0]]}],
+    "positions": [{"id": "p", "at": [0, 1, 0]}]}"#;
+
+#[test]
+fn distance_finds_where_a_long_wires_field_halves_at_twice_the_radius() {
+    // B = 0.2 · I / R µT (OpenStax University Physics Vol. 2, §12.2):
+    // 20 µT at 1 m, 10 µT at 2 m, so 1 m farther along +y. Tolerance 1 mm:
+    // the search stops within 0.1 mm and the 10 km wire differs from an
+    // infinite one by (R/L)² ≈ 4e-8.
+    let path = temp_file("long-wire", LONG_WIRE_SITE);
+    let out = fluxbound(
+        &["distance", path.to_str().unwrap(), "--from", "position:p", "--level-ut", "10", "--direction", "0,1,0"],
+        None,
+    );
+    let _ = std::fs::remove_file(&path);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr_of(&out));
+    let v: Value = serde_json::from_str(&stdout_of(&out)).unwrap();
+    let d = v["distance_m"].as_f64().unwrap();
+    assert!((d - 1.0).abs() < 1e-3, "{v}");
+    let b0 = v["b_at_origin_ut"].as_f64().unwrap();
+    assert!(rel_diff(b0, 20.0) < 1e-6, "{b0}");
+}
+
+#[test]
+fn distance_arguments_that_are_wrong_exit_1_naming_their_flag() {
+    let path = temp_file("long-wire-bad", LONG_WIRE_SITE);
+    let site = path.to_str().unwrap();
+    let cases: [(&[&str], &str); 3] = [
+        (&["--from", "position:ghost", "--level-ut", "10"], "--from: unknown position 'ghost'"),
+        (&["--from", "position:p", "--level-ut", "-5"], "--level-ut: "),
+        (&["--from", "position:p", "--level-ut", "10", "--direction", "sideways"], "--direction: "),
+    ];
+    for (args, needle) in cases {
+        let out = fluxbound(&[&["distance", site][..], args].concat(), None);
+        assert_rejected_with(&out, &[needle]);
+    }
+    let _ = std::fs::remove_file(&path);
+}

@@ -274,6 +274,9 @@ pub fn export_geojson(
 /// Largest level a distance can be asked for, µT (far above any table).
 pub const MAX_DISTANCE_LEVEL_UT: f64 = 1.0e9;
 
+/// The direction searched when the caller names none.
+pub const DEFAULT_DIRECTION: &str = "shortest";
+
 /// A checked distance query: from where, along which direction, to which level.
 #[derive(Debug, Clone, PartialEq)]
 pub struct DistanceQuery {
@@ -285,13 +288,15 @@ pub struct DistanceQuery {
 
 impl DistanceQuery {
     /// Checks `from` (`position:ID`, `conductor:ID` or `point:x,y,z`),
-    /// `direction` (`shortest` or `x,y,z`) and `level_ut` (µT RMS, positive).
-    pub fn parse(from: &str, direction: &str, level_ut: f64) -> Result<DistanceQuery, UseCaseError> {
+    /// `direction` (`shortest` or `x,y,z`; absent means `shortest`) and
+    /// `level_ut` (µT RMS, positive).
+    pub fn parse(from: &str, direction: Option<&str>, level_ut: f64) -> Result<DistanceQuery, UseCaseError> {
         if !(level_ut.is_finite() && level_ut > 0.0 && level_ut <= MAX_DISTANCE_LEVEL_UT) {
             return Err(distance_error(DistanceArg::LevelUt)("level_ut must be a positive number of µT".into()));
         }
         let origin = Origin::parse(from).map_err(distance_error(DistanceArg::From))?;
-        let direction = mitigate::parse_direction(direction).map_err(distance_error(DistanceArg::Direction))?;
+        let direction = mitigate::parse_direction(direction.unwrap_or(DEFAULT_DIRECTION))
+            .map_err(distance_error(DistanceArg::Direction))?;
         Ok(DistanceQuery { origin, direction, level_ut })
     }
 }

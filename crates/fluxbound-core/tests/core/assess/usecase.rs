@@ -73,18 +73,18 @@ fn a_distance_query_names_the_argument_that_is_wrong() {
         UseCaseError::Distance { arg, .. } => arg,
         other => panic!("{other:?}"),
     };
-    assert_eq!(arg(DistanceQuery::parse("position:p", "shortest", -1.0).unwrap_err()), DistanceArg::LevelUt);
-    assert_eq!(arg(DistanceQuery::parse("nowhere", "shortest", 100.0).unwrap_err()), DistanceArg::From);
-    assert_eq!(arg(DistanceQuery::parse("position:p", "sideways", 100.0).unwrap_err()), DistanceArg::Direction);
+    assert_eq!(arg(DistanceQuery::parse("position:p", Some("shortest"), -1.0).unwrap_err()), DistanceArg::LevelUt);
+    assert_eq!(arg(DistanceQuery::parse("nowhere", Some("shortest"), 100.0).unwrap_err()), DistanceArg::From);
+    assert_eq!(arg(DistanceQuery::parse("position:p", Some("sideways"), 100.0).unwrap_err()), DistanceArg::Direction);
     // A position that is not in the site is found out against the site.
     let site = site_with_area(1.0);
-    let q = DistanceQuery::parse("position:ghost", "shortest", 100.0).unwrap();
+    let q = DistanceQuery::parse("position:ghost", Some("shortest"), 100.0).unwrap();
     assert_eq!(arg(usecase::distance_to_level(&site, &LoadCase::Present, &q).unwrap_err()), DistanceArg::From);
     // 0.2 · 100 A / 1 m = 20 µT at p (OpenStax §12.2); 10 µT at 2 m, so
     // the shortest way to 10 µT is 1 m farther from the wire. Tolerance:
     // the 5° search step and the 0.1 mm bisection, 1 mm is ample; the
     // finite length L = 10 km adds (R/L)² ≈ 4e-8.
-    let q = DistanceQuery::parse("position:p", "0,1,0", 10.0).unwrap();
+    let q = DistanceQuery::parse("position:p", Some("0,1,0"), 10.0).unwrap();
     let d = usecase::distance_to_level(&site, &LoadCase::Present, &q).unwrap();
     assert!((d.distance_m.unwrap() - 1.0).abs() < 1e-3, "{d:?} (L = {L} m)");
 }
