@@ -101,20 +101,22 @@ async fn a_survey_extrapolation_is_judged_at_the_review_fraction_the_caller_give
     }
     // The example's panel front lies between 0.1 and 0.5 of the level.
     assert!(stored.iter().any(|(_, v)| v == "approaching"), "{stored:?}");
-    // Read back at another fraction: same ratios (the same stored numbers,
-    // so equal), verdicts judged again.
+    // Read back at another fraction: the same stored ratios (agreement to
+    // 1e-12 relative allows for nothing but the JSON round trip), verdicts
+    // judged again.
     let id = created["id"].as_str().unwrap();
     let again: Value =
         app.get(&format!("/v1/surveys/{id}/extrapolation?review_fraction=0.5"), &key).await.json().await.unwrap();
     let rejudged = extrapolated(&again["extrapolation"]);
     assert_eq!(rejudged.len(), stored.len());
     for ((r0, _), (r1, v)) in stored.iter().zip(&rejudged) {
-        assert_eq!(r0, r1);
+        assert!((r0 - r1).abs() <= 1e-12 * r0.abs(), "{r0} vs {r1}");
         assert_eq!(v, verdict_at(*r1, 0.5), "ratio {r1} at 0.5");
     }
     // Without the parameter, the stored verdicts come back.
     let plain: Value = app.get(&format!("/v1/surveys/{id}/extrapolation"), &key).await.json().await.unwrap();
-    assert_eq!(extrapolated(&plain["extrapolation"]), stored);
+    let plain: Vec<String> = extrapolated(&plain["extrapolation"]).into_iter().map(|(_, v)| v).collect();
+    assert_eq!(plain, stored.iter().map(|(_, v)| v.clone()).collect::<Vec<_>>());
 }
 
 #[tokio::test]
