@@ -703,24 +703,23 @@ fn assess_writes_the_area_map_csv_and_geojson_files_it_is_asked_for() {
     let dir = std::env::temp_dir().join(format!("fluxbound-cli-exports-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
     let (svg, csv, geo) = (dir.join("map.svg"), dir.join("positions.csv"), dir.join("features.geojson"));
-    let out = std::process::Command::new(env!("CARGO_BIN_EXE_fluxbound"))
-        .current_dir(env!("CARGO_MANIFEST_DIR"))
-        .args([
+    let out = fluxbound(
+        &[
             "assess",
-            "examples/site-furnace-feeder.json",
+            FURNACE,
             "--load",
             "rated",
             "--map",
             "maintenance-walkway",
             "--out",
-        ])
-        .arg(&svg)
-        .arg("--csv")
-        .arg(&csv)
-        .arg("--geojson")
-        .arg(&geo)
-        .output()
-        .unwrap();
+            svg.to_str().unwrap(),
+            "--csv",
+            csv.to_str().unwrap(),
+            "--geojson",
+            geo.to_str().unwrap(),
+        ],
+        None,
+    );
     assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
     let svg_text = std::fs::read_to_string(&svg).unwrap();
     assert!(svg_text.starts_with("<svg") && svg_text.contains("maintenance-walkway"));
@@ -730,12 +729,7 @@ fn assess_writes_the_area_map_csv_and_geojson_files_it_is_asked_for() {
     assert_eq!(geo_doc["type"], "FeatureCollection");
     // An unknown area is a problem naming the flag, and nothing is written.
     let missing = dir.join("missing.svg");
-    let out = std::process::Command::new(env!("CARGO_BIN_EXE_fluxbound"))
-        .current_dir(env!("CARGO_MANIFEST_DIR"))
-        .args(["assess", "examples/site-furnace-feeder.json", "--map", "nope", "--out"])
-        .arg(&missing)
-        .output()
-        .unwrap();
+    let out = fluxbound(&["assess", FURNACE, "--map", "nope", "--out", missing.to_str().unwrap()], None);
     assert_eq!(out.status.code(), Some(1));
     assert!(String::from_utf8_lossy(&out.stderr).contains("--map: the site has no area 'nope'"));
     assert!(!missing.exists());
@@ -744,29 +738,14 @@ fn assess_writes_the_area_map_csv_and_geojson_files_it_is_asked_for() {
 
 #[test]
 fn survey_reconcile_prints_the_reconciliation_fit_extrapolation_and_cautions() {
-    let out = std::process::Command::new(env!("CARGO_BIN_EXE_fluxbound"))
-        .current_dir(env!("CARGO_MANIFEST_DIR"))
-        .args(["survey", "reconcile", "examples/site-switch-room.json", "examples/survey-switch-room.json"])
-        .output()
-        .unwrap();
+    let out = fluxbound(&["survey", "reconcile", SWITCH_ROOM, SURVEY], None);
     assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
     let text = String::from_utf8_lossy(&out.stdout);
     for part in ["SURVEY RECONCILIATION", "LOAD FIT", "EXTRAPOLATION TO RATED LOAD", "OUTSIDE UNCERTAINTY", "CAUTIONS"]
     {
         assert!(text.contains(part), "missing {part}:\n{text}");
     }
-    let json = std::process::Command::new(env!("CARGO_BIN_EXE_fluxbound"))
-        .current_dir(env!("CARGO_MANIFEST_DIR"))
-        .args([
-            "survey",
-            "reconcile",
-            "examples/site-switch-room.json",
-            "examples/survey-switch-room.json",
-            "--format",
-            "json",
-        ])
-        .output()
-        .unwrap();
+    let json = fluxbound(&["survey", "reconcile", SWITCH_ROOM, SURVEY, "--format", "json"], None);
     let v: serde_json::Value = serde_json::from_slice(&json.stdout).unwrap();
     assert_eq!(v["reconciliation"]["summary"]["points"], 10);
 }
