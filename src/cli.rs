@@ -1,15 +1,20 @@
-//! Command line: parse arguments, read input, call the core, print, exit.
+//! Command line: parse arguments, read files, call the core's use cases
+//! (`fluxbound_core::usecase`, the same ones the HTTP service calls), print,
+//! exit. Works offline on files; only `serve` and `keys` open a database.
 //!
-//! Exit codes: 0 success; 1 the input has problems (each printed with its
-//! JSON pointer); 2 usage or I/O error. Nothing here panics on user input, and
+//! Exit codes: 0 success; 1 the input has problems (each printed where the
+//! user gave it: a JSON pointer into a file, or the flag, as in
+//! `--tables: unknown table 'nope'`); 2 usage or I/O error. Nothing here panics on user input, and
 //! a panic anywhere prints one line instead of a backtrace.
 
 use clap::{Parser, Subcommand, ValueEnum};
-use fluxbound_core::assess::{self, LoadCase};
-use fluxbound_core::limits::{self, ReferenceTable};
+use fluxbound_core::assess::{AssessError, LoadCase, LoadError, ReviewFraction};
+use fluxbound_core::evaluate::EvaluateRequest;
+use fluxbound_core::limits::{self, ReferenceTable, TableSource, UnknownTable};
 use fluxbound_core::report::text;
-use fluxbound_core::site::Pointer;
-use fluxbound_core::{evaluate, site};
+use fluxbound_core::site::{self, Problems, Site};
+use fluxbound_core::survey::wire::SurveyDoc;
+use fluxbound_core::usecase::{self, Budget, UseCaseError};
 use std::io::{Read, Write};
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
@@ -46,44 +51,14 @@ pub enum Command {
         file: PathBuf,
     },
     /// Assess a site's positions and areas against reference-level tables.
-    Assess {
-        /// Site model (JSON), or `-` for standard input.
-        #[arg(value_name = "SITE")]
-        site: PathBuf,
-        /// Table ids, comma-separated (default: the site's own choice, else
-        /// icnirp-2010-occupational, eu-2013-35-low, eu-2013-35-limbs).
-        #[arg(long, value_delimiter = ',', value_name = "ID,ID")]
-        tables: Vec<String>,
-        /// A custom table (JSON) to load and apply; may be repeated.
-        #[arg(long = "table-file", value_name = "FILE")]
-        table_files: Vec<PathBuf>,
-        /// Currents to assess at.
-        #[arg(long, value_enum, default_value_t = LoadArg::Present)]
-        load: LoadArg,
-        /// Ratio from which a result is reported as approaching a level.
-        #[arg(long, default_value_t = 0.5, value_name = "FRACTION")]
-        review_fraction: f64,
-        /// Output format.
-        #[arg(long, value_enum, default_value_t = Format::Table)]
-        format: Format,
-        /// Draw the field map of this area (needs --out).
-        #[arg(long, value_name = "AREA_ID", requires = "out")]
-        map: Option<String>,
-        /// Where to write the map (SVG).
-        #[arg(long, value_name = "FILE", requires = "map")]
-        out: Option<PathBuf>,
-        /// Also write the position results as CSV to this file.
-        #[arg(long, value_name = "FILE")]
-        csv: Option<PathBuf>,
-        /// Also write conductors, positions, contours and zones as GeoJSON to this file.
-        #[arg(long, value_name = "FILE")]
-        geojson: Option<PathBuf>,
-    },
+    Assess(AssessArgs),
     /// List the built-in reference-level tables, or show one.
     Tables {
         #[command(subcommand)]
         action: Option<TablesAction>,
     },
+    /// Distance from a position, conductor or point to where the field falls below a level (JSON).
+    Distance(DistanceArgs),
     /// Spot-measurement surveys.
     Survey {
         #[command(subcommand)]
@@ -96,6 +71,61 @@ pub enum Command {
         #[command(subcommand)]
         action: KeysAction,
     },
+}
+
+#[derive(Debug, clap::Args)]
+pub struct AssessArgs {
+    /// Site model (JSON), or `-` for standard input.
+    #[arg(value_name = "SITE")]
+    pub site: PathBuf,
+    /// Table ids, comma-separated (default: the site's own choice, else
+    /// icnirp-2010-occupational, eu-2013-35-low, eu-2013-35-limbs).
+    #[arg(long, value_delimiter = ',', value_name = "ID,ID")]
+    pub tables: Vec<String>,
+    /// A custom table (JSON) to load and apply; may be repeated.
+    #[arg(long = "table-file", value_name = "FILE")]
+    pub table_files: Vec<PathBuf>,
+    /// Currents to assess at.
+    #[arg(long, value_enum, default_value_t = LoadArg::Present)]
+    pub load: LoadArg,
+    /// Ratio from which a result is reported as approaching a level
+    /// (0 < fraction < 1; default 0.5).
+    #[arg(long, value_name = "FRACTION")]
+    pub review_fraction: Option<f64>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Table)]
+    pub format: Format,
+    /// Draw the field map of this area (needs --out).
+    #[arg(long, value_name = "AREA_ID", requires = "out")]
+    pub map: Option<String>,
+    /// Where to write the map (SVG).
+    #[arg(long, value_name = "FILE", requires = "map")]
+    pub out: Option<PathBuf>,
+    /// Also write the position results as CSV to this file.
+    #[arg(long, value_name = "FILE")]
+    pub csv: Option<PathBuf>,
+    /// Also write conductors, positions, contours and zones as GeoJSON to this file.
+    #[arg(long, value_name = "FILE")]
+    pub geojson: Option<PathBuf>,
+}
+
+#[derive(Debug, clap::Args)]
+pub struct DistanceArgs {
+    /// Site model (JSON), or `-` for standard input.
+    #[arg(value_name = "SITE")]
+    pub site: PathBuf,
+    /// Level, µT RMS (resultant).
+    #[arg(long = "level-ut", value_name = "MICROTESLA", allow_negative_numbers = true)]
+    pub level_ut: f64,
+    /// `position:ID`, `conductor:ID` (middle of its longest segment) or `point:x,y,z` (m).
+    #[arg(long, value_name = "ORIGIN")]
+    pub from: String,
+    /// `shortest` (horizontal directions in 5° steps and straight up) or `x,y,z`; default shortest.
+    #[arg(long, value_name = "DIRECTION", allow_hyphen_values = true)]
+    pub direction: Option<String>,
+    /// Currents to search at.
+    #[arg(long, value_enum, default_value_t = LoadArg::Present)]
+    pub load: LoadArg,
 }
 
 /// Where the database is: `DATABASE_URL=postgres://…` or SQLite in `--data-dir`.
@@ -152,6 +182,10 @@ pub enum SurveyAction {
         /// Tables for the extrapolated values (default: the survey's, the site's, else the default set).
         #[arg(long, value_delimiter = ',', value_name = "ID,ID")]
         tables: Vec<String>,
+        /// Ratio from which an extrapolated value is reported as approaching
+        /// a level (0 < fraction < 1; default 0.5).
+        #[arg(long, value_name = "FRACTION")]
+        review_fraction: Option<f64>,
         /// Output format.
         #[arg(long, value_enum, default_value_t = Format::Table)]
         format: Format,
@@ -212,6 +246,15 @@ pub enum LoadArg {
     Rated,
 }
 
+impl From<LoadArg> for LoadCase {
+    fn from(load: LoadArg) -> LoadCase {
+        match load {
+            LoadArg::Present => LoadCase::Present,
+            LoadArg::Rated => LoadCase::Rated,
+        }
+    }
+}
+
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum Format {
     /// Aligned plain text.
@@ -225,8 +268,10 @@ pub enum Format {
 pub enum CliError {
     #[error("cannot read {path}: {source}")]
     Read { path: String, source: std::io::Error },
-    #[error("{0}")]
-    Problems(site::Problems),
+    /// Problems with the input, each addressed where the user gave it: a
+    /// JSON pointer into a file, or a flag (`--tables: unknown table 'nope'`).
+    #[error("the input has {} problem(s)", .0.len())]
+    Problems(Vec<String>),
     #[error("cannot write output: {0}")]
     Write(std::io::Error),
     #[error("unknown table '{0}' (see `fluxbound tables`)")]
@@ -248,6 +293,64 @@ impl CliError {
             CliError::Service(_) => 2,
         }
     }
+
+    /// Problems of a document the user gave as a file: their pointers are
+    /// into that file.
+    fn in_file(problems: Problems) -> CliError {
+        CliError::Problems(problems.iter().map(|p| p.to_string()).collect())
+    }
+
+    /// One problem with a flag.
+    fn flag(flag: &str, detail: impl std::fmt::Display) -> CliError {
+        CliError::Problems(vec![format!("{flag}: {detail}")])
+    }
+}
+
+/// Lines of a use case's error, addressed in the command line: the lists
+/// and values given as flags by their flag, the documents' own problems by
+/// their pointers into the files.
+fn problem_lines(e: UseCaseError) -> Vec<String> {
+    let in_file = |p: Problems| p.iter().map(|x| x.to_string()).collect::<Vec<_>>();
+    match e {
+        UseCaseError::UnknownTables(unknown) => unknown.iter().map(unknown_table_line).collect(),
+        UseCaseError::Assess(a) => assess_lines(a),
+        UseCaseError::Load(l) => load_lines(l),
+        UseCaseError::Survey(p) | UseCaseError::Evaluate(p) | UseCaseError::OverBudget(p) => in_file(p),
+        UseCaseError::UnknownArea(id) => vec![format!("--map: the site has no area '{id}'")],
+        UseCaseError::Distance { arg, detail } => vec![format!("--{}: {detail}", arg.name().replace('_', "-"))],
+    }
+}
+
+impl From<UseCaseError> for CliError {
+    fn from(e: UseCaseError) -> Self {
+        CliError::Problems(problem_lines(e))
+    }
+}
+
+fn unknown_table_line(u: &UnknownTable) -> String {
+    match u.list {
+        TableSource::Request | TableSource::Default => {
+            format!("--tables: unknown table '{}' (see `fluxbound tables`)", u.id)
+        }
+        // The site's or the survey's own `tables`: a pointer into that file.
+        TableSource::Site => format!("/tables/{} (site file): {u} (see `fluxbound tables`)", u.index),
+        TableSource::Survey => format!("/tables/{} (survey file): {u} (see `fluxbound tables`)", u.index),
+    }
+}
+
+fn load_lines(l: LoadError) -> Vec<String> {
+    let mut lines: Vec<String> = l.in_load.iter().map(|p| format!("--load: {}", p.detail)).collect();
+    lines.extend(l.in_site.iter().map(|p| p.to_string()));
+    lines
+}
+
+fn assess_lines(a: AssessError) -> Vec<String> {
+    let mut lines = Vec::new();
+    if a.no_tables {
+        lines.push(format!("--tables: {}", fluxbound_core::assess::NO_TABLES));
+    }
+    lines.extend(load_lines(LoadError { in_load: a.in_load, in_site: a.in_site }));
+    lines
 }
 
 /// Entry point used by `main.rs`.
@@ -260,10 +363,10 @@ pub fn main() -> ExitCode {
     match run(cli, &mut stdout) {
         Ok(code) => code,
         Err(CliError::Write(e)) if e.kind() == std::io::ErrorKind::BrokenPipe => ExitCode::SUCCESS,
-        Err(CliError::Problems(problems)) => {
-            eprintln!("error: the input has {} problem(s):", problems.len());
-            for p in problems.iter() {
-                eprintln!("  {p}");
+        Err(CliError::Problems(lines)) => {
+            eprintln!("error: the input has {} problem(s):", lines.len());
+            for line in &lines {
+                eprintln!("  {line}");
             }
             ExitCode::from(1)
         }
@@ -277,72 +380,66 @@ pub fn main() -> ExitCode {
 /// Runs one command, writing its result to `out`.
 pub fn run(cli: Cli, out: &mut dyn Write) -> Result<ExitCode, CliError> {
     match cli.command {
-        Command::Evaluate { input, compact } => {
-            let text = read_input(&input)?;
-            let response = evaluate::evaluate_json(&text).map_err(CliError::Problems)?;
-            let json = if compact { serde_json::to_string(&response) } else { serde_json::to_string_pretty(&response) }
-                .expect("serialising plain data cannot fail");
-            writeln!(out, "{json}").map_err(CliError::Write)?;
+        Command::Evaluate { input, compact } => evaluate_command(&input, compact, out),
+        Command::Check { file } => check_command(&file, out),
+        Command::Assess(args) => assess_command(&args, out),
+        Command::Tables { action } => tables_command(action, out),
+        Command::Distance(args) => distance_command(&args, out),
+        Command::Survey { action: SurveyAction::Reconcile { site, survey, tables, review_fraction, format } } => {
+            survey_command(&SurveyInputs { site, survey, tables, review_fraction }, format, out)
+        }
+        Command::Serve(args) => serve(args),
+        Command::Keys { action } => keys(action, out),
+    }
+}
+
+fn evaluate_command(input: &Path, compact: bool, out: &mut dyn Write) -> Result<ExitCode, CliError> {
+    let req: EvaluateRequest = site::parse_json(&read_input(input)?).map_err(CliError::in_file)?;
+    let response = usecase::evaluate_points(&req, &Budget::offline())?;
+    let json = if compact { serde_json::to_string(&response) } else { serde_json::to_string_pretty(&response) }
+        .expect("serialising plain data cannot fail");
+    writeln!(out, "{json}").map_err(CliError::Write)?;
+    Ok(ExitCode::SUCCESS)
+}
+
+fn check_command(file: &Path, out: &mut dyn Write) -> Result<ExitCode, CliError> {
+    let text = read_input(file)?;
+    match site::parse_site(&text) {
+        Ok(s) => {
+            writeln!(
+                out,
+                "ok: {} — {} circuit(s), {} conductor(s), {} position(s), {} area(s)",
+                s.name.as_deref().unwrap_or("site"),
+                s.circuits.len(),
+                s.conductors.len(),
+                s.positions.len(),
+                s.areas.len()
+            )
+            .map_err(CliError::Write)?;
             Ok(ExitCode::SUCCESS)
         }
-        Command::Assess {
-            site,
-            tables,
-            table_files,
-            load,
-            review_fraction,
-            format,
-            map,
-            out: map_out,
-            csv,
-            geojson,
-        } => {
-            let exports = Exports { map: map.zip(map_out), csv, geojson };
-            assess_command(&site, tables, &table_files, load, review_fraction, format, &exports, out)
+        Err(problems) => {
+            writeln!(out, "{} problem(s):", problems.len()).map_err(CliError::Write)?;
+            for p in problems.iter() {
+                writeln!(out, "  {p}").map_err(CliError::Write)?;
+            }
+            Ok(ExitCode::from(1))
         }
-        Command::Tables { action: None } => {
-            write!(out, "{}", text::tables_text(limits::builtin_tables())).map_err(CliError::Write)?;
-            Ok(ExitCode::SUCCESS)
-        }
-        Command::Tables { action: Some(TablesAction::Show { id, format }) } => {
+    }
+}
+
+fn tables_command(action: Option<TablesAction>, out: &mut dyn Write) -> Result<ExitCode, CliError> {
+    match action {
+        None => write!(out, "{}", text::tables_text(limits::builtin_tables())).map_err(CliError::Write)?,
+        Some(TablesAction::Show { id, format }) => {
             let t = limits::builtin_table(&id).ok_or(CliError::UnknownTable(id))?;
             match format {
                 Format::Json => write_json(out, t)?,
                 Format::Table => write!(out, "{}", text::table_text(t)).map_err(CliError::Write)?,
             }
-            Ok(ExitCode::SUCCESS)
-        }
-        Command::Survey { action: SurveyAction::Reconcile { site, survey, tables, format } } => {
-            survey_command(&site, &survey, tables, format, out)
-        }
-        Command::Serve(args) => serve(args),
-        Command::Keys { action } => keys(action, out),
-        Command::Check { file } => {
-            let text = read_input(&file)?;
-            match site::parse_site(&text) {
-                Ok(s) => {
-                    writeln!(
-                        out,
-                        "ok: {} — {} circuit(s), {} conductor(s), {} position(s), {} area(s)",
-                        s.name.as_deref().unwrap_or("site"),
-                        s.circuits.len(),
-                        s.conductors.len(),
-                        s.positions.len(),
-                        s.areas.len()
-                    )
-                    .map_err(CliError::Write)?;
-                    Ok(ExitCode::SUCCESS)
-                }
-                Err(problems) => {
-                    writeln!(out, "{} problem(s):", problems.len()).map_err(CliError::Write)?;
-                    for p in problems.iter() {
-                        writeln!(out, "  {p}").map_err(CliError::Write)?;
-                    }
-                    Ok(ExitCode::from(1))
-                }
-            }
         }
     }
+    Ok(ExitCode::SUCCESS)
 }
 
 fn write_json<T: serde::Serialize>(out: &mut dyn Write, value: &T) -> Result<(), CliError> {
@@ -350,100 +447,96 @@ fn write_json<T: serde::Serialize>(out: &mut dyn Write, value: &T) -> Result<(),
     writeln!(out, "{json}").map_err(CliError::Write)
 }
 
-/// Files an assessment also writes.
-struct Exports {
-    map: Option<(String, PathBuf)>,
-    csv: Option<PathBuf>,
-    geojson: Option<PathBuf>,
-}
-
 fn write_file(path: &Path, text: &str) -> Result<(), CliError> {
     std::fs::write(path, text).map_err(CliError::Write)
 }
 
-fn one_problem(pointer: &str, detail: String) -> CliError {
-    CliError::Problems(site::Problems::one(pointer, detail))
+fn read_site(path: &Path) -> Result<Site, CliError> {
+    site::parse_site(&read_input(path)?).map_err(CliError::in_file)
 }
 
-#[allow(clippy::too_many_arguments)]
-fn assess_command(
-    site_path: &Path,
-    table_ids: Vec<String>,
-    table_files: &[PathBuf],
-    load: LoadArg,
-    review_fraction: f64,
-    format: Format,
-    exports: &Exports,
-    out: &mut dyn Write,
-) -> Result<ExitCode, CliError> {
-    let site = site::parse_site(&read_input(site_path)?).map_err(CliError::Problems)?;
-    let mut custom: Vec<ReferenceTable> = Vec::new();
-    for f in table_files {
-        custom.push(limits::parse_table(&read_input(f)?).map_err(CliError::Problems)?);
-    }
-    let root = Pointer::root();
-    let (ids, at) = limits::choose_table_ids(
-        vec![(table_ids, root.key("--tables")), (site.tables.clone(), root.key("tables"))],
-        root.key("tables"),
-    );
-    let mut tables = limits::resolve_tables(&ids, &custom, &at).map_err(CliError::Problems)?;
+/// `--review-fraction`, checked (absent means the default).
+fn review_fraction_flag(value: Option<f64>) -> Result<ReviewFraction, CliError> {
+    value.map_or(Ok(ReviewFraction::DEFAULT), |v| {
+        ReviewFraction::new(v).map_err(|e| CliError::flag("--review-fraction", e))
+    })
+}
+
+/// Each `--table-file`, parsed and checked; a problem names the flag and
+/// the file, with its pointer into that file.
+fn read_table_files(paths: &[PathBuf]) -> Result<Vec<ReferenceTable>, CliError> {
+    paths
+        .iter()
+        .map(|f| {
+            limits::parse_table(&read_input(f)?).map_err(|problems| {
+                CliError::Problems(problems.iter().map(|p| format!("--table-file {}: {p}", f.display())).collect())
+            })
+        })
+        .collect()
+}
+
+/// The tables of an assessment: the chosen ids (the `--tables` list, else
+/// the site's, else the defaults) looked up among the table files and the
+/// built-ins, then every table file itself.
+fn assessment_tables(
+    flag: &[String],
+    site: &Site,
+    custom: Vec<ReferenceTable>,
+) -> Result<Vec<ReferenceTable>, CliError> {
+    let choice = limits::choose_tables(flag, &[], &site.tables);
+    let mut tables = limits::resolve_tables(&choice, &custom).map_err(UseCaseError::UnknownTables)?;
     tables.extend(custom);
-    let load = match load {
-        LoadArg::Present => LoadCase::Present,
-        LoadArg::Rated => LoadCase::Rated,
-    };
-    let options = assess::Options { review_fraction, ..assess::Options::default() };
-    let result = assess::assess(&site, &load, &tables, &options).map_err(CliError::Problems)?;
-    let max_cells = crate::service::MAP_MAX_CELLS;
-    if let Some((area_id, path)) = &exports.map {
-        let index = site
-            .areas
-            .iter()
-            .position(|a| &a.id == area_id)
-            .ok_or_else(|| one_problem("/--map", format!("the site has no area '{area_id}'")))?;
-        let map = assess::area_map(&site, &load, &tables, index, max_cells).map_err(CliError::Problems)?;
-        write_file(path, &fluxbound_core::report::svg::area_map_svg(&site, &result, &map))?;
+    Ok(tables)
+}
+
+fn assess_command(args: &AssessArgs, out: &mut dyn Write) -> Result<ExitCode, CliError> {
+    let site = read_site(&args.site)?;
+    let custom = read_table_files(&args.table_files)?;
+    let tables = assessment_tables(&args.tables, &site, custom)?;
+    let review_fraction = review_fraction_flag(args.review_fraction)?;
+    let load = LoadCase::from(args.load);
+    let budget = Budget::offline();
+    let result = usecase::assess_site(&site, &load, &tables, review_fraction, &budget)?;
+    if let (Some(area_id), Some(path)) = (&args.map, &args.out) {
+        write_file(path, &usecase::area_map_svg(&site, &result, &load, &tables, area_id, &budget)?)?;
     }
-    if let Some(path) = &exports.csv {
-        write_file(path, &fluxbound_core::report::csv::positions_csv(&result))?;
+    if let Some(path) = &args.csv {
+        write_file(path, &usecase::export_csv(&result))?;
     }
-    if let Some(path) = &exports.geojson {
-        let maps = (0..site.areas.len())
-            .map(|i| assess::area_map(&site, &load, &tables, i, max_cells))
-            .collect::<Result<Vec<_>, _>>()
-            .map_err(CliError::Problems)?;
-        let doc = fluxbound_core::report::geojson::assessment_geojson(&site, &result, &maps);
+    if let Some(path) = &args.geojson {
+        let doc = usecase::export_geojson(&site, &result, &load, &tables, &budget)?;
         write_file(path, &serde_json::to_string_pretty(&doc).expect("plain data"))?;
     }
-    match format {
+    match args.format {
         Format::Json => write_json(out, &result)?,
         Format::Table => write!(out, "{}", text::assessment_text(&result)).map_err(CliError::Write)?,
     }
     Ok(ExitCode::SUCCESS)
 }
 
-fn survey_command(
-    site_path: &Path,
-    survey_path: &Path,
-    table_ids: Vec<String>,
-    format: Format,
-    out: &mut dyn Write,
-) -> Result<ExitCode, CliError> {
-    use fluxbound_core::survey::{self, wire::SurveyDoc};
-    let site = site::parse_site(&read_input(site_path)?).map_err(CliError::Problems)?;
-    let doc: SurveyDoc = site::parse_json(&read_input(survey_path)?).map_err(CliError::Problems)?;
-    let checked = survey::validate_survey(&doc, &site).map_err(CliError::Problems)?;
-    let root = Pointer::root();
-    let (ids, at) = limits::choose_table_ids(
-        vec![
-            (table_ids, root.key("--tables")),
-            (checked.tables().to_vec(), root.key("tables")),
-            (site.tables.clone(), root.key("tables")),
-        ],
-        root.key("tables"),
-    );
-    let tables = limits::resolve_tables(&ids, &[], &at).map_err(CliError::Problems)?;
-    let analysis = survey::analyse(&checked, &tables, 0.5).map_err(CliError::Problems)?;
+fn distance_command(args: &DistanceArgs, out: &mut dyn Write) -> Result<ExitCode, CliError> {
+    let site = read_site(&args.site)?;
+    let query = usecase::DistanceQuery::parse(&args.from, args.direction.as_deref(), args.level_ut)?;
+    write_json(out, &usecase::distance_to_level(&site, &LoadCase::from(args.load), &query)?)?;
+    Ok(ExitCode::SUCCESS)
+}
+
+/// What `survey reconcile` reads.
+struct SurveyInputs {
+    site: PathBuf,
+    survey: PathBuf,
+    tables: Vec<String>,
+    review_fraction: Option<f64>,
+}
+
+fn survey_command(inputs: &SurveyInputs, format: Format, out: &mut dyn Write) -> Result<ExitCode, CliError> {
+    let site = read_site(&inputs.site)?;
+    let doc: SurveyDoc = site::parse_json(&read_input(&inputs.survey)?).map_err(CliError::in_file)?;
+    let survey = usecase::check_survey(&site, &doc)?;
+    let choice = limits::choose_tables(&inputs.tables, survey.tables(), &site.tables);
+    let tables = limits::resolve_tables(&choice, &[]).map_err(UseCaseError::UnknownTables)?;
+    let review_fraction = review_fraction_flag(inputs.review_fraction)?;
+    let analysis = usecase::analyse_survey(&survey, &tables, review_fraction, &Budget::offline())?;
     match format {
         Format::Json => write_json(out, &analysis)?,
         Format::Table => {

@@ -131,16 +131,10 @@ impl PageQuery {
             .map(|q| q.0)
             .map_err(|e| ApiError::bad_request(e.body_text(), Problems::default()))
     }
-    /// The page size, 1–200 (400 otherwise).
+    /// The page size as given (a positive integer, 400 otherwise); its
+    /// range is the service's rule ([`crate::service::page_limit`]).
     pub fn limit(&self) -> Result<Option<i64>, ApiError> {
-        let limit = self.limit.as_deref().map(|l| parse_positive(l, "limit")).transpose()?;
-        match limit {
-            Some(l) if l > crate::service::PAGE_MAX => Err(ApiError::bad_request(
-                format!("limit must be between 1 and {}", crate::service::PAGE_MAX),
-                Problems::one("/limit", format!("{l} is above {}", crate::service::PAGE_MAX)),
-            )),
-            other => Ok(other),
-        }
+        self.limit.as_deref().map(|l| parse_positive(l, "limit")).transpose()
     }
 
     /// The cursor, which is an id from a previous page (400 otherwise).

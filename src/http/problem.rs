@@ -164,6 +164,10 @@ impl From<ServiceError> for ApiError {
         use ServiceError as E;
         match e {
             E::Validation(p) => ApiError::validation(p),
+            E::BadRequest(p) => {
+                let detail = p.iter().next().map_or_else(String::new, |x| x.detail.clone());
+                ApiError::bad_request(detail, p)
+            }
             E::TooBig(p) => Self::new(
                 StatusCode::UNPROCESSABLE_ENTITY,
                 "budget-exceeded",

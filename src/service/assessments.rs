@@ -3,9 +3,9 @@
 
 use super::{Caller, Result, Role, Service, ServiceError, stored, tables::stored_table, to_json};
 use crate::store::{AssessmentRow, NewAssessment, PinnedVersion};
-use fluxbound_core::assess::{self, Assessment, LoadCase, Options};
-use fluxbound_core::limits::{ReferenceTable, builtin_table, choose_table_ids};
-use fluxbound_core::site::{Pointer, Problems};
+use fluxbound_core::assess::{Assessment, LoadCase, ReviewFraction};
+use fluxbound_core::limits::{ReferenceTable, TableChoice, builtin_table, choose_tables, resolve_tables};
+use fluxbound_core::usecase::{self, UseCaseError};
 use serde::{Deserialize, Serialize};
 
 /// What to assess: which revision (latest if absent), at which load, against
@@ -26,13 +26,9 @@ pub struct AssessmentRequest {
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct AssessmentOptions {
-    /// Ratio from which a result is `approaching` (0 < fraction < 1).
-    #[serde(default = "half")]
-    pub review_fraction: f64,
-}
-
-fn half() -> f64 {
-    0.5
+    /// Ratio from which a result is `approaching` (0 < fraction < 1, default 0.5).
+    #[serde(default)]
+    pub review_fraction: ReviewFraction,
 }
 
 #[derive(Debug, Clone, PartialEq)]
@@ -47,28 +43,23 @@ fn view(row: AssessmentRow) -> Result<AssessmentView> {
 }
 
 impl Service {
-    /// Tables by id: built-ins, else the organisation's latest version
+    /// The chosen tables: built-ins, else the organisation's latest version
     /// (pinned so the store can freeze exactly what was used).
     pub(super) async fn resolve_tables(
         &self,
         caller: &Caller,
-        ids: &[String],
-        at: &Pointer,
+        choice: &TableChoice,
     ) -> Result<(Vec<ReferenceTable>, Vec<PinnedVersion>)> {
-        let mut tables = Vec::new();
+        let mut custom = Vec::new();
         let mut pinned = Vec::new();
-        let mut problems = Problems::default();
-        for (i, id) in ids.iter().enumerate() {
-            if let Some(t) = builtin_table(id) {
-                tables.push(t.clone());
-            } else if let Some(v) = self.store().table_version(&caller.org_id, id, None).await? {
-                tables.push(stored_table(&v)?);
+        for id in choice.ids.iter().filter(|id| builtin_table(id).is_none()) {
+            if let Some(v) = self.store().table_version(&caller.org_id, id, None).await? {
+                custom.push(stored_table(&v)?);
                 pinned.push(PinnedVersion { table_id: v.table_id, version: v.version, updated_at: v.updated_at });
-            } else {
-                problems.push(&at.index(i), format!("unknown reference-level table '{id}'"));
             }
         }
-        problems.into_result((tables, pinned)).map_err(ServiceError::Validation)
+        let tables = resolve_tables(choice, &custom).map_err(UseCaseError::UnknownTables)?;
+        Ok((tables, pinned))
     }
 
     #[tracing::instrument(name = "assessments_create", skip_all, fields(org = %caller.org_id, site = %site_id))]
@@ -80,50 +71,48 @@ impl Service {
     ) -> Result<AssessmentView> {
         caller.require(Role::Assessor)?;
         let (rev, site) = self.site_at_revision(caller, site_id, request.revision).await?;
-        let budget = self.limits().check_assessment_budget(&site);
-        if !budget.is_empty() {
-            return Err(ServiceError::TooBig(budget));
-        }
-        let root = Pointer::root();
-        let (ids, at) = choose_table_ids(
-            vec![
-                (request.tables.clone().unwrap_or_default(), root.key("tables")),
-                (site.tables.clone(), root.key("site").key("tables")),
-            ],
-            root.key("tables"),
-        );
-        let (tables, pinned) = self.resolve_tables(caller, &ids, &at).await?;
-        let options = Options {
-            review_fraction: request.options.as_ref().map_or(0.5, |o| o.review_fraction),
-            max_grid_cells: self.limits().max_grid_cells,
-        };
+        let budget = self.limits().budget();
+        usecase::check_assessment_budget(&site, &budget)?;
+        let choice = choose_tables(request.tables.as_deref().unwrap_or_default(), &[], &site.tables);
+        let (tables, pinned) = self.resolve_tables(caller, &choice).await?;
+        let review_fraction = request.options.as_ref().map(|o| o.review_fraction).unwrap_or_default();
         let load = request.load.clone();
-        let pairs = super::bounds::segment_count(&site) as u64;
-        let result = self
-            .compute(move || assess::assess(&site, &load, &tables, &options))
-            .await?
-            .map_err(ServiceError::Validation)?;
+        let pairs = usecase::segment_count(&site.conductors);
+        let result =
+            self.compute(move || usecase::assess_site(&site, &load, &tables, review_fraction, &budget)).await??;
         let points: u64 = result.positions.iter().map(|p| p.heights.len() as u64).sum::<u64>()
             + result.areas.iter().map(|a| a.cells as u64).sum::<u64>();
         self.count_pairs(pairs * points);
-        let worst = result.summary.worst_verdict.word().to_string();
+        let row = self.store_assessment(caller, &rev, &request, &result, &pinned).await?;
+        Ok(AssessmentView { row, request, result })
+    }
+
+    async fn store_assessment(
+        &self,
+        caller: &Caller,
+        rev: &crate::store::RevisionRow,
+        request: &AssessmentRequest,
+        result: &Assessment,
+        pinned: &[PinnedVersion],
+    ) -> Result<AssessmentRow> {
+        let worst = result.summary.worst_verdict.word();
         let row = self
             .store()
             .assessment_insert(NewAssessment {
                 org_id: &caller.org_id,
                 site_id: &rev.site.id,
                 site_revision: rev.revision,
-                request: &to_json(&request),
-                result: &to_json(&result),
-                worst_verdict: &worst,
-                pinned: &pinned,
+                request: &to_json(request),
+                result: &to_json(result),
+                worst_verdict: worst,
+                pinned,
             })
             .await?
             .ok_or_else(|| {
                 ServiceError::Conflict("a custom table changed while the assessment ran: try again".into())
             })?;
         tracing::info!(assessment = %row.id, revision = rev.revision, worst = %worst, "assessment stored");
-        Ok(AssessmentView { row, request, result })
+        Ok(row)
     }
 
     #[tracing::instrument(name = "assessments_show", skip_all, fields(org = %caller.org_id, assessment = %id))]

@@ -1,8 +1,9 @@
 //! Size bounds and compute budgets per request, configurable, with defaults
 //! sized for two cores answering within a couple of seconds.
 
-use fluxbound_core::assess::bounding_cells;
+use fluxbound_core::assess::{DEFAULT_MAX_GRID_CELLS, MAP_MAX_CELLS, check_grid_budget};
 use fluxbound_core::site::{Pointer, Problems, Site};
+use fluxbound_core::usecase::{Budget, DEFAULT_MAX_PAIRS, segment_count};
 use serde::{Deserialize, Serialize};
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -33,8 +34,8 @@ impl Default for Limits {
             max_segments: 100_000,
             max_positions: 5_000,
             max_points: 200_000,
-            max_grid_cells: 1_000_000,
-            max_pairs: 1_000_000_000,
+            max_grid_cells: DEFAULT_MAX_GRID_CELLS,
+            max_pairs: DEFAULT_MAX_PAIRS,
             rate_per_key: 50,
             request_timeout_s: 30,
         }
@@ -49,8 +50,8 @@ impl Limits {
         if site.conductors.len() > self.max_conductors {
             p.push(&root.key("conductors"), format!("at most {} conductors per site", self.max_conductors));
         }
-        let segments = segment_count(site);
-        if segments > self.max_segments {
+        let segments = segment_count(&site.conductors);
+        if segments > self.max_segments as u64 {
             p.push(
                 &root.key("conductors"),
                 format!("at most {} segments per site (this one has {segments})", self.max_segments),
@@ -59,47 +60,12 @@ impl Limits {
         if site.positions.len() > self.max_positions {
             p.push(&root.key("positions"), format!("at most {} positions per site", self.max_positions));
         }
-        let mut cells = 0u64;
-        for (i, a) in site.areas.iter().enumerate() {
-            cells = cells.saturating_add(bounding_cells(&a.polygon, a.spacing_m));
-            if cells > self.max_grid_cells {
-                p.push(
-                    &root.key("areas").index(i).key("spacing_m"),
-                    format!("the area grids would exceed {} cells: increase spacing_m", self.max_grid_cells),
-                );
-                break;
-            }
-        }
+        p.0.extend(check_grid_budget(site, self.max_grid_cells).0);
         p
     }
 
-    /// Compute budget of an assessment of `site`: segments × points.
-    pub fn check_assessment_budget(&self, site: &Site) -> Problems {
-        let points: u64 = site
-            .positions
-            .iter()
-            .map(|q| match &q.placement {
-                fluxbound_core::site::Placement::Standing { heights_m, .. } => heights_m.len() as u64,
-                fluxbound_core::site::Placement::Point(_) => 1,
-            })
-            .sum::<u64>()
-            + site.areas.iter().map(|a| bounding_cells(&a.polygon, a.spacing_m)).sum::<u64>();
-        let pairs = points.saturating_mul(segment_count(site) as u64);
-        let mut p = Problems::default();
-        if pairs > self.max_pairs {
-            let field = if site.areas.is_empty() { "positions" } else { "areas" };
-            p.push(
-                &Pointer::root().key(field),
-                format!(
-                    "this assessment needs {pairs} segment-point pairs, over the budget of {}: coarsen area spacing_m or split the site",
-                    self.max_pairs
-                ),
-            );
-        }
-        p
+    /// The compute budgets of the use cases.
+    pub fn budget(&self) -> Budget {
+        Budget { max_pairs: self.max_pairs, max_grid_cells: self.max_grid_cells, map_max_cells: MAP_MAX_CELLS }
     }
-}
-
-pub(crate) fn segment_count(site: &Site) -> usize {
-    site.conductors.iter().map(|c| c.path.len().saturating_sub(1)).sum()
 }

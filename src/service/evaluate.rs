@@ -1,8 +1,9 @@
 //! The stateless evaluation: same document as `fluxbound evaluate`.
 
 use super::{Caller, Result, Role, Service, ServiceError};
-use fluxbound_core::evaluate::{self, EvaluateRequest, EvaluateResponse};
+use fluxbound_core::evaluate::{EvaluateRequest, EvaluateResponse};
 use fluxbound_core::site::{Pointer, Problems};
+use fluxbound_core::usecase;
 
 impl Service {
     #[tracing::instrument(name = "evaluate", skip_all, fields(org = %caller.org_id, conductors = req.conductors.len(), points = req.points.len()))]
@@ -20,19 +21,9 @@ impl Service {
         if !bounds.is_empty() {
             return Err(ServiceError::TooBig(bounds));
         }
-        let ev = evaluate::validate_request(&req).map_err(ServiceError::Validation)?;
-        let pairs = ev.pair_count();
-        if pairs > limits.max_pairs {
-            return Err(ServiceError::TooBig(Problems::one(
-                "/points",
-                format!(
-                    "{pairs} segment-point pairs exceed the budget of {} per request: send fewer points or segments per request",
-                    limits.max_pairs
-                ),
-            )));
-        }
-        let response = self.compute(move || evaluate::evaluate(&ev)).await?;
-        self.count_pairs(pairs);
+        let budget = limits.budget();
+        let response = self.compute(move || usecase::evaluate_points(&req, &budget)).await??;
+        self.count_pairs(response.segment_point_pairs);
         Ok(response)
     }
 }

@@ -1,6 +1,10 @@
-//! Use cases: one function per thing a caller can do. Owns authorisation,
-//! transactions (through the store), size bounds and compute budgets, and
-//! runs CPU-heavy field work off the async threads.
+//! The service around the core's use cases (`fluxbound_core::usecase`):
+//! one method per thing an API caller can do. Owns authorisation,
+//! transactions (through the store), size bounds and the configured compute
+//! budgets, runs CPU-heavy field work off the async threads, and addresses
+//! the use cases' typed errors as pointers into the HTTP request (one place:
+//! `From<UseCaseError> for ServiceError`). The rules themselves live in the
+//! core, so the CLI and the service cannot drift apart.
 
 mod assessments;
 mod auth;
@@ -14,13 +18,14 @@ mod tables;
 pub use assessments::{AssessmentRequest, AssessmentView};
 pub use auth::{Caller, Role, hash_secret};
 pub use bounds::Limits;
-pub use reports::MAP_MAX_CELLS;
 pub use sites::{IfMatch, SiteView};
 pub use surveys::SurveyView;
 pub use tables::{TableVersionInfo, TableView};
 
 use crate::store::{Store, StoreError};
-use fluxbound_core::site::Problems;
+use fluxbound_core::limits::{TableSource, UnknownTable};
+use fluxbound_core::site::{Pointer, Problems};
+use fluxbound_core::usecase::UseCaseError;
 use std::sync::Arc;
 use std::sync::atomic::{AtomicU64, Ordering};
 
@@ -29,6 +34,9 @@ use std::sync::atomic::{AtomicU64, Ordering};
 pub enum ServiceError {
     #[error("the request has problems")]
     Validation(Problems),
+    /// A malformed query or path parameter (the HTTP layer answers 400).
+    #[error("bad request: {0}")]
+    BadRequest(Problems),
     #[error("the request exceeds a size or compute bound")]
     TooBig(Problems),
     #[error("{0} not found")]
@@ -95,17 +103,53 @@ impl Service {
 pub const PAGE_DEFAULT: i64 = 50;
 pub const PAGE_MAX: i64 = 200;
 
-fn page_limit(limit: Option<i64>) -> Result<i64> {
+/// The page size rule, in one place for every list: absent means
+/// [`PAGE_DEFAULT`]; anything outside 1–[`PAGE_MAX`] is a bad request (400,
+/// like every other malformed query parameter) at `/limit`.
+pub fn page_limit(limit: Option<i64>) -> Result<i64> {
     match limit {
         None => Ok(PAGE_DEFAULT),
         Some(l) if (1..=PAGE_MAX).contains(&l) => Ok(l),
         Some(_) => {
-            Err(ServiceError::Validation(one_problem("/limit", format!("limit must be between 1 and {PAGE_MAX}"))))
+            Err(ServiceError::BadRequest(one_problem("/limit", format!("limit must be between 1 and {PAGE_MAX}"))))
         }
     }
 }
 
-fn one_problem(pointer: &str, detail: impl Into<String>) -> Problems {
+/// Where an unknown table sits in an HTTP request: the caller's list (or
+/// the survey's, or the defaults) at `/tables/i`, the site's own list at
+/// `/site/tables/i`.
+fn unknown_table_problems(unknown: &[UnknownTable]) -> Problems {
+    let mut p = Problems::default();
+    for u in unknown {
+        let list = match u.list {
+            TableSource::Site => Pointer::root().key("site").key("tables"),
+            TableSource::Request | TableSource::Survey | TableSource::Default => Pointer::root().key("tables"),
+        };
+        p.push(&list.index(u.index), u.to_string());
+    }
+    p
+}
+
+impl From<UseCaseError> for ServiceError {
+    /// Addresses a use case's error in the HTTP request: tables as above,
+    /// the load case under `/load`, distance arguments by their query
+    /// parameter name, the site's and survey's own pointers unchanged.
+    fn from(e: UseCaseError) -> Self {
+        use UseCaseError as U;
+        match e {
+            U::UnknownTables(unknown) => ServiceError::Validation(unknown_table_problems(&unknown)),
+            U::Assess(a) => ServiceError::Validation(a.into_problems("/tables", "/load")),
+            U::Load(l) => ServiceError::Validation(l.into_problems("/load")),
+            U::Survey(p) | U::Evaluate(p) => ServiceError::Validation(p),
+            U::UnknownArea(_) => ServiceError::NotFound("area"),
+            U::Distance { arg, detail } => ServiceError::Validation(one_problem(format!("/{}", arg.name()), detail)),
+            U::OverBudget(p) => ServiceError::TooBig(p),
+        }
+    }
+}
+
+fn one_problem(pointer: impl Into<String>, detail: impl Into<String>) -> Problems {
     Problems::one(pointer, detail)
 }
 

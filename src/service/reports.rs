@@ -1,16 +1,13 @@
 //! Pictures and exports of a stored assessment: recomputed from its pinned
 //! site revision, load case and table versions, so they always match it.
 
-use super::{Caller, Result, Role, Service, ServiceError, one_problem, stored, tables::stored_table};
-use fluxbound_core::assess::{AreaMap, Assessment, area_map};
+use super::{Caller, Result, Role, Service, ServiceError, stored, tables::stored_table};
+use fluxbound_core::assess::Assessment;
 use fluxbound_core::limits::{ReferenceTable, builtin_table};
-use fluxbound_core::mitigate::{DistanceResult, Origin, distance_to_level, parse_direction};
-use fluxbound_core::report::{csv, geojson, svg};
+use fluxbound_core::mitigate::DistanceResult;
 use fluxbound_core::site::wire::SiteDoc;
-use fluxbound_core::site::{Pointer, Site, validate_site};
-
-/// Most grid nodes of one area map (the map is coarsened to fit).
-pub const MAP_MAX_CELLS: usize = 40_000;
+use fluxbound_core::site::{Site, validate_site};
+use fluxbound_core::usecase::{self, DistanceQuery};
 
 struct Context {
     site: Site,
@@ -49,40 +46,35 @@ impl Service {
         Ok(Context { site, result, request, tables })
     }
 
-    fn maps(ctx: &Context) -> Result<Vec<AreaMap>> {
-        (0..ctx.site.areas.len())
-            .map(|i| {
-                area_map(&ctx.site, &ctx.request.load, &ctx.tables, i, MAP_MAX_CELLS).map_err(ServiceError::Validation)
-            })
-            .collect()
-    }
-
     #[tracing::instrument(name = "reports_map", skip_all, fields(org = %caller.org_id, assessment = %id, area = %area_id))]
     pub async fn reports_map_svg(&self, caller: &Caller, id: &str, area_id: &str) -> Result<String> {
         let ctx = self.report_context(caller, id).await?;
-        let index = ctx.site.areas.iter().position(|a| a.id == area_id).ok_or(ServiceError::NotFound("area"))?;
-        self.compute(move || {
-            let map = area_map(&ctx.site, &ctx.request.load, &ctx.tables, index, MAP_MAX_CELLS)
-                .map_err(ServiceError::Validation)?;
-            Ok(svg::area_map_svg(&ctx.site, &ctx.result, &map))
-        })
-        .await?
+        if !ctx.site.areas.iter().any(|a| a.id == area_id) {
+            return Err(ServiceError::NotFound("area"));
+        }
+        let (area_id, budget) = (area_id.to_string(), self.limits().budget());
+        let svg = self
+            .compute(move || {
+                usecase::area_map_svg(&ctx.site, &ctx.result, &ctx.request.load, &ctx.tables, &area_id, &budget)
+            })
+            .await??;
+        Ok(svg)
     }
 
     #[tracing::instrument(name = "reports_csv", skip_all, fields(org = %caller.org_id, assessment = %id))]
     pub async fn reports_csv(&self, caller: &Caller, id: &str) -> Result<String> {
         let ctx = self.report_context(caller, id).await?;
-        Ok(csv::positions_csv(&ctx.result))
+        Ok(usecase::export_csv(&ctx.result))
     }
 
     #[tracing::instrument(name = "reports_geojson", skip_all, fields(org = %caller.org_id, assessment = %id))]
     pub async fn reports_geojson(&self, caller: &Caller, id: &str) -> Result<serde_json::Value> {
         let ctx = self.report_context(caller, id).await?;
-        self.compute(move || {
-            let maps = Self::maps(&ctx)?;
-            Ok(geojson::assessment_geojson(&ctx.site, &ctx.result, &maps))
-        })
-        .await?
+        let budget = self.limits().budget();
+        let doc = self
+            .compute(move || usecase::export_geojson(&ctx.site, &ctx.result, &ctx.request.load, &ctx.tables, &budget))
+            .await??;
+        Ok(doc)
     }
 
     /// Distance from `from` along `direction` to where the field falls below
@@ -93,19 +85,12 @@ impl Service {
         caller: &Caller,
         id: &str,
         from: &str,
-        direction: &str,
+        direction: Option<&str>,
         level_ut: f64,
     ) -> Result<DistanceResult> {
-        if !(level_ut.is_finite() && level_ut > 0.0 && level_ut <= 1.0e9) {
-            return Err(ServiceError::Validation(one_problem("/level_ut", "level_ut must be a positive number of µT")));
-        }
-        let origin = Origin::parse(from).map_err(|e| ServiceError::Validation(one_problem("/from", e)))?;
-        let direction =
-            parse_direction(direction).map_err(|e| ServiceError::Validation(one_problem("/direction", e)))?;
+        let query = DistanceQuery::parse(from, direction, level_ut)?;
         let ctx = self.report_context(caller, id).await?;
-        let loads =
-            ctx.request.load.resolve(&ctx.site, &Pointer::root().key("load")).map_err(ServiceError::Validation)?;
-        let at = origin.locate(&ctx.site, &loads).map_err(|e| ServiceError::Validation(one_problem("/from", e)))?;
-        self.compute(move || distance_to_level(&ctx.site, &loads, at, direction, level_ut)).await
+        let result = self.compute(move || usecase::distance_to_level(&ctx.site, &ctx.request.load, &query)).await??;
+        Ok(result)
     }
 }

@@ -2,9 +2,10 @@
 
 use super::{Caller, Result, Role, Service, ServiceError, stored, to_json};
 use crate::store::SurveyRow;
-use fluxbound_core::limits::choose_table_ids;
-use fluxbound_core::site::{Pointer, Problems};
-use fluxbound_core::survey::{SurveyAnalysis, analyse, validate_survey, wire::SurveyDoc};
+use fluxbound_core::assess::ReviewFraction;
+use fluxbound_core::limits::choose_tables;
+use fluxbound_core::survey::{SurveyAnalysis, wire::SurveyDoc};
+use fluxbound_core::usecase;
 
 #[derive(Debug, Clone, PartialEq)]
 pub struct SurveyView {
@@ -18,29 +19,26 @@ fn view(row: SurveyRow) -> Result<SurveyView> {
 }
 
 impl Service {
+    /// Stores a survey with its analysis; extrapolated values are judged at
+    /// `review_fraction`.
     #[tracing::instrument(name = "surveys_create", skip_all, fields(org = %caller.org_id, site = %site_id))]
-    pub async fn surveys_create(&self, caller: &Caller, site_id: &str, doc: SurveyDoc) -> Result<SurveyView> {
+    pub async fn surveys_create(
+        &self,
+        caller: &Caller,
+        site_id: &str,
+        doc: SurveyDoc,
+        review_fraction: ReviewFraction,
+    ) -> Result<SurveyView> {
         caller.require(Role::Assessor)?;
         let (rev, site) = self.site_at_revision(caller, site_id, doc.revision).await?;
-        let survey = validate_survey(&doc, &site).map_err(ServiceError::Validation)?;
-        let segments = super::bounds::segment_count(&site) as u64;
-        // Field at the survey's loads, at rated load, and the fit's matrix.
-        let pairs = 3 * segments * survey.points().len() as u64;
-        if pairs > self.limits().max_pairs {
-            let mut p = Problems::default();
-            p.push(
-                &Pointer::root().key("points"),
-                format!("{pairs} segment-point pairs exceed the budget of {}", self.limits().max_pairs),
-            );
-            return Err(ServiceError::TooBig(p));
-        }
-        let root = Pointer::root();
-        let (ids, at) = choose_table_ids(
-            vec![(survey.tables().to_vec(), root.key("tables")), (site.tables.clone(), root.key("site").key("tables"))],
-            root.key("tables"),
-        );
-        let (tables, _) = self.resolve_tables(caller, &ids, &at).await?;
-        let analysis = self.compute(move || analyse(&survey, &tables, 0.5)).await?.map_err(ServiceError::Validation)?;
+        let survey = usecase::check_survey(&site, &doc)?;
+        let budget = self.limits().budget();
+        usecase::check_survey_budget(&survey, &budget)?;
+        let pairs = usecase::survey_pairs(&survey);
+        let choice = choose_tables(&[], survey.tables(), &site.tables);
+        let (tables, _) = self.resolve_tables(caller, &choice).await?;
+        let analysis =
+            self.compute(move || usecase::analyse_survey(&survey, &tables, review_fraction, &budget)).await??;
         self.count_pairs(pairs);
         let row = self
             .store()

@@ -102,3 +102,27 @@ async fn a_custom_table_version_used_by_an_assessment_is_frozen_and_pinned() {
         app.get(&format!("/v1/assessments/{}", a["id"].as_str().unwrap()), &key).await.json().await.unwrap();
     assert_eq!(again, a);
 }
+
+#[tokio::test]
+async fn an_assessment_option_review_fraction_outside_zero_to_one_returns_422_at_its_pointer() {
+    let app = spawn_app().await;
+    let key = app.key("org-a", Role::Assessor).await;
+    let id = app.site(&key, &example("site-switch-room.json")).await;
+    for bad in [json!(0), json!(1), json!(1.5), json!(-0.2)] {
+        let body = json!({"options": {"review_fraction": bad}});
+        let res = app.post(&format!("/v1/sites/{id}/assessments"), &key, &body).await;
+        let problem = assert_problem(res, 422, "validation", Some("/options/review_fraction")).await;
+        let detail = problem["errors"][0]["detail"].as_str().unwrap();
+        assert!(detail.contains("review fraction must be greater than 0 and less than 1"), "{bad}: {detail}");
+    }
+    // A good one is used and reported; absent means the default 0.5 (DESIGN.md).
+    let body = json!({"options": {"review_fraction": 0.25}});
+    let created: Value = app.post(&format!("/v1/sites/{id}/assessments"), &key, &body).await.json().await.unwrap();
+    // The number is passed through, not computed: 1e-15 allows only for
+    // the JSON round trip.
+    let rf = created["result"]["review_fraction"].as_f64().unwrap();
+    assert!((rf - 0.25).abs() < 1e-15, "{rf}");
+    let created: Value = app.post(&format!("/v1/sites/{id}/assessments"), &key, &json!({})).await.json().await.unwrap();
+    let rf = created["result"]["review_fraction"].as_f64().unwrap();
+    assert!((rf - 0.5).abs() < 1e-15, "{rf}");
+}

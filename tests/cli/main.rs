@@ -523,6 +523,7 @@ fn showing_an_unknown_table_exits_1_with_a_message_naming_it() {
 
 const SWITCH_ROOM: &str = "examples/site-switch-room.json";
 const FURNACE: &str = "examples/site-furnace-feeder.json";
+const SURVEY: &str = "examples/survey-switch-room.json";
 
 /// Runs `fluxbound assess` with `args` and returns its JSON output.
 fn assess_json(args: &[&str]) -> Value {
@@ -622,19 +623,47 @@ fn the_tables_option_overrides_the_sites_choice_of_tables() {
 }
 
 #[test]
-fn an_unknown_id_in_the_tables_option_exits_1_with_its_pointer() {
+fn an_unknown_id_in_the_tables_option_exits_1_naming_the_flag_not_an_invented_pointer() {
     let out = fluxbound(&["assess", FURNACE, "--tables", "no-such-table"], None);
-    assert_rejected_with(&out, &["/--tables/0", "unknown reference-level table 'no-such-table'"]);
+    assert_rejected_with(&out, &["--tables: unknown table 'no-such-table'"]);
+    assert!(!stderr_of(&out).contains("/--tables"), "{}", stderr_of(&out));
     let out = fluxbound(&["assess", FURNACE, "--tables", "icnirp-2010-public,also-missing"], None);
-    assert_rejected_with(&out, &["/--tables/1", "'also-missing'"]);
+    assert_rejected_with(&out, &["--tables: unknown table 'also-missing'"]);
+    assert!(!stderr_of(&out).contains("icnirp-2010-public'"), "only the unknown id is named: {}", stderr_of(&out));
 }
 
 #[test]
-fn a_review_fraction_outside_zero_to_one_exits_1_with_a_pointer_to_the_option() {
-    for fraction in ["1.5", "0", "1"] {
-        let out = fluxbound(&["assess", SWITCH_ROOM, "--review-fraction", fraction], None);
-        assert_rejected_with(&out, &["/options/review_fraction", "review fraction must be greater than 0"]);
+fn an_unknown_id_in_the_survey_reconcile_tables_option_exits_1_naming_the_flag() {
+    let out = fluxbound(&["survey", "reconcile", SWITCH_ROOM, SURVEY, "--tables", "nope"], None);
+    assert_rejected_with(&out, &["--tables: unknown table 'nope'"]);
+}
+
+#[test]
+fn a_review_fraction_outside_zero_to_one_exits_1_naming_the_flag() {
+    for fraction in ["1.5", "0", "1", "-0.25"] {
+        let out = fluxbound(&["assess", SWITCH_ROOM, &format!("--review-fraction={fraction}")], None);
+        assert_rejected_with(&out, &["--review-fraction: review fraction must be greater than 0 and less than 1"]);
+        assert!(!stderr_of(&out).contains("/options/review_fraction"), "{fraction}: {}", stderr_of(&out));
+        let out =
+            fluxbound(&["survey", "reconcile", SWITCH_ROOM, SURVEY, &format!("--review-fraction={fraction}")], None);
+        assert_rejected_with(&out, &["--review-fraction: review fraction must be greater than 0 and less than 1"]);
     }
+}
+
+#[test]
+fn an_unknown_area_for_the_map_exits_1_naming_the_flag_and_writes_nothing() {
+    let missing = std::env::temp_dir().join(format!("fluxbound-cli-missing-{}.svg", std::process::id()));
+    let out = fluxbound(&["assess", FURNACE, "--map", "nope", "--out", missing.to_str().unwrap()], None);
+    assert_rejected_with(&out, &["--map: the site has no area 'nope'"]);
+    assert!(!missing.exists());
+}
+
+#[test]
+fn a_table_file_problem_names_the_flag_the_file_and_the_pointer_into_it() {
+    let path = temp_file("bad-table-flag", &CUSTOM_TABLE.replace(r#""coefficient": 50"#, r#""coefficient": 0"#));
+    let out = fluxbound(&["assess", SWITCH_ROOM, "--table-file", path.to_str().unwrap()], None);
+
+    assert_rejected_with(&out, &[&format!("--table-file {}: /bands/0/coefficient", path.display())]);
 }
 
 #[test]
@@ -696,24 +725,23 @@ fn assess_writes_the_area_map_csv_and_geojson_files_it_is_asked_for() {
     let dir = TempPath::unique("exports");
     std::fs::create_dir_all(&*dir).unwrap();
     let (svg, csv, geo) = (dir.join("map.svg"), dir.join("positions.csv"), dir.join("features.geojson"));
-    let out = std::process::Command::new(env!("CARGO_BIN_EXE_fluxbound"))
-        .current_dir(env!("CARGO_MANIFEST_DIR"))
-        .args([
+    let out = fluxbound(
+        &[
             "assess",
-            "examples/site-furnace-feeder.json",
+            FURNACE,
             "--load",
             "rated",
             "--map",
             "maintenance-walkway",
             "--out",
-        ])
-        .arg(&svg)
-        .arg("--csv")
-        .arg(&csv)
-        .arg("--geojson")
-        .arg(&geo)
-        .output()
-        .unwrap();
+            svg.to_str().unwrap(),
+            "--csv",
+            csv.to_str().unwrap(),
+            "--geojson",
+            geo.to_str().unwrap(),
+        ],
+        None,
+    );
     assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
     let svg_text = std::fs::read_to_string(&svg).unwrap();
     assert!(svg_text.starts_with("<svg") && svg_text.contains("maintenance-walkway"));
@@ -721,44 +749,116 @@ fn assess_writes_the_area_map_csv_and_geojson_files_it_is_asked_for() {
     assert!(csv_text.starts_with("site,load_case,position_id"));
     let geo_doc: serde_json::Value = serde_json::from_str(&std::fs::read_to_string(&geo).unwrap()).unwrap();
     assert_eq!(geo_doc["type"], "FeatureCollection");
-    // An unknown area is a problem with a pointer, and nothing is written.
+    // An unknown area is a problem naming the flag, and nothing is written.
     let missing = dir.join("missing.svg");
-    let out = std::process::Command::new(env!("CARGO_BIN_EXE_fluxbound"))
-        .current_dir(env!("CARGO_MANIFEST_DIR"))
-        .args(["assess", "examples/site-furnace-feeder.json", "--map", "nope", "--out"])
-        .arg(&missing)
-        .output()
-        .unwrap();
+    let out = fluxbound(&["assess", FURNACE, "--map", "nope", "--out", missing.to_str().unwrap()], None);
     assert_eq!(out.status.code(), Some(1));
-    assert!(String::from_utf8_lossy(&out.stderr).contains("/--map"));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("--map: the site has no area 'nope'"));
     assert!(!missing.exists());
 }
 
 #[test]
 fn survey_reconcile_prints_the_reconciliation_fit_extrapolation_and_cautions() {
-    let out = std::process::Command::new(env!("CARGO_BIN_EXE_fluxbound"))
-        .current_dir(env!("CARGO_MANIFEST_DIR"))
-        .args(["survey", "reconcile", "examples/site-switch-room.json", "examples/survey-switch-room.json"])
-        .output()
-        .unwrap();
+    let out = fluxbound(&["survey", "reconcile", SWITCH_ROOM, SURVEY], None);
     assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
     let text = String::from_utf8_lossy(&out.stdout);
     for part in ["SURVEY RECONCILIATION", "LOAD FIT", "EXTRAPOLATION TO RATED LOAD", "OUTSIDE UNCERTAINTY", "CAUTIONS"]
     {
         assert!(text.contains(part), "missing {part}:\n{text}");
     }
-    let json = std::process::Command::new(env!("CARGO_BIN_EXE_fluxbound"))
-        .current_dir(env!("CARGO_MANIFEST_DIR"))
-        .args([
-            "survey",
-            "reconcile",
-            "examples/site-switch-room.json",
-            "examples/survey-switch-room.json",
-            "--format",
-            "json",
-        ])
-        .output()
-        .unwrap();
+    let json = fluxbound(&["survey", "reconcile", SWITCH_ROOM, SURVEY, "--format", "json"], None);
     let v: serde_json::Value = serde_json::from_slice(&json.stdout).unwrap();
     assert_eq!(v["reconciliation"]["summary"]["points"], 10);
+}
+
+/// `(point id, table id, ratio, verdict)` of every extrapolated comparison.
+fn extrapolated_verdicts(v: &Value) -> Vec<(String, String, f64, String)> {
+    let mut out = Vec::new();
+    for p in v["extrapolation"]["points"].as_array().expect("an extrapolation") {
+        for c in p["comparisons"].as_array().unwrap() {
+            out.push((
+                p["id"].as_str().unwrap().to_string(),
+                c["table_id"].as_str().unwrap().to_string(),
+                c["ratio"].as_f64().expect("a ratio"),
+                c["verdict"].as_str().unwrap().to_string(),
+            ));
+        }
+    }
+    out
+}
+
+#[test]
+fn survey_reconcile_judges_the_extrapolation_at_the_review_fraction_given() {
+    let args = ["survey", "reconcile", SWITCH_ROOM, SURVEY, "--format", "json"];
+    let run = |extra: &[&str]| -> Value {
+        let out = fluxbound(&[&args[..], extra].concat(), None);
+        assert_eq!(out.status.code(), Some(0), "{}", stderr_of(&out));
+        serde_json::from_str(&stdout_of(&out)).unwrap()
+    };
+    let default = extrapolated_verdicts(&run(&[]));
+    let low = extrapolated_verdicts(&run(&["--review-fraction", "0.1"]));
+    assert_eq!(default.len(), low.len());
+    for ((p, t, r0, v0), (_, _, r1, v1)) in default.iter().zip(&low) {
+        // The fraction only moves the verdict, never the ratio (same
+        // computation, so agreement to 1e-12 relative).
+        assert!((r0 - r1).abs() <= 1e-12 * r0.abs(), "{p} {t}: {r0} vs {r1}");
+        // DESIGN.md: exceeds at or above 1, approaching from the fraction.
+        let want = |f: f64| {
+            if *r0 >= 1.0 {
+                "exceeds"
+            } else if *r0 >= f {
+                "approaching"
+            } else {
+                "within"
+            }
+        };
+        assert_eq!(v0, want(0.5), "{p} {t} at the default 0.5 (ratio {r0})");
+        assert_eq!(v1, want(0.1), "{p} {t} at 0.1 (ratio {r0})");
+    }
+    // The example's panel front sits between 0.1 and 0.5 of the level, so
+    // the flag is seen to take effect.
+    assert!(low.iter().any(|(_, _, _, v)| v == "approaching"), "{low:?}");
+    assert!(default.iter().all(|(_, _, _, v)| v == "within"), "{default:?}");
+}
+
+/// One long single-phase wire along x at the origin carrying 100 A, and a
+/// position 1 m from it.
+const LONG_WIRE_SITE: &str = r#"{"frequency_hz": 50,
+    "circuits": [{"id": "w", "kind": "single_phase", "current_a": 100}],
+    "conductors": [{"id": "w-A", "circuit": "w", "phase": "A", "radius_m": 0.01, "path": [[-10000, 0, 0], [10000, 0, 0]]}],
+    "positions": [{"id": "p", "at": [0, 1, 0]}]}"#;
+
+#[test]
+fn distance_finds_where_a_long_wires_field_halves_at_twice_the_radius() {
+    // B = 0.2 · I / R µT (OpenStax University Physics Vol. 2, §12.2):
+    // 20 µT at 1 m, 10 µT at 2 m, so 1 m farther along +y. Tolerance 1 mm:
+    // the search stops within 0.1 mm and the 10 km wire differs from an
+    // infinite one by (R/L)² ≈ 4e-8.
+    let path = temp_file("long-wire", LONG_WIRE_SITE);
+    let out = fluxbound(
+        &["distance", path.to_str().unwrap(), "--from", "position:p", "--level-ut", "10", "--direction", "0,1,0"],
+        None,
+    );
+
+    assert_eq!(out.status.code(), Some(0), "{}", stderr_of(&out));
+    let v: Value = serde_json::from_str(&stdout_of(&out)).unwrap();
+    let d = v["distance_m"].as_f64().unwrap();
+    assert!((d - 1.0).abs() < 1e-3, "{v}");
+    let b0 = v["b_at_origin_ut"].as_f64().unwrap();
+    assert!(rel_diff(b0, 20.0) < 1e-6, "{b0}");
+}
+
+#[test]
+fn distance_arguments_that_are_wrong_exit_1_naming_their_flag() {
+    let path = temp_file("long-wire-bad", LONG_WIRE_SITE);
+    let site = path.to_str().unwrap();
+    let cases: [(&[&str], &str); 3] = [
+        (&["--from", "position:ghost", "--level-ut", "10"], "--from: unknown position 'ghost'"),
+        (&["--from", "position:p", "--level-ut", "-5"], "--level-ut: "),
+        (&["--from", "position:p", "--level-ut", "10", "--direction", "sideways"], "--direction: "),
+    ];
+    for (args, needle) in cases {
+        let out = fluxbound(&[&["distance", site][..], args].concat(), None);
+        assert_rejected_with(&out, &[needle]);
+    }
 }

@@ -96,8 +96,7 @@ pub struct Evaluation {
 impl Evaluation {
     /// Segment–point pairs this evaluation will compute.
     pub fn pair_count(&self) -> u64 {
-        let segments: usize = self.conductors.iter().map(|c| c.path.len().saturating_sub(1)).sum();
-        segments as u64 * self.points.len() as u64
+        crate::usecase::segment_count(&self.conductors).saturating_mul(self.points.len() as u64)
     }
 }
 

@@ -43,3 +43,4 @@ pub mod report;
 pub mod schema;
 pub mod site;
 pub mod survey;
+pub mod usecase;

@@ -107,7 +107,6 @@ pub async fn reports_distance(
     let level: f64 = q.level_ut.parse().map_err(|_| {
         ApiError::validation(fluxbound_core::site::Problems::one("/level_ut", "level_ut must be a number (µT)"))
     })?;
-    let r =
-        s.service.reports_distance(&caller, &id, &q.from, q.direction.as_deref().unwrap_or("shortest"), level).await?;
+    let r = s.service.reports_distance(&caller, &id, &q.from, q.direction.as_deref(), level).await?;
     Ok(axum::Json(r).into_response())
 }

@@ -8,14 +8,42 @@ use crate::http::resources::{SurveyPage, SurveyResource};
 use axum::extract::{Path, State};
 use axum::http::{StatusCode, Uri};
 use axum::response::{IntoResponse, Response};
+use fluxbound_core::assess::ReviewFraction;
+use fluxbound_core::site::Problems;
 use fluxbound_core::survey::wire::SurveyDoc;
+
+/// Query parameters of the survey routes that judge extrapolated values.
+#[derive(Debug, Default, serde::Deserialize, utoipa::IntoParams)]
+#[into_params(parameter_in = Query)]
+pub struct ReviewQuery {
+    /// Ratio of a level from which an extrapolated value is `approaching`
+    /// (a number, 0 < fraction < 1; default 0.5).
+    #[param(value_type = Option<f64>, exclusive_minimum = 0, exclusive_maximum = 1)]
+    pub review_fraction: Option<String>,
+}
+
+impl ReviewQuery {
+    /// Reads the review fraction from the query string, if given; a bad
+    /// value is 422 at `/review_fraction`.
+    fn review_fraction(uri: &Uri) -> Result<Option<ReviewFraction>, ApiError> {
+        let q = axum::extract::Query::<ReviewQuery>::try_from_uri(uri)
+            .map_err(|e| ApiError::bad_request(e.body_text(), Problems::default()))?
+            .0;
+        match q.review_fraction {
+            None => Ok(None),
+            Some(text) => text.parse().map(Some).map_err(|e: fluxbound_core::assess::ReviewFractionError| {
+                ApiError::validation(Problems::one("/review_fraction", e.to_string()))
+            }),
+        }
+    }
+}
 
 /// Store a survey (latest or a given revision) and analyse it: reconciliation, load fit, extrapolation.
 /// Measurements come as `points`, or as CSV text in `points_csv` with the header
 /// `id,x_m,y_m,z_m,resultant_ut` and optionally `bx_ut,by_ut,bz_ut` (metres and µT RMS);
 /// a bad row is reported at `/points_csv` with its line number and column.
 #[utoipa::path(post, path = "/v1/sites/{site_id}/surveys", tag = "surveys", request_body = SurveyDoc,
-    params(("site_id" = String, Path, description = "Site id")),
+    params(("site_id" = String, Path, description = "Site id"), ReviewQuery),
     responses(
         (status = 201, description = "Stored with its analysis", body = SurveyResource),
         (status = 404, description = "No such site or revision", body = ProblemDoc, content_type = "application/problem+json"),
@@ -26,10 +54,12 @@ pub async fn surveys_create(
     State(s): State<AppState>,
     Auth(caller): Auth,
     Path(site_id): Path<String>,
+    uri: Uri,
     ApiJson(doc): ApiJson<SurveyDoc>,
 ) -> Result<Response, ApiError> {
     check_id(&site_id, "site")?;
-    let v = s.service.surveys_create(&caller, &site_id, doc).await?;
+    let review_fraction = ReviewQuery::review_fraction(&uri)?.unwrap_or_default();
+    let v = s.service.surveys_create(&caller, &site_id, doc, review_fraction).await?;
     let location = format!("/v1/surveys/{}", v.row.id);
     Ok(json_response(StatusCode::CREATED, &SurveyResource::from(v), Some(location), None))
 }
@@ -99,7 +129,10 @@ async fn survey_part(
 }
 
 /// Each measurement extrapolated to rated load and compared with the tables.
-#[utoipa::path(get, path = "/v1/surveys/{survey_id}/extrapolation", tag = "surveys", params(("survey_id" = String, Path, description = "Survey id")),
+///
+/// Verdicts are those of the stored analysis, or judged again at
+/// `review_fraction` when given (the ratios do not change).
+#[utoipa::path(get, path = "/v1/surveys/{survey_id}/extrapolation", tag = "surveys", params(("survey_id" = String, Path, description = "Survey id"), ReviewQuery),
     responses((status = 200, description = "`{extrapolation, notes}` (extrapolation is null when a circuit has no rated current)", body = Object),
               (status = 404, description = "No such survey", body = ProblemDoc, content_type = "application/problem+json")),
     security(("bearer" = [])))]
@@ -107,6 +140,15 @@ pub async fn surveys_extrapolation(
     State(s): State<AppState>,
     Auth(caller): Auth,
     Path(id): Path<String>,
+    uri: Uri,
 ) -> Result<Response, ApiError> {
-    survey_part(&s, &caller, &id, |a| serde_json::json!({"extrapolation": a.extrapolation, "notes": a.notes})).await
+    let review_fraction = ReviewQuery::review_fraction(&uri)?;
+    survey_part(&s, &caller, &id, |a| {
+        let mut a = a.clone();
+        if let Some(f) = review_fraction {
+            fluxbound_core::usecase::rejudge_extrapolation(&mut a, f);
+        }
+        serde_json::json!({"extrapolation": a.extrapolation, "notes": a.notes})
+    })
+    .await
 }

@@ -31,53 +31,92 @@ impl LoadCase {
         }
     }
 
-    /// Per-circuit loads for `site`. `at` is where the load case sits in the
-    /// request, for pointers; a rated case without a rated current points at
-    /// the circuit in the site.
-    pub fn resolve(&self, site: &Site, at: &Pointer) -> Result<Vec<CircuitLoad>, Problems> {
-        let mut p = Problems::default();
-        let index = |id: &str| site.circuits.iter().position(|c| c.id == id);
+    /// Per-circuit loads for `site`, or every problem: those of the load
+    /// case itself (an unknown circuit, a bad current) and those of the site
+    /// (a rated case without a rated current).
+    pub fn resolve(&self, site: &Site) -> Result<Vec<CircuitLoad>, LoadError> {
         let mut loads = vec![CircuitLoad::PRESENT; site.circuits.len()];
+        let mut err = LoadError::default();
         match self {
             LoadCase::Present => {}
-            LoadCase::Rated => {
-                for (i, c) in site.circuits.iter().enumerate() {
-                    match c.rated_current_a {
-                        Some(r) => loads[i] = CircuitLoad::CurrentA(r),
-                        None => p.push(
-                            &Pointer::root().key("circuits").index(i).key("rated_current_a"),
-                            format!("the rated load case needs rated_current_a for circuit '{}'", c.id),
-                        ),
-                    }
-                }
-            }
+            LoadCase::Rated => err.in_site = rated_loads(site, &mut loads),
             LoadCase::Currents { currents_a } => {
-                for (id, a) in currents_a {
-                    let ap = at.key("currents_a").key(id);
-                    match index(id) {
-                        None => p.push(&ap, format!("unknown circuit '{id}'")),
-                        Some(_) if !(a.is_finite() && (0.0..=crate::site::CURRENT_LIMIT_A).contains(a)) => {
-                            p.push(&ap, "current must be between 0 and 1e6 A")
-                        }
-                        Some(i) => loads[i] = CircuitLoad::CurrentA(*a),
-                    }
-                }
+                err.in_load = by_circuit(site, currents_a, "currents_a", &mut loads, |a| {
+                    (a.is_finite() && (0.0..=crate::site::CURRENT_LIMIT_A).contains(&a))
+                        .then_some(CircuitLoad::CurrentA(a))
+                        .ok_or("current must be between 0 and 1e6 A")
+                })
             }
             LoadCase::Scale { factors } => {
-                for (id, f) in factors {
-                    let fp = at.key("factors").key(id);
-                    match index(id) {
-                        None => p.push(&fp, format!("unknown circuit '{id}'")),
-                        Some(_) if !(f.is_finite() && (0.0..=100.0).contains(f)) => {
-                            p.push(&fp, "scale factor must be between 0 and 100")
-                        }
-                        Some(i) => loads[i] = CircuitLoad::Scale(*f),
-                    }
-                }
+                err.in_load = by_circuit(site, factors, "factors", &mut loads, |f| {
+                    (f.is_finite() && (0.0..=100.0).contains(&f))
+                        .then_some(CircuitLoad::Scale(f))
+                        .ok_or("scale factor must be between 0 and 100")
+                })
             }
         }
-        p.into_result(loads)
+        if err.is_empty() { Ok(loads) } else { Err(err) }
     }
+}
+
+/// Problems of a load case against a site, kept apart by whose input they
+/// belong to, so each edge can address them (HTTP: `/load/…` in the request
+/// body; CLI: the `--load` flag).
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct LoadError {
+    /// Pointers relative to the load case (`/currents_a/T9`).
+    pub in_load: Problems,
+    /// Pointers into the site (`/circuits/1/rated_current_a`).
+    pub in_site: Problems,
+}
+
+impl LoadError {
+    pub fn is_empty(&self) -> bool {
+        self.in_load.is_empty() && self.in_site.is_empty()
+    }
+    /// Every problem, those of the load case under `load_at`.
+    pub fn into_problems(self, load_at: &str) -> Problems {
+        let mut all = crate::usecase::under(load_at, self.in_load);
+        all.0.extend(self.in_site.0);
+        all
+    }
+}
+
+/// Rated currents of every circuit; a circuit without one is a problem at
+/// its `rated_current_a` in the site.
+fn rated_loads(site: &Site, loads: &mut [CircuitLoad]) -> Problems {
+    let mut p = Problems::default();
+    for (i, c) in site.circuits.iter().enumerate() {
+        match c.rated_current_a {
+            Some(r) => loads[i] = CircuitLoad::CurrentA(r),
+            None => p.push(
+                &Pointer::root().key("circuits").index(i).key("rated_current_a"),
+                format!("the rated load case needs rated_current_a for circuit '{}'", c.id),
+            ),
+        }
+    }
+    p
+}
+
+/// Loads given per circuit id under `key`; `check` turns a value into a
+/// load or says why it cannot be one.
+fn by_circuit(
+    site: &Site,
+    values: &BTreeMap<String, f64>,
+    key: &str,
+    loads: &mut [CircuitLoad],
+    check: impl Fn(f64) -> Result<CircuitLoad, &'static str>,
+) -> Problems {
+    let mut p = Problems::default();
+    for (id, v) in values {
+        let at = Pointer::root().key(key).key(id);
+        match (site.circuits.iter().position(|c| &c.id == id), check(*v)) {
+            (None, _) => p.push(&at, format!("unknown circuit '{id}'")),
+            (Some(_), Err(why)) => p.push(&at, why),
+            (Some(i), Ok(load)) => loads[i] = load,
+        }
+    }
+    p
 }
 
 /// What a load case came to, per circuit, for the report.

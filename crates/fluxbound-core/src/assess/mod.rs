@@ -10,12 +10,14 @@
 mod grid;
 mod load;
 mod map;
+mod review;
 mod verdict;
 
-pub use grid::{area_grid, bounding_cells, contains};
-pub use load::{CircuitLoadReport, LoadCase, LoadCaseReport};
-pub use map::{AreaMap, GridSpec, TableRatios, area_map};
-pub use verdict::{FrequencyRatio, Ratio, Verdict, ratio_of};
+pub use grid::{DEFAULT_MAX_GRID_CELLS, GridSpec, area_grid, bounding_cells, check_grid_budget, contains};
+pub use load::{CircuitLoadReport, LoadCase, LoadCaseReport, LoadError};
+pub use map::{AreaMap, MAP_MAX_CELLS, TableRatios, area_map};
+pub use review::{ReviewFraction, ReviewFractionError};
+pub use verdict::{FrequencyRatio, Ratio, Verdict, exposure_ratio, line_levels, ratio_of};
 
 use crate::cautions::cautions;
 use crate::field;
@@ -23,7 +25,7 @@ use crate::limits::{
     AppliesTo, IMPLANT_TABLE_ID, Population, ReferenceTable, TableBodyRegion, TableKind, builtin_table,
 };
 use crate::site::wire::{BodyRegion, Group};
-use crate::site::{Placement, Pointer, Problems, Site};
+use crate::site::{Placement, Problems, Site};
 use nalgebra::Point3;
 use serde::{Deserialize, Serialize};
 
@@ -32,25 +34,57 @@ use serde::{Deserialize, Serialize};
 #[serde(deny_unknown_fields)]
 pub struct Options {
     /// Ratio from which a result is `approaching` (0 < fraction < 1).
-    #[serde(default = "default_review_fraction")]
-    pub review_fraction: f64,
+    #[serde(default)]
+    pub review_fraction: ReviewFraction,
     /// Most grid cells over all areas of one assessment.
     #[serde(default = "default_max_grid_cells")]
     pub max_grid_cells: u64,
 }
 
-fn default_review_fraction() -> f64 {
-    0.5
-}
 fn default_max_grid_cells() -> u64 {
-    1_000_000
+    DEFAULT_MAX_GRID_CELLS
 }
 
 impl Default for Options {
     fn default() -> Self {
-        Options { review_fraction: default_review_fraction(), max_grid_cells: default_max_grid_cells() }
+        Options { review_fraction: ReviewFraction::DEFAULT, max_grid_cells: DEFAULT_MAX_GRID_CELLS }
     }
 }
+
+/// Why an assessment could not run, every problem at once, kept apart by
+/// whose input it belongs to so each edge can address it: the HTTP service
+/// as pointers into its request body, the CLI as flags.
+#[derive(Debug, Clone, PartialEq, Default, thiserror::Error)]
+#[error("the assessment has problems")]
+pub struct AssessError {
+    /// No reference-level table was chosen.
+    pub no_tables: bool,
+    /// Problems of the load case, pointers relative to it (`/currents_a/T9`).
+    pub in_load: Problems,
+    /// Problems of the site for this assessment (a rated load without a
+    /// rated current, area grids over the cell budget), pointers into it.
+    pub in_site: Problems,
+}
+
+impl AssessError {
+    pub fn is_empty(&self) -> bool {
+        !self.no_tables && self.in_load.is_empty() && self.in_site.is_empty()
+    }
+    /// Every problem as pointers: the table list at `tables_at`, the load
+    /// case under `load_at`, the site's own pointers unchanged.
+    pub fn into_problems(self, tables_at: &str, load_at: &str) -> Problems {
+        let mut all = Problems::default();
+        if self.no_tables {
+            all.0.extend(Problems::one(tables_at, NO_TABLES).0);
+        }
+        all.0.extend(crate::usecase::under(load_at, self.in_load).0);
+        all.0.extend(self.in_site.0);
+        all
+    }
+}
+
+/// The detail of an empty table list.
+pub const NO_TABLES: &str = "choose at least one reference-level table";
 
 /// A table as used by an assessment (pinned by id and version).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -199,13 +233,86 @@ pub const NOTES: [&str; 3] = [
     "Time-weighted averages are information only (the highest value for the hours of occupancy, at most 8, in an 8-hour day): power-frequency reference levels are ceilings and are not time-averaged.",
 ];
 
-/// Samples of the field at one point.
+/// The field at one evaluation point.
 struct Sample {
     resultant_ut: f64,
     maximum_ut: f64,
     /// `(frequency_hz, resultant_ut)` per spectral line.
     spectrum: Vec<(f64, f64)>,
+    /// Conductors the point lies inside (no thin-wire field there).
     inside: Vec<String>,
+}
+
+impl Sample {
+    fn computed(&self) -> bool {
+        self.inside.is_empty()
+    }
+}
+
+/// One evaluated height of a position.
+struct HeightSample {
+    /// Height above the standing point, m (`None` for a 3-D point).
+    height_m: Option<f64>,
+    at: Point3<f64>,
+    field: Sample,
+}
+
+/// One evaluated cell centre of an area.
+struct CellSample {
+    at: Point3<f64>,
+    field: Sample,
+}
+
+/// Every point of every position and area, in one list so the field is
+/// evaluated in one pass; the spans say whose points are where.
+struct PointPlan {
+    points: Vec<Point3<f64>>,
+    positions: Vec<std::ops::Range<usize>>,
+    areas: Vec<std::ops::Range<usize>>,
+}
+
+impl PointPlan {
+    fn of(site: &Site) -> PointPlan {
+        let mut points: Vec<Point3<f64>> = Vec::new();
+        let mut positions = Vec::with_capacity(site.positions.len());
+        for q in &site.positions {
+            let start = points.len();
+            match &q.placement {
+                Placement::Standing { x_m, y_m, heights_m } => {
+                    points.extend(heights_m.iter().map(|h| Point3::new(*x_m, *y_m, *h)))
+                }
+                Placement::Point(pt) => points.push(*pt),
+            }
+            positions.push(start..points.len());
+        }
+        let mut areas = Vec::with_capacity(site.areas.len());
+        for a in &site.areas {
+            let start = points.len();
+            points.extend(area_grid(&a.polygon, a.height_m, a.spacing_m));
+            areas.push(start..points.len());
+        }
+        PointPlan { points, positions, areas }
+    }
+}
+
+/// The evaluated field of a [`PointPlan`], read one point at a time so that
+/// only one area's samples are held at once.
+struct Sampler<'a> {
+    site: &'a Site,
+    set: field::FieldSet,
+    line_hz: Vec<f64>,
+}
+
+impl Sampler<'_> {
+    fn sample(&self, i: usize) -> Sample {
+        let phasors = self.set.at(i);
+        Sample {
+            resultant_ut: field::total_resultant_ut(phasors),
+            maximum_ut: field::total_maximum_ut(phasors),
+            spectrum: self.line_hz.iter().zip(phasors).map(|(f, b)| (*f, field::resultant_ut(b))).collect(),
+            inside: self.set.inside_of(i).map(|k| self.site.conductors[k].id.clone()).collect(),
+        }
+    }
 }
 
 /// Assesses every position and area of `site` at `load` against `tables`.
@@ -215,134 +322,121 @@ pub fn assess(
     load: &LoadCase,
     tables: &[ReferenceTable],
     options: &Options,
-) -> Result<Assessment, Problems> {
-    let root = Pointer::root();
-    let mut p = Problems::default();
-    let rf = options.review_fraction;
-    if !(rf.is_finite() && rf > 0.0 && rf < 1.0) {
-        p.push(&root.key("options").key("review_fraction"), "review fraction must be greater than 0 and less than 1");
-    }
-    if tables.is_empty() {
-        p.push(&root.key("tables"), "choose at least one reference-level table");
-    }
-    let loads = match load.resolve(site, &root.key("load")) {
-        Ok(l) => l,
-        Err(e) => {
-            p.0.extend(e.0);
-            Vec::new()
-        }
-    };
-    let mut total_cells = 0u64;
-    for (i, a) in site.areas.iter().enumerate() {
-        total_cells = total_cells.saturating_add(bounding_cells(&a.polygon, a.spacing_m));
-        if total_cells > options.max_grid_cells {
-            p.push(
-                &root.key("areas").index(i).key("spacing_m"),
-                format!("the area grids would exceed {} cells: increase spacing_m", options.max_grid_cells),
-            );
-            break;
-        }
-    }
-    p.into_result(())?;
-
-    let mut tables: Vec<ReferenceTable> = dedup_tables(tables);
-    if site.positions.iter().any(|q| q.group == Group::ImplantWearer)
-        && !tables.iter().any(|t| t.applies_to().population == Population::ImplantWearers)
-        && let Some(t) = builtin_table(IMPLANT_TABLE_ID)
-    {
-        tables.push(t.clone());
-    }
-
-    // Every point of every position and area, evaluated in one pass.
-    let mut points: Vec<Point3<f64>> = Vec::new();
-    let mut position_spans = Vec::new();
-    for q in &site.positions {
-        let start = points.len();
-        match &q.placement {
-            Placement::Standing { x_m, y_m, heights_m } => {
-                points.extend(heights_m.iter().map(|h| Point3::new(*x_m, *y_m, *h)))
-            }
-            Placement::Point(pt) => points.push(*pt),
-        }
-        position_spans.push(start..points.len());
-    }
-    let mut area_spans = Vec::new();
-    for a in &site.areas {
-        let start = points.len();
-        points.extend(area_grid(&a.polygon, a.height_m, a.spacing_m));
-        area_spans.push(start..points.len());
-    }
-    let filaments = crate::site::filaments(&site.conductors);
+) -> Result<Assessment, AssessError> {
+    let loads = check_inputs(site, load, tables, options)?;
+    let tables = with_implant_table(site, dedup_tables(tables));
+    let plan = PointPlan::of(site);
     let excitation = site.excitation_at(&loads);
-    let set = field::evaluate(&filaments, &points, &excitation);
-    let line_hz: Vec<f64> = excitation.lines.iter().map(|l| l.frequency_hz).collect();
-    let sample = |i: usize| {
-        let inside: Vec<String> = set.inside_of(i).map(|k| site.conductors[k].id.clone()).collect();
-        let phasors = set.at(i);
-        Sample {
-            resultant_ut: field::total_resultant_ut(phasors),
-            maximum_ut: field::total_maximum_ut(phasors),
-            spectrum: line_hz.iter().zip(phasors).map(|(f, b)| (*f, field::resultant_ut(b))).collect(),
-            inside,
-        }
+    let sampler = Sampler {
+        site,
+        set: field::evaluate(&crate::site::filaments(&site.conductors), &plan.points, &excitation),
+        line_hz: excitation.lines.iter().map(|l| l.frequency_hz).collect(),
     };
-
-    let positions: Vec<PositionResult> = site
-        .positions
-        .iter()
-        .zip(&position_spans)
-        .map(|(q, span)| {
-            let samples: Vec<(Option<f64>, Point3<f64>, Sample)> = span
-                .clone()
-                .map(|i| {
-                    let h = match q.placement {
-                        Placement::Standing { .. } => Some(points[i].z),
-                        Placement::Point(_) => None,
-                    };
-                    (h, points[i], sample(i))
-                })
-                .collect();
-            let applicable: Vec<&ReferenceTable> =
-                tables.iter().filter(|t| applies(t, q.body_region, q.group)).collect();
-            assess_position(q, &samples, &applicable, rf, site.frequency_hz)
-        })
-        .collect();
-
-    let area_tables: Vec<&ReferenceTable> =
-        tables.iter().filter(|t| applies(t, BodyRegion::WholeBody, Group::General)).collect();
-    let areas: Vec<AreaResult> = site
-        .areas
-        .iter()
-        .zip(&area_spans)
-        .map(|(a, span)| {
-            let samples: Vec<(Point3<f64>, Sample)> = span.clone().map(|i| (points[i], sample(i))).collect();
-            assess_area(a, &samples, &area_tables, rf, site.frequency_hz)
-        })
-        .collect();
-
+    let rf = options.review_fraction;
+    let positions = assess_positions(site, &plan, &sampler, &tables, rf);
+    let areas = assess_areas(site, &plan, &sampler, &tables, rf);
     let summary = summarise(&positions, &areas);
     Ok(Assessment {
         site_name: site.name.clone(),
         frequency_hz: site.frequency_hz,
         load_case: load::report(load, site, &loads),
-        review_fraction: rf,
-        tables: tables
-            .iter()
-            .map(|t| TableRef {
-                id: t.id().to_string(),
-                version: t.version(),
-                title: t.doc().title.clone(),
-                kind: t.doc().kind,
-                applies_to: t.applies_to(),
-                source: t.doc().source.clone(),
-            })
-            .collect(),
+        review_fraction: rf.get(),
+        tables: tables.iter().map(table_ref).collect(),
         positions,
         areas,
         summary,
         notes: NOTES.iter().map(|s| s.to_string()).collect(),
         cautions: cautions(),
     })
+}
+
+/// Every reason the assessment cannot run, or the resolved circuit loads.
+fn check_inputs(
+    site: &Site,
+    load: &LoadCase,
+    tables: &[ReferenceTable],
+    options: &Options,
+) -> Result<Vec<crate::site::CircuitLoad>, AssessError> {
+    let mut err = AssessError { no_tables: tables.is_empty(), ..AssessError::default() };
+    let loads = load.resolve(site).unwrap_or_else(|e| {
+        err.in_load = e.in_load;
+        err.in_site = e.in_site;
+        Vec::new()
+    });
+    err.in_site.0.extend(check_grid_budget(site, options.max_grid_cells).0);
+    if err.is_empty() { Ok(loads) } else { Err(err) }
+}
+
+/// Adds the implant screening table when the site has implant wearers and
+/// no table chosen covers them.
+fn with_implant_table(site: &Site, mut tables: Vec<ReferenceTable>) -> Vec<ReferenceTable> {
+    if site.positions.iter().any(|q| q.group == Group::ImplantWearer)
+        && !tables.iter().any(|t| t.applies_to().population == Population::ImplantWearers)
+        && let Some(t) = builtin_table(IMPLANT_TABLE_ID)
+    {
+        tables.push(t.clone());
+    }
+    tables
+}
+
+fn table_ref(t: &ReferenceTable) -> TableRef {
+    TableRef {
+        id: t.id().to_string(),
+        version: t.version(),
+        title: t.doc().title.clone(),
+        kind: t.doc().kind,
+        applies_to: t.applies_to(),
+        source: t.doc().source.clone(),
+    }
+}
+
+fn assess_positions(
+    site: &Site,
+    plan: &PointPlan,
+    sampler: &Sampler<'_>,
+    tables: &[ReferenceTable],
+    rf: ReviewFraction,
+) -> Vec<PositionResult> {
+    site.positions
+        .iter()
+        .zip(&plan.positions)
+        .map(|(q, span)| {
+            let samples: Vec<HeightSample> = span
+                .clone()
+                .map(|i| HeightSample {
+                    height_m: match q.placement {
+                        Placement::Standing { .. } => Some(plan.points[i].z),
+                        Placement::Point(_) => None,
+                    },
+                    at: plan.points[i],
+                    field: sampler.sample(i),
+                })
+                .collect();
+            let applicable: Vec<&ReferenceTable> =
+                tables.iter().filter(|t| applies(t, q.body_region, q.group)).collect();
+            assess_position(q, &samples, &applicable, rf, site.frequency_hz)
+        })
+        .collect()
+}
+
+fn assess_areas(
+    site: &Site,
+    plan: &PointPlan,
+    sampler: &Sampler<'_>,
+    tables: &[ReferenceTable],
+    rf: ReviewFraction,
+) -> Vec<AreaResult> {
+    let area_tables: Vec<&ReferenceTable> =
+        tables.iter().filter(|t| applies(t, BodyRegion::WholeBody, Group::General)).collect();
+    site.areas
+        .iter()
+        .zip(&plan.areas)
+        .map(|(a, span)| {
+            let samples: Vec<CellSample> =
+                span.clone().map(|i| CellSample { at: plan.points[i], field: sampler.sample(i) }).collect();
+            assess_area(a, &samples, &area_tables, rf, site.frequency_hz)
+        })
+        .collect()
 }
 
 fn dedup_tables(tables: &[ReferenceTable]) -> Vec<ReferenceTable> {
@@ -371,98 +465,134 @@ fn applies(table: &ReferenceTable, region: BodyRegion, group: Group) -> bool {
     (region_ok && group_ok) || implant_any_region
 }
 
-fn level_at_fundamental(t: &ReferenceTable, f_hz: f64) -> Option<f64> {
-    t.level_ut(f_hz).ok()
+fn level_at_fundamental(t: &ReferenceTable, f0_hz: f64) -> Option<f64> {
+    t.level_ut(f0_hz).ok()
+}
+
+/// The worst verdict of a list (a result that could not be judged ranks
+/// above `approaching`; see [`Verdict::severity`]).
+fn worst_of(verdicts: impl Iterator<Item = Verdict>) -> Option<Verdict> {
+    verdicts.max_by_key(|v| v.severity())
 }
 
 fn assess_position(
     q: &crate::site::Position,
-    samples: &[(Option<f64>, Point3<f64>, Sample)],
+    samples: &[HeightSample],
     tables: &[&ReferenceTable],
-    rf: f64,
+    rf: ReviewFraction,
     f0_hz: f64,
 ) -> PositionResult {
-    let computed: Vec<&(Option<f64>, Point3<f64>, Sample)> = samples.iter().filter(|s| s.2.inside.is_empty()).collect();
-    let heights = samples
-        .iter()
-        .map(|(h, at, s)| {
-            let ok = s.inside.is_empty();
-            HeightResult {
-                height_m: *h,
-                at: [at.x, at.y, at.z],
-                resultant_ut: ok.then_some(s.resultant_ut),
-                maximum_ut: ok.then_some(s.maximum_ut),
-                frequencies: if ok {
-                    s.spectrum.iter().map(|(f, b)| SpectralValue { frequency_hz: *f, resultant_ut: *b }).collect()
-                } else {
-                    Vec::new()
-                },
-                inside_conductors: s.inside.clone(),
-                comparisons: tables
-                    .iter()
-                    .map(|t| {
-                        if !ok {
-                            return PointComparison {
-                                table_id: t.id().into(),
-                                ratio: None,
-                                verdict: Verdict::NotComputed,
-                            };
-                        }
-                        let r = ratio_of(&s.spectrum, t);
-                        PointComparison { table_id: t.id().into(), ratio: r.ratio, verdict: r.verdict(rf) }
-                    })
-                    .collect(),
-            }
+    let computed: Vec<&HeightSample> = samples.iter().filter(|s| s.field.computed()).collect();
+    let max = computed.iter().max_by(|a, b| a.field.resultant_ut.total_cmp(&b.field.resultant_ut));
+    let mean = mean_of(computed.iter().map(|s| s.field.resultant_ut));
+    let mean_spectrum = mean_spectrum(&computed);
+    let comparisons: Vec<PositionComparison> =
+        tables.iter().map(|t| compare_position(t, &computed, &mean_spectrum, rf, f0_hz)).collect();
+    let verdict = if tables.is_empty() {
+        Verdict::NotCovered
+    } else {
+        worst_of(comparisons.iter().map(|c| c.verdict)).unwrap_or(Verdict::NotComputed)
+    };
+    let max_resultant_ut = max.map(|s| s.field.resultant_ut);
+    PositionResult {
+        id: q.id.clone(),
+        body_region: q.body_region,
+        group: q.group,
+        heights: samples.iter().map(|s| height_result(s, tables, rf)).collect(),
+        max_resultant_ut,
+        max_height_m: max.and_then(|s| s.height_m),
+        mean_resultant_ut: mean,
+        comparisons,
+        verdict,
+        time_weighted: time_weighted(q.occupancy_h, max_resultant_ut),
+        notes: position_notes(q, tables.is_empty(), computed.len() < samples.len()),
+    }
+}
+
+fn mean_of(values: impl ExactSizeIterator<Item = f64>) -> Option<f64> {
+    let n = values.len();
+    (n > 0).then(|| values.sum::<f64>() / n as f64)
+}
+
+/// Mean resultant per spectral line over the computed heights, µT.
+fn mean_spectrum(computed: &[&HeightSample]) -> Vec<(f64, f64)> {
+    let Some(first) = computed.first() else { return Vec::new() };
+    (0..first.field.spectrum.len())
+        .map(|k| {
+            let f = first.field.spectrum[k].0;
+            (f, computed.iter().map(|s| s.field.spectrum[k].1).sum::<f64>() / computed.len() as f64)
         })
-        .collect();
-    let max = computed.iter().max_by(|a, b| a.2.resultant_ut.total_cmp(&b.2.resultant_ut));
-    let mean =
-        (!computed.is_empty()).then(|| computed.iter().map(|s| s.2.resultant_ut).sum::<f64>() / computed.len() as f64);
-    let mean_spectrum: Vec<(f64, f64)> = match computed.first() {
-        Some(first) => (0..first.2.spectrum.len())
-            .map(|k| {
-                let f = first.2.spectrum[k].0;
-                (f, computed.iter().map(|s| s.2.spectrum[k].1).sum::<f64>() / computed.len() as f64)
+        .collect()
+}
+
+/// One height's field and its verdict against each table.
+fn height_result(s: &HeightSample, tables: &[&ReferenceTable], rf: ReviewFraction) -> HeightResult {
+    let ok = s.field.computed();
+    HeightResult {
+        height_m: s.height_m,
+        at: [s.at.x, s.at.y, s.at.z],
+        resultant_ut: ok.then_some(s.field.resultant_ut),
+        maximum_ut: ok.then_some(s.field.maximum_ut),
+        frequencies: if ok {
+            s.field.spectrum.iter().map(|(f, b)| SpectralValue { frequency_hz: *f, resultant_ut: *b }).collect()
+        } else {
+            Vec::new()
+        },
+        inside_conductors: s.field.inside.clone(),
+        comparisons: tables
+            .iter()
+            .map(|t| {
+                if !ok {
+                    return PointComparison { table_id: t.id().into(), ratio: None, verdict: Verdict::NotComputed };
+                }
+                let r = ratio_of(&s.field.spectrum, t);
+                PointComparison { table_id: t.id().into(), ratio: r.ratio, verdict: r.verdict(rf) }
             })
             .collect(),
-        None => Vec::new(),
+    }
+}
+
+/// A position against one table: the verdict of its worst computed height.
+fn compare_position(
+    t: &ReferenceTable,
+    computed: &[&HeightSample],
+    mean_spectrum: &[(f64, f64)],
+    rf: ReviewFraction,
+    f0_hz: f64,
+) -> PositionComparison {
+    let level_ut = level_at_fundamental(t, f0_hz);
+    let ratios: Vec<(Option<f64>, Ratio)> =
+        computed.iter().map(|s| (s.height_m, ratio_of(&s.field.spectrum, t))).collect();
+    // An uncovered ratio (None) ranks as the worst.
+    let worst =
+        ratios.iter().max_by(|a, b| a.1.ratio.unwrap_or(f64::INFINITY).total_cmp(&b.1.ratio.unwrap_or(f64::INFINITY)));
+    let Some((worst_height_m, worst)) = worst else {
+        return PositionComparison {
+            table_id: t.id().into(),
+            ratio: None,
+            verdict: Verdict::NotComputed,
+            worst_height_m: None,
+            ratio_of_height_mean: None,
+            level_ut,
+            per_frequency: Vec::new(),
+            uncovered_hz: Vec::new(),
+        };
     };
-    let comparisons: Vec<PositionComparison> = tables
-        .iter()
-        .map(|t| {
-            let level_ut = level_at_fundamental(t, f0_hz);
-            if computed.is_empty() {
-                return PositionComparison {
-                    table_id: t.id().into(),
-                    ratio: None,
-                    verdict: Verdict::NotComputed,
-                    worst_height_m: None,
-                    ratio_of_height_mean: None,
-                    level_ut,
-                    per_frequency: Vec::new(),
-                    uncovered_hz: Vec::new(),
-                };
-            }
-            let ratios: Vec<(Option<f64>, Ratio)> =
-                computed.iter().map(|s| (s.0, ratio_of(&s.2.spectrum, t))).collect();
-            let worst = ratios
-                .iter()
-                .max_by(|a, b| a.1.ratio.unwrap_or(f64::INFINITY).total_cmp(&b.1.ratio.unwrap_or(f64::INFINITY)))
-                .expect("at least one computed height");
-            PositionComparison {
-                table_id: t.id().into(),
-                ratio: worst.1.ratio,
-                verdict: worst.1.verdict(rf),
-                worst_height_m: worst.0,
-                ratio_of_height_mean: ratio_of(&mean_spectrum, t).ratio,
-                level_ut,
-                per_frequency: worst.1.per_frequency.clone(),
-                uncovered_hz: worst.1.uncovered_hz.clone(),
-            }
-        })
-        .collect();
+    PositionComparison {
+        table_id: t.id().into(),
+        ratio: worst.ratio,
+        verdict: worst.verdict(rf),
+        worst_height_m: *worst_height_m,
+        ratio_of_height_mean: ratio_of(mean_spectrum, t).ratio,
+        level_ut,
+        per_frequency: worst.per_frequency.clone(),
+        uncovered_hz: worst.uncovered_hz.clone(),
+    }
+}
+
+fn position_notes(q: &crate::site::Position, no_table: bool, some_inside: bool) -> Vec<String> {
     let mut notes = Vec::new();
-    if tables.is_empty() {
+    if no_table {
         notes.push(
             match q.body_region {
                 BodyRegion::Limb => {
@@ -479,28 +609,10 @@ fn assess_position(
                 .to_string(),
         );
     }
-    if computed.len() < samples.len() {
+    if some_inside {
         notes.push("some evaluation points lie inside a conductor and are not computed: move the position".to_string());
     }
-    let verdict = if tables.is_empty() {
-        Verdict::NotCovered
-    } else {
-        comparisons.iter().map(|c| c.verdict).max_by_key(|v| v.severity()).unwrap_or(Verdict::NotComputed)
-    };
-    let max_resultant_ut = max.map(|s| s.2.resultant_ut);
-    PositionResult {
-        id: q.id.clone(),
-        body_region: q.body_region,
-        group: q.group,
-        heights,
-        max_resultant_ut,
-        max_height_m: max.and_then(|s| s.0),
-        mean_resultant_ut: mean,
-        comparisons,
-        verdict,
-        time_weighted: time_weighted(q.occupancy_h, max_resultant_ut),
-        notes,
-    }
+    notes
 }
 
 fn time_weighted(occupancy_h: Option<f64>, b_ut: Option<f64>) -> Option<TimeWeighted> {
@@ -510,80 +622,74 @@ fn time_weighted(occupancy_h: Option<f64>, b_ut: Option<f64>) -> Option<TimeWeig
 
 fn assess_area(
     a: &crate::site::Area,
-    samples: &[(Point3<f64>, Sample)],
+    samples: &[CellSample],
     tables: &[&ReferenceTable],
-    rf: f64,
+    rf: ReviewFraction,
     f0_hz: f64,
 ) -> AreaResult {
-    let computed: Vec<&(Point3<f64>, Sample)> = samples.iter().filter(|s| s.1.inside.is_empty()).collect();
-    let n = computed.len();
-    let max = computed.iter().max_by(|x, y| x.1.resultant_ut.total_cmp(&y.1.resultant_ut));
-    let mean = (n > 0).then(|| computed.iter().map(|s| s.1.resultant_ut).sum::<f64>() / n as f64);
-    let comparisons: Vec<AreaComparison> = tables
-        .iter()
-        .map(|t| {
-            // Levels per spectral line, computed once per table.
-            let levels: Vec<Option<f64>> = computed
-                .first()
-                .map(|s| s.1.spectrum.iter().map(|(f, _)| t.level_ut(*f).ok()).collect())
-                .unwrap_or_default();
-            let mut uncovered: Vec<f64> = Vec::new();
-            let mut ratios = Vec::with_capacity(n);
-            for s in &computed {
-                let mut r = 0.0;
-                for ((f, b), l) in s.1.spectrum.iter().zip(&levels) {
-                    match l {
-                        _ if *b <= 0.0 => {}
-                        Some(l) => r += b / l,
-                        None => {
-                            if !uncovered.contains(f) {
-                                uncovered.push(*f);
-                            }
-                        }
-                    }
-                }
-                ratios.push(r);
-            }
-            let level_ut = level_at_fundamental(t, f0_hz);
-            if !uncovered.is_empty() || n == 0 {
-                let verdict = if n == 0 { Verdict::NotComputed } else { Verdict::NotCovered };
-                return AreaComparison {
-                    table_id: t.id().into(),
-                    max_ratio: None,
-                    verdict,
-                    level_ut,
-                    share_at_or_above_level: None,
-                    share_at_or_above_review: None,
-                    uncovered_hz: uncovered,
-                };
-            }
-            let max_ratio = ratios.iter().cloned().fold(0.0, f64::max);
-            let share = |threshold: f64| ratios.iter().filter(|r| **r >= threshold).count() as f64 / n as f64;
-            AreaComparison {
-                table_id: t.id().into(),
-                max_ratio: Some(max_ratio),
-                verdict: Verdict::of_ratio(max_ratio, rf),
-                level_ut,
-                share_at_or_above_level: Some(share(1.0)),
-                share_at_or_above_review: Some(share(rf)),
-                uncovered_hz: Vec::new(),
-            }
-        })
-        .collect();
-    let verdict = comparisons.iter().map(|c| c.verdict).max_by_key(|v| v.severity()).unwrap_or(Verdict::NotCovered);
-    let max_resultant_ut = max.map(|s| s.1.resultant_ut);
+    let computed: Vec<&CellSample> = samples.iter().filter(|s| s.field.computed()).collect();
+    let max = computed.iter().max_by(|x, y| x.field.resultant_ut.total_cmp(&y.field.resultant_ut));
+    let comparisons: Vec<AreaComparison> = tables.iter().map(|t| compare_area(t, &computed, rf, f0_hz)).collect();
+    let max_resultant_ut = max.map(|s| s.field.resultant_ut);
     AreaResult {
         id: a.id.clone(),
         height_m: a.height_m,
         spacing_m: a.spacing_m,
         cells: samples.len(),
-        cells_inside_conductors: samples.len() - n,
+        cells_inside_conductors: samples.len() - computed.len(),
         max_resultant_ut,
-        max_at: max.map(|s| [s.0.x, s.0.y, s.0.z]),
-        mean_resultant_ut: mean,
+        max_at: max.map(|s| [s.at.x, s.at.y, s.at.z]),
+        mean_resultant_ut: mean_of(computed.iter().map(|s| s.field.resultant_ut)),
+        verdict: worst_of(comparisons.iter().map(|c| c.verdict)).unwrap_or(Verdict::NotCovered),
         comparisons,
-        verdict,
         time_weighted: time_weighted(a.occupancy_h, max_resultant_ut),
+    }
+}
+
+/// An area against one table: the highest ratio over its computed cells
+/// and the shares of cells at or above the level and the review fraction.
+fn compare_area(t: &ReferenceTable, computed: &[&CellSample], rf: ReviewFraction, f0_hz: f64) -> AreaComparison {
+    let n = computed.len();
+    // Levels per spectral line, computed once per table.
+    let line_hz: Vec<f64> =
+        computed.first().map(|s| s.field.spectrum.iter().map(|(f, _)| *f).collect()).unwrap_or_default();
+    let levels = line_levels(t, &line_hz);
+    let mut uncovered: Vec<f64> = Vec::new();
+    let mut ratios = Vec::with_capacity(n);
+    for s in computed {
+        match exposure_ratio(s.field.spectrum.iter().map(|(_, b)| *b), &levels) {
+            Ok(r) => ratios.push(r),
+            Err(lines) => {
+                for f in lines.iter().map(|k| line_hz[*k]) {
+                    if !uncovered.contains(&f) {
+                        uncovered.push(f);
+                    }
+                }
+            }
+        }
+    }
+    let level_ut = level_at_fundamental(t, f0_hz);
+    if !uncovered.is_empty() || n == 0 {
+        return AreaComparison {
+            table_id: t.id().into(),
+            max_ratio: None,
+            verdict: if n == 0 { Verdict::NotComputed } else { Verdict::NotCovered },
+            level_ut,
+            share_at_or_above_level: None,
+            share_at_or_above_review: None,
+            uncovered_hz: uncovered,
+        };
+    }
+    let max_ratio = ratios.iter().cloned().fold(0.0, f64::max);
+    let share = |threshold: f64| ratios.iter().filter(|r| **r >= threshold).count() as f64 / n as f64;
+    AreaComparison {
+        table_id: t.id().into(),
+        max_ratio: Some(max_ratio),
+        verdict: Verdict::of_ratio(max_ratio, rf),
+        level_ut,
+        share_at_or_above_level: Some(share(1.0)),
+        share_at_or_above_review: Some(share(rf.get())),
+        uncovered_hz: Vec::new(),
     }
 }
 
@@ -593,12 +699,8 @@ fn summarise(positions: &[PositionResult], areas: &[AreaResult]) -> Summary {
     };
     let area_ids =
         |v: Verdict| -> Vec<String> { areas.iter().filter(|a| a.verdict == v).map(|a| a.id.clone()).collect() };
-    let worst = positions
-        .iter()
-        .map(|p| p.verdict)
-        .chain(areas.iter().map(|a| a.verdict))
-        .max_by_key(|v| v.severity())
-        .unwrap_or(Verdict::Within);
+    let worst =
+        worst_of(positions.iter().map(|p| p.verdict).chain(areas.iter().map(|a| a.verdict))).unwrap_or(Verdict::Within);
     Summary {
         worst_verdict: worst,
         positions_exceeding: ids(&|v| v == Verdict::Exceeds),

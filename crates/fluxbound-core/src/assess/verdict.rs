@@ -1,5 +1,6 @@
 //! Exposure ratios against a table and the verdict words.
 
+use super::ReviewFraction;
 use crate::limits::ReferenceTable;
 use serde::{Deserialize, Serialize};
 
@@ -20,11 +21,11 @@ pub enum Verdict {
 }
 
 impl Verdict {
-    /// From an exposure ratio and the review fraction (0 < fraction < 1).
-    pub fn of_ratio(ratio: f64, review_fraction: f64) -> Verdict {
+    /// From an exposure ratio and the review fraction.
+    pub fn of_ratio(ratio: f64, review_fraction: ReviewFraction) -> Verdict {
         if ratio >= 1.0 {
             Verdict::Exceeds
-        } else if ratio >= review_fraction {
+        } else if ratio >= review_fraction.get() {
             Verdict::Approaching
         } else {
             Verdict::Within
@@ -73,31 +74,74 @@ pub struct Ratio {
     pub uncovered_hz: Vec<f64>,
 }
 
-/// Exposure ratio of a spectrum `(frequency_hz, resultant_ut)` against a
-/// table. Several frequencies are summed as `Σ_f B_f / B_RL(f)` — the ICNIRP
-/// 2010 multi-frequency rule for 1 Hz–10 MHz (from memory, REFERENCES.md).
-/// Lines with no field (0 µT) are skipped so a table's coverage only matters
-/// for frequencies actually present.
-pub fn ratio_of(spectrum: &[(f64, f64)], table: &ReferenceTable) -> Ratio {
-    let mut per_frequency = Vec::new();
-    let mut uncovered_hz = Vec::new();
-    for &(f, b) in spectrum {
-        if b <= 0.0 {
-            continue;
-        }
-        match table.level_ut(f) {
-            Ok(level) => {
-                per_frequency.push(FrequencyRatio { frequency_hz: f, b_ut: b, level_ut: level, ratio: b / level })
-            }
-            Err(_) => uncovered_hz.push(f),
+/// The table's level at each line frequency, µT (`None` where the table has
+/// no level): computed once per table, then reused for every point.
+pub fn line_levels(table: &ReferenceTable, line_hz: &[f64]) -> Vec<Option<f64>> {
+    line_hz.iter().map(|f| table.level_ut(*f).ok()).collect()
+}
+
+/// One spectral line's share of an exposure ratio.
+enum LineShare {
+    /// No field at this line (0 µT): the table's coverage does not matter.
+    NoField,
+    /// `B_f / B_RL(f)`.
+    Share(f64),
+    /// Field present at a frequency the table does not cover.
+    Uncovered,
+}
+
+fn line_share(b_ut: f64, level_ut: Option<f64>) -> LineShare {
+    match level_ut {
+        _ if b_ut <= 0.0 => LineShare::NoField,
+        Some(l) => LineShare::Share(b_ut / l),
+        None => LineShare::Uncovered,
+    }
+}
+
+/// The exposure ratio `Σ_f B_f / B_RL(f)` — the ICNIRP 2010 multi-frequency
+/// rule for 1 Hz–10 MHz (from memory, REFERENCES.md), with one frequency
+/// simply `B / B_RL(f)`. `b_ut` is the resultant RMS flux density of each
+/// spectral line and `levels` the table's level at that line, µT. Lines with
+/// no field (0 µT) are skipped, so a table's coverage only matters for
+/// frequencies actually present; `Err` lists the indices of lines present
+/// that the table does not cover. The one home of this rule: positions,
+/// areas, maps and survey extrapolation all come here.
+pub fn exposure_ratio(b_ut: impl IntoIterator<Item = f64>, levels: &[Option<f64>]) -> Result<f64, Vec<usize>> {
+    let mut sum = 0.0;
+    let mut uncovered = Vec::new();
+    for (k, (b, level)) in b_ut.into_iter().zip(levels).enumerate() {
+        match line_share(b, *level) {
+            LineShare::NoField => {}
+            LineShare::Share(r) => sum += r,
+            LineShare::Uncovered => uncovered.push(k),
         }
     }
-    let ratio = uncovered_hz.is_empty().then(|| per_frequency.iter().map(|r| r.ratio).sum());
-    Ratio { ratio, per_frequency, uncovered_hz }
+    if uncovered.is_empty() { Ok(sum) } else { Err(uncovered) }
+}
+
+/// Exposure ratio of a spectrum `(frequency_hz, resultant_ut)` against a
+/// table ([`exposure_ratio`]), with each frequency's share.
+pub fn ratio_of(spectrum: &[(f64, f64)], table: &ReferenceTable) -> Ratio {
+    let line_hz: Vec<f64> = spectrum.iter().map(|(f, _)| *f).collect();
+    let levels = line_levels(table, &line_hz);
+    let per_frequency = spectrum
+        .iter()
+        .zip(&levels)
+        .filter_map(|(&(f, b), level)| match (line_share(b, *level), level) {
+            (LineShare::Share(ratio), Some(l)) => {
+                Some(FrequencyRatio { frequency_hz: f, b_ut: b, level_ut: *l, ratio })
+            }
+            _ => None,
+        })
+        .collect();
+    match exposure_ratio(spectrum.iter().map(|(_, b)| *b), &levels) {
+        Ok(ratio) => Ratio { ratio: Some(ratio), per_frequency, uncovered_hz: Vec::new() },
+        Err(lines) => Ratio { ratio: None, per_frequency, uncovered_hz: lines.iter().map(|k| line_hz[*k]).collect() },
+    }
 }
 
 impl Ratio {
-    pub fn verdict(&self, review_fraction: f64) -> Verdict {
+    pub fn verdict(&self, review_fraction: ReviewFraction) -> Verdict {
         match self.ratio {
             Some(r) => Verdict::of_ratio(r, review_fraction),
             None => Verdict::NotCovered,

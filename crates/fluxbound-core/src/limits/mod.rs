@@ -17,34 +17,66 @@ pub fn parse_table(text: &str) -> Result<ReferenceTable, Problems> {
     validate_table(parse_json(text)?)
 }
 
-use crate::site::Pointer;
-
-/// The first non-empty list of table ids, with the pointer it came from;
-/// the default set ([`DEFAULT_TABLE_IDS`]) at `default_at` when all are
-/// empty. One rule for the CLI and the service: request, then survey or
-/// site, then the defaults.
-pub fn choose_table_ids(choices: Vec<(Vec<String>, Pointer)>, default_at: Pointer) -> (Vec<String>, Pointer) {
-    choices
-        .into_iter()
-        .find(|(ids, _)| !ids.is_empty())
-        .unwrap_or_else(|| (DEFAULT_TABLE_IDS.iter().map(|s| s.to_string()).collect(), default_at))
+/// Whose list of table ids applies.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum TableSource {
+    /// The caller's own list (request body `tables`, CLI `--tables`).
+    Request,
+    /// The survey document's `tables`.
+    Survey,
+    /// The site document's `tables`.
+    Site,
+    /// None was given: [`DEFAULT_TABLE_IDS`].
+    Default,
 }
 
-/// Looks up tables by id among the built-ins and `custom` (custom first, so
-/// an organisation's table can never be shadowed by a built-in of the same
-/// id — ids must differ anyway). Unknown ids are problems at `at/i`.
+/// The table ids that apply and where they came from.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct TableChoice {
+    pub ids: Vec<String>,
+    /// Whose list it is in.
+    pub list: TableSource,
+}
+
+/// Which tables apply — one rule for the CLI and the service: the caller's
+/// list, else the survey's (when there is a survey), else the site's own
+/// `tables`, else the defaults (icnirp-2010-occupational, eu-2013-35-low,
+/// eu-2013-35-limbs). An empty list counts as none given.
+pub fn choose_tables(request: &[String], survey: &[String], site: &[String]) -> TableChoice {
+    [(request, TableSource::Request), (survey, TableSource::Survey), (site, TableSource::Site)]
+        .into_iter()
+        .find(|(ids, _)| !ids.is_empty())
+        .map(|(ids, source)| TableChoice { ids: ids.to_vec(), list: source })
+        .unwrap_or_else(|| TableChoice {
+            ids: DEFAULT_TABLE_IDS.iter().map(|s| s.to_string()).collect(),
+            list: TableSource::Default,
+        })
+}
+
+/// A table id that names no table, with its place in the chosen list.
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+#[error("unknown reference-level table '{id}'")]
+pub struct UnknownTable {
+    /// Whose list it is in.
+    pub list: TableSource,
+    pub index: usize,
+    pub id: String,
+}
+
+/// Looks up the chosen tables among `custom` and the built-ins (custom
+/// first, so an organisation's table can never be shadowed by a built-in of
+/// the same id — ids must differ anyway). Every unknown id is reported.
 pub fn resolve_tables(
-    ids: &[String],
+    choice: &TableChoice,
     custom: &[ReferenceTable],
-    at: &Pointer,
-) -> Result<Vec<ReferenceTable>, Problems> {
-    let mut p = Problems::default();
+) -> Result<Vec<ReferenceTable>, Vec<UnknownTable>> {
+    let mut unknown = Vec::new();
     let mut out = Vec::new();
-    for (i, id) in ids.iter().enumerate() {
+    for (index, id) in choice.ids.iter().enumerate() {
         match custom.iter().find(|t| t.id() == id).or_else(|| builtin_table(id)) {
             Some(t) => out.push(t.clone()),
-            None => p.push(&at.index(i), format!("unknown reference-level table '{id}' (see `fluxbound tables`)")),
+            None => unknown.push(UnknownTable { list: choice.list, index, id: id.clone() }),
         }
     }
-    p.into_result(out)
+    if unknown.is_empty() { Ok(out) } else { Err(unknown) }
 }

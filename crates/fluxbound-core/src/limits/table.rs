@@ -161,6 +161,23 @@ pub fn validate_table(doc: TableDoc) -> Result<ReferenceTable, Problems> {
 /// document).
 pub fn validate_table_at(mut doc: TableDoc, at: &Pointer) -> Result<ReferenceTable, Problems> {
     let mut p = Problems::default();
+    check_header(&doc, at, &mut p);
+    let bp = at.key("bands");
+    // Coverage is only checked on numbers that are themselves sound.
+    let bands_ok = check_bands(&doc.bands, &bp, &mut p);
+    let gaps_ok = check_gaps(&doc.gaps, &at.key("gaps"), &mut p);
+    if bands_ok && gaps_ok && !doc.bands.is_empty() {
+        check_coverage(&doc, &bp, &mut p);
+    }
+    p.into_result(())?;
+    let mut order: Vec<usize> = (0..doc.bands.len()).collect();
+    order.sort_by(|a, b| doc.bands[*a].from_hz.total_cmp(&doc.bands[*b].from_hz));
+    doc.bands = order.into_iter().map(|i| doc.bands[i]).collect();
+    Ok(ReferenceTable { doc, version: 1 })
+}
+
+/// The id, title and citation.
+fn check_header(doc: &TableDoc, at: &Pointer, p: &mut Problems) {
     if doc.id.trim().is_empty() || doc.id.chars().count() > 64 || !doc.id.chars().all(is_id_char) {
         p.push(&at.key("id"), "table id must be 1–64 characters of letters, digits, '.', '-' or '_'");
     }
@@ -170,15 +187,19 @@ pub fn validate_table_at(mut doc: TableDoc, at: &Pointer) -> Result<ReferenceTab
     if doc.source.trim().is_empty() {
         p.push(&at.key("source"), "give the full citation of the source");
     }
-    let bp = at.key("bands");
-    if doc.bands.is_empty() {
-        p.push(&bp, "a table needs at least one band");
-    } else if doc.bands.len() > MAX_BANDS {
-        p.push(&bp, format!("at most {MAX_BANDS} bands"));
+}
+
+/// Each band on its own; `false` when a band's edges are unusable for the
+/// coverage check.
+fn check_bands(bands: &[Band], bp: &Pointer, p: &mut Problems) -> bool {
+    if bands.is_empty() {
+        p.push(bp, "a table needs at least one band");
+    } else if bands.len() > MAX_BANDS {
+        p.push(bp, format!("at most {MAX_BANDS} bands"));
     }
     let (lo, hi) = TABLE_FREQUENCY_RANGE_HZ;
     let mut ok = true;
-    for (i, b) in doc.bands.iter().enumerate() {
+    for (i, b) in bands.iter().enumerate() {
         let at_b = bp.index(i);
         for (key, v) in
             [("from_hz", b.from_hz), ("to_hz", b.to_hz), ("coefficient", b.coefficient), ("exponent", b.exponent)]
@@ -204,21 +225,19 @@ pub fn validate_table_at(mut doc: TableDoc, at: &Pointer) -> Result<ReferenceTab
             }
         }
     }
-    let gp = at.key("gaps");
-    for (i, g) in doc.gaps.iter().enumerate() {
+    ok
+}
+
+/// Each declared gap on its own; `false` when one is unusable.
+fn check_gaps(gaps: &[Gap], gp: &Pointer, p: &mut Problems) -> bool {
+    let mut ok = true;
+    for (i, g) in gaps.iter().enumerate() {
         if !(g.from_hz.is_finite() && g.to_hz.is_finite() && g.from_hz < g.to_hz) {
             p.push(&gp.index(i), "a gap needs finite from_hz < to_hz");
             ok = false;
         }
     }
-    if ok && !doc.bands.is_empty() {
-        check_coverage(&doc, &bp, &mut p);
-    }
-    p.into_result(())?;
-    let mut order: Vec<usize> = (0..doc.bands.len()).collect();
-    order.sort_by(|a, b| doc.bands[*a].from_hz.total_cmp(&doc.bands[*b].from_hz));
-    doc.bands = order.into_iter().map(|i| doc.bands[i]).collect();
-    Ok(ReferenceTable { doc, version: 1 })
+    ok
 }
 
 fn is_id_char(c: char) -> bool {

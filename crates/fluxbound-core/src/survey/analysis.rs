@@ -479,7 +479,7 @@ fn extrapolate(
     survey: &Survey,
     gf: &GroupFields,
     tables: &[ReferenceTable],
-    review_fraction: f64,
+    review_fraction: crate::assess::ReviewFraction,
 ) -> Option<Extrapolation> {
     let site = survey.site();
     let rated: Option<Vec<CircuitLoad>> =
@@ -514,7 +514,7 @@ struct RatedFields<'a> {
     /// Scale 1 on every group.
     ones: Vec<f64>,
     whole_body: Vec<&'a ReferenceTable>,
-    review_fraction: f64,
+    review_fraction: crate::assess::ReviewFraction,
 }
 
 /// Measurement `i` scaled by the model's rated / survey ratio at its point,
@@ -560,7 +560,11 @@ fn extrapolated_point(at: &RatedFields, i: usize, m: &super::Measurement) -> Ext
 
 /// Reconciles, fits and extrapolates a checked survey against the site it
 /// was checked against (which it carries: see [`Survey`]).
-pub fn analyse(survey: &Survey, tables: &[ReferenceTable], review_fraction: f64) -> Result<SurveyAnalysis, Problems> {
+pub fn analyse(
+    survey: &Survey,
+    tables: &[ReferenceTable],
+    review_fraction: crate::assess::ReviewFraction,
+) -> Result<SurveyAnalysis, Problems> {
     let site = survey.site();
     let points: Vec<nalgebra::Point3<f64>> = survey.points.iter().map(|m| m.at).collect();
     let gf = group_fields(site, &points, &survey.loads);

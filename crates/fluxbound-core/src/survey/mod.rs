@@ -66,7 +66,7 @@ impl Measurement {
 ///
 /// ```compile_fail,E0061
 /// # fn f(site: &fluxbound_core::site::Site, survey: &fluxbound_core::survey::Survey) {
-/// let _ = fluxbound_core::survey::analyse(site, survey, &[], 0.5);
+/// let _ = fluxbound_core::survey::analyse(site, survey, &[], fluxbound_core::assess::ReviewFraction::DEFAULT);
 /// # }
 /// ```
 #[derive(Debug, Clone, PartialEq)]

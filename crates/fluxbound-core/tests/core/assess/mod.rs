@@ -3,9 +3,11 @@
 //! Vol. 2, §12.2: B = µ0 I / (2π R), i.e. B[µT] = 0.2 · I[A] / R[m]) and the
 //! published table values (REFERENCES.md).
 
-use fluxbound_core::assess::{self, Assessment, LoadCase, Options, Verdict};
+mod usecase;
+
+use fluxbound_core::assess::{self, Assessment, LoadCase, Options, ReviewFraction, Verdict};
 use fluxbound_core::limits::{ReferenceTable, builtin_table};
-use fluxbound_core::site::{Problem, parse_site};
+use fluxbound_core::site::{Problem, parse_json, parse_site};
 use serde_json::{Value, json};
 use std::collections::BTreeMap;
 
@@ -35,9 +37,18 @@ fn run(doc: Value, load: LoadCase, ids: &[&str], options: Options) -> Assessment
     assess::assess(&site, &load, &tables(ids), &options).unwrap_or_else(|p| panic!("assess: {p}"))
 }
 
+/// The problems of a rejected assessment, addressed as the HTTP service
+/// does: the load case under `/load`, the site's own pointers unchanged.
 fn problems(doc: Value, load: LoadCase, ids: &[&str], options: Options) -> Vec<Problem> {
     let site = parse_site(&doc.to_string()).unwrap_or_else(|p| panic!("site: {p}"));
-    assess::assess(&site, &load, &tables(ids), &options).expect_err("should be rejected").0
+    assess::assess(&site, &load, &tables(ids), &options)
+        .expect_err("should be rejected")
+        .into_problems("/tables", "/load")
+        .0
+}
+
+fn fraction(f: f64) -> ReviewFraction {
+    ReviewFraction::new(f).unwrap_or_else(|e| panic!("{f}: {e}"))
 }
 
 fn rel(a: f64, b: f64) -> f64 {
@@ -112,27 +123,43 @@ fn a_table_that_does_not_cover_a_harmonic_gives_not_covered_rather_than_a_guess(
 fn verdict_boundaries_follow_the_review_fraction_and_the_level() {
     // DESIGN.md: approaching from the review fraction (default 0.5);
     // exceeds at or above the level.
-    assert_eq!(Verdict::of_ratio(0.0, 0.5), Verdict::Within);
-    assert_eq!(Verdict::of_ratio(0.4999999, 0.5), Verdict::Within);
-    assert_eq!(Verdict::of_ratio(0.5, 0.5), Verdict::Approaching);
-    assert_eq!(Verdict::of_ratio(0.9999999, 0.5), Verdict::Approaching);
-    assert_eq!(Verdict::of_ratio(1.0, 0.5), Verdict::Exceeds);
-    assert_eq!(Verdict::of_ratio(0.7, 0.8), Verdict::Within);
-    assert_eq!(Verdict::of_ratio(0.8, 0.8), Verdict::Approaching);
+    assert_eq!(Verdict::of_ratio(0.0, fraction(0.5)), Verdict::Within);
+    assert_eq!(Verdict::of_ratio(0.4999999, fraction(0.5)), Verdict::Within);
+    assert_eq!(Verdict::of_ratio(0.5, fraction(0.5)), Verdict::Approaching);
+    assert_eq!(Verdict::of_ratio(0.9999999, fraction(0.5)), Verdict::Approaching);
+    assert_eq!(Verdict::of_ratio(1.0, fraction(0.5)), Verdict::Exceeds);
+    assert_eq!(Verdict::of_ratio(0.7, fraction(0.8)), Verdict::Within);
+    assert_eq!(Verdict::of_ratio(0.8, fraction(0.8)), Verdict::Approaching);
 }
 
 #[test]
-fn a_review_fraction_outside_zero_to_one_is_rejected_with_its_pointer() {
-    for rf in [0.0, 1.0, -0.2, f64::NAN] {
-        let p = problems(
-            wire_site(1.0, 1.0, json!([]), json!([point("p", [0.0, 1.0, 0.0])]), json!([])),
-            LoadCase::Present,
-            &["icnirp-2010-occupational"],
-            Options { review_fraction: rf, ..Options::default() },
-        );
-        assert_eq!(p[0].pointer, "/options/review_fraction");
-        assert!(p[0].detail.contains("review fraction"));
+fn a_review_fraction_outside_zero_to_one_cannot_be_made_and_is_rejected_at_its_pointer_when_parsed() {
+    for rf in [0.0, 1.0, -0.2, 1.5, f64::NAN, f64::INFINITY] {
+        assert!(ReviewFraction::new(rf).is_err(), "{rf} should be rejected");
     }
+    for text in ["0", "1", "-0.2", "1.5"] {
+        let p = parse_json::<Options>(&format!(r#"{{"review_fraction": {text}}}"#)).expect_err(text).0;
+        assert_eq!(p[0].pointer, "/review_fraction", "{text}");
+        assert!(
+            p[0].detail.contains("review fraction must be greater than 0 and less than 1"),
+            "{text}: {}",
+            p[0].detail
+        );
+    }
+}
+
+#[test]
+fn the_review_fraction_defaults_to_one_half_and_travels_as_a_plain_number() {
+    // DESIGN.md: approaching from half the level unless the caller says
+    // otherwise. The numbers are stored, not computed: 1e-15 allows only for
+    // the decimal round trip.
+    assert!((ReviewFraction::default().get() - 0.5).abs() < 1e-15);
+    assert_eq!(Options::default().review_fraction, ReviewFraction::DEFAULT);
+    let parsed: Options = parse_json(r#"{"review_fraction": 0.7}"#).unwrap();
+    assert!((parsed.review_fraction.get() - 0.7).abs() < 1e-15);
+    let wire = serde_json::to_value(parsed.review_fraction).unwrap();
+    assert!((wire.as_f64().expect("a plain number") - 0.7).abs() < 1e-15, "{wire}");
+    assert_eq!(parse_json::<Options>("{}").unwrap().review_fraction, ReviewFraction::DEFAULT);
 }
 
 #[test]
@@ -169,9 +196,14 @@ fn the_rated_load_case_needs_a_rated_current_for_every_circuit() {
 fn a_load_case_naming_an_unknown_circuit_is_rejected_with_its_pointer() {
     let doc = wire_site(1000.0, 1500.0, json!([]), json!([point("p", [0.0, 0.6, 0.0])]), json!([]));
     let case = LoadCase::Scale { factors: BTreeMap::from([("nope".to_string(), 2.0)]) };
-    let p = problems(doc, case, &["eu-2013-35-low"], Options::default());
+    let p = problems(doc.clone(), case.clone(), &["eu-2013-35-low"], Options::default());
     assert_eq!(p[0].pointer, "/load/factors/nope");
     assert!(p[0].detail.contains("unknown circuit"));
+    // The core itself points into the load case only; the caller places it.
+    let site = parse_site(&doc.to_string()).unwrap();
+    let err = assess::assess(&site, &case, &tables(&["eu-2013-35-low"]), &Options::default()).unwrap_err();
+    assert_eq!(err.in_load.0[0].pointer, "/factors/nope");
+    assert!(err.in_site.is_empty() && !err.no_tables);
 }
 
 #[test]

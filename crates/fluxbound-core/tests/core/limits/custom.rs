@@ -3,8 +3,10 @@
 //! Documents start from a valid base table and change one thing.
 
 use super::assert_level;
-use fluxbound_core::limits::{LevelError, ReferenceTable, builtin_table, parse_table, resolve_tables};
-use fluxbound_core::site::Pointer;
+use fluxbound_core::limits::{
+    LevelError, ReferenceTable, TableChoice, TableSource, UnknownTable, builtin_table, choose_tables, parse_table,
+    resolve_tables,
+};
 use serde_json::{Value, json};
 
 /// A valid organisation table: three contiguous bands, given in order.
@@ -320,37 +322,52 @@ fn ids(list: &[&str]) -> Vec<String> {
     list.iter().map(|s| s.to_string()).collect()
 }
 
+fn asked(list: &[&str]) -> TableChoice {
+    TableChoice { ids: ids(list), list: TableSource::Request }
+}
+
 #[test]
 fn resolving_known_ids_returns_their_tables_in_the_order_asked() {
-    let got = resolve_tables(&ids(&["eu-2013-35-limbs", "icnirp-2010-public"]), &[], &Pointer::root().key("tables"))
-        .expect("both ids are built in");
+    let got = resolve_tables(&asked(&["eu-2013-35-limbs", "icnirp-2010-public"]), &[]).expect("both ids are built in");
     let got: Vec<&str> = got.iter().map(|t| t.id()).collect();
     assert_eq!(got, vec!["eu-2013-35-limbs", "icnirp-2010-public"]);
 }
 
 #[test]
-fn resolving_an_unknown_id_gives_a_problem_at_its_index_under_the_given_pointer() {
-    let asked = ids(&["icnirp-2010-public", "no-such-table", "eu-2013-35-low", "also-missing"]);
-    let p = resolve_tables(&asked, &[], &Pointer::root().key("--tables")).unwrap_err();
-    let got: Vec<(&str, &str)> = p.iter().map(|p| (p.pointer.as_str(), p.detail.as_str())).collect();
+fn resolving_unknown_ids_names_each_with_its_index_and_list_and_no_invented_pointer() {
+    let choice = asked(&["icnirp-2010-public", "no-such-table", "eu-2013-35-low", "also-missing"]);
+    let unknown = resolve_tables(&choice, &[]).unwrap_err();
     assert_eq!(
-        got,
+        unknown,
         vec![
-            ("/--tables/1", "unknown reference-level table 'no-such-table' (see `fluxbound tables`)"),
-            ("/--tables/3", "unknown reference-level table 'also-missing' (see `fluxbound tables`)"),
+            UnknownTable { list: TableSource::Request, index: 1, id: "no-such-table".into() },
+            UnknownTable { list: TableSource::Request, index: 3, id: "also-missing".into() },
         ]
     );
+    assert_eq!(unknown[0].to_string(), "unknown reference-level table 'no-such-table'");
+}
+
+#[test]
+fn the_tables_that_apply_are_the_callers_else_the_surveys_else_the_sites_else_the_defaults() {
+    let (mine, survey, site) = (ids(&["a"]), ids(&["b"]), ids(&["c"]));
+    assert_eq!(choose_tables(&mine, &survey, &site), TableChoice { ids: mine.clone(), list: TableSource::Request });
+    assert_eq!(choose_tables(&[], &survey, &site), TableChoice { ids: survey.clone(), list: TableSource::Survey });
+    assert_eq!(choose_tables(&[], &[], &site), TableChoice { ids: site.clone(), list: TableSource::Site });
+    // DESIGN.md: the default set when nobody chose.
+    let default = choose_tables(&[], &[], &[]);
+    assert_eq!(default.list, TableSource::Default);
+    assert_eq!(default.ids, ids(&["icnirp-2010-occupational", "eu-2013-35-low", "eu-2013-35-limbs"]));
 }
 
 #[test]
 fn resolving_finds_a_custom_table_and_prefers_it_to_a_built_in_of_the_same_id() {
     let custom = parsed(&base());
-    let got = resolve_tables(&ids(&["acme-hs17.rev3"]), std::slice::from_ref(&custom), &Pointer::root())
-        .expect("the custom table is found");
+    let got =
+        resolve_tables(&asked(&["acme-hs17.rev3"]), std::slice::from_ref(&custom)).expect("the custom table is found");
     assert_eq!(got, vec![custom]);
 
     let shadow = parsed(&with("/id", json!("icnirp-2010-public")));
-    let got = resolve_tables(&ids(&["icnirp-2010-public"]), std::slice::from_ref(&shadow), &Pointer::root()).unwrap();
+    let got = resolve_tables(&asked(&["icnirp-2010-public"]), std::slice::from_ref(&shadow)).unwrap();
     assert_eq!(got[0], shadow);
     assert_ne!(&got[0], builtin_table("icnirp-2010-public").unwrap());
 }

@@ -81,7 +81,7 @@ fn with_no_noise_the_load_fit_recovers_the_true_scale_factors_to_one_part_in_a_b
     let stated = [("west", 700.0), ("east", 450.0)];
     let m = synthetic(&site, &[700.0, 450.0], &[0.8, 1.3], &[0.0; 24]);
     let survey = validate_survey(&survey_doc(&stated, m, 6.0), &site).unwrap();
-    let a = analyse(&survey, &tables(), 0.5).unwrap();
+    let a = analyse(&survey, &tables(), fluxbound_core::assess::ReviewFraction::DEFAULT).unwrap();
     let f = &a.load_fit;
     assert!(f.converged, "{f:?}");
     for (c, truth) in f.circuits.iter().zip([0.8, 1.3]) {
@@ -101,7 +101,7 @@ fn with_seeded_noise_the_fit_recovers_the_factors_within_four_standard_errors() 
     let noise: Vec<f64> = (0..24).map(|_| 0.03 * ((0..12).map(|_| rng.random::<f64>()).sum::<f64>() - 6.0)).collect();
     let m = synthetic(&site, &[700.0, 450.0], &[0.8, 1.3], &noise);
     let survey = validate_survey(&survey_doc(&stated, m, 6.0), &site).unwrap();
-    let f = analyse(&survey, &tables(), 0.5).unwrap().load_fit;
+    let f = analyse(&survey, &tables(), fluxbound_core::assess::ReviewFraction::DEFAULT).unwrap().load_fit;
     for (c, truth) in f.circuits.iter().zip([0.8, 1.3]) {
         let se = c.scale_std_error.unwrap();
         assert!(se > 0.0 && se < 0.1, "{se}");
@@ -117,7 +117,7 @@ fn a_circuit_with_no_sensitivity_at_any_point_is_reported_as_unidentifiable_not_
     let stated = [("west", 700.0), ("east", 450.0), ("far", 100.0)];
     let m = synthetic(&site, &[700.0, 450.0, 100.0], &[1.0, 1.0, 1.0], &[0.0; 24]);
     let survey = validate_survey(&survey_doc(&stated, m, 6.0), &site).unwrap();
-    let f = analyse(&survey, &tables(), 0.5).unwrap().load_fit;
+    let f = analyse(&survey, &tables(), fluxbound_core::assess::ReviewFraction::DEFAULT).unwrap().load_fit;
     let far = f.circuits.iter().find(|c| c.circuit == "far").unwrap();
     assert_eq!(far.status, FitStatus::Unidentifiable);
     assert_eq!(far.scale, None);
@@ -147,7 +147,8 @@ fn extrapolating_a_single_circuit_site_multiplies_each_measurement_by_rated_over
         json!({"id": "p2", "at": [0.0, -4.0, 0.3], "resultant_ut": 2.25}),
     ];
     let survey = validate_survey(&survey_doc(&[("w", 600.0)], m, 10.0), &site).unwrap();
-    let e = analyse(&survey, &tables(), 0.5).unwrap().extrapolation.unwrap();
+    let e =
+        analyse(&survey, &tables(), fluxbound_core::assess::ReviewFraction::DEFAULT).unwrap().extrapolation.unwrap();
     for (p, measured) in e.points.iter().zip([37.5, 2.25]) {
         assert!((p.factor.unwrap() - 2.0).abs() < 1e-12, "{:?}", p.factor);
         assert!((p.extrapolated_ut.unwrap() - measured * 1200.0 / 600.0).abs() < 1e-12 * measured);
@@ -172,7 +173,7 @@ fn a_point_outside_the_combined_uncertainty_is_flagged_and_one_inside_is_not() {
         json!({"id": "bad", "at": [0.0, -1.0, 0.0], "resultant_ut": 300.0}),
     ];
     let survey = validate_survey(&survey_doc(&[("w", 1000.0)], m, 10.0), &site).unwrap();
-    let r = analyse(&survey, &tables(), 0.5).unwrap().reconciliation;
+    let r = analyse(&survey, &tables(), fluxbound_core::assess::ReviewFraction::DEFAULT).unwrap().reconciliation;
     let allowed_ok = (23.0f64.powi(2) + 40.0f64.powi(2)).sqrt(); // 46.14 > 30
     let allowed_bad = (30.0f64.powi(2) + 40.0f64.powi(2)).sqrt(); // 50 < 100
     assert!((r.points[0].allowed_difference_ut.unwrap() - allowed_ok).abs() < 1e-6);
@@ -241,7 +242,7 @@ fn the_example_survey_reconciles_and_its_odd_point_is_flagged() {
         serde_json::from_str(&std::fs::read_to_string(format!("{root}/examples/survey-switch-room.json")).unwrap())
             .unwrap();
     let survey = validate_survey(&doc, &site).unwrap();
-    let a = analyse(&survey, &tables(), 0.5).unwrap();
+    let a = analyse(&survey, &tables(), fluxbound_core::assess::ReviewFraction::DEFAULT).unwrap();
     assert_eq!(a.reconciliation.summary.worst[0], "S8-riser");
     assert!(a.reconciliation.points.iter().find(|p| p.id == "S8-riser").unwrap().flagged);
     assert!(a.load_fit.converged);
@@ -265,7 +266,7 @@ fn a_checked_survey_is_analysed_against_the_site_it_was_checked_against_and_no_o
         let survey = validate_survey(&doc, site).unwrap();
         assert_eq!(survey.site(), site);
         assert_eq!(survey.loads().len(), site.circuits.len());
-        let fit = analyse(&survey, &tables(), 0.5).unwrap().load_fit;
+        let fit = analyse(&survey, &tables(), fluxbound_core::assess::ReviewFraction::DEFAULT).unwrap().load_fit;
         let fitted: Vec<&str> = fit.circuits.iter().map(|c| c.circuit.as_str()).collect();
         let expected: Vec<&str> = site.circuits.iter().map(|c| c.id.as_str()).collect();
         assert_eq!(fitted, expected);

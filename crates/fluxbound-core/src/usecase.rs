@@ -1,0 +1,329 @@
+//! Use cases: one function per thing a caller can do, called alike by the
+//! CLI (on files, offline) and by the HTTP service (on stored documents).
+//!
+//! Each takes checked domain types and returns its result or a
+//! [`UseCaseError`] that says *which input* is wrong without choosing how to
+//! address it: the service turns it into JSON pointers into its request
+//! body, the CLI into flag names (`--tables: unknown table 'nope'`). The
+//! compute budgets of every use case live here too, so the two callers
+//! cannot drift apart.
+
+use crate::assess::{
+    self, AreaMap, AssessError, Assessment, DEFAULT_MAX_GRID_CELLS, LoadCase, LoadError, MAP_MAX_CELLS, Options,
+    ReviewFraction,
+};
+use crate::evaluate::{self, EvaluateRequest, EvaluateResponse};
+use crate::limits::{ReferenceTable, UnknownTable};
+use crate::mitigate::{self, DistanceResult, Origin};
+use crate::report::{csv, geojson, svg};
+use crate::site::{Conductor, Placement, Pointer, Problem, Problems, Site};
+use crate::survey::{self, Survey, SurveyAnalysis, wire::SurveyDoc};
+
+/// Compute budgets of one request. The service reads them from its
+/// configuration; the CLI uses [`Budget::offline`].
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Budget {
+    /// Segment–point pairs per computation (≈ 1 s of the engine on two AVX2
+    /// cores at the default).
+    pub max_pairs: u64,
+    /// Grid cells over all areas of one assessment.
+    pub max_grid_cells: u64,
+    /// Nodes of one area map (the map is coarsened to fit).
+    pub map_max_cells: usize,
+}
+
+/// Default segment–point pairs per computation.
+pub const DEFAULT_MAX_PAIRS: u64 = 1_000_000_000;
+
+impl Default for Budget {
+    fn default() -> Self {
+        Budget { max_pairs: DEFAULT_MAX_PAIRS, max_grid_cells: DEFAULT_MAX_GRID_CELLS, map_max_cells: MAP_MAX_CELLS }
+    }
+}
+
+impl Budget {
+    /// The command line's budget: the same grids and maps as the service,
+    /// no cap on pairs (the user's own machine and patience decide).
+    pub fn offline() -> Budget {
+        Budget { max_pairs: u64::MAX, ..Budget::default() }
+    }
+}
+
+/// Which argument of a distance query is wrong.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum DistanceArg {
+    LevelUt,
+    From,
+    Direction,
+}
+
+impl DistanceArg {
+    /// The argument's name, as the query parameter and the CLI flag spell it.
+    pub fn name(self) -> &'static str {
+        match self {
+            DistanceArg::LevelUt => "level_ut",
+            DistanceArg::From => "from",
+            DistanceArg::Direction => "direction",
+        }
+    }
+}
+
+/// Why a use case could not give its result, by which input is wrong.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum UseCaseError {
+    /// Table ids that name no table, each with its place in the chosen list.
+    #[error("unknown reference-level table(s)")]
+    UnknownTables(Vec<UnknownTable>),
+    /// The assessment's inputs do not fit together (no tables, load case,
+    /// site grids).
+    #[error(transparent)]
+    Assess(#[from] AssessError),
+    /// The load case does not fit the site.
+    #[error("the load case does not fit the site")]
+    Load(LoadError),
+    /// A survey document's problems, pointers into it.
+    #[error("the survey has problems")]
+    Survey(Problems),
+    /// The site has no area of that id.
+    #[error("the site has no area '{0}'")]
+    UnknownArea(String),
+    /// A stateless evaluation document's problems, pointers into it.
+    #[error("the evaluation document has problems")]
+    Evaluate(Problems),
+    /// A distance query argument is wrong.
+    #[error("{arg:?}: {detail}")]
+    Distance { arg: DistanceArg, detail: String },
+    /// The work exceeds a compute budget; pointers into the document whose
+    /// size is to blame.
+    #[error("the request exceeds a compute budget")]
+    OverBudget(Problems),
+}
+
+/// `problems` with every pointer put under `prefix` (an RFC 6901 pointer,
+/// `""` for none): a load case's `/currents_a/T9` becomes `/load/currents_a/T9`.
+pub fn under(prefix: &str, problems: Problems) -> Problems {
+    Problems(
+        problems
+            .0
+            .into_iter()
+            .map(|p| Problem { pointer: format!("{prefix}{}", p.pointer), detail: p.detail })
+            .collect(),
+    )
+}
+
+/// Segments of a list of conductors (each path of n points has n − 1).
+pub fn segment_count(conductors: &[Conductor]) -> u64 {
+    conductors.iter().map(|c| c.path.len().saturating_sub(1) as u64).sum()
+}
+
+/// Evaluation points of an assessment of `site`: every height of every
+/// position and every bounding-grid cell of every area (an upper bound).
+pub fn assessment_points(site: &Site) -> u64 {
+    let positions: u64 = site
+        .positions
+        .iter()
+        .map(|q| match &q.placement {
+            Placement::Standing { heights_m, .. } => heights_m.len() as u64,
+            Placement::Point(_) => 1,
+        })
+        .sum();
+    positions + site.areas.iter().map(|a| assess::bounding_cells(&a.polygon, a.spacing_m)).sum::<u64>()
+}
+
+/// Segment–point pairs of an assessment of `site` (its compute cost).
+pub fn assessment_pairs(site: &Site) -> u64 {
+    assessment_points(site).saturating_mul(segment_count(&site.conductors))
+}
+
+/// Segment–point pairs of a survey analysis: the field at the survey's
+/// loads, at rated load, and the fit's influence matrix.
+pub fn survey_pairs(survey: &Survey) -> u64 {
+    3u64.saturating_mul(segment_count(&survey.site().conductors)).saturating_mul(survey.points().len() as u64)
+}
+
+fn over_budget(pointer: &str, detail: String) -> UseCaseError {
+    UseCaseError::OverBudget(Problems::one(pointer, detail))
+}
+
+/// Checks the compute budget of an assessment of `site`: the grid cells,
+/// then the segment–point pairs.
+pub fn check_assessment_budget(site: &Site, budget: &Budget) -> Result<(), UseCaseError> {
+    let grid = assess::check_grid_budget(site, budget.max_grid_cells);
+    if !grid.is_empty() {
+        return Err(UseCaseError::OverBudget(grid));
+    }
+    let pairs = assessment_pairs(site);
+    if pairs > budget.max_pairs {
+        let field = if site.areas.is_empty() { "/positions" } else { "/areas" };
+        return Err(over_budget(
+            field,
+            format!(
+                "this assessment needs {pairs} segment-point pairs, over the budget of {}: coarsen area spacing_m or split the site",
+                budget.max_pairs
+            ),
+        ));
+    }
+    Ok(())
+}
+
+/// Assesses a checked site at `load` against resolved `tables`.
+pub fn assess_site(
+    site: &Site,
+    load: &LoadCase,
+    tables: &[ReferenceTable],
+    review_fraction: ReviewFraction,
+    budget: &Budget,
+) -> Result<Assessment, UseCaseError> {
+    check_assessment_budget(site, budget)?;
+    let options = Options { review_fraction, max_grid_cells: budget.max_grid_cells };
+    Ok(assess::assess(site, load, tables, &options)?)
+}
+
+/// Checks a survey document against the site it was measured on.
+pub fn check_survey(site: &Site, doc: &SurveyDoc) -> Result<Survey, UseCaseError> {
+    survey::validate_survey(doc, site).map_err(UseCaseError::Survey)
+}
+
+/// Checks the compute budget of analysing `survey` (pointer: its points).
+pub fn check_survey_budget(survey: &Survey, budget: &Budget) -> Result<(), UseCaseError> {
+    let pairs = survey_pairs(survey);
+    if pairs > budget.max_pairs {
+        return Err(over_budget(
+            "/points",
+            format!("{pairs} segment-point pairs exceed the budget of {}", budget.max_pairs),
+        ));
+    }
+    Ok(())
+}
+
+/// Reconciles a checked survey with the model of the site it was checked
+/// against, fits the circuit loads and extrapolates to rated load, judging
+/// the extrapolated values against `tables` at `review_fraction`.
+pub fn analyse_survey(
+    survey: &Survey,
+    tables: &[ReferenceTable],
+    review_fraction: ReviewFraction,
+    budget: &Budget,
+) -> Result<SurveyAnalysis, UseCaseError> {
+    check_survey_budget(survey, budget)?;
+    survey::analyse(survey, tables, review_fraction).map_err(UseCaseError::Survey)
+}
+
+/// The verdicts of a stored extrapolation judged again at another review
+/// fraction: the exposure ratios do not depend on it, so nothing is
+/// recomputed (a ratio that could not be judged keeps its verdict).
+pub fn rejudge_extrapolation(analysis: &mut SurveyAnalysis, review_fraction: ReviewFraction) {
+    for point in analysis.extrapolation.iter_mut().flat_map(|e| e.points.iter_mut()) {
+        for c in &mut point.comparisons {
+            if let Some(r) = c.ratio {
+                c.verdict = assess::Verdict::of_ratio(r, review_fraction);
+            }
+        }
+    }
+}
+
+fn resolve_load(site: &Site, load: &LoadCase) -> Result<Vec<crate::site::CircuitLoad>, UseCaseError> {
+    load.resolve(site).map_err(UseCaseError::Load)
+}
+
+/// The field maps of every area of `site` at `load`.
+pub fn area_maps(
+    site: &Site,
+    load: &LoadCase,
+    tables: &[ReferenceTable],
+    budget: &Budget,
+) -> Result<Vec<AreaMap>, UseCaseError> {
+    let loads = resolve_load(site, load)?;
+    Ok(site.areas.iter().map(|a| assess::area_map(site, &loads, tables, a, budget.map_max_cells)).collect())
+}
+
+/// The field map of the area `area_id` of an assessed site as SVG.
+pub fn area_map_svg(
+    site: &Site,
+    assessment: &Assessment,
+    load: &LoadCase,
+    tables: &[ReferenceTable],
+    area_id: &str,
+    budget: &Budget,
+) -> Result<String, UseCaseError> {
+    let area =
+        site.areas.iter().find(|a| a.id == area_id).ok_or_else(|| UseCaseError::UnknownArea(area_id.to_string()))?;
+    let loads = resolve_load(site, load)?;
+    let map = assess::area_map(site, &loads, tables, area, budget.map_max_cells);
+    Ok(svg::area_map_svg(site, assessment, &map))
+}
+
+/// An assessment's position results as CSV (RFC 4180).
+pub fn export_csv(assessment: &Assessment) -> String {
+    csv::positions_csv(assessment)
+}
+
+/// Conductors, positions, contours and zones of an assessed site as GeoJSON.
+pub fn export_geojson(
+    site: &Site,
+    assessment: &Assessment,
+    load: &LoadCase,
+    tables: &[ReferenceTable],
+    budget: &Budget,
+) -> Result<serde_json::Value, UseCaseError> {
+    let maps = area_maps(site, load, tables, budget)?;
+    Ok(geojson::assessment_geojson(site, assessment, &maps))
+}
+
+/// Largest level a distance can be asked for, µT (far above any table).
+pub const MAX_DISTANCE_LEVEL_UT: f64 = 1.0e9;
+
+/// The direction searched when the caller names none.
+pub const DEFAULT_DIRECTION: &str = "shortest";
+
+/// A checked distance query: from where, along which direction, to which level.
+#[derive(Debug, Clone, PartialEq)]
+pub struct DistanceQuery {
+    origin: Origin,
+    direction: mitigate::Direction,
+    /// µT RMS (resultant).
+    level_ut: f64,
+}
+
+impl DistanceQuery {
+    /// Checks `from` (`position:ID`, `conductor:ID` or `point:x,y,z`),
+    /// `direction` (`shortest` or `x,y,z`; absent means `shortest`) and
+    /// `level_ut` (µT RMS, positive).
+    pub fn parse(from: &str, direction: Option<&str>, level_ut: f64) -> Result<DistanceQuery, UseCaseError> {
+        if !(level_ut.is_finite() && level_ut > 0.0 && level_ut <= MAX_DISTANCE_LEVEL_UT) {
+            return Err(distance_error(DistanceArg::LevelUt)("level_ut must be a positive number of µT".into()));
+        }
+        let origin = Origin::parse(from).map_err(distance_error(DistanceArg::From))?;
+        let direction = mitigate::parse_direction(direction.unwrap_or(DEFAULT_DIRECTION))
+            .map_err(distance_error(DistanceArg::Direction))?;
+        Ok(DistanceQuery { origin, direction, level_ut })
+    }
+}
+
+fn distance_error(arg: DistanceArg) -> impl Fn(String) -> UseCaseError {
+    move |detail| UseCaseError::Distance { arg, detail }
+}
+
+/// Distance along the query's direction to where the resultant field of
+/// `site` at `load` falls below the query's level.
+pub fn distance_to_level(site: &Site, load: &LoadCase, query: &DistanceQuery) -> Result<DistanceResult, UseCaseError> {
+    let loads = resolve_load(site, load)?;
+    let at = query.origin.locate(site, &loads).map_err(distance_error(DistanceArg::From))?;
+    Ok(mitigate::distance_to_level(site, &loads, at, query.direction, query.level_ut))
+}
+
+/// Evaluates a stateless evaluation document within the pairs budget.
+pub fn evaluate_points(req: &EvaluateRequest, budget: &Budget) -> Result<EvaluateResponse, UseCaseError> {
+    let ev = evaluate::validate_request(req).map_err(UseCaseError::Evaluate)?;
+    let pairs = ev.pair_count();
+    if pairs > budget.max_pairs {
+        return Err(over_budget(
+            &Pointer::root().key("points").to_string(),
+            format!(
+                "{pairs} segment-point pairs exceed the budget of {} per request: send fewer points or segments per request",
+                budget.max_pairs
+            ),
+        ));
+    }
+    Ok(evaluate::evaluate(&ev))
+}
