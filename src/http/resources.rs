@@ -216,3 +216,22 @@ pub struct SurveyPage {
     pub items: Vec<SurveyResource>,
     pub next_cursor: Option<String>,
 }
+
+/// The reconciliation and load fit of a stored survey.
+#[derive(Debug, Serialize, ToSchema)]
+pub struct SurveyReconciliation {
+    pub reconciliation: fluxbound_core::survey::Reconciliation,
+    pub load_fit: fluxbound_core::survey::LoadFit,
+    /// Cautions that apply to every result.
+    pub cautions: Vec<String>,
+}
+
+/// The extrapolation of a stored survey to rated load.
+#[derive(Debug, Serialize, ToSchema)]
+pub struct SurveyExtrapolation {
+    /// `null` when a circuit has no rated current (named in the notes).
+    pub extrapolation: Option<fluxbound_core::survey::Extrapolation>,
+    pub notes: Vec<String>,
+    /// Cautions that apply to every result.
+    pub cautions: Vec<String>,
+}

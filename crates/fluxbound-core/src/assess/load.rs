@@ -6,6 +6,7 @@ use std::collections::BTreeMap;
 
 /// The currents an assessment is made at.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize, Default)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 #[serde(tag = "kind", rename_all = "snake_case", deny_unknown_fields)]
 pub enum LoadCase {
     /// Each circuit's `current_a` (the currents of the day).
@@ -82,7 +83,9 @@ impl LoadCase {
 
 /// What a load case came to, per circuit, for the report.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct CircuitLoadReport {
+    /// Circuit id.
     pub id: String,
     /// Present nominal RMS phase current, A.
     pub present_a: f64,
@@ -91,8 +94,12 @@ pub struct CircuitLoadReport {
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct LoadCaseReport {
+    /// The load case: present, rated, currents or scale.
+    #[cfg_attr(feature = "schema", schema(value_type = String, pattern = "^(present|rated|currents|scale)$"))]
     pub kind: String,
+    /// Per circuit, the present and assessed currents.
     pub circuits: Vec<CircuitLoadReport>,
 }
 

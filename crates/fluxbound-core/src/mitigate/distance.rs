@@ -31,8 +31,11 @@ pub enum Direction {
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct DistanceResult {
+    /// The level, µT RMS (resultant).
     pub level_ut: f64,
+    /// Origin of the search `[x, y, z]`, m.
     pub from: [f64; 3],
     /// Resultant at the origin, µT (`null` inside a conductor).
     pub b_at_origin_ut: Option<f64>,
@@ -43,7 +46,9 @@ pub struct DistanceResult {
     pub distance_m: Option<f64>,
     /// The point at that distance.
     pub at: Option<[f64; 3]>,
+    /// Bisection tolerance, m.
     pub tolerance_m: f64,
+    /// Farthest distance searched, m.
     pub searched_to_m: f64,
 }
 
