@@ -123,8 +123,10 @@ pub fn parse_positive(value: &str, name: &str) -> Result<i64, ApiError> {
 #[into_params(parameter_in = Query)]
 pub struct PageQuery {
     /// Opaque cursor from the previous page's `next_cursor`.
+    #[param(pattern = "^[0-9a-f]{32}$")]
     pub cursor: Option<String>,
     /// Page size, 1–200 (default 50).
+    #[param(value_type = Option<i64>, minimum = 1, maximum = 200)]
     pub limit: Option<String>,
     /// Only sites whose name contains this text (any case); sites only.
     pub name: Option<String>,

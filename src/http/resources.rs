@@ -146,6 +146,7 @@ pub struct AssessmentPage {
 /// An API key (never its secret).
 #[derive(Debug, Serialize, ToSchema)]
 pub struct KeyResource {
+    #[schema(pattern = "^[0-9a-f]{32}$")]
     pub id: String,
     /// `viewer`, `assessor` or `admin`.
     pub role: String,
@@ -177,7 +178,10 @@ pub struct KeyCreated {
 #[serde(deny_unknown_fields)]
 pub struct KeyCreate {
     /// `viewer`, `assessor` or `admin`.
+    #[schema(pattern = "^(viewer|assessor|admin)$")]
     pub role: String,
+    /// A label for people (at most 100 characters).
+    #[schema(max_length = 100)]
     pub label: Option<String>,
 }
 

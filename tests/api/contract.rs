@@ -193,6 +193,7 @@ impl Contract {
 
     fn check_request(&self, op: &str, template: &str, ex: &Exchange, what: &str) -> Vec<String> {
         let mut out = self.check_path_params(op, template, &ex.path, what);
+        out.extend(self.check_query(op, ex.query.as_deref().unwrap_or(""), what));
         let json_body = media_type(&ex.request_headers).is_some_and(|m| is_json(&m));
         if !json_body || ex.request_body.is_empty() {
             return out;
@@ -226,10 +227,35 @@ impl Contract {
     }
 }
 
+impl Contract {
+    /// Query parameters of an accepted request: each documented, each value
+    /// within its schema (numbers compared as numbers).
+    fn check_query(&self, op: &str, query: &str, what: &str) -> Vec<String> {
+        let params = self.doc.pointer(&format!("{op}/parameters")).and_then(Value::as_array).cloned();
+        let mut out = Vec::new();
+        for pair in query.split('&').filter(|p| !p.is_empty()) {
+            let (name, raw) = pair.split_once('=').unwrap_or((pair, ""));
+            let Some(i) = params.iter().flatten().position(|p| p["name"] == name && p["in"] == "query") else {
+                out.push(format!("{what}: query parameter {name} is not documented"));
+                continue;
+            };
+            let schema = format!("{op}/parameters/{i}/schema");
+            let numeric = self.doc.pointer(&format!("{schema}/type")).is_some_and(|t| t == "integer" || t == "number");
+            let value = match raw.parse::<f64>() {
+                Ok(n) if numeric => json!(n),
+                _ => json!(raw),
+            };
+            out.extend(self.validate(&schema, &value, &format!("{what} ?{name}")));
+        }
+        out
+    }
+}
+
 /// One request and its answer, as seen by the proxy.
 struct Exchange {
     method: Method,
     path: String,
+    query: Option<String>,
     request_headers: HeaderMap,
     request_body: Bytes,
     status: StatusCode,
@@ -271,6 +297,7 @@ async fn forward(State(st): State<ProxyState>, req: Request) -> Response {
     let ex = Exchange {
         method: parts.method,
         path: parts.uri.path().to_string(),
+        query: parts.uri.query().map(str::to_string),
         request_headers: parts.headers,
         request_body,
         status,
@@ -339,6 +366,7 @@ mod checks {
         Exchange {
             method,
             path: path.into(),
+            query: None,
             request_headers,
             request_body,
             status: StatusCode::from_u16(status).unwrap(),
@@ -385,6 +413,15 @@ mod checks {
         let found =
             Contract::committed().check(&exchange(Method::DELETE, "/v1/sites/NOT-AN-ID", 204, None, json!(null)));
         assert!(found.iter().any(|f| f.contains("site_id")), "{found:#?}");
+    }
+
+    #[test]
+    fn an_accepted_query_outside_the_parameter_schemas_is_reported() {
+        let mut ex = exchange(Method::GET, "/v1/sites", 200, None, json!({"items": [], "next_cursor": null}));
+        ex.query = Some("limit=500&colour=red".into());
+        let found = Contract::committed().check(&ex);
+        assert!(found.iter().any(|f| f.contains("?limit")), "{found:#?}");
+        assert!(found.iter().any(|f| f.contains("colour is not documented")), "{found:#?}");
     }
 
     #[tokio::test]

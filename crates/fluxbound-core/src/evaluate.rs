@@ -31,6 +31,7 @@ pub struct EvaluateRequest {
     /// Conductors as polylines.
     pub conductors: Vec<ConductorDoc>,
     /// Points `[x, y, z]`, m.
+    #[cfg_attr(feature = "schema", schema(schema_with = crate::site::wire::bounds::points_m))]
     pub points: Vec<[f64; 3]>,
 }
 

@@ -76,6 +76,7 @@ pub async fn reports_geojson(
 #[into_params(parameter_in = Query)]
 pub struct DistanceQuery {
     /// Level, µT RMS (resultant).
+    #[param(value_type = f64)]
     pub level_ut: String,
     /// `position:ID`, `conductor:ID` (middle of its longest segment) or `point:x,y,z` (m).
     pub from: String,

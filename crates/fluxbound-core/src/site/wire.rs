@@ -31,6 +31,7 @@ pub struct SiteDoc {
     pub areas: Vec<AreaDoc>,
     /// Reference-level tables this site is assessed against by default (ids).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    #[cfg_attr(feature = "schema", schema(schema_with = crate::site::wire::bounds::table_ids))]
     pub tables: Vec<String>,
     /// Where the local frame sits on the Earth, for GeoJSON in longitude and
     /// latitude; without it exports stay in the local frame.
@@ -183,7 +184,7 @@ pub struct ConductorDoc {
     #[cfg_attr(feature = "schema", schema(min_length = 1, max_length = 64))]
     pub id: String,
     /// Vertices `[x, y, z]` in metres; current flows from first to last.
-    #[cfg_attr(feature = "schema", schema(min_items = 2, max_items = 100000))]
+    #[cfg_attr(feature = "schema", schema(schema_with = crate::site::wire::bounds::path_m))]
     pub path: Vec<[f64; 3]>,
     /// Conductor radius, m (0.1 mm to 2 m); points inside are flagged, not computed.
     #[cfg_attr(feature = "schema", schema(minimum = 0.0001, maximum = 2))]
@@ -231,11 +232,11 @@ pub struct PositionDoc {
     #[cfg_attr(feature = "schema", schema(min_length = 1, max_length = 64))]
     pub id: String,
     /// A standing point `[x, y]` or a 3-D point `[x, y, z]`, m.
-    #[cfg_attr(feature = "schema", schema(min_items = 2, max_items = 3))]
+    #[cfg_attr(feature = "schema", schema(schema_with = crate::site::wire::bounds::standing_or_point_m))]
     pub at: Vec<f64>,
     /// Body heights above a standing point, m (0–10; default 0.5, 1.0, 1.5); not with a 3-D point.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    #[cfg_attr(feature = "schema", schema(min_items = 1, max_items = 16))]
+    #[cfg_attr(feature = "schema", schema(schema_with = crate::site::wire::bounds::heights_m))]
     pub heights_m: Option<Vec<f64>>,
     /// Which tables apply (default whole_body).
     #[serde(default)]
@@ -259,7 +260,7 @@ pub struct AreaDoc {
     #[cfg_attr(feature = "schema", schema(min_length = 1, max_length = 64))]
     pub id: String,
     /// Simple polygon `[[x, y], …]`, m (3–1000 vertices).
-    #[cfg_attr(feature = "schema", schema(min_items = 3, max_items = 1000))]
+    #[cfg_attr(feature = "schema", schema(schema_with = crate::site::wire::bounds::polygon_m))]
     pub polygon: Vec<[f64; 2]>,
     /// Height of the evaluation plane, m.
     #[cfg_attr(feature = "schema", schema(minimum = -100000, maximum = 100000))]
@@ -272,3 +273,6 @@ pub struct AreaDoc {
     #[cfg_attr(feature = "schema", schema(minimum = 0, maximum = 24))]
     pub occupancy_h: Option<f64>,
 }
+
+#[cfg(feature = "schema")]
+pub(crate) mod bounds;

@@ -39,6 +39,7 @@ pub struct SurveyDoc {
     /// Tables to compare the extrapolated values with (default: the site's,
     /// else the default set).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    #[cfg_attr(feature = "schema", schema(schema_with = crate::site::wire::bounds::table_ids))]
     pub tables: Vec<String>,
 }
 
@@ -103,7 +104,7 @@ pub struct MeasurementDoc {
     #[cfg_attr(feature = "schema", schema(min_length = 1, max_length = 64))]
     pub id: String,
     /// `[x, y]` (with height_m) or `[x, y, z]`, m.
-    #[cfg_attr(feature = "schema", schema(min_items = 2, max_items = 3))]
+    #[cfg_attr(feature = "schema", schema(schema_with = crate::site::wire::bounds::standing_or_point_m))]
     pub at: Vec<f64>,
     /// Height above a standing point, m (default 1.0).
     #[serde(default, skip_serializing_if = "Option::is_none")]
@@ -113,6 +114,6 @@ pub struct MeasurementDoc {
     pub resultant_ut: f64,
     /// Measured RMS per axis (x, y, z), µT, if the meter gives them.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    #[cfg_attr(feature = "schema", schema(min_items = 3, max_items = 3))]
+    #[cfg_attr(feature = "schema", schema(schema_with = crate::site::wire::bounds::axes_ut))]
     pub axes_ut: Option<[f64; 3]>,
 }
