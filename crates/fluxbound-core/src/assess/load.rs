@@ -16,9 +16,13 @@ pub enum LoadCase {
     Rated,
     /// Explicit nominal RMS phase currents by circuit id, A; circuits not
     /// listed stay at their present current.
+    // The kind and the map, nothing else (unknown keys are rejected).
+    #[cfg_attr(feature = "schema", schema(max_properties = 2))]
     Currents { currents_a: BTreeMap<String, f64> },
     /// Factors on the present currents by circuit id; circuits not listed
     /// stay at 1.
+    // The kind and the map, nothing else (unknown keys are rejected).
+    #[cfg_attr(feature = "schema", schema(max_properties = 2))]
     Scale { factors: BTreeMap<String, f64> },
 }
 
