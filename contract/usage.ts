@@ -46,7 +46,7 @@ export function worstSharePercent(area: Schemas["AreaResult"]): number {
   const comparison = area.comparisons[0];
   if (comparison === undefined) return 0;
   const share = comparison.share_at_or_above_level;
-  assertExact<NonNullable<typeof share>, number>(true);
+  assertExact<typeof share, number | null>(true);
   assertExact<typeof comparison.verdict, VerdictWord>(true);
   return (share ?? 0) * 100;
 }
@@ -57,7 +57,7 @@ type SurveyShown = paths["/v1/surveys/{survey_id}"]["get"]["responses"][200]["co
 /** A survey circuit's fitted scale is a number (or null when not estimated). */
 export function fittedCurrents(s: SurveyShown): number[] {
   return s.analysis.load_fit.circuits.map((c) => {
-    assertExact<NonNullable<typeof c.scale>, number>(true);
+    assertExact<typeof c.scale, number | null>(true);
     assertExact<typeof c.status, "fitted" | "at_bound" | "unidentifiable" | "ill_conditioned">(true);
     return (c.scale ?? 0) * c.stated_a;
   });

@@ -63,6 +63,7 @@ impl From<SiteRow> for SiteSummary {
 pub struct SitePage {
     pub items: Vec<SiteSummary>,
     /// Pass as `cursor` to get the next page; absent on the last page.
+    #[schema(required = true)]
     pub next_cursor: Option<String>,
 }
 
@@ -71,7 +72,9 @@ pub struct TableVersionResource {
     pub version: i64,
     /// True once an assessment used this version: it can no longer change.
     pub used: bool,
+    #[schema(required = true)]
     pub created_at: Option<String>,
+    #[schema(required = true)]
     pub updated_at: Option<String>,
 }
 
@@ -140,6 +143,7 @@ impl From<AssessmentView> for AssessmentResource {
 #[derive(Debug, Serialize, ToSchema)]
 pub struct AssessmentPage {
     pub items: Vec<AssessmentResource>,
+    #[schema(required = true)]
     pub next_cursor: Option<String>,
 }
 
@@ -150,8 +154,10 @@ pub struct KeyResource {
     pub id: String,
     /// `viewer`, `assessor` or `admin`.
     pub role: String,
+    #[schema(required = true)]
     pub label: Option<String>,
     pub created_at: String,
+    #[schema(required = true)]
     pub revoked_at: Option<String>,
 }
 
@@ -218,6 +224,7 @@ impl From<crate::service::SurveyView> for SurveyResource {
 #[derive(Debug, Serialize, ToSchema)]
 pub struct SurveyPage {
     pub items: Vec<SurveyResource>,
+    #[schema(required = true)]
     pub next_cursor: Option<String>,
 }
 
@@ -234,6 +241,7 @@ pub struct SurveyReconciliation {
 #[derive(Debug, Serialize, ToSchema)]
 pub struct SurveyExtrapolation {
     /// `null` when a circuit has no rated current (named in the notes).
+    #[schema(required = true)]
     pub extrapolation: Option<fluxbound_core::survey::Extrapolation>,
     pub notes: Vec<String>,
     /// Cautions that apply to every result.

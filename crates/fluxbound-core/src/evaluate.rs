@@ -85,8 +85,10 @@ pub struct PointResult {
     /// The point `[x, y, z]`, m.
     pub at: [f64; 3],
     /// Resultant RMS over all frequencies (quadrature sum), µT.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub resultant_ut: Option<f64>,
     /// RMS along the direction of largest field over all frequencies, µT.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub maximum_ut: Option<f64>,
     /// Per frequency (empty inside a conductor).
     pub frequencies: Vec<FrequencyResult>,

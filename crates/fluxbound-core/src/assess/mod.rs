@@ -74,6 +74,7 @@ pub struct PointComparison {
     /// Table id.
     pub table_id: String,
     /// Exposure ratio Σ_f B_f / B_RL(f) (`null` when not computed or not covered).
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub ratio: Option<f64>,
     /// Verdict at this point against this table.
     pub verdict: Verdict,
@@ -84,12 +85,15 @@ pub struct PointComparison {
 #[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct HeightResult {
     /// Height above the standing point, m (absent for a 3-D point).
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub height_m: Option<f64>,
     /// The evaluated point `[x, y, z]`, m.
     pub at: [f64; 3],
     /// Resultant RMS flux density over all frequencies, µT (`null` inside a conductor).
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub resultant_ut: Option<f64>,
     /// RMS along the direction of largest field, µT (`null` inside a conductor).
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub maximum_ut: Option<f64>,
     /// Resultant per frequency, µT.
     pub frequencies: Vec<SpectralValue>,
@@ -115,15 +119,19 @@ pub struct PositionComparison {
     /// Table id.
     pub table_id: String,
     /// Worst exposure ratio over the heights.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub ratio: Option<f64>,
     /// Verdict of the worst height against this table.
     pub verdict: Verdict,
     /// Height of the worst ratio, m (`null` for a 3-D point).
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub worst_height_m: Option<f64>,
     /// Ratio of the mean over heights (IEC 62110 practice for public
     /// exposure, from memory); information beside the worst-height verdict.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub ratio_of_height_mean: Option<f64>,
     /// The table's level at the fundamental, µT.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub level_ut: Option<f64>,
     /// Each frequency's share of the worst ratio.
     pub per_frequency: Vec<FrequencyRatio>,
@@ -155,17 +163,21 @@ pub struct PositionResult {
     /// One result per evaluated height (or the one 3-D point).
     pub heights: Vec<HeightResult>,
     /// Highest resultant over the heights, µT, and where.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub max_resultant_ut: Option<f64>,
     /// Height of the highest resultant, m.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub max_height_m: Option<f64>,
     /// Mean resultant over the heights, µT (the three-height mean with the
     /// default 0.5/1.0/1.5 m).
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub mean_resultant_ut: Option<f64>,
     /// One per applicable table.
     pub comparisons: Vec<PositionComparison>,
     /// Worst verdict over the tables.
     pub verdict: Verdict,
     /// Information-only time-weighted average (`null` without occupancy_h).
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub time_weighted: Option<TimeWeighted>,
     /// Notes on this position.
     pub notes: Vec<String>,
@@ -178,16 +190,20 @@ pub struct AreaComparison {
     /// Table id.
     pub table_id: String,
     /// Highest exposure ratio over the computed cells.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub max_ratio: Option<f64>,
     /// Verdict of the worst cell against this table.
     pub verdict: Verdict,
     /// The table's level at the fundamental, µT.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub level_ut: Option<f64>,
     /// Share of computed cells at or above the level (0–1).
     #[cfg_attr(feature = "schema", schema(minimum = 0, maximum = 1))]
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub share_at_or_above_level: Option<f64>,
     /// Share of computed cells at or above the review fraction of the level.
     #[cfg_attr(feature = "schema", schema(minimum = 0, maximum = 1))]
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub share_at_or_above_review: Option<f64>,
     /// Frequencies present that the table does not cover, Hz.
     pub uncovered_hz: Vec<f64>,
@@ -207,16 +223,20 @@ pub struct AreaResult {
     /// Cells inside a conductor: marked, never counted as exposure.
     pub cells_inside_conductors: usize,
     /// Highest resultant over the computed cells, µT.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub max_resultant_ut: Option<f64>,
     /// Where the highest resultant is, `[x, y, z]`, m.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub max_at: Option<[f64; 3]>,
     /// Mean resultant over the computed cells, µT.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub mean_resultant_ut: Option<f64>,
     /// One per applicable table.
     pub comparisons: Vec<AreaComparison>,
     /// Worst verdict over the tables.
     pub verdict: Verdict,
     /// Information-only time-weighted average (`null` without occupancy_h).
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub time_weighted: Option<TimeWeighted>,
 }
 
@@ -242,6 +262,7 @@ pub struct Summary {
 #[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct Assessment {
     /// Site name, if it has one.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub site_name: Option<String>,
     /// Fundamental frequency, Hz.
     pub frequency_hz: f64,

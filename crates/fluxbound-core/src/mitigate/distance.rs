@@ -38,13 +38,16 @@ pub struct DistanceResult {
     /// Origin of the search `[x, y, z]`, m.
     pub from: [f64; 3],
     /// Resultant at the origin, µT (`null` inside a conductor).
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub b_at_origin_ut: Option<f64>,
     /// Unit direction searched (for `shortest`, the one that won).
     pub direction: [f64; 3],
     /// Distance at which the field first falls below the level, m; 0 if it
     /// already is below at the origin; `null` if not within `searched_to_m`.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub distance_m: Option<f64>,
     /// The point at that distance.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub at: Option<[f64; 3]>,
     /// Bisection tolerance, m.
     pub tolerance_m: f64,
