@@ -4,7 +4,7 @@
 # generated/api.d.ts, and run tsc --noEmit over usage.ts.
 set -euo pipefail
 cd "$(dirname "$0")"
-npm ci --no-audit --no-fund
+npm ci --no-audit --no-fund --prefer-offline
 npm run --silent generate
 npm run --silent typecheck
 echo "contract: the generated TypeScript client type-checks usage.ts"
