@@ -22,6 +22,7 @@ use crate::http::extract::{ID_PATTERN, TABLE_ID_PATTERN};
 use crate::http::problem::{PROBLEM_JSON, ProblemDoc};
 use crate::http::routes;
 use fluxbound_core::cautions::CAUTIONS;
+use utoipa::openapi::header::HeaderBuilder;
 use utoipa::openapi::path::{Operation, ParameterIn};
 use utoipa::openapi::schema::{ObjectBuilder, Schema, Type};
 use utoipa::openapi::security::{HttpAuthScheme, HttpBuilder, SecurityScheme};
@@ -118,16 +119,29 @@ impl ErrorResponses {
     fn complete(op: &mut Operation) {
         let problem = ContentBuilder::new().schema(Some(Ref::from_schema_name(ProblemDoc::name()))).build();
         for (status, description) in Shape::of(op).statuses() {
-            op.responses
-                .responses
-                .entry(status.to_string())
-                .or_insert_with(|| ResponseBuilder::new().description(description).build().into());
+            op.responses.responses.entry(status.to_string()).or_insert_with(|| {
+                Self::headers(status, ResponseBuilder::new().description(description)).build().into()
+            });
         }
         for (status, response) in op.responses.responses.iter_mut() {
             if let (true, RefOr::T(r)) = (status.parse::<u16>().is_ok_and(|s| s >= 400), response) {
                 r.content.clear();
                 r.content.insert(PROBLEM_JSON.to_string(), problem.clone().into());
             }
+        }
+    }
+}
+
+impl ErrorResponses {
+    /// The headers `ApiError` sets beside its body (see `problem.rs`).
+    fn headers(status: u16, r: ResponseBuilder) -> ResponseBuilder {
+        let header = |t: Type, d: &str| {
+            HeaderBuilder::new().schema(Some(ObjectBuilder::new().schema_type(t))).description(Some(d)).build()
+        };
+        match status {
+            401 => r.header("WWW-Authenticate", header(Type::String, "`Bearer`")),
+            429 => r.header("Retry-After", header(Type::Integer, "Seconds to wait before retrying")),
+            _ => r,
         }
     }
 }
