@@ -89,6 +89,12 @@ pub fn etag(revision: i64) -> String {
     format!("\"{revision}\"")
 }
 
+/// Ids the API gives out (sites, assessments, surveys, keys): 32 lowercase
+/// hex digits, as [`check_id`] checks (the OpenAPI path parameters say so).
+pub const ID_PATTERN: &str = "^[0-9a-f]{32}$";
+/// Table ids, as the core's table validation accepts them.
+pub const TABLE_ID_PATTERN: &str = "^[A-Za-z0-9._-]{1,64}$";
+
 /// Checks an id from the path: 32 lowercase hex digits (400 otherwise).
 pub fn check_id(id: &str, what: &str) -> Result<(), ApiError> {
     if id.len() == 32 && id.bytes().all(|b| b.is_ascii_digit() || (b'a'..=b'f').contains(&b)) {
@@ -117,8 +123,10 @@ pub fn parse_positive(value: &str, name: &str) -> Result<i64, ApiError> {
 #[into_params(parameter_in = Query)]
 pub struct PageQuery {
     /// Opaque cursor from the previous page's `next_cursor`.
+    #[param(pattern = "^[0-9a-f]{32}$")]
     pub cursor: Option<String>,
     /// Page size, 1–200 (default 50).
+    #[param(value_type = Option<i64>, minimum = 1, maximum = 200)]
     pub limit: Option<String>,
     /// Only sites whose name contains this text (any case); sites only.
     pub name: Option<String>,

@@ -1,40 +1,33 @@
-//! The OpenAPI 3.1 document. Routes and HTTP-layer types are derived with
-//! utoipa; the domain's documents (which must not depend on utoipa) get
-//! their schemas here, written out once, with units in the descriptions.
-//! `tests/api` checks every key of the shipped examples against them.
+//! The OpenAPI 3.1 document, generated from the types: routes and HTTP
+//! types derive it here, the core's documents through its `schema` feature
+//! (utoipa derives behind a cargo feature, so the core's normal graph stays
+//! framework-free). Nothing is written out by hand.
+//!
+//! Two modifiers finish the document in one place each:
+//! - [`ErrorResponses`] gives every operation every error status it can
+//!   answer, each as `application/problem+json` with the one [`ProblemDoc`]
+//!   schema. Which statuses apply follows from what the operation has (a
+//!   body, path ids, query parameters, authentication), mirroring the
+//!   extractors in [`crate::http::extract`] and the layers in
+//!   [`crate::http::router`]. Statuses that only some routes have (403, 409,
+//!   412, 428) are named on those routes, with a description only.
+//! - [`PathIds`] puts the id patterns that the handlers check on the path
+//!   parameters.
+//!
+//! `tests/api/openapi.rs` keeps `openapi/openapi.json` equal to this
+//! document; `tests/api/contract.rs` validates every request and response
+//! of the API suite against it.
 
+use crate::http::extract::{ID_PATTERN, TABLE_ID_PATTERN};
+use crate::http::problem::{PROBLEM_JSON, ProblemDoc};
 use crate::http::routes;
-use crate::service as s;
-use fluxbound_core::assess as a;
 use fluxbound_core::cautions::CAUTIONS;
-use fluxbound_core::domain_schema;
-use fluxbound_core::evaluate as e;
-use fluxbound_core::limits as l;
-use fluxbound_core::mitigate as m;
-use fluxbound_core::schema::{arr, num, obj, r};
-use fluxbound_core::site::wire as w;
-use fluxbound_core::survey;
-use fluxbound_core::survey::wire as sv;
-use serde_json::json;
-use std::borrow::Cow;
+use utoipa::openapi::header::HeaderBuilder;
+use utoipa::openapi::path::{Operation, ParameterIn};
+use utoipa::openapi::schema::{ObjectBuilder, Schema, Type};
 use utoipa::openapi::security::{HttpAuthScheme, HttpBuilder, SecurityScheme};
-use utoipa::openapi::{RefOr, schema::Schema};
-use utoipa::{Modify, OpenApi, PartialSchema, ToSchema};
-
-domain_schema!(
-    s::AssessmentRequest,
-    "AssessmentRequest",
-    obj(
-        "What to assess; every field optional",
-        &[],
-        json!({
-            "revision": { "type": "integer", "description": "Site revision (default: latest)" },
-            "load": r("LoadCase"),
-            "tables": arr(json!({"type": "string"}), "Table ids (default: the site's own, else icnirp-2010-occupational, eu-2013-35-low, eu-2013-35-limbs)"),
-            "options": obj("Options", &[], json!({ "review_fraction": num("0 < fraction < 1, default 0.5") })),
-        })
-    )
-);
+use utoipa::openapi::{ContentBuilder, Ref, RefOr, ResponseBuilder};
+use utoipa::{Modify, OpenApi, ToSchema};
 
 struct Security;
 
@@ -62,6 +55,141 @@ fn description() -> String {
     d
 }
 
+/// What an operation has, as far as its possible errors go.
+struct Shape {
+    body: bool,
+    authenticated: bool,
+    path_params: bool,
+    /// A path parameter or query string the handler parses (400 if bad).
+    parsed_params: bool,
+}
+
+impl Shape {
+    fn of(op: &Operation) -> Shape {
+        let params = || {
+            op.parameters.iter().flatten().filter_map(|p| match p {
+                RefOr::T(p) => Some(p),
+                RefOr::Ref(_) => None,
+            })
+        };
+        Shape {
+            body: op.request_body.is_some(),
+            authenticated: op.security.as_ref().is_some_and(|s| !s.is_empty()),
+            path_params: params().any(|p| p.parameter_in == ParameterIn::Path),
+            // Every path parameter but a table id is parsed by the handler
+            // (ids by `check_id`, numbers by `parse_positive`); an unknown
+            // table id is simply not found.
+            parsed_params: params().any(|p| {
+                p.parameter_in == ParameterIn::Query || (p.parameter_in == ParameterIn::Path && p.name != "table_id")
+            }),
+        }
+    }
+
+    /// Every error status the operation can answer, with a default description.
+    fn statuses(&self) -> Vec<(u16, &'static str)> {
+        let mut s = Vec::new();
+        if self.body || self.parsed_params {
+            s.push((400, "Malformed JSON, a malformed id or a bad query parameter (see `errors`)"));
+        }
+        if self.authenticated {
+            s.push((401, "Missing, unknown or revoked API key"));
+        }
+        if self.path_params {
+            s.push((404, "Not found in your organisation"));
+        }
+        if self.body {
+            s.push((413, "The body is larger than the configured bound"));
+            s.push((415, "The body is not sent as JSON"));
+            s.push((422, "Validation problems or size and compute bounds, each with a JSON pointer"));
+        }
+        if self.authenticated {
+            s.push((429, "Rate limit of this API key; see `Retry-After`"));
+        }
+        s.push((500, "Internal error (logged with the request id; no detail leaks)"));
+        s.push((503, "The database is unreachable, or the request ran past the timeout"));
+        s
+    }
+}
+
+/// One shared set of error responses: fills in every status an operation
+/// can answer and gives every error response the one problem+json body.
+struct ErrorResponses;
+
+impl ErrorResponses {
+    fn complete(op: &mut Operation) {
+        let problem = ContentBuilder::new().schema(Some(Ref::from_schema_name(ProblemDoc::name()))).build();
+        for (status, description) in Shape::of(op).statuses() {
+            op.responses.responses.entry(status.to_string()).or_insert_with(|| {
+                Self::headers(status, ResponseBuilder::new().description(description)).build().into()
+            });
+        }
+        for (status, response) in op.responses.responses.iter_mut() {
+            if let (true, RefOr::T(r)) = (status.parse::<u16>().is_ok_and(|s| s >= 400), response) {
+                r.content.clear();
+                r.content.insert(PROBLEM_JSON.to_string(), problem.clone().into());
+            }
+        }
+    }
+}
+
+impl ErrorResponses {
+    /// The headers `ApiError` sets beside its body (see `problem.rs`).
+    fn headers(status: u16, r: ResponseBuilder) -> ResponseBuilder {
+        let header = |t: Type, d: &str| {
+            HeaderBuilder::new().schema(Some(ObjectBuilder::new().schema_type(t))).description(Some(d)).build()
+        };
+        match status {
+            401 => r.header("WWW-Authenticate", header(Type::String, "`Bearer`")),
+            429 => r.header("Retry-After", header(Type::Integer, "Seconds to wait before retrying")),
+            _ => r,
+        }
+    }
+}
+
+impl Modify for ErrorResponses {
+    fn modify(&self, openapi: &mut utoipa::openapi::OpenApi) {
+        for item in openapi.paths.paths.values_mut() {
+            for op in [&mut item.get, &mut item.put, &mut item.post, &mut item.delete].into_iter().flatten() {
+                Self::complete(op);
+            }
+        }
+    }
+}
+
+/// Patterns of the path parameters, from the handlers' own checks.
+struct PathIds;
+
+impl PathIds {
+    fn schema_of(name: &str) -> Option<Schema> {
+        let pattern = match name {
+            "site_id" | "assessment_id" | "survey_id" | "key_id" => ID_PATTERN,
+            "table_id" => TABLE_ID_PATTERN,
+            "revision" | "version" => {
+                return Some(ObjectBuilder::new().schema_type(Type::Integer).minimum(Some(1)).build().into());
+            }
+            _ => return None,
+        };
+        Some(ObjectBuilder::new().schema_type(Type::String).pattern(Some(pattern)).build().into())
+    }
+}
+
+impl Modify for PathIds {
+    fn modify(&self, openapi: &mut utoipa::openapi::OpenApi) {
+        for item in openapi.paths.paths.values_mut() {
+            for op in [&mut item.get, &mut item.put, &mut item.post, &mut item.delete].into_iter().flatten() {
+                for p in op.parameters.iter_mut().flatten() {
+                    if let RefOr::T(p) = p
+                        && p.parameter_in == ParameterIn::Path
+                        && let Some(s) = Self::schema_of(&p.name)
+                    {
+                        p.schema = Some(RefOr::T(s));
+                    }
+                }
+            }
+        }
+    }
+}
+
 #[derive(OpenApi)]
 #[openapi(
     info(title = "Fluxbound API", license(name = "MIT OR Apache-2.0", identifier = "MIT OR Apache-2.0")),
@@ -79,14 +207,8 @@ fn description() -> String {
         routes::keys::keys_list, routes::keys::keys_create, routes::keys::keys_revoke,
         routes::ops::healthz, routes::ops::readyz, routes::ops::metrics,
     ),
-    components(schemas(
-        w::SiteDoc, w::CircuitDoc, w::PhaseOverridesDoc, w::PhaseOverrideDoc, w::HarmonicDoc, w::CurrentDoc, w::ConductorDoc,
-        w::PositionDoc, w::AreaDoc, l::TableDoc, l::AppliesTo, l::Band, l::Gap,
-        e::EvaluateRequest, e::EvaluateResponse, e::PointResult, e::FrequencyResult, e::ComponentsUt, e::ComplexUt,
-        a::LoadCase, a::Assessment, s::AssessmentRequest, w::GeoreferenceDoc, m::DistanceResult,
-        sv::SurveyDoc, sv::MeterDoc, sv::LoadDoc, sv::PhaseCurrentsDoc, sv::MeasurementDoc, survey::SurveyAnalysis,
-    )),
-    modifiers(&Security),
+    components(schemas(ProblemDoc)),
+    modifiers(&Security, &PathIds, &ErrorResponses),
     tags(
         (name = "sites", description = "Site models with immutable revisions (ETag / If-Match)"),
         (name = "assessments", description = "Assessments pinned to a site revision and table versions"),

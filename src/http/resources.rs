@@ -63,6 +63,7 @@ impl From<SiteRow> for SiteSummary {
 pub struct SitePage {
     pub items: Vec<SiteSummary>,
     /// Pass as `cursor` to get the next page; absent on the last page.
+    #[schema(required = true)]
     pub next_cursor: Option<String>,
 }
 
@@ -71,7 +72,9 @@ pub struct TableVersionResource {
     pub version: i64,
     /// True once an assessment used this version: it can no longer change.
     pub used: bool,
+    #[schema(required = true)]
     pub created_at: Option<String>,
+    #[schema(required = true)]
     pub updated_at: Option<String>,
 }
 
@@ -140,17 +143,21 @@ impl From<AssessmentView> for AssessmentResource {
 #[derive(Debug, Serialize, ToSchema)]
 pub struct AssessmentPage {
     pub items: Vec<AssessmentResource>,
+    #[schema(required = true)]
     pub next_cursor: Option<String>,
 }
 
 /// An API key (never its secret).
 #[derive(Debug, Serialize, ToSchema)]
 pub struct KeyResource {
+    #[schema(pattern = "^[0-9a-f]{32}$")]
     pub id: String,
     /// `viewer`, `assessor` or `admin`.
     pub role: String,
+    #[schema(required = true)]
     pub label: Option<String>,
     pub created_at: String,
+    #[schema(required = true)]
     pub revoked_at: Option<String>,
 }
 
@@ -177,7 +184,10 @@ pub struct KeyCreated {
 #[serde(deny_unknown_fields)]
 pub struct KeyCreate {
     /// `viewer`, `assessor` or `admin`.
+    #[schema(pattern = "^(viewer|assessor|admin)$")]
     pub role: String,
+    /// A label for people (at most 100 characters).
+    #[schema(max_length = 100)]
     pub label: Option<String>,
 }
 
@@ -214,5 +224,26 @@ impl From<crate::service::SurveyView> for SurveyResource {
 #[derive(Debug, Serialize, ToSchema)]
 pub struct SurveyPage {
     pub items: Vec<SurveyResource>,
+    #[schema(required = true)]
     pub next_cursor: Option<String>,
+}
+
+/// The reconciliation and load fit of a stored survey.
+#[derive(Debug, Serialize, ToSchema)]
+pub struct SurveyReconciliation {
+    pub reconciliation: fluxbound_core::survey::Reconciliation,
+    pub load_fit: fluxbound_core::survey::LoadFit,
+    /// Cautions that apply to every result.
+    pub cautions: Vec<String>,
+}
+
+/// The extrapolation of a stored survey to rated load.
+#[derive(Debug, Serialize, ToSchema)]
+pub struct SurveyExtrapolation {
+    /// `null` when a circuit has no rated current (named in the notes).
+    #[schema(required = true)]
+    pub extrapolation: Option<fluxbound_core::survey::Extrapolation>,
+    pub notes: Vec<String>,
+    /// Cautions that apply to every result.
+    pub cautions: Vec<String>,
 }

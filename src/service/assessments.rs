@@ -10,20 +10,25 @@ use serde::{Deserialize, Serialize};
 
 /// What to assess: which revision (latest if absent), at which load, against
 /// which tables (else the site's own, else the default set).
-#[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
+#[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize, utoipa::ToSchema)]
 #[serde(deny_unknown_fields)]
 pub struct AssessmentRequest {
+    /// Site revision to assess (default: the latest).
     #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[schema(minimum = 1)]
     pub revision: Option<i64>,
+    /// The currents to assess at (default: present).
     #[serde(default)]
     pub load: LoadCase,
+    /// Table ids (default: the site's own, else the default set).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub tables: Option<Vec<String>>,
+    /// Assessment options.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub options: Option<AssessmentOptions>,
 }
 
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, utoipa::ToSchema)]
 #[serde(deny_unknown_fields)]
 pub struct AssessmentOptions {
     /// Ratio from which a result is `approaching` (0 < fraction < 1, default 0.5).

@@ -2,15 +2,18 @@
 //! an SQLite file in a temporary directory, or, when
 //! `FLUXBOUND_TEST_DATABASE_URL` names a PostgreSQL server, a uniquely named
 //! database created on it for this test. Logs are muted unless `TEST_LOG`
-//! is set.
+//! is set. Every exchange goes through the contract proxy
+//! (`contract::start_proxy`), which checks it against the served OpenAPI
+//! document; what it finds fails the test when the `TestApp` is dropped.
 
+use crate::contract::start_proxy;
 use fluxbound::app::App;
 use fluxbound::config::Config;
 use fluxbound::service::{Limits, Role, Service};
 use reqwest::{Client, Method, RequestBuilder, Response};
 use serde_json::Value;
 use std::path::{Path, PathBuf};
-use std::sync::{Arc, Once};
+use std::sync::{Arc, Mutex, Once};
 use tokio::sync::oneshot;
 use tokio::task::JoinHandle;
 
@@ -59,12 +62,18 @@ impl Drop for TempDir {
     }
 }
 
-/// Creates `fluxbound_test_<uuid>` on the server of `admin_url` and returns
-/// its URL.
+/// Creates `<prefix><uuid>` on the server of `admin_url` and returns its
+/// URL. The prefix is `FLUXBOUND_TEST_DATABASE_PREFIX` (CI sets one unique
+/// to its run, so it drops only its own databases) or `fluxbound_test_`.
 async fn create_pg_database(admin_url: &str) -> String {
     use sqlx::Connection;
     sqlx::any::install_default_drivers();
-    let name = format!("fluxbound_test_{}", uuid::Uuid::new_v4().simple());
+    let prefix = std::env::var("FLUXBOUND_TEST_DATABASE_PREFIX").unwrap_or_else(|_| "fluxbound_test_".into());
+    assert!(
+        !prefix.is_empty() && prefix.bytes().all(|b| b.is_ascii_lowercase() || b.is_ascii_digit() || b == b'_'),
+        "FLUXBOUND_TEST_DATABASE_PREFIX must be lowercase letters, digits and underscores"
+    );
+    let name = format!("{prefix}{}", uuid::Uuid::new_v4().simple());
     let mut conn = sqlx::AnyConnection::connect(admin_url).await.expect("connect to the test PostgreSQL server");
     sqlx::query(sqlx::AssertSqlSafe(format!("CREATE DATABASE {name}")))
         .execute(&mut conn)
@@ -82,6 +91,9 @@ pub struct TestApp {
     pub db: TestDb,
     shutdown: Option<oneshot::Sender<()>>,
     handle: Option<JoinHandle<std::io::Result<()>>>,
+    /// Departures from the OpenAPI document seen by the contract proxy.
+    violations: Arc<Mutex<Vec<String>>>,
+    proxy_shutdown: Option<oneshot::Sender<()>>,
 }
 
 pub async fn spawn_app() -> TestApp {
@@ -109,7 +121,17 @@ pub async fn spawn_app_with(db: TestDb, limits: Limits) -> TestApp {
     let handle = tokio::spawn(app.serve(async move {
         let _ = rx.await;
     }));
-    TestApp { base, client: Client::new(), service, db, shutdown: Some(tx), handle: Some(handle) }
+    let proxy = start_proxy(base).await;
+    TestApp {
+        base: proxy.base,
+        client: Client::new(),
+        service,
+        db,
+        shutdown: Some(tx),
+        handle: Some(handle),
+        violations: proxy.violations,
+        proxy_shutdown: Some(proxy.shutdown),
+    }
 }
 
 impl TestApp {
@@ -162,6 +184,14 @@ impl Drop for TestApp {
     fn drop(&mut self) {
         if let Some(tx) = self.shutdown.take() {
             let _ = tx.send(());
+        }
+        if let Some(tx) = self.proxy_shutdown.take() {
+            let _ = tx.send(());
+        }
+        let violations = std::mem::take(&mut *self.violations.lock().unwrap_or_else(|p| p.into_inner()));
+        // A test that already failed keeps its own message.
+        if !violations.is_empty() && !std::thread::panicking() {
+            panic!("the API departed from its OpenAPI document:\n{}", violations.join("\n"));
         }
     }
 }

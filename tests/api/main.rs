@@ -1,6 +1,7 @@
 //! The HTTP API end to end: one test binary, a fresh server and database per
 //! test (see `helpers::spawn_app`).
 
+mod contract;
 mod helpers;
 
 mod assessments;

@@ -1,6 +1,7 @@
 //! The OpenAPI document: committed, served, and in step with the code and
 //! the shipped examples.
 
+use crate::contract::Contract;
 use crate::helpers::*;
 use serde_json::Value;
 use std::path::PathBuf;
@@ -33,39 +34,12 @@ async fn the_served_document_is_the_committed_one() {
     assert!(served["info"]["description"].as_str().unwrap().contains("licensed or otherwise qualified assessors"));
 }
 
-/// Every key of `value` must be a declared property of `schema` (following
-/// `$ref`s), recursively: the hand-written schemas of the domain documents
-/// cannot drift from what the code accepts.
-fn check(doc: &Value, schema: &Value, value: &Value, at: &str, out: &mut Vec<String>) {
-    let schema = match schema.get("$ref").and_then(Value::as_str) {
-        Some(r) => &doc["components"]["schemas"][r.rsplit('/').next().unwrap()],
-        None => schema,
-    };
-    match value {
-        Value::Object(map) => {
-            if let Some(props) = schema.get("properties").and_then(Value::as_object) {
-                for (k, v) in map {
-                    match props.get(k) {
-                        Some(s) => check(doc, s, v, &format!("{at}/{k}"), out),
-                        None => out.push(format!("{at}/{k} is not in the schema")),
-                    }
-                }
-            }
-        }
-        Value::Array(items) => {
-            if let Some(s) = schema.get("items") {
-                for (i, v) in items.iter().enumerate() {
-                    check(doc, s, v, &format!("{at}/{i}"), out);
-                }
-            }
-        }
-        _ => {}
-    }
-}
-
+/// The shipped examples and built-in tables validate against their schemas
+/// in full (types, ranges, required keys, no undeclared keys), so the
+/// documented shapes cannot drift from the documents the project ships.
 #[test]
-fn every_key_of_the_shipped_examples_is_declared_in_the_schemas() {
-    let doc: Value = serde_json::from_str(&fluxbound::http::openapi::openapi_json()).unwrap();
+fn the_shipped_examples_validate_against_their_schemas() {
+    let contract = Contract::committed();
     let mut problems = Vec::new();
     for (file, schema) in [
         ("site-switch-room.json", "SiteDoc"),
@@ -73,20 +47,38 @@ fn every_key_of_the_shipped_examples_is_declared_in_the_schemas() {
         ("evaluate-busbar-walkway.json", "EvaluateRequest"),
         ("survey-switch-room.json", "SurveyDoc"),
     ] {
-        let schema = doc["components"]["schemas"][schema].clone();
-        check(&doc, &schema, &example(file), file, &mut problems);
+        problems.extend(contract.validate_named(schema, &example(file), file));
     }
-    let table: Value = serde_json::to_value(fluxbound_core::limits::builtin_tables()[0].doc()).unwrap();
-    check(&doc, &doc["components"]["schemas"]["TableDoc"].clone(), &table, "builtin table", &mut problems);
+    for table in fluxbound_core::limits::builtin_tables() {
+        let doc = serde_json::to_value(table.doc()).unwrap();
+        problems.extend(contract.validate_named("TableDoc", &doc, table.id()));
+    }
     let response =
         fluxbound_core::evaluate::evaluate_json(&example("evaluate-busbar-walkway.json").to_string()).unwrap();
     let response = serde_json::to_value(response).unwrap();
-    check(
-        &doc,
-        &doc["components"]["schemas"]["EvaluateResponse"].clone(),
-        &response,
-        "evaluate response",
-        &mut problems,
-    );
+    problems.extend(contract.validate_named("EvaluateResponse", &response, "evaluate response"));
     assert!(problems.is_empty(), "{problems:#?}");
+}
+
+/// Every operation documents a problem+json answer for 401 when it needs a
+/// key, and every error response of the document uses the one problem schema.
+#[test]
+fn every_error_response_is_the_one_problem_document() {
+    let doc: Value = serde_json::from_str(&fluxbound::http::openapi::openapi_json()).unwrap();
+    let mut seen = 0;
+    for (path, item) in doc["paths"].as_object().unwrap() {
+        for (method, op) in item.as_object().unwrap() {
+            let secured = op.get("security").and_then(Value::as_array).is_some_and(|s| !s.is_empty());
+            assert!(!secured || op["responses"].get("401").is_some(), "{method} {path} lacks 401");
+            for (status, r) in op["responses"].as_object().unwrap() {
+                assert!(r["description"].is_string(), "{method} {path} {status} has no description");
+                if status.as_str() >= "400" {
+                    seen += 1;
+                    let schema = &r["content"]["application/problem+json"]["schema"]["$ref"];
+                    assert_eq!(schema, "#/components/schemas/ProblemDoc", "{method} {path} {status}");
+                }
+            }
+        }
+    }
+    assert!(seen > 100, "only {seen} error responses");
 }

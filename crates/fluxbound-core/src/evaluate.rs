@@ -19,25 +19,35 @@ pub const MAX_POINTS: usize = 10_000_000;
 
 /// Request: conductors (explicit phasors or circuit + phase) and points.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 #[serde(deny_unknown_fields)]
 pub struct EvaluateRequest {
+    /// Fundamental frequency, Hz (1–3000).
+    #[cfg_attr(feature = "schema", schema(minimum = 1, maximum = 3000))]
     pub frequency_hz: f64,
+    /// Circuits for conductors given by circuit and phase.
     #[serde(default)]
     pub circuits: Vec<CircuitDoc>,
+    /// Conductors as polylines.
     pub conductors: Vec<ConductorDoc>,
     /// Points `[x, y, z]`, m.
+    #[cfg_attr(feature = "schema", schema(schema_with = crate::site::wire::bounds::points_m))]
     pub points: Vec<[f64; 3]>,
 }
 
 /// A real and imaginary part, µT RMS.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct ComplexUt {
+    /// Real part, µT RMS.
     pub re: f64,
+    /// Imaginary part, µT RMS.
     pub im: f64,
 }
 
 /// Complex RMS components along x, y, z, µT.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct ComponentsUt {
     pub x: ComplexUt,
     pub y: ComplexUt,
@@ -53,10 +63,15 @@ impl From<&FieldPhasor> for ComponentsUt {
 
 /// Field at one frequency.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct FrequencyResult {
+    /// Harmonic order (1 = fundamental).
     pub order: u32,
+    /// Frequency, Hz.
     pub frequency_hz: f64,
+    /// Resultant RMS flux density at this frequency, µT.
     pub resultant_ut: f64,
+    /// Major semi-axis of the polarisation ellipse (RMS), µT.
     pub maximum_ut: f64,
     pub components_ut: ComponentsUt,
 }
@@ -65,22 +80,32 @@ pub struct FrequencyResult {
 /// field is meaningless there: `resultant_ut` and `maximum_ut` are `null`,
 /// `frequencies` is empty and `inside_conductors` names the conductors.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct PointResult {
+    /// The point `[x, y, z]`, m.
     pub at: [f64; 3],
     /// Resultant RMS over all frequencies (quadrature sum), µT.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub resultant_ut: Option<f64>,
     /// RMS along the direction of largest field over all frequencies, µT.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub maximum_ut: Option<f64>,
+    /// Per frequency (empty inside a conductor).
     pub frequencies: Vec<FrequencyResult>,
+    /// Conductors the point lies inside.
     pub inside_conductors: Vec<String>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct EvaluateResponse {
+    /// Fundamental frequency, Hz.
     pub frequency_hz: f64,
+    /// One result per input point, in input order.
     pub points: Vec<PointResult>,
     /// Segment–point pairs computed (a measure of the work done).
     pub segment_point_pairs: u64,
+    /// Cautions that apply to every result.
     pub cautions: Vec<String>,
 }
 

@@ -39,8 +39,6 @@ pub mod field;
 pub mod limits;
 pub mod mitigate;
 pub mod report;
-#[cfg(feature = "schema")]
-pub mod schema;
 pub mod site;
 pub mod survey;
 pub mod usecase;

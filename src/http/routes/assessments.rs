@@ -3,7 +3,7 @@
 use super::json_response;
 use crate::http::AppState;
 use crate::http::extract::{ApiJson, Auth, PageQuery, check_id};
-use crate::http::problem::{ApiError, ProblemDoc};
+use crate::http::problem::ApiError;
 use crate::http::resources::{AssessmentPage, AssessmentResource};
 use crate::service::AssessmentRequest;
 use axum::extract::{Path, State};
@@ -15,9 +15,10 @@ use axum::response::Response;
     params(("site_id" = String, Path, description = "Site id")),
     responses(
         (status = 201, description = "Assessed and stored, pinned to the site revision and table versions", body = AssessmentResource),
-        (status = 404, description = "No such site or revision", body = ProblemDoc, content_type = "application/problem+json"),
-        (status = 409, description = "A custom table changed while assessing; retry", body = ProblemDoc, content_type = "application/problem+json"),
-        (status = 422, description = "Problems (unknown tables, load case, options) or compute budget exceeded", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 403, description = "Needs the assessor role"),
+        (status = 404, description = "No such site or revision"),
+        (status = 409, description = "A custom table changed while assessing; retry"),
+        (status = 422, description = "Problems (unknown tables, load case, options) or compute budget exceeded"),
     ),
     security(("bearer" = [])))]
 pub async fn assessments_create(
@@ -37,7 +38,7 @@ pub async fn assessments_create(
     params(("site_id" = String, Path, description = "Site id"), PageQuery),
     responses(
         (status = 200, description = "A page of assessments", body = AssessmentPage),
-        (status = 404, description = "No such site", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 404, description = "No such site"),
     ),
     security(("bearer" = [])))]
 pub async fn assessments_list(
@@ -58,7 +59,7 @@ pub async fn assessments_list(
     params(("assessment_id" = String, Path, description = "Assessment id")),
     responses(
         (status = 200, description = "The assessment", body = AssessmentResource),
-        (status = 404, description = "No such assessment in your organisation", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 404, description = "No such assessment in your organisation"),
     ),
     security(("bearer" = [])))]
 pub async fn assessments_show(

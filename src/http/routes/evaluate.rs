@@ -3,7 +3,7 @@
 use super::json_response;
 use crate::http::AppState;
 use crate::http::extract::{ApiJson, Auth};
-use crate::http::problem::{ApiError, ProblemDoc};
+use crate::http::problem::ApiError;
 use axum::extract::State;
 use axum::http::StatusCode;
 use axum::response::Response;
@@ -13,8 +13,7 @@ use fluxbound_core::evaluate::{EvaluateRequest, EvaluateResponse};
 #[utoipa::path(post, path = "/v1/evaluate", tag = "evaluate", request_body = EvaluateRequest,
     responses(
         (status = 200, description = "Field at every point, in input order, with the cautions", body = EvaluateResponse),
-        (status = 400, description = "Malformed JSON", body = ProblemDoc, content_type = "application/problem+json"),
-        (status = 422, description = "Validation problems, or the compute budget (segment-point pairs) is exceeded", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 422, description = "Validation problems, or the compute budget (segment-point pairs) is exceeded"),
     ),
     security(("bearer" = [])))]
 pub async fn evaluate(

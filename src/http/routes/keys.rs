@@ -3,7 +3,7 @@
 use super::json_response;
 use crate::http::AppState;
 use crate::http::extract::{ApiJson, Auth, check_id};
-use crate::http::problem::{ApiError, ProblemDoc};
+use crate::http::problem::ApiError;
 use crate::http::resources::{KeyCreate, KeyCreated, KeyList, KeyResource};
 use crate::service::Role;
 use axum::extract::{Path, State};
@@ -14,7 +14,7 @@ use fluxbound_core::site::Problems;
 /// List keys (never secrets).
 #[utoipa::path(get, path = "/v1/keys", tag = "keys",
     responses((status = 200, description = "Keys", body = KeyList),
-              (status = 403, description = "Needs the admin role", body = ProblemDoc, content_type = "application/problem+json")),
+              (status = 403, description = "Needs the admin role")),
     security(("bearer" = [])))]
 pub async fn keys_list(State(s): State<AppState>, Auth(caller): Auth) -> Result<Response, ApiError> {
     let items = s.service.keys_list(&caller).await?.into_iter().map(KeyResource::from).collect();
@@ -24,8 +24,8 @@ pub async fn keys_list(State(s): State<AppState>, Auth(caller): Auth) -> Result<
 /// Create a key; its secret is in this answer only.
 #[utoipa::path(post, path = "/v1/keys", tag = "keys", request_body = KeyCreate,
     responses((status = 201, description = "Created", body = KeyCreated),
-              (status = 403, description = "Needs the admin role", body = ProblemDoc, content_type = "application/problem+json"),
-              (status = 422, description = "Unknown role", body = ProblemDoc, content_type = "application/problem+json")),
+              (status = 403, description = "Needs the admin role"),
+              (status = 422, description = "Unknown role")),
     security(("bearer" = [])))]
 pub async fn keys_create(
     State(s): State<AppState>,
@@ -42,7 +42,8 @@ pub async fn keys_create(
 /// Revoke a key.
 #[utoipa::path(delete, path = "/v1/keys/{key_id}", tag = "keys", params(("key_id" = String, Path, description = "Key id")),
     responses((status = 204, description = "Revoked"),
-              (status = 404, description = "No such key", body = ProblemDoc, content_type = "application/problem+json")),
+              (status = 403, description = "Needs the admin role"),
+              (status = 404, description = "No such key")),
     security(("bearer" = [])))]
 pub async fn keys_revoke(
     State(s): State<AppState>,

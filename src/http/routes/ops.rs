@@ -1,7 +1,7 @@
 //! Probes and metrics (no authentication: they carry no site data).
 
 use crate::http::AppState;
-use crate::http::problem::{ApiError, ProblemDoc};
+use crate::http::problem::ApiError;
 use crate::http::resources::Health;
 use axum::extract::State;
 use axum::http::{HeaderValue, header};
@@ -16,7 +16,7 @@ pub async fn healthz() -> Response {
 /// The database answers.
 #[utoipa::path(get, path = "/readyz", tag = "operations",
     responses((status = 200, description = "Ready", body = Health),
-              (status = 503, description = "Database unreachable", body = ProblemDoc, content_type = "application/problem+json")))]
+              (status = 503, description = "Database unreachable")))]
 pub async fn readyz(State(s): State<AppState>) -> Response {
     match s.service.store().ping().await {
         Ok(()) => axum::Json(Health { status: "ok".into() }).into_response(),

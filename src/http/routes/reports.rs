@@ -2,7 +2,7 @@
 
 use crate::http::AppState;
 use crate::http::extract::{Auth, check_id};
-use crate::http::problem::{ApiError, ProblemDoc};
+use crate::http::problem::ApiError;
 use axum::extract::{Path, State};
 use axum::http::{HeaderValue, StatusCode, Uri, header};
 use axum::response::{IntoResponse, Response};
@@ -20,7 +20,7 @@ fn typed(body: String, content_type: &'static str) -> Response {
     params(("assessment_id" = String, Path, description = "Assessment id"), ("area_id" = String, Path, description = "Area id in the site")),
     responses(
         (status = 200, description = "SVG image", body = String, content_type = "image/svg+xml"),
-        (status = 404, description = "No such assessment or area", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 404, description = "No such assessment or area"),
     ),
     security(("bearer" = [])))]
 pub async fn reports_map(
@@ -39,7 +39,7 @@ pub async fn reports_map(
     params(("assessment_id" = String, Path, description = "Assessment id")),
     responses(
         (status = 200, description = "CSV (RFC 4180)", body = String, content_type = "text/csv"),
-        (status = 404, description = "No such assessment", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 404, description = "No such assessment"),
     ),
     security(("bearer" = [])))]
 pub async fn reports_csv(
@@ -58,7 +58,7 @@ pub async fn reports_csv(
     params(("assessment_id" = String, Path, description = "Assessment id")),
     responses(
         (status = 200, description = "GeoJSON FeatureCollection", body = Object, content_type = "application/geo+json"),
-        (status = 404, description = "No such assessment", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 404, description = "No such assessment"),
     ),
     security(("bearer" = [])))]
 pub async fn reports_geojson(
@@ -76,6 +76,7 @@ pub async fn reports_geojson(
 #[into_params(parameter_in = Query)]
 pub struct DistanceQuery {
     /// Level, µT RMS (resultant).
+    #[param(value_type = f64)]
     pub level_ut: String,
     /// `position:ID`, `conductor:ID` (middle of its longest segment) or `point:x,y,z` (m).
     pub from: String,
@@ -89,9 +90,8 @@ pub struct DistanceQuery {
     params(("assessment_id" = String, Path, description = "Assessment id"), DistanceQuery),
     responses(
         (status = 200, description = "The distance and where", body = DistanceResult),
-        (status = 400, description = "Bad query", body = ProblemDoc, content_type = "application/problem+json"),
-        (status = 404, description = "No such assessment", body = ProblemDoc, content_type = "application/problem+json"),
-        (status = 422, description = "Unknown position or conductor, bad level or direction", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 404, description = "No such assessment"),
+        (status = 422, description = "Unknown position or conductor, bad level or direction"),
     ),
     security(("bearer" = [])))]
 pub async fn reports_distance(

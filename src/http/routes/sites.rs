@@ -3,7 +3,7 @@
 use super::json_response;
 use crate::http::AppState;
 use crate::http::extract::{ApiJson, Auth, PageQuery, check_id, etag, if_match, parse_positive};
-use crate::http::problem::{ApiError, ProblemDoc};
+use crate::http::problem::ApiError;
 use crate::http::resources::{SitePage, SiteResource, SiteSummary};
 use axum::extract::{Path, State};
 use axum::http::{HeaderMap, StatusCode, Uri};
@@ -22,13 +22,8 @@ fn site_response(status: StatusCode, v: crate::service::SiteView, location: bool
 #[utoipa::path(post, path = "/v1/sites", tag = "sites", request_body = SiteDoc,
     responses(
         (status = 201, description = "Created; `ETag` names the revision", body = SiteResource),
-        (status = 400, description = "Malformed JSON", body = ProblemDoc, content_type = "application/problem+json"),
-        (status = 401, description = "Missing or bad API key", body = ProblemDoc, content_type = "application/problem+json"),
-        (status = 403, description = "Needs the assessor role", body = ProblemDoc, content_type = "application/problem+json"),
-        (status = 413, description = "Body too large", body = ProblemDoc, content_type = "application/problem+json"),
-        (status = 415, description = "Not JSON", body = ProblemDoc, content_type = "application/problem+json"),
-        (status = 422, description = "Validation problems or size bounds, each with a JSON pointer", body = ProblemDoc, content_type = "application/problem+json"),
-        (status = 429, description = "Rate limit", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 403, description = "Needs the assessor role"),
+        (status = 422, description = "Validation problems or size bounds, each with a JSON pointer"),
     ),
     security(("bearer" = [])))]
 pub async fn sites_create(State(s): State<AppState>, Auth(caller): Auth, ApiJson(doc): ApiJson<SiteDoc>) -> ApiResult {
@@ -40,8 +35,6 @@ pub async fn sites_create(State(s): State<AppState>, Auth(caller): Auth, ApiJson
 #[utoipa::path(get, path = "/v1/sites", tag = "sites", params(PageQuery),
     responses(
         (status = 200, description = "A page of sites", body = SitePage),
-        (status = 400, description = "Bad query parameter", body = ProblemDoc, content_type = "application/problem+json"),
-        (status = 401, description = "Missing or bad API key", body = ProblemDoc, content_type = "application/problem+json"),
     ),
     security(("bearer" = [])))]
 pub async fn sites_list(State(s): State<AppState>, Auth(caller): Auth, uri: Uri) -> ApiResult {
@@ -55,8 +48,7 @@ pub async fn sites_list(State(s): State<AppState>, Auth(caller): Auth, uri: Uri)
 #[utoipa::path(get, path = "/v1/sites/{site_id}", tag = "sites", params(("site_id" = String, Path, description = "Site id")),
     responses(
         (status = 200, description = "The latest revision; `ETag` names it", body = SiteResource),
-        (status = 400, description = "Malformed id", body = ProblemDoc, content_type = "application/problem+json"),
-        (status = 404, description = "No such site in your organisation", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 404, description = "No such site in your organisation"),
     ),
     security(("bearer" = [])))]
 pub async fn sites_show(State(s): State<AppState>, Auth(caller): Auth, Path(id): Path<String>) -> ApiResult {
@@ -70,10 +62,11 @@ pub async fn sites_show(State(s): State<AppState>, Auth(caller): Auth, Path(id):
            ("If-Match" = String, Header, description = "ETag of the revision being changed, e.g. \"3\"")),
     responses(
         (status = 200, description = "The new revision", body = SiteResource),
-        (status = 404, description = "No such site", body = ProblemDoc, content_type = "application/problem+json"),
-        (status = 412, description = "If-Match names an older revision", body = ProblemDoc, content_type = "application/problem+json"),
-        (status = 422, description = "Validation problems", body = ProblemDoc, content_type = "application/problem+json"),
-        (status = 428, description = "If-Match missing", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 403, description = "Needs the assessor role"),
+        (status = 404, description = "No such site"),
+        (status = 412, description = "If-Match names an older revision"),
+        (status = 422, description = "Validation problems"),
+        (status = 428, description = "If-Match missing"),
     ),
     security(("bearer" = [])))]
 pub async fn sites_update(
@@ -93,7 +86,7 @@ pub async fn sites_update(
     params(("site_id" = String, Path, description = "Site id"), ("revision" = i64, Path, description = "Revision number")),
     responses(
         (status = 200, description = "That revision", body = SiteResource),
-        (status = 404, description = "No such site or revision", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 404, description = "No such site or revision"),
     ),
     security(("bearer" = [])))]
 pub async fn sites_revision(
@@ -110,7 +103,8 @@ pub async fn sites_revision(
 #[utoipa::path(delete, path = "/v1/sites/{site_id}", tag = "sites", params(("site_id" = String, Path, description = "Site id")),
     responses(
         (status = 204, description = "Deleted"),
-        (status = 404, description = "No such site", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 403, description = "Needs the assessor role"),
+        (status = 404, description = "No such site"),
     ),
     security(("bearer" = [])))]
 pub async fn sites_delete(State(s): State<AppState>, Auth(caller): Auth, Path(id): Path<String>) -> ApiResult {

@@ -3,8 +3,8 @@
 use super::json_response;
 use crate::http::AppState;
 use crate::http::extract::{ApiJson, Auth, PageQuery, check_id};
-use crate::http::problem::{ApiError, ProblemDoc};
-use crate::http::resources::{SurveyPage, SurveyResource};
+use crate::http::problem::ApiError;
+use crate::http::resources::{SurveyExtrapolation, SurveyPage, SurveyReconciliation, SurveyResource};
 use axum::extract::{Path, State};
 use axum::http::{StatusCode, Uri};
 use axum::response::{IntoResponse, Response};
@@ -46,8 +46,9 @@ impl ReviewQuery {
     params(("site_id" = String, Path, description = "Site id"), ReviewQuery),
     responses(
         (status = 201, description = "Stored with its analysis", body = SurveyResource),
-        (status = 404, description = "No such site or revision", body = ProblemDoc, content_type = "application/problem+json"),
-        (status = 422, description = "Validation problems (including CSV rows) or compute budget", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 403, description = "Needs the assessor role"),
+        (status = 404, description = "No such site or revision"),
+        (status = 422, description = "Validation problems (including CSV rows) or compute budget"),
     ),
     security(("bearer" = [])))]
 pub async fn surveys_create(
@@ -67,7 +68,7 @@ pub async fn surveys_create(
 /// List a site's surveys.
 #[utoipa::path(get, path = "/v1/sites/{site_id}/surveys", tag = "surveys", params(("site_id" = String, Path, description = "Site id"), PageQuery),
     responses((status = 200, description = "A page of surveys", body = SurveyPage),
-              (status = 404, description = "No such site", body = ProblemDoc, content_type = "application/problem+json")),
+              (status = 404, description = "No such site")),
     security(("bearer" = [])))]
 pub async fn surveys_list(
     State(s): State<AppState>,
@@ -89,7 +90,7 @@ pub async fn surveys_list(
 /// Read a survey with its analysis.
 #[utoipa::path(get, path = "/v1/surveys/{survey_id}", tag = "surveys", params(("survey_id" = String, Path, description = "Survey id")),
     responses((status = 200, description = "The survey", body = SurveyResource),
-              (status = 404, description = "No such survey", body = ProblemDoc, content_type = "application/problem+json")),
+              (status = 404, description = "No such survey")),
     security(("bearer" = [])))]
 pub async fn surveys_show(
     State(s): State<AppState>,
@@ -102,30 +103,32 @@ pub async fn surveys_show(
 
 /// The reconciliation and load fit of a survey.
 #[utoipa::path(get, path = "/v1/surveys/{survey_id}/reconciliation", tag = "surveys", params(("survey_id" = String, Path, description = "Survey id")),
-    responses((status = 200, description = "`{reconciliation, load_fit}`", body = Object),
-              (status = 404, description = "No such survey", body = ProblemDoc, content_type = "application/problem+json")),
+    responses((status = 200, description = "The reconciliation and load fit, with the cautions", body = SurveyReconciliation),
+              (status = 404, description = "No such survey")),
     security(("bearer" = [])))]
 pub async fn surveys_reconciliation(
     State(s): State<AppState>,
     Auth(caller): Auth,
     Path(id): Path<String>,
 ) -> Result<Response, ApiError> {
-    survey_part(&s, &caller, &id, |a| serde_json::json!({"reconciliation": a.reconciliation, "load_fit": a.load_fit}))
-        .await
+    survey_part(&s, &caller, &id, |a| SurveyReconciliation {
+        reconciliation: a.reconciliation,
+        load_fit: a.load_fit,
+        cautions: a.cautions,
+    })
+    .await
 }
 
-/// One part of a stored survey's analysis, with the cautions.
-async fn survey_part(
+/// One part of a stored survey's analysis.
+async fn survey_part<T: serde::Serialize>(
     s: &AppState,
     caller: &crate::service::Caller,
     id: &str,
-    part: impl FnOnce(&fluxbound_core::survey::SurveyAnalysis) -> serde_json::Value,
+    part: impl FnOnce(fluxbound_core::survey::SurveyAnalysis) -> T,
 ) -> Result<Response, ApiError> {
     check_id(id, "survey")?;
     let v = s.service.surveys_show(caller, id).await?;
-    let mut body = part(&v.analysis);
-    body["cautions"] = serde_json::json!(v.analysis.cautions);
-    Ok(axum::Json(body).into_response())
+    Ok(axum::Json(part(v.analysis)).into_response())
 }
 
 /// Each measurement extrapolated to rated load and compared with the tables.
@@ -133,8 +136,9 @@ async fn survey_part(
 /// Verdicts are those of the stored analysis, or judged again at
 /// `review_fraction` when given (the ratios do not change).
 #[utoipa::path(get, path = "/v1/surveys/{survey_id}/extrapolation", tag = "surveys", params(("survey_id" = String, Path, description = "Survey id"), ReviewQuery),
-    responses((status = 200, description = "`{extrapolation, notes}` (extrapolation is null when a circuit has no rated current)", body = Object),
-              (status = 404, description = "No such survey", body = ProblemDoc, content_type = "application/problem+json")),
+    responses((status = 200, description = "The extrapolation (null when a circuit has no rated current), notes and cautions", body = SurveyExtrapolation),
+              (status = 404, description = "No such survey"),
+              (status = 422, description = "The review fraction is not a number between 0 and 1")),
     security(("bearer" = [])))]
 pub async fn surveys_extrapolation(
     State(s): State<AppState>,
@@ -143,12 +147,11 @@ pub async fn surveys_extrapolation(
     uri: Uri,
 ) -> Result<Response, ApiError> {
     let review_fraction = ReviewQuery::review_fraction(&uri)?;
-    survey_part(&s, &caller, &id, |a| {
-        let mut a = a.clone();
+    survey_part(&s, &caller, &id, |mut a| {
         if let Some(f) = review_fraction {
             fluxbound_core::usecase::rejudge_extrapolation(&mut a, f);
         }
-        serde_json::json!({"extrapolation": a.extrapolation, "notes": a.notes})
+        SurveyExtrapolation { extrapolation: a.extrapolation, notes: a.notes, cautions: a.cautions }
     })
     .await
 }

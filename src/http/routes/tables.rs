@@ -3,7 +3,7 @@
 use super::json_response;
 use crate::http::AppState;
 use crate::http::extract::{ApiJson, Auth, parse_positive};
-use crate::http::problem::{ApiError, ProblemDoc};
+use crate::http::problem::ApiError;
 use crate::http::resources::{TableList, TableResource};
 use axum::extract::{Path, State};
 use axum::http::StatusCode;
@@ -30,8 +30,9 @@ pub async fn tables_list(State(s): State<AppState>, Auth(caller): Auth) -> ApiRe
 #[utoipa::path(post, path = "/v1/tables", tag = "tables", request_body = TableDoc,
     responses(
         (status = 201, description = "Created", body = TableResource),
-        (status = 409, description = "The id is taken (built-in or existing)", body = ProblemDoc, content_type = "application/problem+json"),
-        (status = 422, description = "Validation problems", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 403, description = "Needs the assessor role"),
+        (status = 409, description = "The id is taken (built-in or existing)"),
+        (status = 422, description = "Validation problems"),
     ),
     security(("bearer" = [])))]
 pub async fn tables_create(
@@ -46,7 +47,7 @@ pub async fn tables_create(
 #[utoipa::path(get, path = "/v1/tables/{table_id}", tag = "tables", params(("table_id" = String, Path, description = "Table id")),
     responses(
         (status = 200, description = "The table", body = TableResource),
-        (status = 404, description = "No such table", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 404, description = "No such table"),
     ),
     security(("bearer" = [])))]
 pub async fn tables_show(State(s): State<AppState>, Auth(caller): Auth, Path(id): Path<String>) -> ApiResult {
@@ -58,9 +59,10 @@ pub async fn tables_show(State(s): State<AppState>, Auth(caller): Auth, Path(id)
     params(("table_id" = String, Path, description = "Table id")),
     responses(
         (status = 201, description = "The new latest version", body = TableResource),
-        (status = 404, description = "No such table", body = ProblemDoc, content_type = "application/problem+json"),
-        (status = 409, description = "Built-in tables are read-only", body = ProblemDoc, content_type = "application/problem+json"),
-        (status = 422, description = "Validation problems", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 403, description = "Needs the assessor role"),
+        (status = 404, description = "No such table"),
+        (status = 409, description = "Built-in tables are read-only"),
+        (status = 422, description = "Validation problems"),
     ),
     security(("bearer" = [])))]
 pub async fn tables_version_add(
@@ -77,7 +79,7 @@ pub async fn tables_version_add(
     params(("table_id" = String, Path, description = "Table id"), ("version" = i64, Path, description = "Version")),
     responses(
         (status = 200, description = "That version", body = TableResource),
-        (status = 404, description = "No such table or version", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 404, description = "No such table or version"),
     ),
     security(("bearer" = [])))]
 pub async fn tables_version_show(
@@ -94,9 +96,10 @@ pub async fn tables_version_show(
     params(("table_id" = String, Path, description = "Table id"), ("version" = i64, Path, description = "Version")),
     responses(
         (status = 200, description = "Replaced", body = TableResource),
-        (status = 404, description = "No such table or version", body = ProblemDoc, content_type = "application/problem+json"),
-        (status = 409, description = "Used by an assessment (immutable) or built-in", body = ProblemDoc, content_type = "application/problem+json"),
-        (status = 422, description = "Validation problems", body = ProblemDoc, content_type = "application/problem+json"),
+        (status = 403, description = "Needs the assessor role"),
+        (status = 404, description = "No such table or version"),
+        (status = 409, description = "Used by an assessment (immutable) or built-in"),
+        (status = 422, description = "Validation problems"),
     ),
     security(("bearer" = [])))]
 pub async fn tables_version_replace(

@@ -6,6 +6,7 @@ use std::collections::BTreeMap;
 
 /// The currents an assessment is made at.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize, Default)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 #[serde(tag = "kind", rename_all = "snake_case", deny_unknown_fields)]
 pub enum LoadCase {
     /// Each circuit's `current_a` (the currents of the day).
@@ -15,9 +16,13 @@ pub enum LoadCase {
     Rated,
     /// Explicit nominal RMS phase currents by circuit id, A; circuits not
     /// listed stay at their present current.
+    // The kind and the map, nothing else (unknown keys are rejected).
+    #[cfg_attr(feature = "schema", schema(max_properties = 2))]
     Currents { currents_a: BTreeMap<String, f64> },
     /// Factors on the present currents by circuit id; circuits not listed
     /// stay at 1.
+    // The kind and the map, nothing else (unknown keys are rejected).
+    #[cfg_attr(feature = "schema", schema(max_properties = 2))]
     Scale { factors: BTreeMap<String, f64> },
 }
 
@@ -121,7 +126,9 @@ fn by_circuit(
 
 /// What a load case came to, per circuit, for the report.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct CircuitLoadReport {
+    /// Circuit id.
     pub id: String,
     /// Present nominal RMS phase current, A.
     pub present_a: f64,
@@ -130,8 +137,12 @@ pub struct CircuitLoadReport {
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct LoadCaseReport {
+    /// The load case: present, rated, currents or scale.
+    #[cfg_attr(feature = "schema", schema(value_type = String, pattern = "^(present|rated|currents|scale)$"))]
     pub kind: String,
+    /// Per circuit, the present and assessed currents.
     pub circuits: Vec<CircuitLoadReport>,
 }
 

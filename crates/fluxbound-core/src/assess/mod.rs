@@ -88,57 +88,88 @@ pub const NO_TABLES: &str = "choose at least one reference-level table";
 
 /// A table as used by an assessment (pinned by id and version).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct TableRef {
+    /// Table id.
     pub id: String,
+    /// Table version used (pinned).
     pub version: u32,
     pub title: String,
     pub kind: TableKind,
     pub applies_to: AppliesTo,
+    /// Full citation of the source document.
     pub source: String,
 }
 
 /// Verdict of one point against one table.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct PointComparison {
+    /// Table id.
     pub table_id: String,
+    /// Exposure ratio Σ_f B_f / B_RL(f) (`null` when not computed or not covered).
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub ratio: Option<f64>,
+    /// Verdict at this point against this table.
     pub verdict: Verdict,
 }
 
 /// One evaluated point of a position.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct HeightResult {
     /// Height above the standing point, m (absent for a 3-D point).
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub height_m: Option<f64>,
+    /// The evaluated point `[x, y, z]`, m.
     pub at: [f64; 3],
+    /// Resultant RMS flux density over all frequencies, µT (`null` inside a conductor).
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub resultant_ut: Option<f64>,
+    /// RMS along the direction of largest field, µT (`null` inside a conductor).
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub maximum_ut: Option<f64>,
     /// Resultant per frequency, µT.
     pub frequencies: Vec<SpectralValue>,
+    /// Conductors the point lies inside.
     pub inside_conductors: Vec<String>,
+    /// One per table.
     pub comparisons: Vec<PointComparison>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct SpectralValue {
+    /// Frequency, Hz.
     pub frequency_hz: f64,
+    /// Resultant RMS at this frequency, µT.
     pub resultant_ut: f64,
 }
 
 /// A position's result against one table.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct PositionComparison {
+    /// Table id.
     pub table_id: String,
     /// Worst exposure ratio over the heights.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub ratio: Option<f64>,
+    /// Verdict of the worst height against this table.
     pub verdict: Verdict,
+    /// Height of the worst ratio, m (`null` for a 3-D point).
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub worst_height_m: Option<f64>,
     /// Ratio of the mean over heights (IEC 62110 practice for public
     /// exposure, from memory); information beside the worst-height verdict.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub ratio_of_height_mean: Option<f64>,
     /// The table's level at the fundamental, µT.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub level_ut: Option<f64>,
+    /// Each frequency's share of the worst ratio.
     pub per_frequency: Vec<FrequencyRatio>,
+    /// Frequencies present that the table does not cover, Hz.
     pub uncovered_hz: Vec<f64>,
 }
 
@@ -146,83 +177,145 @@ pub struct PositionComparison {
 /// highest value for the hours of occupancy (at most 8 counted), no field
 /// for the rest of the day.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct TimeWeighted {
+    /// Hours per day spent here.
     pub occupancy_h: f64,
     /// `B_max · min(occupancy_h, 8 h) / 8 h`, µT; never above B_max.
     pub twa_8h_ut: f64,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct PositionResult {
+    /// Position id.
     pub id: String,
+    /// Body region of the position.
     pub body_region: BodyRegion,
+    /// Worker group of the position.
     pub group: Group,
+    /// One result per evaluated height (or the one 3-D point).
     pub heights: Vec<HeightResult>,
     /// Highest resultant over the heights, µT, and where.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub max_resultant_ut: Option<f64>,
+    /// Height of the highest resultant, m.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub max_height_m: Option<f64>,
     /// Mean resultant over the heights, µT (the three-height mean with the
     /// default 0.5/1.0/1.5 m).
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub mean_resultant_ut: Option<f64>,
+    /// One per applicable table.
     pub comparisons: Vec<PositionComparison>,
+    /// Worst verdict over the tables.
     pub verdict: Verdict,
+    /// Information-only time-weighted average (`null` without occupancy_h).
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub time_weighted: Option<TimeWeighted>,
+    /// Notes on this position.
     pub notes: Vec<String>,
 }
 
 /// An area's result against one table.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct AreaComparison {
+    /// Table id.
     pub table_id: String,
+    /// Highest exposure ratio over the computed cells.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub max_ratio: Option<f64>,
+    /// Verdict of the worst cell against this table.
     pub verdict: Verdict,
+    /// The table's level at the fundamental, µT.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub level_ut: Option<f64>,
     /// Share of computed cells at or above the level (0–1).
+    #[cfg_attr(feature = "schema", schema(minimum = 0, maximum = 1))]
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub share_at_or_above_level: Option<f64>,
     /// Share of computed cells at or above the review fraction of the level.
+    #[cfg_attr(feature = "schema", schema(minimum = 0, maximum = 1))]
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub share_at_or_above_review: Option<f64>,
+    /// Frequencies present that the table does not cover, Hz.
     pub uncovered_hz: Vec<f64>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct AreaResult {
+    /// Area id.
     pub id: String,
+    /// Height of the evaluation plane, m.
     pub height_m: f64,
+    /// Grid spacing, m.
     pub spacing_m: f64,
     /// Cells whose centre lies in the polygon.
     pub cells: usize,
     /// Cells inside a conductor: marked, never counted as exposure.
     pub cells_inside_conductors: usize,
+    /// Highest resultant over the computed cells, µT.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub max_resultant_ut: Option<f64>,
+    /// Where the highest resultant is, `[x, y, z]`, m.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub max_at: Option<[f64; 3]>,
+    /// Mean resultant over the computed cells, µT.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub mean_resultant_ut: Option<f64>,
+    /// One per applicable table.
     pub comparisons: Vec<AreaComparison>,
+    /// Worst verdict over the tables.
     pub verdict: Verdict,
+    /// Information-only time-weighted average (`null` without occupancy_h).
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub time_weighted: Option<TimeWeighted>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct Summary {
+    /// Worst verdict over every position and area.
     pub worst_verdict: Verdict,
+    /// Ids of positions that exceed a level.
     pub positions_exceeding: Vec<String>,
+    /// Ids of positions at or above the review fraction.
     pub positions_approaching: Vec<String>,
+    /// Ids of positions not covered or not computed.
     pub positions_not_judged: Vec<String>,
+    /// Ids of areas that exceed a level.
     pub areas_exceeding: Vec<String>,
+    /// Ids of areas at or above the review fraction.
     pub areas_approaching: Vec<String>,
 }
 
 /// A complete assessment result.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct Assessment {
+    /// Site name, if it has one.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub site_name: Option<String>,
+    /// Fundamental frequency, Hz.
     pub frequency_hz: f64,
+    /// The currents assessed, per circuit.
     pub load_case: LoadCaseReport,
+    /// Ratio from which a result is `approaching` (0 < fraction < 1).
+    #[cfg_attr(feature = "schema", schema(exclusive_minimum = 0, exclusive_maximum = 1))]
     pub review_fraction: f64,
+    /// Tables used, pinned by version.
     pub tables: Vec<TableRef>,
+    /// One result per position.
     pub positions: Vec<PositionResult>,
+    /// One result per area.
     pub areas: Vec<AreaResult>,
+    /// Worst verdict and the ids that need attention.
     pub summary: Summary,
+    /// How the numbers were formed.
     pub notes: Vec<String>,
+    /// Cautions that apply to every result.
     pub cautions: Vec<String>,
 }
 

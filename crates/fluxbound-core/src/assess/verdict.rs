@@ -6,6 +6,7 @@ use serde::{Deserialize, Serialize};
 
 /// Plain verdict words (DESIGN.md). `exceeds` means at or above the level.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 #[serde(rename_all = "snake_case")]
 pub enum Verdict {
     /// Below the review fraction of the level.
@@ -57,10 +58,15 @@ impl Verdict {
 
 /// One frequency's share of an exposure ratio.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct FrequencyRatio {
+    /// Frequency, Hz.
     pub frequency_hz: f64,
+    /// Resultant RMS at this frequency, µT.
     pub b_ut: f64,
+    /// The table's level at this frequency, µT RMS.
     pub level_ut: f64,
+    /// b_ut / level_ut.
     pub ratio: f64,
 }
 

@@ -5,6 +5,7 @@ use serde::{Deserialize, Serialize};
 
 /// Who a table protects.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 #[serde(rename_all = "snake_case")]
 pub enum Population {
     Workers,
@@ -14,6 +15,7 @@ pub enum Population {
 
 /// Which part of the body a table's level applies to.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 #[serde(rename_all = "snake_case")]
 pub enum TableBodyRegion {
     WholeBody,
@@ -21,14 +23,18 @@ pub enum TableBodyRegion {
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 #[serde(deny_unknown_fields)]
 pub struct AppliesTo {
+    /// Population protected.
     pub population: Population,
+    /// Body region the level applies to.
     pub body_region: TableBodyRegion,
 }
 
 /// What the numbers are in the source document.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 #[serde(rename_all = "snake_case")]
 pub enum TableKind {
     ReferenceLevel,
@@ -38,6 +44,7 @@ pub enum TableKind {
 
 /// The quantity a table limits. Only the RMS flux density for now.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 #[serde(rename_all = "snake_case")]
 pub enum Quantity {
     #[default]
@@ -47,37 +54,61 @@ pub enum Quantity {
 /// One band: `B_RL(f) = coefficient · f^exponent` µT RMS for
 /// `from_hz ≤ f < to_hz` (the last band of a run also includes `to_hz`).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 #[serde(deny_unknown_fields)]
 pub struct Band {
+    /// Lower edge, Hz (0.1 Hz to 10 MHz).
+    #[cfg_attr(feature = "schema", schema(minimum = 0.1, maximum = 1e7))]
     pub from_hz: f64,
+    /// Upper edge, Hz (greater than from_hz, at most 10 MHz).
+    #[cfg_attr(feature = "schema", schema(minimum = 0.1, maximum = 1e7))]
     pub to_hz: f64,
+    /// µT RMS · Hz^-exponent (positive).
+    #[cfg_attr(feature = "schema", schema(exclusive_minimum = 0))]
     pub coefficient: f64,
+    /// Power of f (−4 to 4).
+    #[cfg_attr(feature = "schema", schema(minimum = -4, maximum = 4))]
     pub exponent: f64,
 }
 
 /// A frequency range a table deliberately does not cover.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 #[serde(deny_unknown_fields)]
 pub struct Gap {
+    /// Lower edge, Hz.
     pub from_hz: f64,
+    /// Upper edge, Hz (greater than from_hz).
     pub to_hz: f64,
+    /// Why the range is not covered.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub reason: Option<String>,
 }
 
 /// A reference-level table as submitted or shipped (JSON).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 #[serde(deny_unknown_fields)]
 pub struct TableDoc {
+    /// Table id: 1–64 letters, digits, `.`, `-` or `_`.
+    #[cfg_attr(feature = "schema", schema(min_length = 1, max_length = 64, pattern = "^[A-Za-z0-9._-]{1,64}$"))]
     pub id: String,
+    /// Title (not blank).
+    #[cfg_attr(feature = "schema", schema(min_length = 1))]
     pub title: String,
     /// Full citation of the document the numbers come from.
+    #[cfg_attr(feature = "schema", schema(min_length = 1))]
     pub source: String,
     pub applies_to: AppliesTo,
+    /// What the numbers are in the source document.
     pub kind: TableKind,
+    /// Limited quantity (default b_rms, RMS flux density).
     #[serde(default)]
     pub quantity: Quantity,
+    /// Bands, non-overlapping and contiguous except at declared gaps (1–64).
+    #[cfg_attr(feature = "schema", schema(min_items = 1, max_items = 64))]
     pub bands: Vec<Band>,
+    /// Frequency ranges deliberately not covered.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub gaps: Vec<Gap>,
     /// Verification status and caveats (for example, which bands are from

@@ -31,19 +31,27 @@ pub enum Direction {
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct DistanceResult {
+    /// The level, µT RMS (resultant).
     pub level_ut: f64,
+    /// Origin of the search `[x, y, z]`, m.
     pub from: [f64; 3],
     /// Resultant at the origin, µT (`null` inside a conductor).
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub b_at_origin_ut: Option<f64>,
     /// Unit direction searched (for `shortest`, the one that won).
     pub direction: [f64; 3],
     /// Distance at which the field first falls below the level, m; 0 if it
     /// already is below at the origin; `null` if not within `searched_to_m`.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub distance_m: Option<f64>,
     /// The point at that distance.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub at: Option<[f64; 3]>,
+    /// Bisection tolerance, m.
     pub tolerance_m: f64,
+    /// Farthest distance searched, m.
     pub searched_to_m: f64,
 }
 

@@ -66,44 +66,69 @@ fn resultant_scaled(gf: &GroupFields, i: usize, s: &[f64]) -> f64 {
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct PointCheck {
+    /// Measurement id.
     pub id: String,
+    /// The measured point `[x, y, z]`, m.
     pub at: [f64; 3],
+    /// Measured resultant RMS flux density, µT.
     pub measured_ut: f64,
     /// Model at the survey's loads, µT (`null` inside a conductor).
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub model_ut: Option<f64>,
     /// measured / model.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub ratio: Option<f64>,
+    /// measured − model, µT.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub difference_ut: Option<f64>,
     /// Combined expanded uncertainty of the difference, µT:
     /// sqrt((U_meter · measured)² + (U_model · model)²).
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub allowed_difference_ut: Option<f64>,
     /// The difference is outside the combined uncertainty.
     pub flagged: bool,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct ReconciliationSummary {
+    /// Measurements compared.
     pub points: usize,
+    /// Measurements outside the combined uncertainty.
     pub flagged: usize,
+    /// Median of measured / model.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub median_ratio: Option<f64>,
+    /// Smallest measured / model.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub min_ratio: Option<f64>,
+    /// Largest measured / model.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub max_ratio: Option<f64>,
     /// exp(standard deviation of ln(ratio)): 1.1 means a typical ±10 % scatter.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub geometric_spread: Option<f64>,
     /// Up to three ids with the largest |ln(ratio)|.
     pub worst: Vec<String>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct Reconciliation {
+    /// The meter's expanded (k = 2) uncertainty, percent.
     pub meter_expanded_uncertainty_percent: f64,
+    /// The model's expanded (k = 2) uncertainty, percent.
     pub model_expanded_uncertainty_percent: f64,
+    /// One check per measurement.
     pub points: Vec<PointCheck>,
+    /// Summary over the measurements.
     pub summary: ReconciliationSummary,
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 #[serde(rename_all = "snake_case")]
 pub enum FitStatus {
     Fitted,
@@ -116,63 +141,100 @@ pub enum FitStatus {
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct CircuitFit {
+    /// Circuit id (or the explicitly driven conductors).
     pub circuit: String,
     /// Nominal RMS phase current stated for the survey, A.
     pub stated_a: f64,
     /// Factor on the stated currents that best explains the measurements.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub scale: Option<f64>,
+    /// scale · stated_a, A RMS.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub fitted_a: Option<f64>,
     /// One standard uncertainty of `scale` (from the fit's covariance,
     /// scaled up by the reduced χ² when the scatter exceeds the meter's).
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub scale_std_error: Option<f64>,
+    /// How the fit of this circuit went.
     pub status: FitStatus,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct LoadFit {
+    /// One fit per circuit.
     pub circuits: Vec<CircuitFit>,
     /// RMS of (model − measured) / measured over the fitted points, after the fit.
     pub residual_rms_relative: f64,
     /// Reduced χ² with the meter's standard uncertainty (U/2).
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub reduced_chi2: Option<f64>,
+    /// Solver iterations used.
     pub iterations: usize,
+    /// Whether the solver converged.
     pub converged: bool,
+    /// Condition number of the fit's normal matrix.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub condition_number: Option<f64>,
+    /// Notes on the fit.
     pub notes: Vec<String>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct ExtrapolatedComparison {
+    /// Table id.
     pub table_id: String,
+    /// Exposure ratio of the extrapolated value.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub ratio: Option<f64>,
+    /// Verdict of the extrapolated value.
     pub verdict: Verdict,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct ExtrapolatedPoint {
+    /// Measurement id.
     pub id: String,
+    /// Measured resultant, µT RMS.
     pub measured_ut: f64,
     /// Model at rated load / model at the survey's loads, at this point.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub factor: Option<f64>,
+    /// measured_ut · factor, µT RMS.
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub extrapolated_ut: Option<f64>,
+    /// One per table.
     pub comparisons: Vec<ExtrapolatedComparison>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct Extrapolation {
+    /// One per measurement.
     pub points: Vec<ExtrapolatedPoint>,
+    /// What the extrapolation assumes.
     pub assumptions: Vec<String>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct SurveyAnalysis {
+    /// When measured (as submitted).
     pub measured_at: String,
+    /// Measured against modelled.
     pub reconciliation: Reconciliation,
+    /// Bounded least-squares fit of circuit scales.
     pub load_fit: LoadFit,
     /// `null` when a circuit has no rated current (named in the notes).
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub extrapolation: Option<Extrapolation>,
+    /// Notes.
     pub notes: Vec<String>,
+    /// Cautions that apply to every result.
     pub cautions: Vec<String>,
 }
 
