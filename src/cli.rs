@@ -409,11 +409,11 @@ fn check_command(file: &Path, out: &mut dyn Write) -> Result<ExitCode, CliError>
             writeln!(
                 out,
                 "ok: {} — {} circuit(s), {} conductor(s), {} position(s), {} area(s)",
-                s.name.as_deref().unwrap_or("site"),
-                s.circuits.len(),
-                s.conductors.len(),
-                s.positions.len(),
-                s.areas.len()
+                s.name().unwrap_or("site"),
+                s.circuits().len(),
+                s.conductors().len(),
+                s.positions().len(),
+                s.areas().len()
             )
             .map_err(CliError::Write)?;
             Ok(ExitCode::SUCCESS)
@@ -483,7 +483,7 @@ fn assessment_tables(
     site: &Site,
     custom: Vec<ReferenceTable>,
 ) -> Result<Vec<ReferenceTable>, CliError> {
-    let choice = limits::choose_tables(flag, &[], &site.tables);
+    let choice = limits::choose_tables(flag, &[], site.tables());
     let mut tables = limits::resolve_tables(&choice, &custom).map_err(UseCaseError::UnknownTables)?;
     tables.extend(custom);
     Ok(tables)
@@ -533,15 +533,13 @@ fn survey_command(inputs: &SurveyInputs, format: Format, out: &mut dyn Write) ->
     let site = read_site(&inputs.site)?;
     let doc: SurveyDoc = site::parse_json(&read_input(&inputs.survey)?).map_err(CliError::in_file)?;
     let survey = usecase::check_survey(&site, &doc)?;
-    let choice = limits::choose_tables(&inputs.tables, survey.tables(), &site.tables);
+    let choice = limits::choose_tables(&inputs.tables, survey.tables(), site.tables());
     let tables = limits::resolve_tables(&choice, &[]).map_err(UseCaseError::UnknownTables)?;
     let review_fraction = review_fraction_flag(inputs.review_fraction)?;
     let analysis = usecase::analyse_survey(&survey, &tables, review_fraction, &Budget::offline())?;
     match format {
         Format::Json => write_json(out, &analysis)?,
-        Format::Table => {
-            write!(out, "{}", text::survey_text(site.name.as_deref(), &analysis)).map_err(CliError::Write)?
-        }
+        Format::Table => write!(out, "{}", text::survey_text(site.name(), &analysis)).map_err(CliError::Write)?,
     }
     Ok(ExitCode::SUCCESS)
 }

@@ -78,11 +78,11 @@ impl Service {
         let (rev, site) = self.site_at_revision(caller, site_id, request.revision).await?;
         let budget = self.limits().budget();
         usecase::check_assessment_budget(&site, &budget)?;
-        let choice = choose_tables(request.tables.as_deref().unwrap_or_default(), &[], &site.tables);
+        let choice = choose_tables(request.tables.as_deref().unwrap_or_default(), &[], site.tables());
         let (tables, pinned) = self.resolve_tables(caller, &choice).await?;
         let review_fraction = request.options.as_ref().map(|o| o.review_fraction).unwrap_or_default();
         let load = request.load.clone();
-        let pairs = usecase::segment_count(&site.conductors);
+        let pairs = usecase::segment_count(site.conductors());
         let result =
             self.compute(move || usecase::assess_site(&site, &load, &tables, review_fraction, &budget)).await??;
         let points: u64 = result.positions.iter().map(|p| p.heights.len() as u64).sum::<u64>()

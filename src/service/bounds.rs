@@ -47,17 +47,17 @@ impl Limits {
     pub fn check_site(&self, site: &Site) -> Problems {
         let root = Pointer::root();
         let mut p = Problems::default();
-        if site.conductors.len() > self.max_conductors {
+        if site.conductors().len() > self.max_conductors {
             p.push(&root.key("conductors"), format!("at most {} conductors per site", self.max_conductors));
         }
-        let segments = segment_count(&site.conductors);
+        let segments = segment_count(site.conductors());
         if segments > self.max_segments as u64 {
             p.push(
                 &root.key("conductors"),
                 format!("at most {} segments per site (this one has {segments})", self.max_segments),
             );
         }
-        if site.positions.len() > self.max_positions {
+        if site.positions().len() > self.max_positions {
             p.push(&root.key("positions"), format!("at most {} positions per site", self.max_positions));
         }
         p.0.extend(check_grid_budget(site, self.max_grid_cells).0);

@@ -49,7 +49,7 @@ impl Service {
     #[tracing::instrument(name = "reports_map", skip_all, fields(org = %caller.org_id, assessment = %id, area = %area_id))]
     pub async fn reports_map_svg(&self, caller: &Caller, id: &str, area_id: &str) -> Result<String> {
         let ctx = self.report_context(caller, id).await?;
-        if !ctx.site.areas.iter().any(|a| a.id == area_id) {
+        if !ctx.site.areas().iter().any(|a| a.id == area_id) {
             return Err(ServiceError::NotFound("area"));
         }
         let (area_id, budget) = (area_id.to_string(), self.limits().budget());

@@ -35,7 +35,7 @@ impl Service {
         let budget = self.limits().budget();
         usecase::check_survey_budget(&survey, &budget)?;
         let pairs = usecase::survey_pairs(&survey);
-        let choice = choose_tables(&[], survey.tables(), &site.tables);
+        let choice = choose_tables(&[], survey.tables(), site.tables());
         let (tables, _) = self.resolve_tables(caller, &choice).await?;
         let analysis =
             self.compute(move || usecase::analyse_survey(&survey, &tables, review_fraction, &budget)).await??;

@@ -120,25 +120,25 @@ pub fn segment_count(conductors: &[Conductor]) -> u64 {
 /// position and every bounding-grid cell of every area (an upper bound).
 pub fn assessment_points(site: &Site) -> u64 {
     let positions: u64 = site
-        .positions
+        .positions()
         .iter()
         .map(|q| match &q.placement {
             Placement::Standing { heights_m, .. } => heights_m.len() as u64,
             Placement::Point(_) => 1,
         })
         .sum();
-    positions + site.areas.iter().map(|a| assess::bounding_cells(&a.polygon, a.spacing_m)).sum::<u64>()
+    positions + site.areas().iter().map(|a| assess::bounding_cells(&a.polygon, a.spacing_m)).sum::<u64>()
 }
 
 /// Segment–point pairs of an assessment of `site` (its compute cost).
 pub fn assessment_pairs(site: &Site) -> u64 {
-    assessment_points(site).saturating_mul(segment_count(&site.conductors))
+    assessment_points(site).saturating_mul(segment_count(site.conductors()))
 }
 
 /// Segment–point pairs of a survey analysis: the field at the survey's
 /// loads, at rated load, and the fit's influence matrix.
 pub fn survey_pairs(survey: &Survey) -> u64 {
-    3u64.saturating_mul(segment_count(&survey.site().conductors)).saturating_mul(survey.points().len() as u64)
+    3u64.saturating_mul(segment_count(survey.site().conductors())).saturating_mul(survey.points().len() as u64)
 }
 
 fn over_budget(pointer: &str, detail: String) -> UseCaseError {
@@ -154,7 +154,7 @@ pub fn check_assessment_budget(site: &Site, budget: &Budget) -> Result<(), UseCa
     }
     let pairs = assessment_pairs(site);
     if pairs > budget.max_pairs {
-        let field = if site.areas.is_empty() { "/positions" } else { "/areas" };
+        let field = if site.areas().is_empty() { "/positions" } else { "/areas" };
         return Err(over_budget(
             field,
             format!(
@@ -234,7 +234,7 @@ pub fn area_maps(
     budget: &Budget,
 ) -> Result<Vec<AreaMap>, UseCaseError> {
     let loads = resolve_load(site, load)?;
-    Ok(site.areas.iter().map(|a| assess::area_map(site, &loads, tables, a, budget.map_max_cells)).collect())
+    Ok(site.areas().iter().map(|a| assess::area_map(site, &loads, tables, a, budget.map_max_cells)).collect())
 }
 
 /// The field map of the area `area_id` of an assessed site as SVG.
@@ -247,7 +247,7 @@ pub fn area_map_svg(
     budget: &Budget,
 ) -> Result<String, UseCaseError> {
     let area =
-        site.areas.iter().find(|a| a.id == area_id).ok_or_else(|| UseCaseError::UnknownArea(area_id.to_string()))?;
+        site.areas().iter().find(|a| a.id == area_id).ok_or_else(|| UseCaseError::UnknownArea(area_id.to_string()))?;
     let loads = resolve_load(site, load)?;
     let map = assess::area_map(site, &loads, tables, area, budget.map_max_cells);
     Ok(svg::area_map_svg(site, assessment, &map))

@@ -98,7 +98,7 @@ pub const DEFAULT_MAX_GRID_CELLS: u64 = 1_000_000;
 pub fn check_grid_budget(site: &Site, max_cells: u64) -> Problems {
     let mut p = Problems::default();
     let mut total = 0u64;
-    for (i, a) in site.areas.iter().enumerate() {
+    for (i, a) in site.areas().iter().enumerate() {
         total = total.saturating_add(bounding_cells(&a.polygon, a.spacing_m));
         if total > max_cells {
             p.push(

@@ -40,7 +40,7 @@ impl LoadCase {
     /// case itself (an unknown circuit, a bad current) and those of the site
     /// (a rated case without a rated current).
     pub fn resolve(&self, site: &Site) -> Result<Vec<CircuitLoad>, LoadError> {
-        let mut loads = vec![CircuitLoad::PRESENT; site.circuits.len()];
+        let mut loads = vec![CircuitLoad::PRESENT; site.circuits().len()];
         let mut err = LoadError::default();
         match self {
             LoadCase::Present => {}
@@ -91,7 +91,7 @@ impl LoadError {
 /// its `rated_current_a` in the site.
 fn rated_loads(site: &Site, loads: &mut [CircuitLoad]) -> Problems {
     let mut p = Problems::default();
-    for (i, c) in site.circuits.iter().enumerate() {
+    for (i, c) in site.circuits().iter().enumerate() {
         match c.rated_current_a {
             Some(r) => loads[i] = CircuitLoad::CurrentA(r),
             None => p.push(
@@ -115,7 +115,7 @@ fn by_circuit(
     let mut p = Problems::default();
     for (id, v) in values {
         let at = Pointer::root().key(key).key(id);
-        match (site.circuits.iter().position(|c| &c.id == id), check(*v)) {
+        match (site.circuits().iter().position(|c| &c.id == id), check(*v)) {
             (None, _) => p.push(&at, format!("unknown circuit '{id}'")),
             (Some(_), Err(why)) => p.push(&at, why),
             (Some(i), Ok(load)) => loads[i] = load,
@@ -150,7 +150,7 @@ pub(crate) fn report(case: &LoadCase, site: &Site, loads: &[CircuitLoad]) -> Loa
     LoadCaseReport {
         kind: case.name().to_string(),
         circuits: site
-            .circuits
+            .circuits()
             .iter()
             .zip(loads)
             .map(|(c, l)| CircuitLoadReport {

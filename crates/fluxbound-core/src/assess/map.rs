@@ -51,7 +51,7 @@ pub fn area_map(
 ) -> AreaMap {
     let grid = GridSpec::covering(&area.polygon, area.spacing_m, max_cells);
     let points: Vec<Point3<f64>> = grid.nodes_at(area.height_m).collect();
-    let filaments = crate::site::filaments(&site.conductors);
+    let filaments = crate::site::filaments(site.conductors());
     let excitation = site.excitation_at(loads);
     let set = field::evaluate(&filaments, &points, &excitation);
     let mut inside_conductor = vec![false; points.len()];
@@ -69,7 +69,7 @@ pub fn area_map(
             let ratio = (0..points.len())
                 .map(|i| exposure_ratio(set.at(i).iter().map(field::resultant_ut), &levels).ok())
                 .collect();
-            TableRatios { table_id: t.id().to_string(), level_ut: t.level_ut(site.frequency_hz).ok(), ratio }
+            TableRatios { table_id: t.id().to_string(), level_ut: t.level_ut(site.frequency_hz()).ok(), ratio }
         })
         .collect();
     AreaMap {

@@ -367,8 +367,8 @@ struct PointPlan {
 impl PointPlan {
     fn of(site: &Site) -> PointPlan {
         let mut points: Vec<Point3<f64>> = Vec::new();
-        let mut positions = Vec::with_capacity(site.positions.len());
-        for q in &site.positions {
+        let mut positions = Vec::with_capacity(site.positions().len());
+        for q in site.positions() {
             let start = points.len();
             match &q.placement {
                 Placement::Standing { x_m, y_m, heights_m } => {
@@ -378,8 +378,8 @@ impl PointPlan {
             }
             positions.push(start..points.len());
         }
-        let mut areas = Vec::with_capacity(site.areas.len());
-        for a in &site.areas {
+        let mut areas = Vec::with_capacity(site.areas().len());
+        for a in site.areas() {
             let start = points.len();
             points.extend(area_grid(&a.polygon, a.height_m, a.spacing_m));
             areas.push(start..points.len());
@@ -403,7 +403,7 @@ impl Sampler<'_> {
             resultant_ut: field::total_resultant_ut(phasors),
             maximum_ut: field::total_maximum_ut(phasors),
             spectrum: self.line_hz.iter().zip(phasors).map(|(f, b)| (*f, field::resultant_ut(b))).collect(),
-            inside: self.set.inside_of(i).map(|k| self.site.conductors[k].id.clone()).collect(),
+            inside: self.set.inside_of(i).map(|k| self.site.conductors()[k].id.clone()).collect(),
         }
     }
 }
@@ -422,7 +422,7 @@ pub fn assess(
     let excitation = site.excitation_at(&loads);
     let sampler = Sampler {
         site,
-        set: field::evaluate(&crate::site::filaments(&site.conductors), &plan.points, &excitation),
+        set: field::evaluate(&crate::site::filaments(site.conductors()), &plan.points, &excitation),
         line_hz: excitation.lines.iter().map(|l| l.frequency_hz).collect(),
     };
     let rf = options.review_fraction;
@@ -430,8 +430,8 @@ pub fn assess(
     let areas = assess_areas(site, &plan, &sampler, &tables, rf);
     let summary = summarise(&positions, &areas);
     Ok(Assessment {
-        site_name: site.name.clone(),
-        frequency_hz: site.frequency_hz,
+        site_name: site.name().map(str::to_string),
+        frequency_hz: site.frequency_hz(),
         load_case: load::report(load, site, &loads),
         review_fraction: rf.get(),
         tables: tables.iter().map(table_ref).collect(),
@@ -463,7 +463,7 @@ fn check_inputs(
 /// Adds the implant screening table when the site has implant wearers and
 /// no table chosen covers them.
 fn with_implant_table(site: &Site, mut tables: Vec<ReferenceTable>) -> Vec<ReferenceTable> {
-    if site.positions.iter().any(|q| q.group == Group::ImplantWearer)
+    if site.positions().iter().any(|q| q.group == Group::ImplantWearer)
         && !tables.iter().any(|t| t.applies_to().population == Population::ImplantWearers)
         && let Some(t) = builtin_table(IMPLANT_TABLE_ID)
     {
@@ -490,7 +490,7 @@ fn assess_positions(
     tables: &[ReferenceTable],
     rf: ReviewFraction,
 ) -> Vec<PositionResult> {
-    site.positions
+    site.positions()
         .iter()
         .zip(&plan.positions)
         .map(|(q, span)| {
@@ -507,7 +507,7 @@ fn assess_positions(
                 .collect();
             let applicable: Vec<&ReferenceTable> =
                 tables.iter().filter(|t| applies(t, q.body_region, q.group)).collect();
-            assess_position(q, &samples, &applicable, rf, site.frequency_hz)
+            assess_position(q, &samples, &applicable, rf, site.frequency_hz())
         })
         .collect()
 }
@@ -521,13 +521,13 @@ fn assess_areas(
 ) -> Vec<AreaResult> {
     let area_tables: Vec<&ReferenceTable> =
         tables.iter().filter(|t| applies(t, BodyRegion::WholeBody, Group::General)).collect();
-    site.areas
+    site.areas()
         .iter()
         .zip(&plan.areas)
         .map(|(a, span)| {
             let samples: Vec<CellSample> =
                 span.clone().map(|i| CellSample { at: plan.points[i], field: sampler.sample(i) }).collect();
-            assess_area(a, &samples, &area_tables, rf, site.frequency_hz)
+            assess_area(a, &samples, &area_tables, rf, site.frequency_hz())
         })
         .collect()
 }

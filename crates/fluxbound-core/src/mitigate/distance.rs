@@ -100,7 +100,7 @@ pub fn distance_to_level(
     level_ut: f64,
 ) -> DistanceResult {
     let excitation = site.excitation_at(loads);
-    let probe = Probe { filaments: crate::site::filaments(&site.conductors), excitation: &excitation };
+    let probe = Probe { filaments: crate::site::filaments(site.conductors()), excitation: &excitation };
     let b0 = probe.b_ut(from);
     let candidates: Vec<Unit<Vector3<f64>>> = match direction {
         Direction::Along(d) => vec![d],
@@ -177,8 +177,11 @@ impl Origin {
         match self {
             Origin::Point(p) => Ok(*p),
             Origin::Conductor(id) => {
-                let c =
-                    site.conductors.iter().find(|c| &c.id == id).ok_or_else(|| format!("unknown conductor '{id}'"))?;
+                let c = site
+                    .conductors()
+                    .iter()
+                    .find(|c| &c.id == id)
+                    .ok_or_else(|| format!("unknown conductor '{id}'"))?;
                 let seg = c
                     .path
                     .windows(2)
@@ -188,12 +191,12 @@ impl Origin {
             }
             Origin::Position(id) => {
                 let q =
-                    site.positions.iter().find(|q| &q.id == id).ok_or_else(|| format!("unknown position '{id}'"))?;
+                    site.positions().iter().find(|q| &q.id == id).ok_or_else(|| format!("unknown position '{id}'"))?;
                 match &q.placement {
                     crate::site::Placement::Point(p) => Ok(*p),
                     crate::site::Placement::Standing { x_m, y_m, heights_m } => {
                         let excitation = site.excitation_at(loads);
-                        let fil = crate::site::filaments(&site.conductors);
+                        let fil = crate::site::filaments(site.conductors());
                         let pts: Vec<Point3<f64>> = heights_m.iter().map(|h| Point3::new(*x_m, *y_m, *h)).collect();
                         let set = field::evaluate(&fil, &pts, &excitation);
                         let best = (0..pts.len())

@@ -16,7 +16,7 @@ struct Frame<'a>(&'a Site);
 
 impl Frame<'_> {
     fn xy(&self, x: f64, y: f64) -> Vec<f64> {
-        match &self.0.georeference {
+        match &self.0.georeference() {
             Some(g) => to_lon_lat(g, x, y).to_vec(),
             None => vec![x, y],
         }
@@ -81,14 +81,14 @@ fn polygons(rings: &[Polyline]) -> Vec<Vec<Vec<[f64; 2]>>> {
 pub fn assessment_geojson(site: &Site, a: &Assessment, maps: &[AreaMap]) -> Value {
     let f = Frame(site);
     let mut features = Vec::new();
-    for c in &site.conductors {
+    for c in site.conductors() {
         features.push(json!({
             "type": "Feature",
             "geometry": {"type": "LineString", "coordinates": c.path.iter().map(|p| f.xyz(p.x, p.y, p.z)).collect::<Vec<_>>()},
             "properties": {"kind": "conductor", "id": c.id, "radius_m": c.radius_m}
         }));
     }
-    for (q, r) in site.positions.iter().zip(&a.positions) {
+    for (q, r) in site.positions().iter().zip(&a.positions) {
         let (x, y, z) = match &q.placement {
             crate::site::Placement::Standing { x_m, y_m, .. } => (*x_m, *y_m, r.max_height_m.unwrap_or(0.0)),
             crate::site::Placement::Point(p) => (p.x, p.y, p.z),
@@ -129,7 +129,7 @@ pub fn assessment_geojson(site: &Site, a: &Assessment, maps: &[AreaMap]) -> Valu
     }
     json!({
         "type": "FeatureCollection",
-        "coordinate_frame": if site.georeference.is_some() { "wgs84-lon-lat" } else { "site-local-metres" },
+        "coordinate_frame": if site.georeference().is_some() { "wgs84-lon-lat" } else { "site-local-metres" },
         "load_case": a.load_case.kind,
         "cautions": cautions(),
         "features": features,

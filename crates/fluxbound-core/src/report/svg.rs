@@ -286,7 +286,7 @@ fn contour_level(s: &mut String, map: &AreaMap, v: &View, ratio: &[f64], level_u
 /// (under 2 px long in plan) is a small square.
 fn conductors(s: &mut String, site: &Site, v: &View) {
     let _ = writeln!(s, r#"<g clip-path="url(#frame)">"#);
-    for c in &site.conductors {
+    for c in site.conductors() {
         let pts: Vec<(f64, f64)> = c.path.iter().map(|p| v.px(p.x, p.y)).collect();
         let len: f64 = pts.windows(2).map(|w| ((w[1].0 - w[0].0).powi(2) + (w[1].1 - w[0].1).powi(2)).sqrt()).sum();
         if len < 2.0 {
@@ -315,7 +315,7 @@ fn conductors(s: &mut String, site: &Site, v: &View) {
 
 /// Positions inside the frame, each with its verdict.
 fn positions(s: &mut String, site: &Site, a: &Assessment, v: &View) {
-    for (q, r) in site.positions.iter().zip(&a.positions) {
+    for (q, r) in site.positions().iter().zip(&a.positions) {
         let (x, y) = match &q.placement {
             crate::site::Placement::Standing { x_m, y_m, .. } => (*x_m, *y_m),
             crate::site::Placement::Point(p) => (p.x, p.y),
@@ -426,14 +426,14 @@ fn scale_bar_and_north(s: &mut String, site: &Site, v: &View, bottom: f64) {
         bx + bar_m * v.k,
         by + 20.0
     );
-    let bearing = site.georeference.map(|g| g.y_axis_bearing_deg).unwrap_or(0.0);
+    let bearing = site.georeference().map(|g| g.y_axis_bearing_deg).unwrap_or(0.0);
     let (nx, ny) = (MAP_X + MAP_W - 30.0, bottom + 40.0);
     let _ = writeln!(
         s,
         r##"<g transform="translate({nx},{ny}) rotate({:.1})"><polygon points="0,-22 7,6 0,0 -7,6" fill="#000000"/><text x="0" y="-26" font-size="12" text-anchor="middle" font-weight="bold">N</text></g>"##,
         -bearing
     );
-    let north_note = if site.georeference.is_some() { "true north" } else { "frame y axis (north by convention)" };
+    let north_note = if site.georeference().is_some() { "true north" } else { "frame y axis (north by convention)" };
     let _ = writeln!(
         s,
         r#"<text x="{:.1}" y="{:.1}" font-size="9" text-anchor="end">{north_note}</text>"#,

@@ -103,7 +103,7 @@ impl Circuit {
 impl Site {
     /// Harmonic orders present in the site, ascending, always starting with 1.
     pub fn orders(&self) -> Vec<u32> {
-        orders_of(&self.circuits)
+        orders_of(self.circuits())
     }
 
     /// Conductor currents at the present load with each circuit's current
@@ -117,7 +117,7 @@ impl Site {
     /// Conductor currents with circuit `c` at `loads[c]` (missing entries
     /// mean the present load).
     pub fn excitation_at(&self, loads: &[CircuitLoad]) -> Excitation {
-        excitation_of(self.frequency_hz, &self.circuits, &self.conductors_drives(), loads)
+        excitation_of(self.frequency_hz(), self.circuits(), &self.conductors_drives(), loads)
     }
 
     /// Conductor currents at the present load.
@@ -126,7 +126,7 @@ impl Site {
     }
 
     fn conductors_drives(&self) -> Vec<Drive> {
-        self.conductors.iter().map(|c| c.drive).collect()
+        self.conductors().iter().map(|c| c.drive).collect()
     }
 }
 

@@ -5,24 +5,79 @@ use super::wire::{BodyRegion, CircuitKind, Group, Phase, Sequence};
 use nalgebra::{Point2, Point3};
 use num_complex::Complex64;
 
-/// A validated site. `non_exhaustive` keeps other crates from building one
-/// by hand; inside this crate only `validate_site` does.
+/// A validated site. Its fields are private: only [`super::validate_site`]
+/// builds one (through [`Site::from_checked`]), and nothing changes it
+/// afterwards, so code holding a `Site` may rely on every rule there.
 #[derive(Debug, Clone, PartialEq)]
-#[non_exhaustive]
 pub struct Site {
+    name: Option<String>,
+    frequency_hz: f64,
+    circuits: Vec<Circuit>,
+    conductors: Vec<Conductor>,
+    positions: Vec<Position>,
+    areas: Vec<Area>,
+    /// Table ids chosen by the site (unresolved: tables are looked up when
+    /// assessing, since custom tables live outside the site).
+    tables: Vec<String>,
+    georeference: Option<super::wire::GeoreferenceDoc>,
+}
+
+/// The parts of a checked site, handed over by the validator.
+pub(super) struct CheckedParts {
     pub name: Option<String>,
     pub frequency_hz: f64,
     pub circuits: Vec<Circuit>,
     pub conductors: Vec<Conductor>,
     pub positions: Vec<Position>,
     pub areas: Vec<Area>,
-    /// Table ids chosen by the site (unresolved: tables are looked up when
-    /// assessing, since custom tables live outside the site).
     pub tables: Vec<String>,
     pub georeference: Option<super::wire::GeoreferenceDoc>,
 }
 
+impl Site {
+    /// Called by the validator only, after every rule has passed.
+    pub(super) fn from_checked(p: CheckedParts) -> Site {
+        Site {
+            name: p.name,
+            frequency_hz: p.frequency_hz,
+            circuits: p.circuits,
+            conductors: p.conductors,
+            positions: p.positions,
+            areas: p.areas,
+            tables: p.tables,
+            georeference: p.georeference,
+        }
+    }
+    pub fn name(&self) -> Option<&str> {
+        self.name.as_deref()
+    }
+    /// The fundamental frequency, Hz.
+    pub fn frequency_hz(&self) -> f64 {
+        self.frequency_hz
+    }
+    pub fn circuits(&self) -> &[Circuit] {
+        &self.circuits
+    }
+    pub fn conductors(&self) -> &[Conductor] {
+        &self.conductors
+    }
+    pub fn positions(&self) -> &[Position] {
+        &self.positions
+    }
+    pub fn areas(&self) -> &[Area] {
+        &self.areas
+    }
+    /// The table ids the site names for itself (resolved when assessing).
+    pub fn tables(&self) -> &[String] {
+        &self.tables
+    }
+    pub fn georeference(&self) -> Option<&super::wire::GeoreferenceDoc> {
+        self.georeference.as_ref()
+    }
+}
+
 #[derive(Debug, Clone, PartialEq)]
+#[non_exhaustive]
 pub struct Circuit {
     pub id: String,
     pub kind: CircuitKind,
@@ -61,6 +116,7 @@ pub enum Drive {
 }
 
 #[derive(Debug, Clone, PartialEq)]
+#[non_exhaustive]
 pub struct Conductor {
     pub id: String,
     pub path: Vec<Point3<f64>>,
@@ -77,6 +133,7 @@ pub enum Placement {
 }
 
 #[derive(Debug, Clone, PartialEq)]
+#[non_exhaustive]
 pub struct Position {
     pub id: String,
     pub placement: Placement,
@@ -86,6 +143,7 @@ pub struct Position {
 }
 
 #[derive(Debug, Clone, PartialEq)]
+#[non_exhaustive]
 pub struct Area {
     pub id: String,
     /// Simple polygon (no self-intersection), in metres.

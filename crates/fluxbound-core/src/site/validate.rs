@@ -61,7 +61,7 @@ pub fn validate_site(doc: &SiteDoc) -> Result<Site, Problems> {
             p.push(&tp.index(i), format!("table '{t}' is listed twice"));
         }
     }
-    p.into_result(Site {
+    p.into_result(Site::from_checked(CheckedParts {
         name: doc.name.clone(),
         frequency_hz: doc.frequency_hz,
         circuits,
@@ -70,7 +70,7 @@ pub fn validate_site(doc: &SiteDoc) -> Result<Site, Problems> {
         areas,
         tables: doc.tables.clone(),
         georeference: doc.georeference,
-    })
+    }))
 }
 
 pub(crate) fn check_frequency(f_hz: f64, at: &Pointer, p: &mut Problems) {

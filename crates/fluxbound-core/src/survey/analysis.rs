@@ -24,11 +24,11 @@ struct GroupFields {
 }
 
 fn group_fields(site: &Site, points: &[nalgebra::Point3<f64>], loads: &[CircuitLoad]) -> GroupFields {
-    let filaments = crate::site::filaments(&site.conductors);
+    let filaments = crate::site::filaments(site.conductors());
     let g = influence_matrix(&filaments, points);
-    let drives: Vec<Drive> = site.conductors.iter().map(|c| c.drive).collect();
-    let exc = excitation_of(site.frequency_hz, &site.circuits, &drives, loads);
-    let groups = site.circuits.len() + 1;
+    let drives: Vec<Drive> = site.conductors().iter().map(|c| c.drive).collect();
+    let exc = excitation_of(site.frequency_hz(), site.circuits(), &drives, loads);
+    let groups = site.circuits().len() + 1;
     let group_of = |k: usize| match drives[k] {
         Drive::Phase { circuit, .. } => circuit,
         Drive::Explicit { .. } => groups - 1,
@@ -421,7 +421,7 @@ struct FitOutcome<'a> {
 fn circuit_fits(survey: &Survey, out: &FitOutcome) -> Vec<CircuitFit> {
     survey
         .site()
-        .circuits
+        .circuits()
         .iter()
         .enumerate()
         .map(|(c, circ)| {
@@ -495,7 +495,7 @@ fn residual_rms_relative(gf: &GroupFields, obs: &Observations, s: &[f64]) -> f64
 /// `r_i(s) = (|B_i(s)| − m_i) / σ_i`; σ_i is the meter's standard
 /// uncertainty (U/2) of each reading.
 fn fit(survey: &Survey, gf: &GroupFields) -> LoadFit {
-    let nc = survey.site().circuits.len();
+    let nc = survey.site().circuits().len();
     let obs = observations(survey, gf);
     let sens = sensitivities(gf, &obs, nc);
     let free: Vec<usize> = (0..nc).filter(|&c| sens[c] >= MIN_SENSITIVITY).collect();
@@ -545,13 +545,13 @@ fn extrapolate(
 ) -> Option<Extrapolation> {
     let site = survey.site();
     let rated: Option<Vec<CircuitLoad>> =
-        site.circuits.iter().map(|c| c.rated_current_a.map(CircuitLoad::CurrentA)).collect();
+        site.circuits().iter().map(|c| c.rated_current_a.map(CircuitLoad::CurrentA)).collect();
     let rated = rated?;
     let points: Vec<nalgebra::Point3<f64>> = survey.points.iter().map(|m| m.at).collect();
     let at = RatedFields {
         survey: gf,
         rated: group_fields(site, &points, &rated),
-        ones: vec![1.0; site.circuits.len() + 1],
+        ones: vec![1.0; site.circuits().len() + 1],
         whole_body: whole_body_tables(tables),
         review_fraction,
     };
@@ -636,11 +636,11 @@ pub fn analyse(
     let mut notes = Vec::new();
     if extrapolation.is_none() {
         let missing: Vec<&str> =
-            site.circuits.iter().filter(|c| c.rated_current_a.is_none()).map(|c| c.id.as_str()).collect();
+            site.circuits().iter().filter(|c| c.rated_current_a.is_none()).map(|c| c.id.as_str()).collect();
         notes.push(format!("no extrapolation: circuits without rated_current_a: {}", missing.join(", ")));
     }
     let unstated: Vec<&str> =
-        site.circuits.iter().zip(&survey.load_stated).filter(|(_, s)| !**s).map(|(c, _)| c.id.as_str()).collect();
+        site.circuits().iter().zip(&survey.load_stated).filter(|(_, s)| !**s).map(|(c, _)| c.id.as_str()).collect();
     if !unstated.is_empty() {
         notes.push(format!("survey loads not stated for {}: taken at their present current_a", unstated.join(", ")));
     }

@@ -170,12 +170,12 @@ fn check_header(doc: &SurveyDoc, p: &mut Problems) -> (f64, f64) {
 /// The load of every site circuit (present current unless stated) and
 /// whether the survey stated it.
 fn check_loads(doc: &SurveyDoc, site: &Site, p: &mut Problems) -> (Vec<CircuitLoad>, Vec<bool>) {
-    let mut loads = vec![CircuitLoad::PRESENT; site.circuits.len()];
-    let mut stated = vec![false; site.circuits.len()];
+    let mut loads = vec![CircuitLoad::PRESENT; site.circuits().len()];
+    let mut stated = vec![false; site.circuits().len()];
     let lp = Pointer::root().key("loads");
     for (i, l) in doc.loads.iter().enumerate() {
         let at = lp.index(i);
-        let Some(ci) = site.circuits.iter().position(|c| c.id == l.circuit) else {
+        let Some(ci) = site.circuits().iter().position(|c| c.id == l.circuit) else {
             p.push(&at.key("circuit"), format!("unknown circuit '{}'", l.circuit));
             continue;
         };

@@ -38,7 +38,7 @@ fn tables(ids: &[&str]) -> Vec<fluxbound_core::limits::ReferenceTable> {
 fn map_and_result(site: &Site, ids: &[&str]) -> (AreaMap, Assessment) {
     let t = tables(ids);
     let loads = LoadCase::Present.resolve(site).unwrap();
-    let map = assess::area_map(site, &loads, &t, &site.areas[0], 40_000);
+    let map = assess::area_map(site, &loads, &t, &site.areas()[0], 40_000);
     let result = assess::assess(site, &LoadCase::Present, &t, &Options::default()).unwrap();
     (map, result)
 }

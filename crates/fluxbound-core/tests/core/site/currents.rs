@@ -42,7 +42,7 @@ fn three_phase(circuit: Value) -> Site {
 }
 
 fn phase(site: &Site, phase: Phase, order: u32) -> Complex64 {
-    site.circuits[0].phase_current_a(phase, order, 1.0)
+    site.circuits()[0].phase_current_a(phase, order, 1.0)
 }
 
 #[track_caller]
@@ -194,7 +194,7 @@ fn the_excitation_lists_orders_ascending_from_the_fundamental_with_one_current_p
     assert_eq!(orders, [1, 3, 5, 11]);
     assert_eq!(s.orders(), orders);
     for line in &excitation.lines {
-        assert_eq!(line.currents_a.len(), s.conductors.len(), "order {}", line.order);
+        assert_eq!(line.currents_a.len(), s.conductors().len(), "order {}", line.order);
         // Derived: 50 Hz · order; products of small integers are exact in
         // f64, the tolerance only guards against a changed formula.
         assert!((line.frequency_hz - 50.0 * f64::from(line.order)).abs() < 1e-9);

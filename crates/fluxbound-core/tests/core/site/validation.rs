@@ -119,17 +119,17 @@ fn assert_only_problem(doc: Value, pointer: &str, fragment: &str) {
 #[test]
 fn the_base_document_is_valid() {
     let site = parse_site(&base().to_string()).expect("base site is valid");
-    assert_eq!(site.circuits.len(), 2);
-    assert_eq!(site.conductors.len(), 6);
-    assert_eq!(site.positions.len(), 2);
-    assert_eq!(site.areas.len(), 1);
+    assert_eq!(site.circuits().len(), 2);
+    assert_eq!(site.conductors().len(), 6);
+    assert_eq!(site.positions().len(), 2);
+    assert_eq!(site.areas().len(), 1);
 }
 
 #[test]
 fn a_standing_point_without_heights_gets_the_default_body_heights() {
     let site = parse_site(&base().to_string()).expect("base site is valid");
-    let Placement::Standing { x_m, y_m, heights_m } = &site.positions[0].placement else {
-        panic!("[x, y] should be a standing point: {:?}", site.positions[0].placement);
+    let Placement::Standing { x_m, y_m, heights_m } = &site.positions()[0].placement else {
+        panic!("[x, y] should be a standing point: {:?}", site.positions()[0].placement);
     };
     // The inputs are small integers and the heights are copied from a
     // constant, so anything beyond f64 rounding of a literal is a bug.
@@ -140,7 +140,7 @@ fn a_standing_point_without_heights_gets_the_default_body_heights() {
     for (h, e) in heights_m.iter().zip(expected) {
         assert!((h - e).abs() < tol, "heights {heights_m:?}, expected {expected:?}");
     }
-    assert!(matches!(site.positions[1].placement, Placement::Point(_)));
+    assert!(matches!(site.positions()[1].placement, Placement::Point(_)));
 }
 
 // --- Shape errors: reported by serde via serde_path_to_error, first only ---
