@@ -8,7 +8,10 @@ pub mod lm;
 pub mod wire;
 
 pub use analysis::*;
-pub use csv::{OPTIONAL as CSV_OPTIONAL_COLUMNS, REQUIRED as CSV_REQUIRED_COLUMNS, parse_measurements};
+pub use csv::{
+    DELIMITERS as CSV_DELIMITERS, OPTIONAL as CSV_OPTIONAL_COLUMNS, REQUIRED as CSV_REQUIRED_COLUMNS,
+    parse_measurements, parse_measurements_with,
+};
 
 use crate::site::{CircuitLoad, Pointer, Problems, Site, check_coordinate};
 use nalgebra::Point3;
@@ -225,7 +228,7 @@ fn measurement_docs(doc: &SurveyDoc, p: &mut Problems) -> Vec<MeasurementDoc> {
             p.push(&root, "give points or points_csv, not both");
             Vec::new()
         }
-        (Some(text), true) => match parse_measurements(text) {
+        (Some(text), true) => match parse_measurements_with(text, csv_delimiter(doc, p)) {
             Ok(v) => v,
             Err(errors) => {
                 for e in errors {
@@ -234,7 +237,27 @@ fn measurement_docs(doc: &SurveyDoc, p: &mut Problems) -> Vec<MeasurementDoc> {
                 Vec::new()
             }
         },
-        (None, _) => doc.points.clone(),
+        (None, _) => {
+            if doc.csv_delimiter.is_some() {
+                p.push(&root.key("csv_delimiter"), "csv_delimiter applies to points_csv, which is not given");
+            }
+            doc.points.clone()
+        }
+    }
+}
+
+/// The explicit CSV delimiter, if the survey gives one; a problem at
+/// `/csv_delimiter` when it is not one of the accepted ones.
+fn csv_delimiter(doc: &SurveyDoc, p: &mut Problems) -> Option<u8> {
+    let given = doc.csv_delimiter.as_deref()?;
+    let at = Pointer::root().key("csv_delimiter");
+    let d = given.as_bytes();
+    match d {
+        [b] if csv::DELIMITERS.contains(b) => Some(*b),
+        _ => {
+            p.push(&at, "the CSV delimiter must be \",\", \";\" or a tab");
+            None
+        }
     }
 }
 

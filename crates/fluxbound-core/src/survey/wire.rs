@@ -26,9 +26,15 @@ pub struct SurveyDoc {
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub points: Vec<MeasurementDoc>,
     /// Measurements as CSV text with the header
-    /// `id,x_m,y_m,z_m,resultant_ut` and optionally `bx_ut,by_ut,bz_ut`.
+    /// `id,x_m,y_m,z_m,resultant_ut` and optionally `bx_ut,by_ut,bz_ut`
+    /// (a byte-order mark, `;` or tab delimiters and quoted line breaks
+    /// are accepted; see `survey/csv.rs`).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub points_csv: Option<String>,
+    /// Delimiter of `points_csv`: `","`, `";"` or a tab (`"\t"`). Detected
+    /// from the CSV's header line when absent.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub csv_delimiter: Option<String>,
     /// Tables to compare the extrapolated values with (default: the site's,
     /// else the default set).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]

@@ -223,6 +223,50 @@ fn the_csv_parses_and_carries_the_numbers_of_the_json_result() {
 }
 
 #[test]
+fn csv_text_cells_that_a_spreadsheet_would_run_as_a_formula_are_defused_and_quoted() {
+    // Rule: OWASP "CSV Injection" (from memory): cells starting with =, +,
+    // -, @, tab or carriage return get a leading ' and are quoted.
+    for (raw, want) in [
+        ("=HYPERLINK(\"x\")", "\"'=HYPERLINK(\"\"x\"\")\""),
+        ("+1+1", "\"'+1+1\""),
+        ("-2+3", "\"'-2+3\""),
+        ("@SUM(A1)", "\"'@SUM(A1)\""),
+        ("\t=1", "\"'\t=1\""),
+        ("\r=1", "\"'\r=1\""),
+        ("desk 1", "desk 1"),
+        ("a,b", "\"a,b\""),
+        ("a=b", "a=b"),
+    ] {
+        assert_eq!(csv_export::text_cell(raw), want, "{raw:?}");
+    }
+}
+
+#[test]
+fn a_csv_export_defuses_formula_ids_and_leaves_negative_numbers_as_numbers() {
+    // A position with a formula-like id, placed at negative coordinates.
+    let mut doc: Value = serde_json::from_str(
+        &std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/../../examples/site-switch-room.json")).unwrap(),
+    )
+    .unwrap();
+    doc["name"] = json!("=cmd|' /C calc'!A0");
+    doc["positions"] = json!([{"id": "-1+2", "at": [-1.5, -0.25, 1.0]}]);
+    doc.as_object_mut().unwrap().remove("areas");
+    let site = parse_site(&doc.to_string()).unwrap();
+    let result =
+        assess::assess(&site, &LoadCase::Present, &tables(&["icnirp-2010-occupational"]), &Options::default()).unwrap();
+    let text = csv_export::positions_csv(&result);
+    let mut reader = csv::Reader::from_reader(text.as_bytes());
+    let row = reader.records().next().unwrap().unwrap();
+    assert_eq!(&row[0], "'=cmd|' /C calc'!A0");
+    assert_eq!(&row[2], "'-1+2");
+    // Coordinates are numbers: written bare, minus sign first, no prefix.
+    // Exact: the CSV writes f64 by Display, which round-trips.
+    assert_eq!(&row[6], "-1.5");
+    assert_eq!(row[7].parse::<f64>().unwrap(), -0.25);
+    assert!(text.contains(",-1.5,-0.25,1,"), "{text}");
+}
+
+#[test]
 fn the_geojson_is_a_feature_collection_with_the_same_numbers_in_the_local_frame() {
     let site = vertical_wire_site(5000.0, 2.0, 0.05);
     let (map, result) = map_and_result(&site, &["icnirp-2010-occupational"]);
