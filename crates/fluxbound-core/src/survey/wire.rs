@@ -52,6 +52,24 @@ pub struct MeterDoc {
     pub model: Option<String>,
     /// Stated expanded uncertainty (k = 2), percent of reading.
     pub expanded_uncertainty_percent: f64,
+    /// What the meter reads (default `resultant`, what a three-axis meter
+    /// shows). Each point's reading, given in `resultant_ut` (and the CSV
+    /// column of that name), is this quantity, and the model is compared in
+    /// the same quantity.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub quantity: Option<MeterQuantity>,
+}
+
+/// The field quantity a meter reads (IEC 61786 terms; docs/REFERENCES.md,
+/// "Measurement practice").
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum MeterQuantity {
+    /// Root-sum-square of three orthogonal RMS components.
+    #[default]
+    Resultant,
+    /// RMS value along the major axis of the polarisation ellipse.
+    Maximum,
 }
 
 /// One circuit's load at measurement time: a nominal phase current or
@@ -86,7 +104,9 @@ pub struct MeasurementDoc {
     pub at: Vec<f64>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub height_m: Option<f64>,
-    /// Measured resultant RMS flux density, µT.
+    /// The reading, RMS flux density in µT: the resultant, or the maximum
+    /// when the meter's `quantity` is `maximum` (the name is kept from when
+    /// only resultant meters were accepted).
     pub resultant_ut: f64,
     /// Measured RMS per axis (x, y, z), µT, if the meter gives them.
     #[serde(default, skip_serializing_if = "Option::is_none")]

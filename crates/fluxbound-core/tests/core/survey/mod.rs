@@ -3,6 +3,7 @@
 //! tests/core/engine), hand arithmetic for the extrapolation, and CSV import.
 
 mod csv_import;
+mod status;
 
 use fluxbound_core::field::{self, Filament, Filaments};
 use fluxbound_core::limits::builtin_table;
