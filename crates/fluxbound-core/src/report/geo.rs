@@ -28,6 +28,10 @@
 use crate::site::wire::GeoreferenceDoc;
 use geographiclib_rs::{DirectGeodesic, Geodesic};
 
+/// How the export converts coordinates, stated in a georeferenced GeoJSON
+/// (`coordinate_conversion`).
+pub const CONVERSION: &str = "site (x, y) m to WGS 84 by the geodesic direct solution from the georeference origin: distance sqrt(x² + y²), azimuth y_axis_bearing_deg + atan2(x, y); within 1 cm of GeographicLib up to 10 km from the origin at latitudes 0–70°";
+
 /// Azimuth of local point (x, y) seen from the origin, degrees clockwise
 /// from true north: the bearing of the frame's +y axis plus the point's
 /// angle from +y towards +x.

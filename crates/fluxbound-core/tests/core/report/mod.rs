@@ -273,6 +273,7 @@ fn the_geojson_is_a_feature_collection_with_the_same_numbers_in_the_local_frame(
     let doc: Value = serde_json::from_str(&geojson::assessment_geojson(&site, &result, &[map]).to_string()).unwrap();
     assert_eq!(doc["type"], "FeatureCollection");
     assert_eq!(doc["coordinate_frame"], "site-local-metres");
+    assert!(doc.get("coordinate_conversion").is_none(), "no conversion in the local frame");
     let features = doc["features"].as_array().unwrap();
     fn kind<'a>(features: &'a [Value], k: &'a str) -> impl Iterator<Item = &'a Value> + 'a {
         features.iter().filter(move |f| f["properties"]["kind"] == k)
@@ -385,6 +386,7 @@ fn a_georeferenced_site_exports_longitude_and_latitude() {
     let result = assess::assess(&site, &LoadCase::Present, &t, &Options::default()).unwrap();
     let out = geojson::assessment_geojson(&site, &result, &[]);
     assert_eq!(out["coordinate_frame"], "wgs84-lon-lat");
+    assert!(out["coordinate_conversion"].as_str().unwrap().contains("geodesic direct"));
     let p = out["features"].as_array().unwrap().iter().find(|f| f["properties"]["id"] == "desk-1").unwrap();
     let lon = p["geometry"]["coordinates"][0].as_f64().unwrap();
     let lat = p["geometry"]["coordinates"][1].as_f64().unwrap();
