@@ -415,10 +415,10 @@ fn resultant_row(gf: &GroupFields, i: usize, s: &[f64], free: &[usize]) -> Vec<f
 const MAXIMUM_DIFF_STEP: f64 = 6e-6;
 
 /// ∂B_max/∂s_c by central differences, one entry per free circuit, µT per
-/// unit scale. The maximum is the largest singular value of the phasors'
-/// real matrix, differentiable wherever the polarisation is not circular;
-/// there the difference gives a one-sided mean, which still points the
-/// solver downhill.
+/// unit scale. The maximum (`field::total_maximum_ut`) has no closed-form
+/// derivative here and a kink where the polarisation is circular (two equal
+/// eigenvalues); there the central difference averages the two one-sided
+/// slopes.
 fn maximum_row(gf: &GroupFields, i: usize, s: &[f64], free: &[usize]) -> Vec<f64> {
     free.iter()
         .map(|&c| {
