@@ -1,6 +1,7 @@
 //! GeoJSON (RFC 7946) of conductors, positions, contour lines and zone
 //! polygons. With a georeference the coordinates are WGS 84 longitude and
-//! latitude (see `geo.rs` for the conversion and its accuracy); without
+//! latitude (see `geo.rs` for the conversion and its accuracy, stated in
+//! the `coordinate_conversion` member); without
 //! one they stay in the site's local frame in metres, which the
 //! FeatureCollection says in its `coordinate_frame` member (RFC 7946 §4
 //! allows another frame only by prior arrangement between the parties).
@@ -127,11 +128,16 @@ pub fn assessment_geojson(site: &Site, a: &Assessment, maps: &[AreaMap]) -> Valu
             }
         }
     }
-    json!({
+    let mut doc = json!({
         "type": "FeatureCollection",
         "coordinate_frame": if site.georeference().is_some() { "wgs84-lon-lat" } else { "site-local-metres" },
         "load_case": a.load_case.kind,
         "cautions": cautions(),
         "features": features,
-    })
+    });
+    if site.georeference().is_some() {
+        // Says how longitude and latitude were made (see `geo.rs`).
+        doc["coordinate_conversion"] = json!(super::geo::CONVERSION);
+    }
+    doc
 }

@@ -268,8 +268,11 @@ pub fn survey_text(site_name: Option<&str>, s: &crate::survey::SurveyAnalysis) -
     let _ = writeln!(out, "SURVEY RECONCILIATION — {}", site_name.unwrap_or("(unnamed site)"));
     let _ = writeln!(
         out,
-        "Measured at {}; meter ±{:.0} % and model ±{:.0} % (expanded, k = 2)",
-        s.measured_at, r.meter_expanded_uncertainty_percent, r.model_expanded_uncertainty_percent
+        "Measured at {}; meter ±{:.0} % and model ±{:.0} % (expanded, k = 2); the meter reads the {}, the model gives the same",
+        s.measured_at,
+        r.meter_expanded_uncertainty_percent,
+        r.model_expanded_uncertainty_percent,
+        snake(&r.meter_quantity)
     );
     reconciliation_block(&mut out, r);
     load_fit_block(&mut out, &s.load_fit);
@@ -341,6 +344,22 @@ fn load_fit_block(out: &mut String, f: &crate::survey::LoadFit) {
         f.iterations,
         if f.converged { "" } else { " (not converged)" }
     );
+    let state = match f.status {
+        crate::survey::FitState::Converged => "converged",
+        crate::survey::FitState::NotConverged => "NOT CONVERGED: no fitted currents",
+        crate::survey::FitState::IllConditioned => "ILL-CONDITIONED: no fitted currents",
+    };
+    let t = &f.thresholds;
+    let condition = f.condition_number.map_or("—".to_string(), |c| format!("{c:.2e}"));
+    let _ = writeln!(out, "    fit: {state}; condition number {condition}");
+    let _ = writeln!(
+        out,
+        "    thresholds: unidentifiable below sensitivity {:e}; poorly determined above ± {} on the scale; ill-conditioned above condition number {:e}; at most {} iterations",
+        t.unidentifiable_below_sensitivity,
+        t.poorly_determined_above_scale_std_error,
+        t.ill_conditioned_above_condition_number,
+        t.max_iterations
+    );
     for n in &f.notes {
         let _ = writeln!(out, "    note: {n}");
     }
@@ -363,12 +382,13 @@ fn extrapolation_block(out: &mut String, e: Option<&crate::survey::Extrapolation
             .collect();
         let _ = writeln!(
             out,
-            "    {:<16} {:>10.2} µT × {:>7} = {:>10} µT   {}",
+            "    {:<16} {:>10.2} µT × {:>7} = {:>10} µT   {}{}",
             p.id,
             p.measured_ut,
             num(p.factor, 3),
             num(p.extrapolated_ut, 2),
-            cmp.join("; ")
+            cmp.join("; "),
+            if p.flagged { "   FLAGGED: outside uncertainty in the reconciliation" } else { "" }
         );
     }
     for a in &e.assumptions {

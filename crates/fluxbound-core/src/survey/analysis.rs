@@ -5,6 +5,7 @@
 //! the survey's loads, per frequency, so that scaling a circuit is a
 //! multiplication, not a new field computation.
 
+use super::wire::MeterQuantity;
 use super::{Survey, lm};
 use crate::assess::{Verdict, ratio_of};
 use crate::cautions::cautions;
@@ -21,9 +22,16 @@ struct GroupFields {
     b: Vec<Vec<Vec<FieldPhasor>>>,
     line_hz: Vec<f64>,
     inside: Vec<bool>,
+    /// The quantity the model is evaluated in: the meter's.
+    quantity: MeterQuantity,
 }
 
-fn group_fields(site: &Site, points: &[nalgebra::Point3<f64>], loads: &[CircuitLoad]) -> GroupFields {
+fn group_fields(
+    site: &Site,
+    points: &[nalgebra::Point3<f64>],
+    loads: &[CircuitLoad],
+    quantity: MeterQuantity,
+) -> GroupFields {
     let filaments = crate::site::filaments(site.conductors());
     let g = influence_matrix(&filaments, points);
     let drives: Vec<Drive> = site.conductors().iter().map(|c| c.drive).collect();
@@ -49,20 +57,27 @@ fn group_fields(site: &Site, points: &[nalgebra::Point3<f64>], loads: &[CircuitL
         b,
         line_hz: exc.lines.iter().map(|l| l.frequency_hz).collect(),
         inside: (0..points.len()).map(|i| g.is_inside(i)).collect(),
+        quantity,
     }
 }
 
-/// Resultant (µT) of point `i` with group scales `s` (the last group fixed at 1).
-fn resultant_scaled(gf: &GroupFields, i: usize, s: &[f64]) -> f64 {
+/// Per-frequency phasors of point `i` with group scales `s` (the last
+/// group fixed at 1).
+fn scaled_phasors(gf: &GroupFields, i: usize, s: &[f64]) -> Vec<FieldPhasor> {
     let groups = gf.b[i].len();
     (0..gf.line_hz.len())
-        .map(|f| {
-            let b: FieldPhasor =
-                (0..groups).map(|g| gf.b[i][g][f] * nalgebra::Complex::new(*s.get(g).unwrap_or(&1.0), 0.0)).sum();
-            field::resultant_ut(&b).powi(2)
-        })
-        .sum::<f64>()
-        .sqrt()
+        .map(|f| (0..groups).map(|g| gf.b[i][g][f] * nalgebra::Complex::new(*s.get(g).unwrap_or(&1.0), 0.0)).sum())
+        .collect()
+}
+
+/// The model (µT) of point `i` with group scales `s`, in the meter's
+/// quantity: the resultant or the maximum over all frequencies.
+fn model_scaled(gf: &GroupFields, i: usize, s: &[f64]) -> f64 {
+    let phasors = scaled_phasors(gf, i, s);
+    match gf.quantity {
+        MeterQuantity::Resultant => field::total_resultant_ut(&phasors),
+        MeterQuantity::Maximum => field::total_maximum_ut(&phasors),
+    }
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -119,6 +134,8 @@ pub struct ReconciliationSummary {
 pub struct Reconciliation {
     /// The meter's expanded (k = 2) uncertainty, percent.
     pub meter_expanded_uncertainty_percent: f64,
+    /// What the meter reads; `model_ut` is the same quantity.
+    pub meter_quantity: MeterQuantity,
     /// The model's expanded (k = 2) uncertainty, percent.
     pub model_expanded_uncertainty_percent: f64,
     /// One check per measurement.
@@ -138,6 +155,45 @@ pub enum FitStatus {
     Unidentifiable,
     /// The circuits' effects cannot be told apart at these points.
     IllConditioned,
+    /// Estimated, but its standard uncertainty exceeds the threshold in
+    /// `load_fit.thresholds`: the value is shown with its ± and must not be
+    /// relied on.
+    PoorlyDetermined,
+    /// The fit as a whole did not converge: no value is given.
+    NotConverged,
+}
+
+/// How the fit as a whole ended.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
+#[serde(rename_all = "snake_case")]
+pub enum FitState {
+    /// The solver met a stopping test and the problem is well conditioned.
+    Converged,
+    /// The solver reached its iteration cap: no fitted currents are given.
+    NotConverged,
+    /// The circuits' effects cannot be told apart at these points (the
+    /// condition number exceeds the threshold): no fitted currents are given.
+    IllConditioned,
+}
+
+/// The thresholds behind the status words, stated with every fit. Our own
+/// choices (no source), named beside their constants in `survey/analysis.rs`.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
+pub struct FitThresholds {
+    /// A circuit whose sensitivity is below this is `unidentifiable`
+    /// (dimensionless: standard uncertainties of the readings, root sum of
+    /// squares over the points, per unit of its scale).
+    pub unidentifiable_below_sensitivity: f64,
+    /// A circuit whose scale's standard uncertainty exceeds this is
+    /// `poorly_determined` (dimensionless; 0.5 = ±50 % of the stated load).
+    pub poorly_determined_above_scale_std_error: f64,
+    /// The fit is `ill_conditioned` when the condition number of its
+    /// Jacobian exceeds this.
+    pub ill_conditioned_above_condition_number: f64,
+    /// Most solver iterations; a fit that reaches it is `not_converged`.
+    pub max_iterations: usize,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -159,6 +215,11 @@ pub struct CircuitFit {
     pub scale_std_error: Option<f64>,
     /// How the fit of this circuit went.
     pub status: FitStatus,
+    /// How strongly the readings respond to this circuit: root sum of
+    /// squares over the points of its own field in standard uncertainties
+    /// of each reading (dimensionless; compare
+    /// `thresholds.unidentifiable_below_sensitivity`).
+    pub sensitivity: f64,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -173,11 +234,15 @@ pub struct LoadFit {
     pub reduced_chi2: Option<f64>,
     /// Solver iterations used.
     pub iterations: usize,
-    /// Whether the solver converged.
+    /// The solver met a stopping test (kept; see `status` for the verdict).
     pub converged: bool,
     /// Condition number of the fit's normal matrix.
     #[cfg_attr(feature = "schema", schema(required = true))]
     pub condition_number: Option<f64>,
+    /// The fit as a whole: `converged`, `not_converged` or
+    /// `ill_conditioned`; only a converged fit gives fitted currents.
+    pub status: FitState,
+    pub thresholds: FitThresholds,
     /// Notes on the fit.
     pub notes: Vec<String>,
 }
@@ -201,6 +266,10 @@ pub struct ExtrapolatedPoint {
     pub id: String,
     /// Measured resultant, µT RMS.
     pub measured_ut: f64,
+    /// The reconciliation flagged this point (measured and model disagree
+    /// beyond their uncertainties): its extrapolated value carries that
+    /// disagreement.
+    pub flagged: bool,
     /// Model at rated load / model at the survey's loads, at this point.
     #[cfg_attr(feature = "schema", schema(required = true))]
     pub factor: Option<f64>,
@@ -254,7 +323,7 @@ fn reconcile(survey: &Survey, gf: &GroupFields) -> Reconciliation {
         .iter()
         .enumerate()
         .map(|(i, m)| {
-            let model = (!gf.inside[i]).then(|| resultant_scaled(gf, i, &ones));
+            let model = (!gf.inside[i]).then(|| model_scaled(gf, i, &ones));
             let allowed =
                 model.map(|c| ((survey.meter_u * m.measured_ut).powi(2) + (survey.model_u * c).powi(2)).sqrt());
             let difference = model.map(|c| m.measured_ut - c);
@@ -284,6 +353,7 @@ fn reconcile(survey: &Survey, gf: &GroupFields) -> Reconciliation {
     by_badness.sort_by(|a, b| b.0.total_cmp(&a.0));
     Reconciliation {
         meter_expanded_uncertainty_percent: survey.meter_u * 100.0,
+        meter_quantity: gf.quantity,
         model_expanded_uncertainty_percent: survey.model_u * 100.0,
         summary: ReconciliationSummary {
             points: points.len(),
@@ -373,30 +443,55 @@ impl lm::Problem for LoadProblem<'_> {
             .iter()
             .zip(&o.measured_ut)
             .zip(&o.sigma_ut)
-            .map(|((&i, m), sg)| (resultant_scaled(self.gf, i, s) - m) / sg)
+            .map(|((&i, m), sg)| (model_scaled(self.gf, i, s) - m) / sg)
             .collect()
     }
 
-    /// Analytic: ∂|B|/∂s_c = Re Σ_f conj(B_f)·B_fc / |B|.
+    /// Analytic for the resultant, by central differences for the maximum
+    /// (see [`resultant_row`] and [`maximum_row`]).
     fn jacobian(&self, s: &[f64]) -> DMatrix<f64> {
-        let gf = self.gf;
         let mut j = DMatrix::zeros(self.obs.used.len(), self.free.len());
         for (row, (&i, sg)) in self.obs.used.iter().zip(&self.obs.sigma_ut).enumerate() {
-            let groups = gf.b[i].len();
-            let lines = gf.line_hz.len();
-            let total: Vec<FieldPhasor> = (0..lines)
-                .map(|f| {
-                    (0..groups).map(|g| gf.b[i][g][f] * nalgebra::Complex::new(*s.get(g).unwrap_or(&1.0), 0.0)).sum()
-                })
-                .collect();
-            let mag = total.iter().map(|b| field::resultant_ut(b).powi(2)).sum::<f64>().sqrt().max(1e-300);
-            for (col, &c) in self.free.iter().enumerate() {
-                let d: f64 = (0..lines).map(|f| total[f].dotc(&gf.b[i][c][f]).re).sum::<f64>() / mag;
-                j[(row, col)] = d / sg;
+            let d = match self.gf.quantity {
+                MeterQuantity::Resultant => resultant_row(self.gf, i, s, self.free),
+                MeterQuantity::Maximum => maximum_row(self.gf, i, s, self.free),
+            };
+            for (col, v) in d.into_iter().enumerate() {
+                j[(row, col)] = v / sg;
             }
         }
         j
     }
+}
+
+/// ∂|B|/∂s_c = Re Σ_f conj(B_f)·B_fc / |B| for the resultant |B| of point
+/// `i`, one entry per free circuit, µT per unit scale.
+fn resultant_row(gf: &GroupFields, i: usize, s: &[f64], free: &[usize]) -> Vec<f64> {
+    let total = scaled_phasors(gf, i, s);
+    let mag = field::total_resultant_ut(&total).max(1e-300);
+    free.iter().map(|&c| (0..gf.line_hz.len()).map(|f| total[f].dotc(&gf.b[i][c][f]).re).sum::<f64>() / mag).collect()
+}
+
+/// Relative step of the central differences on the maximum: about the cube
+/// root of the f64 epsilon, which balances truncation (∝ h²) and rounding
+/// (∝ ε/h) errors (Nocedal & Wright 2006, §8.1).
+const MAXIMUM_DIFF_STEP: f64 = 6e-6;
+
+/// ∂B_max/∂s_c by central differences, one entry per free circuit, µT per
+/// unit scale. The maximum (`field::total_maximum_ut`) has no closed-form
+/// derivative here and a kink where the polarisation is circular (two equal
+/// eigenvalues); there the central difference averages the two one-sided
+/// slopes.
+fn maximum_row(gf: &GroupFields, i: usize, s: &[f64], free: &[usize]) -> Vec<f64> {
+    free.iter()
+        .map(|&c| {
+            let h = MAXIMUM_DIFF_STEP * s[c].abs().max(1.0);
+            let (mut up, mut down) = (s.to_vec(), s.to_vec());
+            up[c] += h;
+            down[c] -= h;
+            (model_scaled(gf, i, &up) - model_scaled(gf, i, &down)) / (2.0 * h)
+        })
+        .collect()
 }
 
 /// Condition number of the Jacobian (`None` with no free circuit; infinite
@@ -416,6 +511,10 @@ struct FitOutcome<'a> {
     /// Factor on the covariance: the reduced χ² when above 1.
     inflate: f64,
     ill: bool,
+    /// The solver met a stopping test.
+    converged: bool,
+    /// Sensitivity of every circuit (site order).
+    sensitivity: &'a [f64],
 }
 
 fn circuit_fits(survey: &Survey, out: &FitOutcome) -> Vec<CircuitFit> {
@@ -434,59 +533,86 @@ fn circuit_fits(survey: &Survey, out: &FitOutcome) -> Vec<CircuitFit> {
                     fitted_a: None,
                     scale_std_error: None,
                     status: FitStatus::Unidentifiable,
+                    sensitivity: out.sensitivity[c],
                 },
-                Some(k) => fitted_circuit(circ.id.clone(), stated, out.s[c], k, out),
+                Some(k) => fitted_circuit(circ.id.clone(), stated, c, k, out),
             }
         })
         .collect()
 }
 
-/// Result of free circuit `k` (column) with fitted scale `scale`.
-fn fitted_circuit(circuit: String, stated: f64, scale: f64, k: usize, out: &FitOutcome) -> CircuitFit {
+/// Result of site circuit `c`, free column `k`. Only a converged,
+/// well-conditioned fit gives a scale; one whose standard uncertainty
+/// exceeds [`POORLY_DETERMINED_SCALE_ERROR`] (or cannot be computed) is
+/// `poorly_determined` even at the bound.
+fn fitted_circuit(circuit: String, stated: f64, c: usize, k: usize, out: &FitOutcome) -> CircuitFit {
+    let scale = out.s[c];
     let se = out.cov.as_ref().map(|cv| (cv[(k, k)].max(0.0) * out.inflate).sqrt()).filter(|v| v.is_finite());
     let status = if out.ill {
         FitStatus::IllConditioned
+    } else if !out.converged {
+        FitStatus::NotConverged
+    } else if se.is_none_or(|e| e > POORLY_DETERMINED_SCALE_ERROR) {
+        FitStatus::PoorlyDetermined
     } else if scale == 0.0 {
         FitStatus::AtBound
     } else {
         FitStatus::Fitted
     };
-    let scale = (!out.ill).then_some(scale);
+    let shown = !out.ill && out.converged;
+    let scale = shown.then_some(scale);
     CircuitFit {
         circuit,
         stated_a: stated,
         scale,
         fitted_a: scale.map(|x| x * stated),
-        scale_std_error: if out.ill { None } else { se },
+        scale_std_error: if shown { se } else { None },
         status,
+        sensitivity: out.sensitivity[c],
     }
 }
 
-fn fit_notes(circuits: &[CircuitFit], ill: bool) -> Vec<String> {
+fn fit_notes(circuits: &[CircuitFit], state: FitState, iterations: usize) -> Vec<String> {
     let mut notes = Vec::new();
-    if ill {
-        notes.push("the circuits' effects cannot be told apart at these measurement points: add points where one circuit dominates".into());
+    match state {
+        FitState::IllConditioned => notes.push(
+            "the circuits' effects cannot be told apart at these measurement points: no fitted currents are given; add points where one circuit dominates".into(),
+        ),
+        FitState::NotConverged => notes.push(format!(
+            "the fit did not converge within {iterations} iterations: no fitted currents are given (the reconciliation and the extrapolation use the stated loads and stand)"
+        )),
+        FitState::Converged => {}
     }
-    for c in circuits.iter().filter(|c| c.scale_std_error.is_some_and(|e| e > POORLY_DETERMINED_SCALE_ERROR)) {
+    for c in circuits.iter().filter(|c| c.status == FitStatus::PoorlyDetermined) {
         notes.push(format!(
-            "circuit '{}' is poorly determined by these points (± {:.2} on its scale): measure nearer to it",
+            "circuit '{}' is poorly determined by these points ({} on its scale, threshold ± {POORLY_DETERMINED_SCALE_ERROR}): do not rely on its fitted current; measure nearer to it",
             c.circuit,
-            c.scale_std_error.unwrap_or(0.0)
+            c.scale_std_error.map_or("no finite uncertainty".into(), |e| format!("± {e:.2}")),
         ));
     }
     for c in circuits.iter().filter(|c| c.status == FitStatus::Unidentifiable) {
         notes.push(format!(
-            "circuit '{}' has no measurable effect at any measurement point: its load is not estimated",
-            c.circuit
+            "circuit '{}' has no measurable effect at any measurement point (sensitivity {:.1e} below {MIN_SENSITIVITY:.0e}): its load is not estimated",
+            c.circuit, c.sensitivity
         ));
     }
     notes
 }
 
+/// The thresholds of this fit, stated in its output.
+fn thresholds(max_iterations: usize) -> FitThresholds {
+    FitThresholds {
+        unidentifiable_below_sensitivity: MIN_SENSITIVITY,
+        poorly_determined_above_scale_std_error: POORLY_DETERMINED_SCALE_ERROR,
+        ill_conditioned_above_condition_number: MAX_CONDITION,
+        max_iterations,
+    }
+}
+
 /// RMS of (model − measured) / measured over the used points at scales `s`.
 fn residual_rms_relative(gf: &GroupFields, obs: &Observations, s: &[f64]) -> f64 {
     let rel: Vec<f64> =
-        obs.used.iter().zip(&obs.measured_ut).map(|(&i, m)| (resultant_scaled(gf, i, s) - m) / m.max(1e-300)).collect();
+        obs.used.iter().zip(&obs.measured_ut).map(|(&i, m)| (model_scaled(gf, i, s) - m) / m.max(1e-300)).collect();
     if rel.is_empty() { 0.0 } else { (rel.iter().map(|x| x * x).sum::<f64>() / rel.len() as f64).sqrt() }
 }
 
@@ -494,13 +620,13 @@ fn residual_rms_relative(gf: &GroupFields, obs: &Observations, s: &[f64]) -> f64
 /// 0) to the readings by Levenberg–Marquardt (see [`lm`]) on
 /// `r_i(s) = (|B_i(s)| − m_i) / σ_i`; σ_i is the meter's standard
 /// uncertainty (U/2) of each reading.
-fn fit(survey: &Survey, gf: &GroupFields) -> LoadFit {
+fn fit(survey: &Survey, gf: &GroupFields, settings: &FitSettings) -> LoadFit {
     let nc = survey.site().circuits().len();
     let obs = observations(survey, gf);
     let sens = sensitivities(gf, &obs, nc);
     let free: Vec<usize> = (0..nc).filter(|&c| sens[c] >= MIN_SENSITIVITY).collect();
     let problem = LoadProblem { gf, obs: &obs, free: &free };
-    let solution = lm::minimise(&problem, vec![1.0; nc], &free);
+    let solution = lm::minimise_capped(&problem, vec![1.0; nc], &free, settings.max_iterations);
     let s = &solution.s;
     let dof = obs.used.len() as f64 - free.len() as f64;
     let chi2 = (dof > 0.0).then(|| solution.cost / dof);
@@ -513,9 +639,18 @@ fn fit(survey: &Survey, gf: &GroupFields) -> LoadFit {
         cov: (j.transpose() * &j).try_inverse(),
         inflate: chi2.map_or(1.0, |c| c.max(1.0)),
         ill,
+        converged: solution.converged,
+        sensitivity: &sens,
+    };
+    let state = if ill {
+        FitState::IllConditioned
+    } else if !solution.converged {
+        FitState::NotConverged
+    } else {
+        FitState::Converged
     };
     let circuits = circuit_fits(survey, &outcome);
-    let notes = fit_notes(&circuits, ill);
+    let notes = fit_notes(&circuits, state, solution.iterations);
     LoadFit {
         residual_rms_relative: residual_rms_relative(gf, &obs, s),
         circuits,
@@ -523,6 +658,8 @@ fn fit(survey: &Survey, gf: &GroupFields) -> LoadFit {
         iterations: solution.iterations,
         converged: solution.converged,
         condition_number: condition.filter(|c| c.is_finite()),
+        status: state,
+        thresholds: thresholds(settings.max_iterations),
         notes,
     }
 }
@@ -540,6 +677,7 @@ pub const EXTRAPOLATION_ASSUMPTIONS: [&str; 4] = [
 fn extrapolate(
     survey: &Survey,
     gf: &GroupFields,
+    flagged: &[bool],
     tables: &[ReferenceTable],
     review_fraction: crate::assess::ReviewFraction,
 ) -> Option<Extrapolation> {
@@ -550,12 +688,12 @@ fn extrapolate(
     let points: Vec<nalgebra::Point3<f64>> = survey.points.iter().map(|m| m.at).collect();
     let at = RatedFields {
         survey: gf,
-        rated: group_fields(site, &points, &rated),
+        rated: group_fields(site, &points, &rated, gf.quantity),
         ones: vec![1.0; site.circuits().len() + 1],
         whole_body: whole_body_tables(tables),
         review_fraction,
     };
-    let out = survey.points.iter().enumerate().map(|(i, m)| extrapolated_point(&at, i, m)).collect();
+    let out = survey.points.iter().enumerate().map(|(i, m)| extrapolated_point(&at, i, m, flagged[i])).collect();
     Some(Extrapolation { points: out, assumptions: EXTRAPOLATION_ASSUMPTIONS.iter().map(|s| s.to_string()).collect() })
 }
 
@@ -581,9 +719,9 @@ struct RatedFields<'a> {
 
 /// Measurement `i` scaled by the model's rated / survey ratio at its point,
 /// and compared with each whole-body table.
-fn extrapolated_point(at: &RatedFields, i: usize, m: &super::Measurement) -> ExtrapolatedPoint {
-    let now = (!at.survey.inside[i]).then(|| resultant_scaled(at.survey, i, &at.ones)).filter(|b| *b > 0.0);
-    let full = resultant_scaled(&at.rated, i, &at.ones);
+fn extrapolated_point(at: &RatedFields, i: usize, m: &super::Measurement, flagged: bool) -> ExtrapolatedPoint {
+    let now = (!at.survey.inside[i]).then(|| model_scaled(at.survey, i, &at.ones)).filter(|b| *b > 0.0);
+    let full = model_scaled(&at.rated, i, &at.ones);
     let factor = now.map(|b| full / b);
     let extrapolated = factor.map(|f| m.measured_ut * f);
     // Spectrum at rated load, scaled to the measurement.
@@ -614,9 +752,25 @@ fn extrapolated_point(at: &RatedFields, i: usize, m: &super::Measurement) -> Ext
     ExtrapolatedPoint {
         id: m.id.clone(),
         measured_ut: m.measured_ut,
+        flagged,
         factor,
         extrapolated_ut: extrapolated,
         comparisons,
+    }
+}
+
+/// Settings of the load fit. The default is what [`analyse`] uses; a
+/// smaller iteration cap lets tests (and anyone tuning) see how a fit that
+/// does not converge is reported.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct FitSettings {
+    /// Most solver iterations (default [`lm::MAX_ITERATIONS`]).
+    pub max_iterations: usize,
+}
+
+impl Default for FitSettings {
+    fn default() -> Self {
+        FitSettings { max_iterations: lm::MAX_ITERATIONS }
     }
 }
 
@@ -627,12 +781,23 @@ pub fn analyse(
     tables: &[ReferenceTable],
     review_fraction: crate::assess::ReviewFraction,
 ) -> Result<SurveyAnalysis, Problems> {
+    analyse_with(survey, tables, review_fraction, &FitSettings::default())
+}
+
+/// [`analyse`] with explicit fit settings.
+pub fn analyse_with(
+    survey: &Survey,
+    tables: &[ReferenceTable],
+    review_fraction: crate::assess::ReviewFraction,
+    settings: &FitSettings,
+) -> Result<SurveyAnalysis, Problems> {
     let site = survey.site();
     let points: Vec<nalgebra::Point3<f64>> = survey.points.iter().map(|m| m.at).collect();
-    let gf = group_fields(site, &points, &survey.loads);
+    let gf = group_fields(site, &points, &survey.loads, survey.quantity);
     let reconciliation = reconcile(survey, &gf);
-    let load_fit = fit(survey, &gf);
-    let extrapolation = extrapolate(survey, &gf, tables, review_fraction);
+    let load_fit = fit(survey, &gf, settings);
+    let flagged: Vec<bool> = reconciliation.points.iter().map(|p| p.flagged).collect();
+    let extrapolation = extrapolate(survey, &gf, &flagged, tables, review_fraction);
     let mut notes = Vec::new();
     if extrapolation.is_none() {
         let missing: Vec<&str> =
@@ -643,6 +808,11 @@ pub fn analyse(
         site.circuits().iter().zip(&survey.load_stated).filter(|(_, s)| !**s).map(|(c, _)| c.id.as_str()).collect();
     if !unstated.is_empty() {
         notes.push(format!("survey loads not stated for {}: taken at their present current_a", unstated.join(", ")));
+    }
+    if extrapolation.is_some() && flagged.iter().any(|f| *f) {
+        notes.push(
+            "points flagged in the reconciliation stay flagged in the extrapolation: their extrapolated values carry the disagreement with the model".into(),
+        );
     }
     if gf.inside.iter().any(|x| *x) {
         notes.push(

@@ -98,10 +98,17 @@ fn cost(r: &[f64]) -> f64 {
 /// each at or above 0. With no free entry there is nothing to fit and the
 /// start is returned as converged.
 pub fn minimise(problem: &impl Problem, s: Vec<f64>, free: &[usize]) -> Solution {
+    minimise_capped(problem, s, free, MAX_ITERATIONS)
+}
+
+/// [`minimise`] with at most `max_iterations` outer iterations instead of
+/// [`MAX_ITERATIONS`]; a solution that reaches the cap without meeting a
+/// stopping test is reported as not converged.
+pub fn minimise_capped(problem: &impl Problem, s: Vec<f64>, free: &[usize], max_iterations: usize) -> Solution {
     let residuals = problem.residuals(&s);
     let mut at = Solution { cost: cost(&residuals), residuals, s, iterations: 0, converged: free.is_empty() };
     let mut lambda = INITIAL_DAMPING;
-    while !free.is_empty() && at.iterations < MAX_ITERATIONS {
+    while !free.is_empty() && at.iterations < max_iterations {
         at.iterations += 1;
         match iterate(problem, &mut at, free, &mut lambda) {
             Iteration::Continue => {}

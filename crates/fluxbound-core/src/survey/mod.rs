@@ -8,12 +8,15 @@ pub mod lm;
 pub mod wire;
 
 pub use analysis::*;
-pub use csv::{OPTIONAL as CSV_OPTIONAL_COLUMNS, REQUIRED as CSV_REQUIRED_COLUMNS, parse_measurements};
+pub use csv::{
+    DELIMITERS as CSV_DELIMITERS, OPTIONAL as CSV_OPTIONAL_COLUMNS, REQUIRED as CSV_REQUIRED_COLUMNS,
+    parse_measurements, parse_measurements_with,
+};
 
 use crate::site::{CircuitLoad, Pointer, Problems, Site, check_coordinate};
 use nalgebra::Point3;
 use std::collections::HashSet;
-use wire::{MeasurementDoc, SurveyDoc};
+use wire::{MeasurementDoc, MeterQuantity, SurveyDoc};
 
 /// Most measurement points in one survey.
 pub const MAX_POINTS: usize = 10_000;
@@ -76,6 +79,8 @@ pub struct Survey {
     measured_at: String,
     /// Meter's expanded (k = 2) uncertainty as a fraction.
     meter_u: f64,
+    /// What the meter reads; the model is compared in the same quantity.
+    quantity: MeterQuantity,
     /// Model's expanded (k = 2) uncertainty as a fraction.
     model_u: f64,
     /// Load of each site circuit at the time (index = circuit index).
@@ -101,6 +106,10 @@ impl Survey {
     /// Meter's expanded (k = 2) uncertainty as a fraction of the reading.
     pub fn meter_uncertainty(&self) -> f64 {
         self.meter_u
+    }
+    /// What the meter reads (resultant unless the survey says maximum).
+    pub fn meter_quantity(&self) -> MeterQuantity {
+        self.quantity
     }
     /// Model's expanded (k = 2) uncertainty as a fraction.
     pub fn model_uncertainty(&self) -> f64 {
@@ -129,7 +138,7 @@ pub fn validate_survey(doc: &SurveyDoc, site: &Site) -> Result<Survey, Problems>
     let mut p = Problems::default();
     let (meter_u, model_u) = check_header(doc, &mut p);
     let (loads, load_stated) = check_loads(doc, site, &mut p);
-    let points = check_points(doc, &mut p);
+    let points = check_points(doc, doc.meter.quantity.unwrap_or_default(), &mut p);
     if !p.is_empty() {
         return Err(p);
     }
@@ -138,6 +147,7 @@ pub fn validate_survey(doc: &SurveyDoc, site: &Site) -> Result<Survey, Problems>
         name: doc.name.clone(),
         measured_at: doc.measured_at.clone(),
         meter_u,
+        quantity: doc.meter.quantity.unwrap_or_default(),
         model_u,
         loads,
         load_stated,
@@ -225,7 +235,7 @@ fn measurement_docs(doc: &SurveyDoc, p: &mut Problems) -> Vec<MeasurementDoc> {
             p.push(&root, "give points or points_csv, not both");
             Vec::new()
         }
-        (Some(text), true) => match parse_measurements(text) {
+        (Some(text), true) => match parse_measurements_with(text, csv_delimiter(doc, p)) {
             Ok(v) => v,
             Err(errors) => {
                 for e in errors {
@@ -234,13 +244,33 @@ fn measurement_docs(doc: &SurveyDoc, p: &mut Problems) -> Vec<MeasurementDoc> {
                 Vec::new()
             }
         },
-        (None, _) => doc.points.clone(),
+        (None, _) => {
+            if doc.csv_delimiter.is_some() {
+                p.push(&root.key("csv_delimiter"), "csv_delimiter applies to points_csv, which is not given");
+            }
+            doc.points.clone()
+        }
+    }
+}
+
+/// The explicit CSV delimiter, if the survey gives one; a problem at
+/// `/csv_delimiter` when it is not one of the accepted ones.
+fn csv_delimiter(doc: &SurveyDoc, p: &mut Problems) -> Option<u8> {
+    let given = doc.csv_delimiter.as_deref()?;
+    let at = Pointer::root().key("csv_delimiter");
+    let d = given.as_bytes();
+    match d {
+        [b] if csv::DELIMITERS.contains(b) => Some(*b),
+        _ => {
+            p.push(&at, "the CSV delimiter must be \",\", \";\" or a tab");
+            None
+        }
     }
 }
 
 /// Every measurement, checked; a CSV row's problems point at `/points_csv`
 /// (the message names its line), a JSON point's at its field.
-fn check_points(doc: &SurveyDoc, p: &mut Problems) -> Vec<Measurement> {
+fn check_points(doc: &SurveyDoc, quantity: MeterQuantity, p: &mut Problems) -> Vec<Measurement> {
     let root = Pointer::root();
     let points_doc = measurement_docs(doc, p);
     let from_csv = doc.points_csv.is_some();
@@ -261,13 +291,18 @@ fn check_points(doc: &SurveyDoc, p: &mut Problems) -> Vec<Measurement> {
         } else if !seen.insert(m.id.clone()) {
             p.push(&row("id"), format!("duplicate measurement id '{}'", m.id));
         }
-        points.push(check_measurement(m, &row, p));
+        points.push(check_measurement(m, quantity, &row, p));
     }
     points
 }
 
 /// One measurement's position, reading and per-axis values.
-fn check_measurement(m: &MeasurementDoc, row: &dyn Fn(&str) -> Pointer, p: &mut Problems) -> Measurement {
+fn check_measurement(
+    m: &MeasurementDoc,
+    quantity: MeterQuantity,
+    row: &dyn Fn(&str) -> Pointer,
+    p: &mut Problems,
+) -> Measurement {
     for (d, x) in m.at.iter().enumerate() {
         check_coordinate(*x, &row("at").index(d), p);
     }
@@ -287,21 +322,40 @@ fn check_measurement(m: &MeasurementDoc, row: &dyn Fn(&str) -> Pointer, p: &mut 
         p.push(&row("resultant_ut"), format!("measurement '{}': resultant must be between 0 and 1e7 µT", m.id));
     }
     if let Some(axes) = m.axes_ut {
-        check_axes(m, axes, &row("axes_ut"), p);
+        check_axes(m, axes, quantity, &row("axes_ut"), p);
     }
     Measurement { id: m.id.clone(), at: point, measured_ut: m.resultant_ut, axes_ut: m.axes_ut }
 }
 
-/// Per-axis values must be finite, not negative, and their root sum of
-/// squares within 5 % of the stated resultant.
-fn check_axes(m: &MeasurementDoc, axes: [f64; 3], at: &Pointer, p: &mut Problems) {
+/// Per-axis values must be finite, not negative, and agree with the
+/// reading within 5 %: their root sum of squares is the resultant; a
+/// maximum lies between resultant/√3 and the resultant (docs/REFERENCES.md,
+/// "Measurement practice"; √3 with several frequencies, see
+/// `field::total_maximum_ut`).
+fn check_axes(m: &MeasurementDoc, axes: [f64; 3], quantity: MeterQuantity, at: &Pointer, p: &mut Problems) {
+    const SLACK: f64 = 0.05;
     let rss = axes.iter().map(|a| a * a).sum::<f64>().sqrt();
+    let reading = m.resultant_ut;
     if axes.iter().any(|a| !a.is_finite() || *a < 0.0) {
         p.push(at, "per-axis RMS values must be finite and not negative");
-    } else if (rss - m.resultant_ut).abs() > 0.05 * m.resultant_ut.max(1e-9) {
-        p.push(
+        return;
+    }
+    match quantity {
+        MeterQuantity::Resultant if (rss - reading).abs() > SLACK * reading.max(1e-9) => p.push(
             at,
-            format!("measurement '{}': the axes give a resultant of {rss:.4} µT, not {} µT", m.id, m.resultant_ut),
-        );
+            format!("measurement '{}': the axes give a resultant of {rss:.4} µT, not {} µT", m.id, reading),
+        ),
+        MeterQuantity::Maximum
+            if reading > (1.0 + SLACK) * rss || reading < (1.0 - SLACK) * rss / 3f64.sqrt() =>
+        {
+            p.push(
+                at,
+                format!(
+                    "measurement '{}': a maximum of {} µT cannot come from axes whose resultant is {rss:.4} µT (it lies between resultant/√3 and the resultant)",
+                    m.id, reading
+                ),
+            )
+        }
+        _ => {}
     }
 }

@@ -33,9 +33,16 @@ pub struct SurveyDoc {
     #[cfg_attr(feature = "schema", schema(max_items = 10000))]
     pub points: Vec<MeasurementDoc>,
     /// Measurements as CSV text with the header
-    /// `id,x_m,y_m,z_m,resultant_ut` and optionally `bx_ut,by_ut,bz_ut`.
+    /// `id,x_m,y_m,z_m,resultant_ut` and optionally `bx_ut,by_ut,bz_ut`
+    /// (a byte-order mark, `;` or tab delimiters and quoted line breaks
+    /// are accepted; see `survey/csv.rs`).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub points_csv: Option<String>,
+    /// Delimiter of `points_csv`: `","`, `";"` or a tab (`"\t"`). Detected
+    /// from the CSV's header line when absent.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[cfg_attr(feature = "schema", schema(pattern = "^(,|;|\t)$"))]
+    pub csv_delimiter: Option<String>,
     /// Tables to compare the extrapolated values with (default: the site's,
     /// else the default set).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
@@ -57,6 +64,25 @@ pub struct MeterDoc {
     /// Stated expanded uncertainty (k = 2), percent of reading.
     #[cfg_attr(feature = "schema", schema(exclusive_minimum = 0, maximum = 100))]
     pub expanded_uncertainty_percent: f64,
+    /// What the meter reads (default `resultant`, what a three-axis meter
+    /// shows). Each point's reading, given in `resultant_ut` (and the CSV
+    /// column of that name), is this quantity, and the model is compared in
+    /// the same quantity.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub quantity: Option<MeterQuantity>,
+}
+
+/// The field quantity a meter reads (IEC 61786 terms; docs/REFERENCES.md,
+/// "Measurement practice").
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
+#[serde(rename_all = "snake_case")]
+pub enum MeterQuantity {
+    /// Root-sum-square of three orthogonal RMS components.
+    #[default]
+    Resultant,
+    /// RMS value along the major axis of the polarisation ellipse.
+    Maximum,
 }
 
 /// One circuit's load at measurement time: a nominal phase current or
@@ -109,7 +135,9 @@ pub struct MeasurementDoc {
     /// Height above a standing point, m (default 1.0).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub height_m: Option<f64>,
-    /// Measured resultant RMS flux density, µT.
+    /// The reading, RMS flux density in µT: the resultant, or the maximum
+    /// when the meter's `quantity` is `maximum` (the name is kept from when
+    /// only resultant meters were accepted).
     #[cfg_attr(feature = "schema", schema(minimum = 0, maximum = 1e7))]
     pub resultant_ut: f64,
     /// Measured RMS per axis (x, y, z), µT, if the meter gives them.

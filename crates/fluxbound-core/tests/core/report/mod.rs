@@ -224,12 +224,57 @@ fn the_csv_parses_and_carries_the_numbers_of_the_json_result() {
 }
 
 #[test]
+fn csv_text_cells_that_a_spreadsheet_would_run_as_a_formula_are_defused_and_quoted() {
+    // Rule: OWASP "CSV Injection" (from memory): cells starting with =, +,
+    // -, @, tab or carriage return get a leading ' and are quoted.
+    for (raw, want) in [
+        ("=HYPERLINK(\"x\")", "\"'=HYPERLINK(\"\"x\"\")\""),
+        ("+1+1", "\"'+1+1\""),
+        ("-2+3", "\"'-2+3\""),
+        ("@SUM(A1)", "\"'@SUM(A1)\""),
+        ("\t=1", "\"'\t=1\""),
+        ("\r=1", "\"'\r=1\""),
+        ("desk 1", "desk 1"),
+        ("a,b", "\"a,b\""),
+        ("a=b", "a=b"),
+    ] {
+        assert_eq!(csv_export::text_cell(raw), want, "{raw:?}");
+    }
+}
+
+#[test]
+fn a_csv_export_defuses_formula_ids_and_leaves_negative_numbers_as_numbers() {
+    // A position with a formula-like id, placed at negative coordinates.
+    let mut doc: Value = serde_json::from_str(
+        &std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/../../examples/site-switch-room.json")).unwrap(),
+    )
+    .unwrap();
+    doc["name"] = json!("=cmd|' /C calc'!A0");
+    doc["positions"] = json!([{"id": "-1+2", "at": [-1.5, -0.25, 1.0]}]);
+    doc.as_object_mut().unwrap().remove("areas");
+    let site = parse_site(&doc.to_string()).unwrap();
+    let result =
+        assess::assess(&site, &LoadCase::Present, &tables(&["icnirp-2010-occupational"]), &Options::default()).unwrap();
+    let text = csv_export::positions_csv(&result);
+    let mut reader = csv::Reader::from_reader(text.as_bytes());
+    let row = reader.records().next().unwrap().unwrap();
+    assert_eq!(&row[0], "'=cmd|' /C calc'!A0");
+    assert_eq!(&row[2], "'-1+2");
+    // Coordinates are numbers: written bare, minus sign first, no prefix.
+    // Exact: the CSV writes f64 by Display, which round-trips.
+    assert_eq!(&row[6], "-1.5");
+    assert_eq!(row[7].parse::<f64>().unwrap(), -0.25);
+    assert!(text.contains(",-1.5,-0.25,1,"), "{text}");
+}
+
+#[test]
 fn the_geojson_is_a_feature_collection_with_the_same_numbers_in_the_local_frame() {
     let site = vertical_wire_site(5000.0, 2.0, 0.05);
     let (map, result) = map_and_result(&site, &["icnirp-2010-occupational"]);
     let doc: Value = serde_json::from_str(&geojson::assessment_geojson(&site, &result, &[map]).to_string()).unwrap();
     assert_eq!(doc["type"], "FeatureCollection");
     assert_eq!(doc["coordinate_frame"], "site-local-metres");
+    assert!(doc.get("coordinate_conversion").is_none(), "no conversion in the local frame");
     let features = doc["features"].as_array().unwrap();
     fn kind<'a>(features: &'a [Value], k: &'a str) -> impl Iterator<Item = &'a Value> + 'a {
         features.iter().filter(move |f| f["properties"]["kind"] == k)
@@ -249,14 +294,31 @@ fn the_geojson_is_a_feature_collection_with_the_same_numbers_in_the_local_frame(
     assert_eq!(kind(features, "conductor").count(), 1);
 }
 
-#[test]
-fn the_tangent_plane_conversion_agrees_with_geographiclib_to_the_documented_accuracy() {
-    // Source: tests/conformance/geographiclib (GeographicLib geodesic direct
-    // problem on WGS 84). Documented accuracy (src/report/geo.rs): 0.25 m
-    // within 1 km, 1 m within 3 km, latitudes up to 60°.
-    let fixture: Value = serde_json::from_str(include_str!("../../conformance/geographiclib/fixture.json")).unwrap();
+/// Position difference in metres between two WGS 84 points a few metres
+/// apart at most: latitude and longitude differences times the meridional
+/// and prime-vertical radii of curvature at `lat_deg` (M and N, WGS 84
+/// a = 6 378 137 m, f = 1/298.257223563; docs/REFERENCES.md, M). The
+/// longitude difference is wrapped into [−180°, 180°] so that a case across
+/// the antimeridian compares like any other.
+fn geodetic_difference_m(lon: f64, lat: f64, ref_lon: f64, ref_lat: f64) -> f64 {
+    let (a, f) = (6_378_137.0, 1.0 / 298.257_223_563);
+    let e2 = f * (2.0 - f);
+    let phi = ref_lat.to_radians();
+    let w = (1.0 - e2 * phi.sin().powi(2)).sqrt();
+    let (m, n) = (a * (1.0 - e2) / (w * w * w), a / w);
+    let dlon = (lon - ref_lon + 540.0).rem_euclid(360.0) - 180.0;
+    let north = (lat - ref_lat).to_radians() * m;
+    let east = dlon.to_radians() * n * phi.cos();
+    north.hypot(east)
+}
+
+/// The worst position difference (m) of `geo::to_lon_lat` over a fixture of
+/// GeographicLib direct solutions, and the number of cases.
+fn worst_against_geographiclib(fixture: &str) -> (f64, usize) {
+    let fixture: Value = serde_json::from_str(fixture).unwrap();
+    let cases = fixture["cases"].as_array().unwrap();
     let mut worst = 0.0f64;
-    for c in fixture["cases"].as_array().unwrap() {
+    for c in cases {
         let f = |k: &str| c[k].as_f64().unwrap();
         let g = GeoreferenceDoc {
             origin_lon_deg: f("origin_lon_deg"),
@@ -264,15 +326,53 @@ fn the_tangent_plane_conversion_agrees_with_geographiclib_to_the_documented_accu
             y_axis_bearing_deg: f("y_axis_bearing_deg"),
         };
         let [lon, lat] = geo::to_lon_lat(&g, f("x_m"), f("y_m"));
-        let phi = f("lat_deg").to_radians();
-        let north_err = (lat - f("lat_deg")).to_radians() * 6_367_000.0;
-        let east_err = (lon - f("lon_deg")).to_radians() * 6_378_137.0 * phi.cos();
-        let err = north_err.hypot(east_err);
-        let bound = if f("distance_m") <= 1000.0 { 0.25 } else { 1.0 };
-        assert!(err < bound, "{c}: {err} m");
+        let err = geodetic_difference_m(lon, lat, f("lon_deg"), f("lat_deg"));
+        assert!(err.is_finite(), "{c}");
         worst = worst.max(err);
     }
-    eprintln!("tangent-plane vs GeographicLib: worst {worst:.3} m");
+    (worst, cases.len())
+}
+
+#[test]
+fn the_georeference_agrees_with_geographiclib_within_a_centimetre_up_to_10_km_and_70_degrees() {
+    // Source: tests/conformance/geographiclib/direct-10km.json, made by
+    // GeographicLib 2.1 (Python, Geodesic.WGS84.Direct; Karney, J. Geodesy
+    // 87, 2013): 480 local points up to 10 km from origins at latitudes
+    // 0–70° north and south and one across the antimeridian, four bearings
+    // of the y axis. Requirement (issue 10): within 1 cm. Both sides solve
+    // the same geodesic problem, so this checks the crate and our frame
+    // conversion (axis order, bearing sign, azimuth); they agree to
+    // rounding (about 1e-9 m), far inside the requirement.
+    let (worst, n) = worst_against_geographiclib(include_str!("../../conformance/geographiclib/direct-10km.json"));
+    assert_eq!(n, 480, "the fixture holds every case the generator writes");
+    assert!(worst < 0.01, "worst difference {worst} m");
+    eprintln!("georeference vs GeographicLib, {n} cases to 10 km: worst {worst:.2e} m");
+}
+
+#[test]
+fn the_georeference_agrees_with_geographiclib_on_the_first_fixture_within_a_centimetre() {
+    // Source: tests/conformance/geographiclib/fixture.json (GeographicLib
+    // 2.1, 144 cases to 2.8 km, latitudes −34° to 59°). The local tangent
+    // plane used before was allowed 1 m here (issue 10 measured 1.38 m at
+    // 3 km, 60°); the geodesic solution must be within the same 1 cm.
+    let (worst, n) = worst_against_geographiclib(include_str!("../../conformance/geographiclib/fixture.json"));
+    assert_eq!(n, 144);
+    assert!(worst < 0.01, "worst difference {worst} m");
+}
+
+#[test]
+fn the_georeference_origin_maps_to_itself_and_the_y_axis_bearing_turns_the_frame_clockwise() {
+    // Hand check independent of any library: the origin maps to itself
+    // exactly (no distance travelled); with the y axis at bearing 90° a point
+    // on +y lies due east, so its latitude stays within the geodesic's
+    // curvature term (10 m east at 45°: Δφ ≈ d² tanφ / (2 N M) ≈ 7e-11°,
+    // compared with 1e-9°) and its longitude grows.
+    let g = GeoreferenceDoc { origin_lon_deg: 9.19, origin_lat_deg: 45.46, y_axis_bearing_deg: 90.0 };
+    assert_eq!(geo::to_lon_lat(&g, 0.0, 0.0), [9.19, 45.46]);
+    let [lon, lat] = geo::to_lon_lat(&g, 0.0, 10.0);
+    assert!((lat - 45.46).abs() < 1e-9 && lon > 9.19, "{lon} {lat}");
+    let [lon_w, _] = geo::to_lon_lat(&g, -10.0, 0.0);
+    assert!((lon_w - 9.19).abs() < 1e-9, "−x points north when +y points east: {lon_w}");
 }
 
 #[test]
@@ -287,6 +387,7 @@ fn a_georeferenced_site_exports_longitude_and_latitude() {
     let result = assess::assess(&site, &LoadCase::Present, &t, &Options::default()).unwrap();
     let out = geojson::assessment_geojson(&site, &result, &[]);
     assert_eq!(out["coordinate_frame"], "wgs84-lon-lat");
+    assert!(out["coordinate_conversion"].as_str().unwrap().contains("geodesic direct"));
     let p = out["features"].as_array().unwrap().iter().find(|f| f["properties"]["id"] == "desk-1").unwrap();
     let lon = p["geometry"]["coordinates"][0].as_f64().unwrap();
     let lat = p["geometry"]["coordinates"][1].as_f64().unwrap();

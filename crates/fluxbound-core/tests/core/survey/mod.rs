@@ -2,6 +2,9 @@
 //! the streamed field engine, checked against closed forms and magpylib in
 //! tests/core/engine), hand arithmetic for the extrapolation, and CSV import.
 
+mod csv_import;
+mod status;
+
 use fluxbound_core::field::{self, Filament, Filaments};
 use fluxbound_core::limits::builtin_table;
 use fluxbound_core::site::{CircuitLoad, Site, parse_site};
