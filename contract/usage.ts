@@ -58,7 +58,10 @@ type SurveyShown = paths["/v1/surveys/{survey_id}"]["get"]["responses"][200]["co
 export function fittedCurrents(s: SurveyShown): number[] {
   return s.analysis.load_fit.circuits.map((c) => {
     assertExact<typeof c.scale, number | null>(true);
-    assertExact<typeof c.status, "fitted" | "at_bound" | "unidentifiable" | "ill_conditioned">(true);
+    assertExact<
+      typeof c.status,
+      "fitted" | "at_bound" | "poorly_determined" | "unidentifiable" | "ill_conditioned" | "not_converged"
+    >(true);
     return (c.scale ?? 0) * c.stated_a;
   });
 }
