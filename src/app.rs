@@ -34,7 +34,7 @@ pub struct App {
 #[derive(Debug, Clone)]
 pub struct DemoInfo {
     pub key: String,
-    pub site_ids: Vec<(String, String)>,
+    pub site_ids: Vec<(crate::ids::SiteId, String)>,
 }
 
 /// Opens the store the config selects (creating the SQLite data directory).
@@ -126,7 +126,7 @@ async fn seed_demo(service: &Service) -> Result<DemoInfo, AppError> {
     let (_, key) = service.keys_create_for_org("demo", Role::Assessor, Some("demo")).await.map_err(err)?;
     let caller = service.authenticate(&key).await.map_err(err)?;
     let (existing, _) = service.sites_list(&caller, None, Some(10), None).await.map_err(err)?;
-    let mut site_ids: Vec<(String, String)> = existing.into_iter().map(|s| (s.id, s.name)).collect();
+    let mut site_ids: Vec<(crate::ids::SiteId, String)> = existing.into_iter().map(|s| (s.id, s.name)).collect();
     if site_ids.is_empty() {
         for text in DEMO_SITES {
             let doc: SiteDoc = fluxbound_core::site::parse_json(text).map_err(|p| AppError::Demo(p.to_string()))?;

@@ -625,7 +625,10 @@ fn keys(action: KeysAction, out: &mut dyn Write) -> Result<ExitCode, CliError> {
                 Ok(())
             }
             KeysAction::Revoke { id, .. } => {
-                service.keys_revoke_for_org(&org, &id).await?;
+                let key_id = crate::ids::KeyId::parse(&id).ok_or_else(|| {
+                    CliError::Problems(vec![format!("ID: '{id}' is not a key id (32 lowercase hex digits)")])
+                })?;
+                service.keys_revoke_for_org(&org, &key_id).await?;
                 writeln!(out, "revoked {id}").map_err(CliError::Write)
             }
         };

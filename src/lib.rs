@@ -24,6 +24,7 @@ pub mod app;
 pub mod cli;
 pub mod config;
 pub mod http;
+pub mod ids;
 pub mod service;
 pub mod store;
 pub mod telemetry;

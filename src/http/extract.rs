@@ -60,7 +60,7 @@ impl FromRequestParts<AppState> for Auth {
             })
             .ok_or_else(ApiError::unauthorized)?;
         let caller = state.service.authenticate(token).await.map_err(ApiError::from)?;
-        if let Err(wait_s) = state.rate.check(&caller.key_id) {
+        if let Err(wait_s) = state.rate.check(caller.key_id.as_str()) {
             return Err(ApiError::rate_limited(wait_s));
         }
         Ok(Auth(caller))
@@ -90,21 +90,19 @@ pub fn etag(revision: i64) -> String {
 }
 
 /// Ids the API gives out (sites, assessments, surveys, keys): 32 lowercase
-/// hex digits, as [`check_id`] checks (the OpenAPI path parameters say so).
+/// hex digits, as [`parse_id`] checks (the OpenAPI path parameters say so).
 pub const ID_PATTERN: &str = "^[0-9a-f]{32}$";
 /// Table ids, as the core's table validation accepts them.
 pub const TABLE_ID_PATTERN: &str = "^[A-Za-z0-9._-]{1,64}$";
 
 /// Checks an id from the path: 32 lowercase hex digits (400 otherwise).
-pub fn check_id(id: &str, what: &str) -> Result<(), ApiError> {
-    if id.len() == 32 && id.bytes().all(|b| b.is_ascii_digit() || (b'a'..=b'f').contains(&b)) {
-        Ok(())
-    } else {
-        Err(ApiError::bad_request(
+pub fn parse_id<T: crate::ids::ResourceId>(id: &str, what: &str) -> Result<T, ApiError> {
+    T::parse(id).ok_or_else(|| {
+        ApiError::bad_request(
             format!("'{id}' is not a {what} id"),
             Problems::one(format!("/{what}_id"), "ids are 32 lowercase hex digits"),
-        ))
-    }
+        )
+    })
 }
 
 /// Parses a positive integer path or query parameter (400 otherwise).
@@ -148,12 +146,11 @@ impl PageQuery {
     /// The cursor, which is an id from a previous page (400 otherwise).
     pub fn cursor(&self) -> Result<Option<&str>, ApiError> {
         match self.cursor.as_deref() {
-            Some(c) => check_id(c, "cursor").map(|_| Some(c)).map_err(|_| {
-                ApiError::bad_request(
-                    "the cursor is not one this API gave out",
-                    Problems::one("/cursor", "pass next_cursor from the previous page"),
-                )
-            }),
+            Some(c) if crate::ids::looks_like_id(c) => Ok(Some(c)),
+            Some(_) => Err(ApiError::bad_request(
+                "the cursor is not one this API gave out",
+                Problems::one("/cursor", "pass next_cursor from the previous page"),
+            )),
             None => Ok(None),
         }
     }

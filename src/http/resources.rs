@@ -1,6 +1,7 @@
 //! Response bodies of the API (the wire shapes; units in the field names of
 //! the domain documents they carry).
 
+use crate::ids::{AssessmentId, KeyId, SiteId, SurveyId, Timestamp};
 use crate::service::{AssessmentRequest, AssessmentView, SiteView, TableView};
 use crate::store::{KeyRow, SiteRow};
 use fluxbound_core::assess::Assessment;
@@ -12,13 +13,13 @@ use utoipa::ToSchema;
 /// A site at one revision.
 #[derive(Debug, Serialize, ToSchema)]
 pub struct SiteResource {
-    pub id: String,
+    pub id: SiteId,
     pub name: String,
     /// This revision's number (1, 2, …); also the `ETag`.
     pub revision: i64,
     pub latest_revision: i64,
-    pub created_at: String,
-    pub updated_at: String,
+    pub created_at: Timestamp,
+    pub updated_at: Timestamp,
     pub site: SiteDoc,
 }
 
@@ -40,11 +41,11 @@ impl From<SiteView> for SiteResource {
 /// A site in a list (no document).
 #[derive(Debug, Serialize, ToSchema)]
 pub struct SiteSummary {
-    pub id: String,
+    pub id: SiteId,
     pub name: String,
     pub latest_revision: i64,
-    pub created_at: String,
-    pub updated_at: String,
+    pub created_at: Timestamp,
+    pub updated_at: Timestamp,
 }
 
 impl From<SiteRow> for SiteSummary {
@@ -73,9 +74,9 @@ pub struct TableVersionResource {
     /// True once an assessment used this version: it can no longer change.
     pub used: bool,
     #[schema(required = true)]
-    pub created_at: Option<String>,
+    pub created_at: Option<Timestamp>,
     #[schema(required = true)]
-    pub updated_at: Option<String>,
+    pub updated_at: Option<Timestamp>,
 }
 
 /// A reference-level table at one version, with the list of its versions.
@@ -119,10 +120,10 @@ pub struct TableList {
 /// A stored assessment: the request, the pinned site revision and the result.
 #[derive(Debug, Serialize, ToSchema)]
 pub struct AssessmentResource {
-    pub id: String,
-    pub site_id: String,
+    pub id: AssessmentId,
+    pub site_id: SiteId,
     pub site_revision: i64,
-    pub created_at: String,
+    pub created_at: Timestamp,
     pub request: AssessmentRequest,
     pub result: Assessment,
 }
@@ -151,14 +152,14 @@ pub struct AssessmentPage {
 #[derive(Debug, Serialize, ToSchema)]
 pub struct KeyResource {
     #[schema(pattern = "^[0-9a-f]{32}$")]
-    pub id: String,
+    pub id: KeyId,
     /// `viewer`, `assessor` or `admin`.
     pub role: String,
     #[schema(required = true)]
     pub label: Option<String>,
-    pub created_at: String,
+    pub created_at: Timestamp,
     #[schema(required = true)]
-    pub revoked_at: Option<String>,
+    pub revoked_at: Option<Timestamp>,
 }
 
 impl From<KeyRow> for KeyResource {
@@ -200,10 +201,10 @@ pub struct Health {
 /// A stored survey with its analysis.
 #[derive(Debug, Serialize, ToSchema)]
 pub struct SurveyResource {
-    pub id: String,
-    pub site_id: String,
+    pub id: SurveyId,
+    pub site_id: SiteId,
     pub site_revision: i64,
-    pub created_at: String,
+    pub created_at: Timestamp,
     pub survey: fluxbound_core::survey::wire::SurveyDoc,
     pub analysis: fluxbound_core::survey::SurveyAnalysis,
 }

@@ -2,6 +2,7 @@
 //! versions, stored, read back.
 
 use super::{Caller, Result, Role, Service, ServiceError, stored, tables::stored_table, to_json};
+use crate::ids::{AssessmentId, SiteId};
 use crate::store::{AssessmentRow, NewAssessment, PinnedVersion};
 use fluxbound_core::assess::{Assessment, LoadCase, ReviewFraction};
 use fluxbound_core::limits::{ReferenceTable, TableChoice, builtin_table, choose_tables, resolve_tables};
@@ -71,7 +72,7 @@ impl Service {
     pub async fn assessments_create(
         &self,
         caller: &Caller,
-        site_id: &str,
+        site_id: &SiteId,
         request: AssessmentRequest,
     ) -> Result<AssessmentView> {
         caller.require(Role::Assessor)?;
@@ -121,7 +122,7 @@ impl Service {
     }
 
     #[tracing::instrument(name = "assessments_show", skip_all, fields(org = %caller.org_id, assessment = %id))]
-    pub async fn assessments_show(&self, caller: &Caller, id: &str) -> Result<AssessmentView> {
+    pub async fn assessments_show(&self, caller: &Caller, id: &AssessmentId) -> Result<AssessmentView> {
         caller.require(Role::Viewer)?;
         view(self.store().assessment_get(&caller.org_id, id).await?.ok_or(ServiceError::NotFound("assessment"))?)
     }
@@ -130,7 +131,7 @@ impl Service {
     pub async fn assessments_list(
         &self,
         caller: &Caller,
-        site_id: &str,
+        site_id: &SiteId,
         cursor: Option<&str>,
         limit: Option<i64>,
     ) -> Result<(Vec<AssessmentView>, Option<String>)> {
@@ -141,7 +142,7 @@ impl Service {
             limit,
             |n| async move { store.assessments_list(&org, site_id, cursor, n).await },
             view,
-            |r| r.id.clone(),
+            |r| r.id.to_string(),
         )
         .await
     }

@@ -3,6 +3,7 @@
 //! 256 random bits, so a plain hash is enough (no password stretching).
 
 use super::{Result, Service, ServiceError};
+use crate::ids::{KeyId, OrgId};
 use crate::store::KeyRow;
 use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
@@ -46,8 +47,8 @@ impl std::fmt::Display for Role {
 /// Who is calling: the organisation every query is scoped to, and the role.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Caller {
-    pub org_id: String,
-    pub key_id: String,
+    pub org_id: OrgId,
+    pub key_id: KeyId,
     pub role: Role,
 }
 
@@ -93,7 +94,8 @@ impl Service {
     /// Resolves a bearer token to its caller.
     pub async fn authenticate(&self, token: &str) -> Result<Caller> {
         let (id, secret) = split_token(token).ok_or(ServiceError::Unauthorized)?;
-        let row = self.store().key_find(id).await?.ok_or(ServiceError::Unauthorized)?;
+        let id = KeyId::parse(id).ok_or(ServiceError::Unauthorized)?;
+        let row = self.store().key_find(&id).await?.ok_or(ServiceError::Unauthorized)?;
         let ok = constant_time_eq(hash_secret(secret).as_bytes(), row.secret_sha256.as_bytes());
         if !ok || row.revoked_at.is_some() {
             return Err(ServiceError::Unauthorized);
@@ -122,7 +124,7 @@ impl Service {
         self.key_new(&org.id, role, label).await
     }
 
-    async fn key_new(&self, org_id: &str, role: Role, label: Option<&str>) -> Result<(KeyRow, String)> {
+    async fn key_new(&self, org_id: &OrgId, role: Role, label: Option<&str>) -> Result<(KeyRow, String)> {
         if label.is_some_and(|l| l.chars().count() > 100) {
             return Err(ServiceError::Validation(super::one_problem("/label", "label must be at most 100 characters")));
         }
@@ -143,7 +145,7 @@ impl Service {
         Ok(self.store().keys_list(&caller.org_id).await?)
     }
 
-    pub async fn keys_revoke(&self, caller: &Caller, key_id: &str) -> Result<()> {
+    pub async fn keys_revoke(&self, caller: &Caller, key_id: &KeyId) -> Result<()> {
         caller.require(Role::Admin)?;
         if self.store().key_revoke(&caller.org_id, key_id).await? { Ok(()) } else { Err(ServiceError::NotFound("key")) }
     }
@@ -155,7 +157,7 @@ impl Service {
     }
 
     /// Revokes a key by id in an organisation given by name (CLI).
-    pub async fn keys_revoke_for_org(&self, org_name: &str, key_id: &str) -> Result<()> {
+    pub async fn keys_revoke_for_org(&self, org_name: &str, key_id: &KeyId) -> Result<()> {
         let org = self.store().org_by_name(org_name).await?.ok_or(ServiceError::NotFound("organisation"))?;
         if self.store().key_revoke(&org.id, key_id).await? { Ok(()) } else { Err(ServiceError::NotFound("key")) }
     }

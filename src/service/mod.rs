@@ -22,6 +22,7 @@ pub use sites::{IfMatch, SiteView};
 pub use surveys::SurveyView;
 pub use tables::{TableVersionInfo, TableView};
 
+use crate::ids::SiteId;
 use crate::store::{Store, StoreError};
 use fluxbound_core::limits::{TableSource, UnknownTable};
 use fluxbound_core::site::{Pointer, Problems};
@@ -176,7 +177,7 @@ impl Service {
     async fn page_for_site<R, V, F, Fut>(
         &self,
         caller: &Caller,
-        site_id: &str,
+        site_id: &SiteId,
         limit: Option<i64>,
         fetch: F,
         view: impl Fn(R) -> Result<V>,

@@ -2,6 +2,7 @@
 //! site revision, load case and table versions, so they always match it.
 
 use super::{Caller, Result, Role, Service, ServiceError, stored, tables::stored_table};
+use crate::ids::AssessmentId;
 use fluxbound_core::assess::Assessment;
 use fluxbound_core::limits::{ReferenceTable, builtin_table};
 use fluxbound_core::mitigate::DistanceResult;
@@ -17,7 +18,7 @@ struct Context {
 }
 
 impl Service {
-    async fn report_context(&self, caller: &Caller, id: &str) -> Result<Context> {
+    async fn report_context(&self, caller: &Caller, id: &AssessmentId) -> Result<Context> {
         caller.require(Role::Viewer)?;
         let row = self.store().assessment_get(&caller.org_id, id).await?.ok_or(ServiceError::NotFound("assessment"))?;
         let rev = self
@@ -47,7 +48,7 @@ impl Service {
     }
 
     #[tracing::instrument(name = "reports_map", skip_all, fields(org = %caller.org_id, assessment = %id, area = %area_id))]
-    pub async fn reports_map_svg(&self, caller: &Caller, id: &str, area_id: &str) -> Result<String> {
+    pub async fn reports_map_svg(&self, caller: &Caller, id: &AssessmentId, area_id: &str) -> Result<String> {
         let ctx = self.report_context(caller, id).await?;
         if !ctx.site.areas().iter().any(|a| a.id == area_id) {
             return Err(ServiceError::NotFound("area"));
@@ -62,13 +63,13 @@ impl Service {
     }
 
     #[tracing::instrument(name = "reports_csv", skip_all, fields(org = %caller.org_id, assessment = %id))]
-    pub async fn reports_csv(&self, caller: &Caller, id: &str) -> Result<String> {
+    pub async fn reports_csv(&self, caller: &Caller, id: &AssessmentId) -> Result<String> {
         let ctx = self.report_context(caller, id).await?;
         Ok(usecase::export_csv(&ctx.result))
     }
 
     #[tracing::instrument(name = "reports_geojson", skip_all, fields(org = %caller.org_id, assessment = %id))]
-    pub async fn reports_geojson(&self, caller: &Caller, id: &str) -> Result<serde_json::Value> {
+    pub async fn reports_geojson(&self, caller: &Caller, id: &AssessmentId) -> Result<serde_json::Value> {
         let ctx = self.report_context(caller, id).await?;
         let budget = self.limits().budget();
         let doc = self
@@ -83,7 +84,7 @@ impl Service {
     pub async fn reports_distance(
         &self,
         caller: &Caller,
-        id: &str,
+        id: &AssessmentId,
         from: &str,
         direction: Option<&str>,
         level_ut: f64,

@@ -2,6 +2,7 @@
 //! delete (soft).
 
 use super::{Caller, Result, Role, Service, ServiceError, page_limit, stored, to_json};
+use crate::ids::SiteId;
 
 /// An `If-Match` precondition on a site update.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -60,17 +61,17 @@ impl Service {
         caller.require(Role::Viewer)?;
         let limit = page_limit(limit)?;
         let rows = self.store().sites_list(&caller.org_id, cursor, limit + 1, name).await?;
-        Ok(super::paginate(rows, limit, |r| r.id.clone()))
+        Ok(super::paginate(rows, limit, |r| r.id.to_string()))
     }
 
     #[tracing::instrument(name = "sites_show", skip_all, fields(org = %caller.org_id, site = %id))]
-    pub async fn sites_show(&self, caller: &Caller, id: &str) -> Result<SiteView> {
+    pub async fn sites_show(&self, caller: &Caller, id: &SiteId) -> Result<SiteView> {
         caller.require(Role::Viewer)?;
         view(self.store().site_latest(&caller.org_id, id).await?.ok_or(ServiceError::NotFound("site"))?)
     }
 
     #[tracing::instrument(name = "sites_revision", skip_all, fields(org = %caller.org_id, site = %id, revision))]
-    pub async fn sites_revision(&self, caller: &Caller, id: &str, revision: i64) -> Result<SiteView> {
+    pub async fn sites_revision(&self, caller: &Caller, id: &SiteId, revision: i64) -> Result<SiteView> {
         caller.require(Role::Viewer)?;
         view(
             self.store()
@@ -82,7 +83,13 @@ impl Service {
 
     /// New revision, only if `if_match` names the latest one.
     #[tracing::instrument(name = "sites_update", skip_all, fields(org = %caller.org_id, site = %id))]
-    pub async fn sites_update(&self, caller: &Caller, id: &str, if_match: IfMatch, doc: SiteDoc) -> Result<SiteView> {
+    pub async fn sites_update(
+        &self,
+        caller: &Caller,
+        id: &SiteId,
+        if_match: IfMatch,
+        doc: SiteDoc,
+    ) -> Result<SiteView> {
         caller.require(Role::Assessor)?;
         // Existence first, so another organisation's id is 404 whatever else.
         let current = self.store().site_latest(&caller.org_id, id).await?.ok_or(ServiceError::NotFound("site"))?;
@@ -109,7 +116,7 @@ impl Service {
     pub(super) async fn site_at_revision(
         &self,
         caller: &Caller,
-        site_id: &str,
+        site_id: &SiteId,
         revision: Option<i64>,
     ) -> Result<(crate::store::RevisionRow, fluxbound_core::site::Site)> {
         let rev = match revision {
@@ -126,7 +133,7 @@ impl Service {
     }
 
     #[tracing::instrument(name = "sites_delete", skip_all, fields(org = %caller.org_id, site = %id))]
-    pub async fn sites_delete(&self, caller: &Caller, id: &str) -> Result<()> {
+    pub async fn sites_delete(&self, caller: &Caller, id: &SiteId) -> Result<()> {
         caller.require(Role::Assessor)?;
         if self.store().site_delete(&caller.org_id, id).await? { Ok(()) } else { Err(ServiceError::NotFound("site")) }
     }

@@ -1,6 +1,7 @@
 //! Surveys: store a survey of a site revision with its analysis.
 
 use super::{Caller, Result, Role, Service, ServiceError, stored, to_json};
+use crate::ids::{SiteId, SurveyId};
 use crate::store::SurveyRow;
 use fluxbound_core::assess::ReviewFraction;
 use fluxbound_core::limits::choose_tables;
@@ -25,7 +26,7 @@ impl Service {
     pub async fn surveys_create(
         &self,
         caller: &Caller,
-        site_id: &str,
+        site_id: &SiteId,
         doc: SurveyDoc,
         review_fraction: ReviewFraction,
     ) -> Result<SurveyView> {
@@ -49,7 +50,7 @@ impl Service {
     }
 
     #[tracing::instrument(name = "surveys_show", skip_all, fields(org = %caller.org_id, survey = %id))]
-    pub async fn surveys_show(&self, caller: &Caller, id: &str) -> Result<SurveyView> {
+    pub async fn surveys_show(&self, caller: &Caller, id: &SurveyId) -> Result<SurveyView> {
         caller.require(Role::Viewer)?;
         view(self.store().survey_get(&caller.org_id, id).await?.ok_or(ServiceError::NotFound("survey"))?)
     }
@@ -58,7 +59,7 @@ impl Service {
     pub async fn surveys_list(
         &self,
         caller: &Caller,
-        site_id: &str,
+        site_id: &SiteId,
         cursor: Option<&str>,
         limit: Option<i64>,
     ) -> Result<(Vec<SurveyView>, Option<String>)> {
@@ -69,7 +70,7 @@ impl Service {
             limit,
             |n| async move { store.surveys_list(&org, site_id, cursor, n).await },
             view,
-            |r| r.id.clone(),
+            |r| r.id.to_string(),
         )
         .await
     }

@@ -9,8 +9,8 @@ use fluxbound_core::limits::{ReferenceTable, TableDoc, builtin_table, builtin_ta
 pub struct TableVersionInfo {
     pub version: i64,
     pub used: bool,
-    pub created_at: Option<String>,
-    pub updated_at: Option<String>,
+    pub created_at: Option<crate::ids::Timestamp>,
+    pub updated_at: Option<crate::ids::Timestamp>,
 }
 
 /// A table at one version, and (for custom tables) all its versions.
@@ -26,8 +26,8 @@ fn info(v: &TableVersionRow) -> TableVersionInfo {
     TableVersionInfo {
         version: v.version,
         used: v.used,
-        created_at: Some(v.created_at.clone()),
-        updated_at: Some(v.updated_at.clone()),
+        created_at: Some(v.created_at),
+        updated_at: Some(v.updated_at),
     }
 }
 

@@ -1,34 +1,35 @@
 //! Stored assessments, pinned to the site revision and table versions used.
 
-use super::{Result, Store, col, new_id, now};
+use super::{Result, Store, col, now};
+use crate::ids::{AssessmentId, OrgId, SiteId, TableRecordId, Timestamp};
 use sqlx::any::AnyRow;
 
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct AssessmentRow {
-    pub id: String,
-    pub site_id: String,
+    pub id: AssessmentId,
+    pub site_id: SiteId,
     pub site_revision: i64,
     /// The request as given (JSON).
     pub request: String,
     /// The result (JSON).
     pub result: String,
     pub worst_verdict: String,
-    pub created_at: String,
+    pub created_at: Timestamp,
 }
 
 /// A custom table version an assessment used, as it was read (its
 /// `updated_at` proves it did not change before it was frozen).
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct PinnedVersion {
-    pub table_id: String,
+    pub table_id: TableRecordId,
     pub version: i64,
-    pub updated_at: String,
+    pub updated_at: Timestamp,
 }
 
 #[derive(Debug, Clone)]
 pub struct NewAssessment<'a> {
-    pub org_id: &'a str,
-    pub site_id: &'a str,
+    pub org_id: &'a OrgId,
+    pub site_id: &'a SiteId,
     pub site_revision: i64,
     pub request: &'a str,
     pub result: &'a str,
@@ -54,7 +55,7 @@ impl Store {
     /// Stores an assessment and freezes the table versions it used, in one
     /// transaction. `Ok(None)` if a pinned version changed meanwhile.
     pub async fn assessment_insert(&self, a: NewAssessment<'_>) -> Result<Option<AssessmentRow>> {
-        let (id, at) = (new_id(), now());
+        let (id, at) = (AssessmentId::generate(), now());
         let mut tx = self.begin_write().await?;
         for p in a.pinned {
             let done = sqlx::query(
@@ -62,7 +63,7 @@ impl Store {
             )
             .bind(&p.table_id)
             .bind(p.version)
-            .bind(&p.updated_at)
+            .bind(p.updated_at)
             .execute(tx.conn())
             .await?;
             if done.rows_affected() == 0 {
@@ -81,13 +82,13 @@ impl Store {
         .bind(a.request)
         .bind(a.result)
         .bind(a.worst_verdict)
-        .bind(&at)
+        .bind(at)
         .execute(tx.conn())
         .await?;
         tx.commit().await?;
         Ok(Some(AssessmentRow {
             id,
-            site_id: a.site_id.to_string(),
+            site_id: a.site_id.clone(),
             site_revision: a.site_revision,
             request: a.request.to_string(),
             result: a.result.to_string(),
@@ -96,7 +97,7 @@ impl Store {
         }))
     }
 
-    pub async fn assessment_get(&self, org_id: &str, id: &str) -> Result<Option<AssessmentRow>> {
+    pub async fn assessment_get(&self, org_id: &OrgId, id: &AssessmentId) -> Result<Option<AssessmentRow>> {
         let sql = format!("SELECT {COLUMNS} FROM assessments WHERE id = $1 AND org_id = $2");
         sqlx::query(sqlx::AssertSqlSafe(sql))
             .bind(id)
@@ -111,8 +112,8 @@ impl Store {
     /// Assessments of one site in creation order after `cursor`.
     pub async fn assessments_list(
         &self,
-        org_id: &str,
-        site_id: &str,
+        org_id: &OrgId,
+        site_id: &SiteId,
         cursor: Option<&str>,
         limit: i64,
     ) -> Result<Vec<AssessmentRow>> {

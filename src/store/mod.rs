@@ -105,17 +105,10 @@ impl WriteTx {
     }
 }
 
-/// Current time as fixed-width RFC 3339 UTC with microseconds, so text order
-/// is time order.
-pub fn now() -> String {
-    let f = time::macros::format_description!("[year]-[month]-[day]T[hour]:[minute]:[second].[subsecond digits:6]Z");
-    time::OffsetDateTime::now_utc().format(&f).unwrap_or_default()
-}
-
-/// A new time-ordered id (UUID v7, simple hex), so id order is creation
-/// order and serves as the pagination cursor.
-pub fn new_id() -> String {
-    uuid::Uuid::now_v7().simple().to_string()
+/// Current time (stored as fixed-width RFC 3339 UTC with microseconds, so
+/// text order is time order: see [`crate::ids::Timestamp`]).
+pub fn now() -> crate::ids::Timestamp {
+    crate::ids::Timestamp::now()
 }
 
 impl Store {

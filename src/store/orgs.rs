@@ -1,25 +1,26 @@
 //! Organisations and API keys. Keys are stored as the SHA-256 of their
 //! secret part only; the secret itself is never stored or logged.
 
-use super::{Result, Store, col, new_id, now};
+use super::{Result, Store, col, now};
+use crate::ids::{KeyId, OrgId, Timestamp};
 use sqlx::any::AnyRow;
 
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct OrgRow {
-    pub id: String,
+    pub id: OrgId,
     pub name: String,
 }
 
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct KeyRow {
-    pub id: String,
-    pub org_id: String,
+    pub id: KeyId,
+    pub org_id: OrgId,
     pub role: String,
     /// Hex SHA-256 of the secret.
     pub secret_sha256: String,
     pub label: Option<String>,
-    pub created_at: String,
-    pub revoked_at: Option<String>,
+    pub created_at: Timestamp,
+    pub revoked_at: Option<Timestamp>,
 }
 
 fn key_row(r: &AnyRow) -> Result<KeyRow> {
@@ -43,7 +44,7 @@ impl Store {
         sqlx::query(
             "INSERT INTO organisations (id, name, created_at) VALUES ($1, $2, $3) ON CONFLICT (name) DO NOTHING",
         )
-        .bind(new_id())
+        .bind(OrgId::generate())
         .bind(name)
         .bind(now())
         .execute(self.pool())
@@ -63,15 +64,15 @@ impl Store {
 
     pub async fn key_insert(
         &self,
-        org_id: &str,
+        org_id: &OrgId,
         role: &str,
         secret_sha256: &str,
         label: Option<&str>,
     ) -> Result<KeyRow> {
         let _writer = self.writer().await;
         let row = KeyRow {
-            id: new_id(),
-            org_id: org_id.to_string(),
+            id: KeyId::generate(),
+            org_id: org_id.clone(),
             role: role.to_string(),
             secret_sha256: secret_sha256.to_string(),
             label: label.map(str::to_string),
@@ -86,14 +87,14 @@ impl Store {
         .bind(&row.role)
         .bind(&row.secret_sha256)
         .bind(&row.label)
-        .bind(&row.created_at)
+        .bind(row.created_at)
         .execute(self.pool())
         .await?;
         Ok(row)
     }
 
     /// A key by id, revoked or not (the caller checks).
-    pub async fn key_find(&self, key_id: &str) -> Result<Option<KeyRow>> {
+    pub async fn key_find(&self, key_id: &KeyId) -> Result<Option<KeyRow>> {
         let sql = format!("SELECT {KEY_COLUMNS} FROM api_keys WHERE id = $1");
         sqlx::query(sqlx::AssertSqlSafe(sql))
             .bind(key_id)
@@ -104,13 +105,13 @@ impl Store {
             .transpose()
     }
 
-    pub async fn keys_list(&self, org_id: &str) -> Result<Vec<KeyRow>> {
+    pub async fn keys_list(&self, org_id: &OrgId) -> Result<Vec<KeyRow>> {
         let sql = format!("SELECT {KEY_COLUMNS} FROM api_keys WHERE org_id = $1 ORDER BY id");
         sqlx::query(sqlx::AssertSqlSafe(sql)).bind(org_id).fetch_all(self.pool()).await?.iter().map(key_row).collect()
     }
 
     /// Revokes a key of the organisation; false if there is no such key.
-    pub async fn key_revoke(&self, org_id: &str, key_id: &str) -> Result<bool> {
+    pub async fn key_revoke(&self, org_id: &OrgId, key_id: &KeyId) -> Result<bool> {
         let _writer = self.writer().await;
         let done =
             sqlx::query("UPDATE api_keys SET revoked_at = $1 WHERE id = $2 AND org_id = $3 AND revoked_at IS NULL")

@@ -1,15 +1,16 @@
 //! Sites and their immutable revisions.
 
-use super::{Result, Store, col, new_id, now};
+use super::{Result, Store, col, now};
+use crate::ids::{OrgId, SiteId, Timestamp};
 use sqlx::any::AnyRow;
 
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct SiteRow {
-    pub id: String,
+    pub id: SiteId,
     pub name: String,
     pub latest_revision: i64,
-    pub created_at: String,
-    pub updated_at: String,
+    pub created_at: Timestamp,
+    pub updated_at: Timestamp,
 }
 
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -18,7 +19,7 @@ pub struct RevisionRow {
     pub revision: i64,
     /// The site document of this revision (JSON).
     pub body: String,
-    pub created_at: String,
+    pub created_at: Timestamp,
 }
 
 /// Result of an optimistic update.
@@ -57,8 +58,8 @@ const REVISION_SELECT: &str = "SELECT s.id, s.name, s.latest_revision, s.created
 
 impl Store {
     /// Creates a site with revision 1, in one transaction.
-    pub async fn site_create(&self, org_id: &str, name: &str, body: &str) -> Result<RevisionRow> {
-        let (id, at) = (new_id(), now());
+    pub async fn site_create(&self, org_id: &OrgId, name: &str, body: &str) -> Result<RevisionRow> {
+        let (id, at) = (SiteId::generate(), now());
         let mut tx = self.begin_write().await?;
         sqlx::query(
             "INSERT INTO sites (id, org_id, name, latest_revision, created_at, updated_at) VALUES ($1, $2, $3, 1, $4, $4)",
@@ -66,23 +67,22 @@ impl Store {
         .bind(&id)
         .bind(org_id)
         .bind(name)
-        .bind(&at)
+        .bind(at)
         .execute(tx.conn())
         .await?;
         sqlx::query("INSERT INTO site_revisions (site_id, revision, body, created_at) VALUES ($1, 1, $2, $3)")
             .bind(&id)
             .bind(body)
-            .bind(&at)
+            .bind(at)
             .execute(tx.conn())
             .await?;
         tx.commit().await?;
-        let site =
-            SiteRow { id, name: name.to_string(), latest_revision: 1, created_at: at.clone(), updated_at: at.clone() };
+        let site = SiteRow { id, name: name.to_string(), latest_revision: 1, created_at: at, updated_at: at };
         Ok(RevisionRow { site, revision: 1, body: body.to_string(), created_at: at })
     }
 
     /// The latest revision of a live site of the organisation.
-    pub async fn site_latest(&self, org_id: &str, id: &str) -> Result<Option<RevisionRow>> {
+    pub async fn site_latest(&self, org_id: &OrgId, id: &SiteId) -> Result<Option<RevisionRow>> {
         let sql = format!(
             "{REVISION_SELECT} WHERE s.id = $1 AND s.org_id = $2 AND s.deleted_at IS NULL AND r.revision = s.latest_revision"
         );
@@ -97,20 +97,25 @@ impl Store {
     }
 
     /// A given revision of a live site of the organisation.
-    pub async fn site_revision(&self, org_id: &str, id: &str, revision: i64) -> Result<Option<RevisionRow>> {
+    pub async fn site_revision(&self, org_id: &OrgId, id: &SiteId, revision: i64) -> Result<Option<RevisionRow>> {
         self.revision_row(org_id, id, revision, false).await
     }
 
     /// A revision of a site of the organisation, deleted or not (an
     /// assessment's pinned revision stays readable after a delete).
-    pub async fn site_revision_pinned(&self, org_id: &str, id: &str, revision: i64) -> Result<Option<RevisionRow>> {
+    pub async fn site_revision_pinned(
+        &self,
+        org_id: &OrgId,
+        id: &SiteId,
+        revision: i64,
+    ) -> Result<Option<RevisionRow>> {
         self.revision_row(org_id, id, revision, true).await
     }
 
     async fn revision_row(
         &self,
-        org_id: &str,
-        id: &str,
+        org_id: &OrgId,
+        id: &SiteId,
         revision: i64,
         include_deleted: bool,
     ) -> Result<Option<RevisionRow>> {
@@ -130,8 +135,8 @@ impl Store {
     /// Adds a revision if the latest is still `expected`, in one transaction.
     pub async fn site_update(
         &self,
-        org_id: &str,
-        id: &str,
+        org_id: &OrgId,
+        id: &SiteId,
         expected: i64,
         name: &str,
         body: &str,
@@ -143,7 +148,7 @@ impl Store {
              WHERE id = $3 AND org_id = $4 AND deleted_at IS NULL AND latest_revision = $5",
         )
         .bind(name)
-        .bind(&at)
+        .bind(at)
         .bind(id)
         .bind(org_id)
         .bind(expected)
@@ -168,18 +173,18 @@ impl Store {
             .bind(id)
             .bind(revision)
             .bind(body)
-            .bind(&at)
+            .bind(at)
             .execute(tx.conn())
             .await?;
-        let created: String =
+        let created: Timestamp =
             sqlx::query_scalar("SELECT created_at FROM sites WHERE id = $1").bind(id).fetch_one(tx.conn()).await?;
         tx.commit().await?;
         let site = SiteRow {
-            id: id.to_string(),
+            id: id.clone(),
             name: name.to_string(),
             latest_revision: revision,
             created_at: created,
-            updated_at: at.clone(),
+            updated_at: at,
         };
         Ok(UpdateOutcome::Updated(RevisionRow { site, revision, body: body.to_string(), created_at: at }))
     }
@@ -188,7 +193,7 @@ impl Store {
     /// `cursor`, optionally those whose name contains `name` (any case).
     pub async fn sites_list(
         &self,
-        org_id: &str,
+        org_id: &OrgId,
         cursor: Option<&str>,
         limit: i64,
         name: Option<&str>,
@@ -212,7 +217,7 @@ impl Store {
 
     /// Soft-deletes a live site; its revisions stay for the assessments
     /// that reference them. False if there is no such live site.
-    pub async fn site_delete(&self, org_id: &str, id: &str) -> Result<bool> {
+    pub async fn site_delete(&self, org_id: &OrgId, id: &SiteId) -> Result<bool> {
         let _writer = self.writer().await;
         let done = sqlx::query("UPDATE sites SET deleted_at = $1 WHERE id = $2 AND org_id = $3 AND deleted_at IS NULL")
             .bind(now())

@@ -1,18 +1,19 @@
 //! Stored surveys of a site revision, with their analysis.
 
-use super::{Result, Store, col, new_id, now};
+use super::{Result, Store, col, now};
+use crate::ids::{OrgId, SiteId, SurveyId, Timestamp};
 use sqlx::any::AnyRow;
 
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct SurveyRow {
-    pub id: String,
-    pub site_id: String,
+    pub id: SurveyId,
+    pub site_id: SiteId,
     pub site_revision: i64,
     /// The survey document (JSON).
     pub body: String,
     /// The analysis (JSON).
     pub result: String,
-    pub created_at: String,
+    pub created_at: Timestamp,
 }
 
 fn survey_row(r: &AnyRow) -> Result<SurveyRow> {
@@ -31,13 +32,13 @@ const COLUMNS: &str = "id, site_id, site_revision, body, result, created_at";
 impl Store {
     pub async fn survey_insert(
         &self,
-        org_id: &str,
-        site_id: &str,
+        org_id: &OrgId,
+        site_id: &SiteId,
         revision: i64,
         body: &str,
         result: &str,
     ) -> Result<SurveyRow> {
-        let (id, at) = (new_id(), now());
+        let (id, at) = (SurveyId::generate(), now());
         let _writer = self.writer().await;
         sqlx::query(
             "INSERT INTO surveys (id, org_id, site_id, site_revision, body, result, created_at) VALUES ($1, $2, $3, $4, $5, $6, $7)",
@@ -48,12 +49,12 @@ impl Store {
         .bind(revision)
         .bind(body)
         .bind(result)
-        .bind(&at)
+        .bind(at)
         .execute(self.pool())
         .await?;
         Ok(SurveyRow {
             id,
-            site_id: site_id.into(),
+            site_id: site_id.clone(),
             site_revision: revision,
             body: body.into(),
             result: result.into(),
@@ -61,7 +62,7 @@ impl Store {
         })
     }
 
-    pub async fn survey_get(&self, org_id: &str, id: &str) -> Result<Option<SurveyRow>> {
+    pub async fn survey_get(&self, org_id: &OrgId, id: &SurveyId) -> Result<Option<SurveyRow>> {
         let sql = format!("SELECT {COLUMNS} FROM surveys WHERE id = $1 AND org_id = $2");
         sqlx::query(sqlx::AssertSqlSafe(sql))
             .bind(id)
@@ -75,8 +76,8 @@ impl Store {
 
     pub async fn surveys_list(
         &self,
-        org_id: &str,
-        site_id: &str,
+        org_id: &OrgId,
+        site_id: &SiteId,
         cursor: Option<&str>,
         limit: i64,
     ) -> Result<Vec<SurveyRow>> {

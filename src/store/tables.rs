@@ -1,27 +1,28 @@
 //! An organisation's custom reference-level tables and their versions. A
 //! version can be replaced until an assessment uses it; then it is frozen.
 
-use super::{Result, Store, col, new_id, now};
+use super::{Result, Store, col, now};
+use crate::ids::{OrgId, TableRecordId, Timestamp};
 use sqlx::any::AnyRow;
 
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct TableRow {
-    pub id: String,
+    pub id: TableRecordId,
     /// The table's own id (its `id` field), unique per organisation.
     pub key: String,
     pub latest_version: i64,
-    pub created_at: String,
+    pub created_at: Timestamp,
 }
 
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct TableVersionRow {
-    pub table_id: String,
+    pub table_id: TableRecordId,
     pub version: i64,
     /// The table document (JSON).
     pub body: String,
     pub used: bool,
-    pub created_at: String,
-    pub updated_at: String,
+    pub created_at: Timestamp,
+    pub updated_at: Timestamp,
 }
 
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -56,8 +57,8 @@ const VERSION_COLUMNS: &str = "v.table_id, v.version, v.body, v.used, v.created_
 
 impl Store {
     /// Creates a custom table with version 1 (unique per organisation).
-    pub async fn table_create(&self, org_id: &str, key: &str, body: &str) -> Result<(TableRow, TableVersionRow)> {
-        let (id, at) = (new_id(), now());
+    pub async fn table_create(&self, org_id: &OrgId, key: &str, body: &str) -> Result<(TableRow, TableVersionRow)> {
+        let (id, at) = (TableRecordId::generate(), now());
         let mut tx = self.begin_write().await?;
         sqlx::query(
             "INSERT INTO ref_tables (id, org_id, table_key, latest_version, created_at) VALUES ($1, $2, $3, 1, $4)",
@@ -65,7 +66,7 @@ impl Store {
         .bind(&id)
         .bind(org_id)
         .bind(key)
-        .bind(&at)
+        .bind(at)
         .execute(tx.conn())
         .await?;
         sqlx::query(
@@ -73,23 +74,23 @@ impl Store {
         )
         .bind(&id)
         .bind(body)
-        .bind(&at)
+        .bind(at)
         .execute(tx.conn())
         .await?;
         tx.commit().await?;
-        let t = TableRow { id: id.clone(), key: key.to_string(), latest_version: 1, created_at: at.clone() };
+        let t = TableRow { id: id.clone(), key: key.to_string(), latest_version: 1, created_at: at };
         let v = TableVersionRow {
             table_id: id,
             version: 1,
             body: body.to_string(),
             used: false,
-            created_at: at.clone(),
+            created_at: at,
             updated_at: at,
         };
         Ok((t, v))
     }
 
-    pub async fn table_get(&self, org_id: &str, key: &str) -> Result<Option<TableRow>> {
+    pub async fn table_get(&self, org_id: &OrgId, key: &str) -> Result<Option<TableRow>> {
         sqlx::query(
             "SELECT id, table_key, latest_version, created_at FROM ref_tables WHERE org_id = $1 AND table_key = $2",
         )
@@ -102,7 +103,7 @@ impl Store {
         .transpose()
     }
 
-    pub async fn tables_list(&self, org_id: &str) -> Result<Vec<TableRow>> {
+    pub async fn tables_list(&self, org_id: &OrgId) -> Result<Vec<TableRow>> {
         sqlx::query(
             "SELECT id, table_key, latest_version, created_at FROM ref_tables WHERE org_id = $1 ORDER BY table_key",
         )
@@ -114,7 +115,7 @@ impl Store {
         .collect()
     }
 
-    pub async fn table_versions(&self, org_id: &str, key: &str) -> Result<Vec<TableVersionRow>> {
+    pub async fn table_versions(&self, org_id: &OrgId, key: &str) -> Result<Vec<TableVersionRow>> {
         let sql = format!(
             "SELECT {VERSION_COLUMNS} FROM ref_table_versions v JOIN ref_tables t ON t.id = v.table_id \
              WHERE t.org_id = $1 AND t.table_key = $2 ORDER BY v.version"
@@ -132,7 +133,7 @@ impl Store {
     /// One version; `None` for the latest.
     pub async fn table_version(
         &self,
-        org_id: &str,
+        org_id: &OrgId,
         key: &str,
         version: Option<i64>,
     ) -> Result<Option<TableVersionRow>> {
@@ -152,7 +153,7 @@ impl Store {
     }
 
     /// Adds the next version of a table; `None` if there is no such table.
-    pub async fn table_version_add(&self, org_id: &str, key: &str, body: &str) -> Result<Option<TableVersionRow>> {
+    pub async fn table_version_add(&self, org_id: &OrgId, key: &str, body: &str) -> Result<Option<TableVersionRow>> {
         let at = now();
         let mut tx = self.begin_write().await?;
         let done = sqlx::query(
@@ -171,14 +172,14 @@ impl Store {
             .bind(key)
             .fetch_one(tx.conn())
             .await?;
-        let (table_id, version): (String, i64) = (col(&r, "id")?, col(&r, "latest_version")?);
+        let (table_id, version): (TableRecordId, i64) = (col(&r, "id")?, col(&r, "latest_version")?);
         sqlx::query(
             "INSERT INTO ref_table_versions (table_id, version, body, used, created_at, updated_at) VALUES ($1, $2, $3, 0, $4, $4)",
         )
         .bind(&table_id)
         .bind(version)
         .bind(body)
-        .bind(&at)
+        .bind(at)
         .execute(tx.conn())
         .await?;
         tx.commit().await?;
@@ -187,7 +188,7 @@ impl Store {
             version,
             body: body.to_string(),
             used: false,
-            created_at: at.clone(),
+            created_at: at,
             updated_at: at,
         }))
     }
@@ -195,7 +196,7 @@ impl Store {
     /// Replaces a version's content unless an assessment has used it.
     pub async fn table_version_replace(
         &self,
-        org_id: &str,
+        org_id: &OrgId,
         key: &str,
         version: i64,
         body: &str,
@@ -209,7 +210,7 @@ impl Store {
             "UPDATE ref_table_versions SET body = $1, updated_at = $2 WHERE table_id = $3 AND version = $4 AND used = 0",
         )
         .bind(body)
-        .bind(&at)
+        .bind(at)
         .bind(&current.table_id)
         .bind(version)
         .execute(self.pool())

@@ -455,7 +455,10 @@ async fn a_key_revoked_outside_the_api_answers_401_at_once() {
     let app = spawn_app().await;
     let key = app.key("acme", Role::Assessor).await;
     assert_eq!(app.get("/v1/sites", &key).await.status(), 200);
-    app.service.keys_revoke_for_org("acme", &key_id(&key)).await.expect("revoke");
+    app.service
+        .keys_revoke_for_org("acme", &fluxbound::ids::KeyId::parse(&key_id(&key)).unwrap())
+        .await
+        .expect("revoke");
     assert_problem(app.get("/v1/sites", &key).await, 401, "unauthorized", None).await;
     let res = app.post("/v1/evaluate", &key, &example("evaluate-busbar-walkway.json")).await;
     assert_problem(res, 401, "unauthorized", None).await;

@@ -2,9 +2,10 @@
 
 use super::json_response;
 use crate::http::AppState;
-use crate::http::extract::{ApiJson, Auth, PageQuery, check_id};
+use crate::http::extract::{ApiJson, Auth, PageQuery, parse_id};
 use crate::http::problem::ApiError;
 use crate::http::resources::{AssessmentPage, AssessmentResource};
+use crate::ids::{AssessmentId, SiteId};
 use crate::service::AssessmentRequest;
 use axum::extract::{Path, State};
 use axum::http::{StatusCode, Uri};
@@ -27,7 +28,7 @@ pub async fn assessments_create(
     Path(site_id): Path<String>,
     ApiJson(req): ApiJson<AssessmentRequest>,
 ) -> Result<Response, ApiError> {
-    check_id(&site_id, "site")?;
+    let site_id: SiteId = parse_id(&site_id, "site")?;
     let v = s.service.assessments_create(&caller, &site_id, req).await?;
     let location = format!("/v1/assessments/{}", v.row.id);
     Ok(json_response(StatusCode::CREATED, &AssessmentResource::from(v), Some(location), None))
@@ -47,7 +48,7 @@ pub async fn assessments_list(
     Path(site_id): Path<String>,
     uri: Uri,
 ) -> Result<Response, ApiError> {
-    check_id(&site_id, "site")?;
+    let site_id: SiteId = parse_id(&site_id, "site")?;
     let q = PageQuery::from_uri(&uri)?;
     let (items, next) = s.service.assessments_list(&caller, &site_id, q.cursor()?, q.limit()?).await?;
     let page = AssessmentPage { items: items.into_iter().map(AssessmentResource::from).collect(), next_cursor: next };
@@ -67,7 +68,7 @@ pub async fn assessments_show(
     Auth(caller): Auth,
     Path(id): Path<String>,
 ) -> Result<Response, ApiError> {
-    check_id(&id, "assessment")?;
+    let id: AssessmentId = parse_id(&id, "assessment")?;
     let v = s.service.assessments_show(&caller, &id).await?;
     Ok(json_response(StatusCode::OK, &AssessmentResource::from(v), None, None))
 }

@@ -2,9 +2,10 @@
 
 use super::json_response;
 use crate::http::AppState;
-use crate::http::extract::{ApiJson, Auth, check_id};
+use crate::http::extract::{ApiJson, Auth, parse_id};
 use crate::http::problem::ApiError;
 use crate::http::resources::{KeyCreate, KeyCreated, KeyList, KeyResource};
+use crate::ids::KeyId;
 use crate::service::Role;
 use axum::extract::{Path, State};
 use axum::http::StatusCode;
@@ -50,7 +51,7 @@ pub async fn keys_revoke(
     Auth(caller): Auth,
     Path(id): Path<String>,
 ) -> Result<Response, ApiError> {
-    check_id(&id, "key")?;
+    let id: KeyId = parse_id(&id, "key")?;
     s.service.keys_revoke(&caller, &id).await?;
     Ok(StatusCode::NO_CONTENT.into_response())
 }

@@ -1,8 +1,9 @@
 //! Pictures and exports of a stored assessment.
 
 use crate::http::AppState;
-use crate::http::extract::{Auth, check_id};
+use crate::http::extract::{Auth, parse_id};
 use crate::http::problem::ApiError;
+use crate::ids::AssessmentId;
 use axum::extract::{Path, State};
 use axum::http::{HeaderValue, StatusCode, Uri, header};
 use axum::response::{IntoResponse, Response};
@@ -28,7 +29,7 @@ pub async fn reports_map(
     Auth(caller): Auth,
     Path((id, area)): Path<(String, String)>,
 ) -> Result<Response, ApiError> {
-    check_id(&id, "assessment")?;
+    let id: AssessmentId = parse_id(&id, "assessment")?;
     Ok(typed(s.service.reports_map_svg(&caller, &id, &area).await?, "image/svg+xml"))
 }
 
@@ -47,7 +48,7 @@ pub async fn reports_csv(
     Auth(caller): Auth,
     Path(id): Path<String>,
 ) -> Result<Response, ApiError> {
-    check_id(&id, "assessment")?;
+    let id: AssessmentId = parse_id(&id, "assessment")?;
     Ok(typed(s.service.reports_csv(&caller, &id).await?, "text/csv; charset=utf-8"))
 }
 
@@ -66,7 +67,7 @@ pub async fn reports_geojson(
     Auth(caller): Auth,
     Path(id): Path<String>,
 ) -> Result<Response, ApiError> {
-    check_id(&id, "assessment")?;
+    let id: AssessmentId = parse_id(&id, "assessment")?;
     let doc = s.service.reports_geojson(&caller, &id).await?;
     Ok(typed(serde_json::to_string(&doc).unwrap_or_default(), "application/geo+json"))
 }
@@ -100,7 +101,7 @@ pub async fn reports_distance(
     Path(id): Path<String>,
     uri: Uri,
 ) -> Result<Response, ApiError> {
-    check_id(&id, "assessment")?;
+    let id: AssessmentId = parse_id(&id, "assessment")?;
     let q = axum::extract::Query::<DistanceQuery>::try_from_uri(&uri)
         .map_err(|e| ApiError::bad_request(e.body_text(), Default::default()))?
         .0;

@@ -2,9 +2,10 @@
 
 use super::json_response;
 use crate::http::AppState;
-use crate::http::extract::{ApiJson, Auth, PageQuery, check_id, etag, if_match, parse_positive};
+use crate::http::extract::{ApiJson, Auth, PageQuery, etag, if_match, parse_id, parse_positive};
 use crate::http::problem::ApiError;
 use crate::http::resources::{SitePage, SiteResource, SiteSummary};
+use crate::ids::SiteId;
 use axum::extract::{Path, State};
 use axum::http::{HeaderMap, StatusCode, Uri};
 use axum::response::Response;
@@ -52,7 +53,7 @@ pub async fn sites_list(State(s): State<AppState>, Auth(caller): Auth, uri: Uri)
     ),
     security(("bearer" = [])))]
 pub async fn sites_show(State(s): State<AppState>, Auth(caller): Auth, Path(id): Path<String>) -> ApiResult {
-    check_id(&id, "site")?;
+    let id: SiteId = parse_id(&id, "site")?;
     Ok(site_response(StatusCode::OK, s.service.sites_show(&caller, &id).await?, false))
 }
 
@@ -76,7 +77,7 @@ pub async fn sites_update(
     headers: HeaderMap,
     ApiJson(doc): ApiJson<SiteDoc>,
 ) -> ApiResult {
-    check_id(&id, "site")?;
+    let id: SiteId = parse_id(&id, "site")?;
     let v = s.service.sites_update(&caller, &id, if_match(&headers), doc).await?;
     Ok(site_response(StatusCode::OK, v, false))
 }
@@ -94,7 +95,7 @@ pub async fn sites_revision(
     Auth(caller): Auth,
     Path((id, rev)): Path<(String, String)>,
 ) -> ApiResult {
-    check_id(&id, "site")?;
+    let id: SiteId = parse_id(&id, "site")?;
     let rev = parse_positive(&rev, "revision")?;
     Ok(site_response(StatusCode::OK, s.service.sites_revision(&caller, &id, rev).await?, false))
 }
@@ -108,7 +109,7 @@ pub async fn sites_revision(
     ),
     security(("bearer" = [])))]
 pub async fn sites_delete(State(s): State<AppState>, Auth(caller): Auth, Path(id): Path<String>) -> ApiResult {
-    check_id(&id, "site")?;
+    let id: SiteId = parse_id(&id, "site")?;
     s.service.sites_delete(&caller, &id).await?;
     Ok(axum::response::IntoResponse::into_response(StatusCode::NO_CONTENT))
 }

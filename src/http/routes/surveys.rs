@@ -2,9 +2,10 @@
 
 use super::json_response;
 use crate::http::AppState;
-use crate::http::extract::{ApiJson, Auth, PageQuery, check_id};
+use crate::http::extract::{ApiJson, Auth, PageQuery, parse_id};
 use crate::http::problem::ApiError;
 use crate::http::resources::{SurveyExtrapolation, SurveyPage, SurveyReconciliation, SurveyResource};
+use crate::ids::{SiteId, SurveyId};
 use axum::extract::{Path, State};
 use axum::http::{StatusCode, Uri};
 use axum::response::{IntoResponse, Response};
@@ -58,7 +59,7 @@ pub async fn surveys_create(
     uri: Uri,
     ApiJson(doc): ApiJson<SurveyDoc>,
 ) -> Result<Response, ApiError> {
-    check_id(&site_id, "site")?;
+    let site_id: SiteId = parse_id(&site_id, "site")?;
     let review_fraction = ReviewQuery::review_fraction(&uri)?.unwrap_or_default();
     let v = s.service.surveys_create(&caller, &site_id, doc, review_fraction).await?;
     let location = format!("/v1/surveys/{}", v.row.id);
@@ -76,7 +77,7 @@ pub async fn surveys_list(
     Path(site_id): Path<String>,
     uri: Uri,
 ) -> Result<Response, ApiError> {
-    check_id(&site_id, "site")?;
+    let site_id: SiteId = parse_id(&site_id, "site")?;
     let q = PageQuery::from_uri(&uri)?;
     let (items, next) = s.service.surveys_list(&caller, &site_id, q.cursor()?, q.limit()?).await?;
     Ok(json_response(
@@ -97,7 +98,7 @@ pub async fn surveys_show(
     Auth(caller): Auth,
     Path(id): Path<String>,
 ) -> Result<Response, ApiError> {
-    check_id(&id, "survey")?;
+    let id: SurveyId = parse_id(&id, "survey")?;
     Ok(json_response(StatusCode::OK, &SurveyResource::from(s.service.surveys_show(&caller, &id).await?), None, None))
 }
 
@@ -126,8 +127,8 @@ async fn survey_part<T: serde::Serialize>(
     id: &str,
     part: impl FnOnce(fluxbound_core::survey::SurveyAnalysis) -> T,
 ) -> Result<Response, ApiError> {
-    check_id(id, "survey")?;
-    let v = s.service.surveys_show(caller, id).await?;
+    let id: SurveyId = parse_id(id, "survey")?;
+    let v = s.service.surveys_show(caller, &id).await?;
     Ok(axum::Json(part(v.analysis)).into_response())
 }
 
