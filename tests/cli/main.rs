@@ -137,7 +137,7 @@ fn evaluating_the_busbar_example_prints_exactly_the_documented_keys() {
     assert_eq!(out.status.code(), Some(0), "stderr: {}", stderr_of(&out));
     let v: Value = serde_json::from_slice(&out.stdout).expect("stdout is one JSON document");
 
-    // `EvaluateResponse` in src/domain/evaluate.rs: a published interface.
+    // `EvaluateResponse` in crates/fluxbound-core/src/evaluate.rs: a published interface.
     assert_eq!(keys(&v), sorted(vec!["frequency_hz", "points", "segment_point_pairs", "cautions"]));
     for p in v["points"].as_array().expect("points is an array") {
         assert_eq!(keys(p), sorted(vec!["at", "resultant_ut", "maximum_ut", "frequencies", "inside_conductors"]));

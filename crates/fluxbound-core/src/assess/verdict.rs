@@ -105,7 +105,7 @@ fn line_share(b_ut: f64, level_ut: Option<f64>) -> LineShare {
 }
 
 /// The exposure ratio `Σ_f B_f / B_RL(f)` — the ICNIRP 2010 multi-frequency
-/// rule for 1 Hz–10 MHz (from memory, REFERENCES.md), with one frequency
+/// rule for 1 Hz–10 MHz (from memory, docs/REFERENCES.md), with one frequency
 /// simply `B / B_RL(f)`. `b_ut` is the resultant RMS flux density of each
 /// spectral line and `levels` the table's level at that line, µT. Lines with
 /// no field (0 µT) are skipped, so a table's coverage only matters for

@@ -175,6 +175,11 @@ pub(crate) unsafe fn unit_field_avx512(f: &Filaments, k: usize, p: &ChunkPoints,
 }
 
 /// Unit-current field of conductor `k` at the chunk, written to `out`.
+///
+/// Longer than our usual ~60 lines on purpose: it is the hot loop, inlined
+/// into each compiled CPU variant, and splitting it into calls would put
+/// the vertex reuse and the point loop behind function boundaries the
+/// vectoriser must then see through.
 #[inline(always)]
 fn unit_field(f: &Filaments, k: usize, p: &ChunkPoints, out: &mut UnitField) {
     let range = f.vertex_range(k);

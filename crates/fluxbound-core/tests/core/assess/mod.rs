@@ -1,7 +1,7 @@
 //! Assessment of positions and areas, on scenarios that can be worked by
 //! hand from the infinite-wire law (Source: OpenStax University Physics
 //! Vol. 2, §12.2: B = µ0 I / (2π R), i.e. B[µT] = 0.2 · I[A] / R[m]) and the
-//! published table values (REFERENCES.md).
+//! published table values (docs/REFERENCES.md).
 
 mod usecase;
 

@@ -22,7 +22,7 @@ fn the_exposure_ratio_sums_each_lines_field_over_its_level_and_skips_lines_witho
     let r = exposure_ratio([10.0, 2.0, 0.0], &[Some(100.0), Some(20.0), None]).unwrap();
     assert!((r - 0.2).abs() < 1e-15, "{r}");
     assert_eq!(exposure_ratio([10.0, 2.0, 0.5], &[Some(100.0), Some(20.0), None]), Err(vec![2]));
-    // The EU 2013/35 low action level at 50 Hz is 1000 µT (REFERENCES.md):
+    // The EU 2013/35 low action level at 50 Hz is 1000 µT (docs/REFERENCES.md):
     // 250 µT is a quarter of it.
     let eu = builtin_table("eu-2013-35-low").unwrap();
     let r = exposure_ratio([250.0], &line_levels(eu, &[50.0])).unwrap();

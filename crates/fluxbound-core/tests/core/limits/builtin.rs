@@ -1,4 +1,4 @@
-//! Every built-in table at 50 Hz and 60 Hz against REFERENCES.md. Status
+//! Every built-in table at 50 Hz and 60 Hz against docs/REFERENCES.md. Status
 //! letters as there: V verified in the named source, M from memory, D
 //! derived here (arithmetic shown).
 

@@ -1,5 +1,5 @@
 //! Custom tables through `parse_table`: one test per validation rule, each
-//! with the exact RFC 6901 pointer and message of src/domain/limits/table.rs.
+//! with the exact RFC 6901 pointer and message of crates/fluxbound-core/src/limits/table.rs.
 //! Documents start from a valid base table and change one thing.
 
 use super::assert_level;

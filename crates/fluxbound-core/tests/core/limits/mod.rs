@@ -1,5 +1,5 @@
 //! Reference-level tables: the built-in figures against the published values
-//! in ../shared/REFERENCES.md, band-edge rules, coverage, and the validation
+//! in docs/REFERENCES.md, band-edge rules, coverage, and the validation
 //! of custom tables with their RFC 6901 pointers.
 
 mod bands;

@@ -1,4 +1,4 @@
-//! The phase-current conventions stated in `src/domain/site/currents.rs`,
+//! The phase-current conventions stated in `crates/fluxbound-core/src/site/currents.rs`,
 //! checked against hand arithmetic.
 //!
 //! Tolerance: 1e-9 A absolute on currents of at most a few hundred amperes.

@@ -1,5 +1,5 @@
 //! The site model: validation rules with their RFC 6901 pointers, and the
-//! phase-current conventions of `src/domain/site/currents.rs`.
+//! phase-current conventions of `crates/fluxbound-core/src/site/currents.rs`.
 
 mod currents;
 mod validation;
