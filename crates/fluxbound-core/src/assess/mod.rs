@@ -888,9 +888,9 @@ fn certainty_words(max_ut: Option<f64>, bound_ut: Option<f64>, raw_bound_ut: f64
     match (max_ut, bound_ut) {
         (None, _) => "no point of the area could be computed".to_string(),
         (Some(m), Some(b)) => {
-            let above = if m > 0.0 { (b / m - 1.0).max(0.0) * 100.0 } else { 0.0 };
+            let below = if b > 0.0 { (1.0 - m / b).max(0.0) * 100.0 } else { 0.0 };
             format!(
-                "proven: the true maximum is at most {b:.4} µT, {above:.2} % above the reported maximum (target: within 1 %)"
+                "proven within {below:.2} % below the true maximum, which is at most {b:.2} µT (target: within 1 %)"
             )
         }
         (Some(_), None) if raw_bound_ut.is_finite() => format!(

@@ -47,7 +47,7 @@ fn a_conductor_half_a_metre_beside_an_area_gives_the_edge_value_as_the_area_maxi
     let bound = area.max_bound_ut.unwrap();
     assert!(area.max_bounded);
     assert!(bound >= edge_ut * (1.0 - 1e-12) && bound <= max / 0.99 * (1.0 + 1e-12), "bound {bound}");
-    assert!(area.max_certainty.starts_with("proven"), "{}", area.max_certainty);
+    assert!(area.max_certainty.starts_with("proven within"), "{}", area.max_certainty);
     let c = &area.comparisons[0];
     assert_eq!(c.verdict, Verdict::Exceeds);
     assert_eq!(area.verdict, Verdict::Exceeds);
