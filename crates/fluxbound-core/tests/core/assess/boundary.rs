@@ -139,3 +139,28 @@ fn a_thin_conductor_through_an_area_leaves_the_maximum_unbounded_and_says_so_in_
     // The sampled maximum is still reported (a lower bound of the truth).
     assert!(area.max_resultant_ut.unwrap() > 0.0);
 }
+
+#[test]
+fn a_harmonic_ratio_is_bounded_line_by_line_and_found_at_the_edge() {
+    // 1000 A with a 10 % 7th harmonic along a long wire (x axis, z = 0), an
+    // area whose near edge is 1 m away: B1 = 0.2 · 1000 / 1 = 200 µT and
+    // B7 = 20 µT there (infinite-wire law; 20 km wire, finite-length error
+    // (1/10⁴)²/2, negligible). ICNIRP 2010 occupational: 1000 µT at 50 Hz,
+    // 3e5/350 = 857.142857 µT at 350 Hz (Table 3, V); sum rule (from
+    // memory): 200/1000 + 20/857.142857 = 0.2233333 on the edge, while the
+    // first cell centres (0.25 m in, r = 1.25 m) see only 0.1786667.
+    let doc = json!({
+        "frequency_hz": 50,
+        "circuits": [{"id": "w", "kind": "single_phase", "current_a": 1000, "harmonics": [{"order": 7, "percent": 10}]}],
+        "conductors": [{"id": "w-A", "circuit": "w", "phase": "A", "radius_m": 0.01, "path": [[-L, 0.0, 0.0], [L, 0.0, 0.0]]}],
+        "areas": [{"id": "bay", "polygon": [[-2, 1], [2, 1], [2, 3], [-2, 3]], "height_m": 0.0, "spacing_m": 0.5}]
+    });
+    let a = run(doc, LoadCase::Present, &["icnirp-2010-occupational"], Options::default());
+    let c = &a.areas[0].comparisons[0];
+    let edge = 0.2 + 20.0 / (3.0e5 / 350.0);
+    // 1e-8 relative: the 20 km wire's finite length and rounding.
+    assert!(rel(c.max_ratio.unwrap(), edge) < 1e-8, "{:?}", c.max_ratio);
+    let bound = c.max_ratio_bound.unwrap();
+    assert!(bound >= edge * (1.0 - 1e-8) && bound <= c.max_ratio.unwrap() / 0.99 * (1.0 + 1e-12), "{bound}");
+    assert_eq!(c.verdict, Verdict::Within);
+}
