@@ -117,24 +117,25 @@ fn the_furnace_examples_walkway_maximum_is_at_least_its_edge_value() {
 
 #[test]
 fn a_thin_conductor_through_an_area_leaves_the_maximum_unbounded_and_says_so_in_words() {
-    // A vertical 1 mm-radius wire through a 1 m grid: refinement stops at
-    // 1 m / 1024 ≈ 1 mm squares, whose samples stay a few millimetres from
-    // the axis, while a point just outside the wire sees up to
-    // 0.2 · 1000 / 0.001 = 200 000 µT. No number within 1 % can be proven,
-    // so none is given as the bound, and the words name the surface value.
+    // A vertical wire of the thinnest radius allowed (0.1 mm) through a 2 m
+    // grid: refinement stops at 2 m / 16384 ≈ 0.12 mm half-squares, whose
+    // samples stay further than 1 % beyond the wire's surface, while a
+    // point just outside it sees up to 0.2 · 1000 / 0.0001 = 2 000 000 µT.
+    // No number within 1 % can be proven, so none is given as the bound,
+    // and the words name the surface value.
     let doc = json!({
         "frequency_hz": 50,
         "circuits": [{"id": "v", "kind": "single_phase", "current_a": 1000}],
-        "conductors": [{"id": "v-A", "circuit": "v", "phase": "A", "radius_m": 0.001,
-                        "path": [[0.3, 0.2, -L], [0.3, 0.2, L]]}],
-        "areas": [{"id": "floor", "polygon": [[-2, -2], [2, -2], [2, 2], [-2, 2]], "height_m": 0.0, "spacing_m": 1.0}]
+        "conductors": [{"id": "v-A", "circuit": "v", "phase": "A", "radius_m": 0.0001,
+                        "path": [[0.3137, 0.2171, -L], [0.3137, 0.2171, L]]}],
+        "areas": [{"id": "floor", "polygon": [[-2, -2], [2, -2], [2, 2], [-2, 2]], "height_m": 0.0, "spacing_m": 2.0}]
     });
     let a = run(doc, LoadCase::Present, &["icnirp-2010-occupational"], Options::default());
     let area = &a.areas[0];
     assert!(!area.max_bounded);
     assert_eq!(area.max_bound_ut, None);
     assert!(area.max_certainty.starts_with("not bounded"), "{}", area.max_certainty);
-    assert!(area.max_certainty.contains("200000 µT"), "{}", area.max_certainty);
+    assert!(area.max_certainty.contains("2000000 µT"), "{}", area.max_certainty);
     assert_eq!(area.comparisons[0].max_ratio_bound, None);
     // The sampled maximum is still reported (a lower bound of the truth).
     assert!(area.max_resultant_ut.unwrap() > 0.0);
