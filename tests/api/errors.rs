@@ -347,6 +347,22 @@ async fn assessing_over_the_compute_budget_returns_422_budget_exceeded_and_store
 }
 
 #[tokio::test]
+async fn proving_an_area_maximum_over_the_compute_budget_returns_422_at_the_areas_spacing() {
+    // 1 segment × (1 position + 10 × 10 cells) = 101 pairs fit in 150; the
+    // boundary samples (40 m of edge in pieces of 0.5 m: 160 points) and
+    // the refinement of the area's maximum do not.
+    let (app, key) = app_with(Limits { max_pairs: 150, rate_per_key: 0, ..Limits::default() }).await;
+    let mut doc = small_site("grid");
+    doc["areas"] =
+        json!([{"id": "floor", "polygon": [[0, 1], [10, 1], [10, 11], [0, 11]], "height_m": 1.0, "spacing_m": 1.0}]);
+    let site = app.site(&key, &doc).await;
+    let res = app.post(&format!("/v1/sites/{site}/assessments"), &key, &json!({})).await;
+    let problem = assert_problem(res, 422, "budget-exceeded", Some("/areas/0/spacing_m")).await;
+    assert!(problem.to_string().contains("proving this area's maximum"), "{problem}");
+    assert_eq!(assessment_count(&app, &key, &site).await, 0);
+}
+
+#[tokio::test]
 async fn more_requests_than_the_rate_limit_allows_return_429_rate_limited() {
     let (app, key) = app_with(Limits { rate_per_key: 1, ..Limits::default() }).await;
     let other = app.key("acme", Role::Viewer).await;

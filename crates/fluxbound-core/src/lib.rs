@@ -11,12 +11,13 @@
 //! # Layout
 //!
 //! ```text
-//! field/      phasor Biot–Savart kernel, influence matrices, resultant and maximum
+//! field/      phasor Biot–Savart kernel, influence matrices, resultant and maximum,
+//!             bounds of a segment's field and its rate of change (field/bound)
 //! site/       the site document: wire types, strict parsing, validation with
 //!             JSON pointers, the checked model, phase and harmonic conventions
 //! limits/     reference-level tables as data: bands, lookup, validation, built-ins
 //! assess/     exposure at positions and areas, load cases, ratios and verdicts,
-//!             area grids and field maps
+//!             area grids and field maps, the proven area maximum (assess/peak)
 //! survey/     measured against modelled (a checked survey carries its site),
 //!             bounded least-squares load fit, extrapolation to rated load
 //! survey/lm   the Levenberg–Marquardt solver of the fit, tuning named and cited

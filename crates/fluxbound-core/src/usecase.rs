@@ -175,8 +175,16 @@ pub fn assess_site(
     budget: &Budget,
 ) -> Result<Assessment, UseCaseError> {
     check_assessment_budget(site, budget)?;
-    let options = Options { review_fraction, max_grid_cells: budget.max_grid_cells };
-    Ok(assess::assess(site, load, tables, &options)?)
+    // The boundary samples and the refinement of area maxima spend what
+    // the grid and positions leave of the pair budget.
+    let options = Options {
+        review_fraction,
+        max_grid_cells: budget.max_grid_cells,
+        max_refine_pairs: budget.max_pairs.saturating_sub(assessment_pairs(site)),
+    };
+    assess::assess(site, load, tables, &options).map_err(|e| {
+        if e.over_budget.is_empty() { UseCaseError::Assess(e) } else { UseCaseError::OverBudget(e.over_budget) }
+    })
 }
 
 /// Checks a survey document against the site it was measured on.

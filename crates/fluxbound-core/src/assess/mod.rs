@@ -10,12 +10,14 @@
 mod grid;
 mod load;
 mod map;
+mod peak;
 mod review;
 mod verdict;
 
 pub use grid::{DEFAULT_MAX_GRID_CELLS, GridSpec, area_grid, bounding_cells, check_grid_budget, contains};
 pub use load::{CircuitLoadReport, LoadCase, LoadCaseReport, LoadError};
 pub use map::{AreaMap, MAP_MAX_CELLS, TableRatios, area_map};
+pub use peak::CERTAINTY;
 pub use review::{ReviewFraction, ReviewFractionError};
 pub use verdict::{FrequencyRatio, Ratio, Verdict, exposure_ratio, line_levels, ratio_of};
 
@@ -39,6 +41,14 @@ pub struct Options {
     /// Most grid cells over all areas of one assessment.
     #[serde(default = "default_max_grid_cells")]
     pub max_grid_cells: u64,
+    /// Most segment–point pairs the boundary samples and the refinement of
+    /// the area maxima may spend, over all areas (no cap by default).
+    #[serde(default = "default_max_refine_pairs")]
+    pub max_refine_pairs: u64,
+}
+
+fn default_max_refine_pairs() -> u64 {
+    u64::MAX
 }
 
 fn default_max_grid_cells() -> u64 {
@@ -47,7 +57,11 @@ fn default_max_grid_cells() -> u64 {
 
 impl Default for Options {
     fn default() -> Self {
-        Options { review_fraction: ReviewFraction::DEFAULT, max_grid_cells: DEFAULT_MAX_GRID_CELLS }
+        Options {
+            review_fraction: ReviewFraction::DEFAULT,
+            max_grid_cells: DEFAULT_MAX_GRID_CELLS,
+            max_refine_pairs: default_max_refine_pairs(),
+        }
     }
 }
 
@@ -64,11 +78,14 @@ pub struct AssessError {
     /// Problems of the site for this assessment (a rated load without a
     /// rated current, area grids over the cell budget), pointers into it.
     pub in_site: Problems,
+    /// Work over the compute budget (the refinement of an area maximum),
+    /// pointers into the site.
+    pub over_budget: Problems,
 }
 
 impl AssessError {
     pub fn is_empty(&self) -> bool {
-        !self.no_tables && self.in_load.is_empty() && self.in_site.is_empty()
+        !self.no_tables && self.in_load.is_empty() && self.in_site.is_empty() && self.over_budget.is_empty()
     }
     /// Every problem as pointers: the table list at `tables_at`, the load
     /// case under `load_at`, the site's own pointers unchanged.
@@ -79,6 +96,7 @@ impl AssessError {
         }
         all.0.extend(crate::usecase::under(load_at, self.in_load).0);
         all.0.extend(self.in_site.0);
+        all.0.extend(self.over_budget.0);
         all
     }
 }
@@ -223,15 +241,20 @@ pub struct PositionResult {
 pub struct AreaComparison {
     /// Table id.
     pub table_id: String,
-    /// Highest exposure ratio over the computed cells.
+    /// Highest exposure ratio over the area: cells, boundary and
+    /// refinement samples.
     #[cfg_attr(feature = "schema", schema(required = true))]
     pub max_ratio: Option<f64>,
-    /// Verdict of the worst cell against this table.
+    /// Verdict of the area's maximum against this table: of
+    /// `max_ratio_bound` when the maximum is bounded (the conservative
+    /// side, at most 1 % above), of `max_ratio` otherwise.
     pub verdict: Verdict,
     /// The table's level at the fundamental, µT.
     #[cfg_attr(feature = "schema", schema(required = true))]
     pub level_ut: Option<f64>,
-    /// Share of computed cells at or above the level (0–1).
+    /// Share of computed cells at or above the level (0–1), by area: each
+    /// cell centre inside the polygon stands for one cell (see the area's
+    /// `share_basis`).
     #[cfg_attr(feature = "schema", schema(minimum = 0, maximum = 1))]
     #[cfg_attr(feature = "schema", schema(required = true))]
     pub share_at_or_above_level: Option<f64>,
@@ -241,6 +264,14 @@ pub struct AreaComparison {
     pub share_at_or_above_review: Option<f64>,
     /// Frequencies present that the table does not cover, Hz.
     pub uncovered_hz: Vec<f64>,
+    /// Proven upper bound of the true highest ratio over the area (cells
+    /// and boundary, between samples included), bounded per spectral line;
+    /// `null` when the table does not cover the frequencies present.
+    /// `max_ratio` is at least 99 % of it when the area's `max_bounded` is
+    /// true.
+    #[serde(default)]
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub max_ratio_bound: Option<f64>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -256,7 +287,9 @@ pub struct AreaResult {
     pub cells: usize,
     /// Cells inside a conductor: marked, never counted as exposure.
     pub cells_inside_conductors: usize,
-    /// Highest resultant over the computed cells, µT.
+    /// Highest resultant over the area, µT: over the computed cells, the
+    /// polygon's boundary (sampled at no more than half the spacing,
+    /// vertices included) and the refinement samples (see `max_bound_ut`).
     #[cfg_attr(feature = "schema", schema(required = true))]
     pub max_resultant_ut: Option<f64>,
     /// Where the highest resultant is, `[x, y, z]`, m.
@@ -272,7 +305,34 @@ pub struct AreaResult {
     /// Information-only time-weighted average (`null` without occupancy_h).
     #[cfg_attr(feature = "schema", schema(required = true))]
     pub time_weighted: Option<TimeWeighted>,
+    /// Proven upper bound of the true highest resultant over the area, µT
+    /// (cells, boundary and everywhere between samples; the bounds of the
+    /// field of straight segments, `field::bound`). `null` when it cannot
+    /// be bounded within 1 %: see `max_certainty`.
+    #[serde(default)]
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub max_bound_ut: Option<f64>,
+    /// Whether the reported maximum is proven within 1 % below the true one.
+    #[serde(default)]
+    pub max_bounded: bool,
+    /// How sure the maximum is, in words.
+    #[serde(default)]
+    pub max_certainty: String,
+    /// Samples taken on the polygon's boundary (vertices, piece ends and
+    /// midpoints, no more than half the spacing apart).
+    #[serde(default)]
+    pub boundary_samples: usize,
+    /// Samples added to prove the maximum (between samples, where a bound
+    /// said the field could be higher).
+    #[serde(default)]
+    pub refinement_samples: usize,
+    /// What the shares are taken over, in words.
+    #[serde(default)]
+    pub share_basis: String,
 }
+
+/// The basis of the area shares, as every area result states it.
+pub const SHARE_BASIS: &str = "shares are area-weighted over grid cells: each cell centre inside the polygon and outside every conductor stands for one spacing_m x spacing_m cell; boundary and refinement samples count towards the maximum only";
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
@@ -420,14 +480,17 @@ pub fn assess(
     let tables = with_implant_table(site, dedup_tables(tables));
     let plan = PointPlan::of(site);
     let excitation = site.excitation_at(&loads);
+    let filaments = crate::site::filaments(site.conductors());
     let sampler = Sampler {
         site,
-        set: field::evaluate(&crate::site::filaments(site.conductors()), &plan.points, &excitation),
+        set: field::evaluate(&filaments, &plan.points, &excitation),
         line_hz: excitation.lines.iter().map(|l| l.frequency_hz).collect(),
     };
+    let bounds = field::bound::SegmentBounds::new(&filaments, &excitation);
+    let engine = peak::Engine { filaments: &filaments, excitation: &excitation, bounds: &bounds };
     let rf = options.review_fraction;
     let positions = assess_positions(site, &plan, &sampler, &tables, rf);
-    let areas = assess_areas(site, &plan, &sampler, &tables, rf);
+    let areas = assess_areas(site, &plan, &sampler, &engine, &tables, rf, options.max_refine_pairs)?;
     let summary = summarise(&positions, &areas);
     Ok(Assessment {
         site_name: site.name().map(str::to_string),
@@ -516,20 +579,88 @@ fn assess_areas(
     site: &Site,
     plan: &PointPlan,
     sampler: &Sampler<'_>,
+    engine: &peak::Engine<'_>,
     tables: &[ReferenceTable],
     rf: ReviewFraction,
-) -> Vec<AreaResult> {
+    max_refine_pairs: u64,
+) -> Result<Vec<AreaResult>, AssessError> {
     let area_tables: Vec<&ReferenceTable> =
         tables.iter().filter(|t| applies(t, BodyRegion::WholeBody, Group::General)).collect();
-    site.areas()
+    let measures = AreaMeasures::of(&area_tables, &sampler.line_hz);
+    let mut left = max_refine_pairs;
+    let mut out = Vec::with_capacity(site.areas().len());
+    for (k, (a, span)) in site.areas().iter().zip(&plan.areas).enumerate() {
+        let samples: Vec<CellSample> =
+            span.clone().map(|i| CellSample { at: plan.points[i], field: sampler.sample(i) }).collect();
+        let peak = area_peak(engine, a, &samples, &measures.list, left).map_err(|e| refine_over_budget(k, e))?;
+        left = left.saturating_sub(peak.pairs);
+        out.push(assess_area(
+            a,
+            &samples,
+            &area_tables,
+            rf,
+            site.frequency_hz(),
+            &AreaPeakView { peak: &peak, measures: &measures },
+        ));
+    }
+    Ok(out)
+}
+
+/// What an area's maximum is taken of: the resultant first, then the ratio
+/// of each table that covers every spectral line present.
+struct AreaMeasures {
+    list: Vec<peak::Measure>,
+    /// Index into `list` per area table (`None`: not covered).
+    of_table: Vec<Option<usize>>,
+}
+
+impl AreaMeasures {
+    fn of(tables: &[&ReferenceTable], line_hz: &[f64]) -> AreaMeasures {
+        let mut list = vec![peak::Measure::Resultant];
+        let mut of_table = Vec::with_capacity(tables.len());
+        for t in tables {
+            let levels: Option<Vec<f64>> = line_levels(t, line_hz).into_iter().collect();
+            of_table.push(levels.map(|l| {
+                list.push(peak::Measure::Ratio(l.iter().map(|b| 1.0 / b).collect()));
+                list.len() - 1
+            }));
+        }
+        AreaMeasures { list, of_table }
+    }
+}
+
+/// An area's refined maximum with the measures it was taken of.
+struct AreaPeakView<'a> {
+    peak: &'a peak::AreaPeak,
+    measures: &'a AreaMeasures,
+}
+
+fn area_peak(
+    engine: &peak::Engine<'_>,
+    a: &crate::site::Area,
+    samples: &[CellSample],
+    measures: &[peak::Measure],
+    budget_pairs: u64,
+) -> Result<peak::AreaPeak, peak::OverBudget> {
+    let cells: Vec<(Point3<f64>, Option<Vec<f64>>)> = samples
         .iter()
-        .zip(&plan.areas)
-        .map(|(a, span)| {
-            let samples: Vec<CellSample> =
-                span.clone().map(|i| CellSample { at: plan.points[i], field: sampler.sample(i) }).collect();
-            assess_area(a, &samples, &area_tables, rf, site.frequency_hz())
-        })
-        .collect()
+        .map(|s| (s.at, s.field.computed().then(|| s.field.spectrum.iter().map(|(_, b)| *b).collect())))
+        .collect();
+    let shape = peak::AreaShape { polygon: &a.polygon, height_m: a.height_m, spacing_m: a.spacing_m };
+    peak::area_peak(engine, &shape, measures, &cells, budget_pairs)
+}
+
+fn refine_over_budget(area_index: usize, e: peak::OverBudget) -> AssessError {
+    let at = crate::site::Pointer::root().key("areas").index(area_index).key("spacing_m");
+    let mut p = Problems::default();
+    p.push(
+        &at,
+        format!(
+            "proving this area's maximum needs more than {} segment-point pairs, over the compute budget: make the area smaller, keep it further from the conductors, or coarsen spacing_m",
+            e.needed_pairs
+        ),
+    );
+    AssessError { over_budget: p, ..AssessError::default() }
 }
 
 fn dedup_tables(tables: &[ReferenceTable]) -> Vec<ReferenceTable> {
@@ -719,11 +850,18 @@ fn assess_area(
     tables: &[&ReferenceTable],
     rf: ReviewFraction,
     f0_hz: f64,
+    pv: &AreaPeakView<'_>,
 ) -> AreaResult {
     let computed: Vec<&CellSample> = samples.iter().filter(|s| s.field.computed()).collect();
-    let max = computed.iter().max_by(|x, y| x.field.resultant_ut.total_cmp(&y.field.resultant_ut));
-    let comparisons: Vec<AreaComparison> = tables.iter().map(|t| compare_area(t, &computed, rf, f0_hz)).collect();
-    let max_resultant_ut = max.map(|s| s.field.resultant_ut);
+    let comparisons: Vec<AreaComparison> = tables
+        .iter()
+        .zip(&pv.measures.of_table)
+        .map(|(t, m)| compare_area(t, &computed, rf, f0_hz, m.map(|m| (pv.peak, m))))
+        .collect();
+    let resultant = pv.peak.max[0];
+    let max_resultant_ut = resultant.at.map(|_| resultant.value);
+    let bounded = pv.peak.settled && resultant.at.is_some();
+    let max_bound_ut = bounded.then_some(pv.peak.bound[0]);
     AreaResult {
         id: a.id.clone(),
         height_m: a.height_m,
@@ -731,17 +869,50 @@ fn assess_area(
         cells: samples.len(),
         cells_inside_conductors: samples.len() - computed.len(),
         max_resultant_ut,
-        max_at: max.map(|s| [s.at.x, s.at.y, s.at.z]),
+        max_at: resultant.at.map(|p| [p.x, p.y, p.z]),
         mean_resultant_ut: mean_of(computed.iter().map(|s| s.field.resultant_ut)),
         verdict: worst_of(comparisons.iter().map(|c| c.verdict)).unwrap_or(Verdict::NotCovered),
         comparisons,
         time_weighted: time_weighted(a.occupancy_h, max_resultant_ut),
+        max_bound_ut,
+        max_bounded: bounded,
+        max_certainty: certainty_words(max_resultant_ut, max_bound_ut, pv.peak.bound[0]),
+        boundary_samples: pv.peak.boundary_samples,
+        refinement_samples: pv.peak.refinement_samples,
+        share_basis: SHARE_BASIS.to_string(),
     }
 }
 
-/// An area against one table: the highest ratio over its computed cells
-/// and the shares of cells at or above the level and the review fraction.
-fn compare_area(t: &ReferenceTable, computed: &[&CellSample], rf: ReviewFraction, f0_hz: f64) -> AreaComparison {
+/// The area maximum's certainty in words.
+fn certainty_words(max_ut: Option<f64>, bound_ut: Option<f64>, raw_bound_ut: f64) -> String {
+    match (max_ut, bound_ut) {
+        (None, _) => "no point of the area could be computed".to_string(),
+        (Some(m), Some(b)) => {
+            let below = if b > 0.0 { (1.0 - m / b).max(0.0) * 100.0 } else { 0.0 };
+            format!(
+                "proven within {below:.2} % below the true maximum, which is at most {b:.2} µT (target: within 1 %)"
+            )
+        }
+        (Some(_), None) if raw_bound_ut.is_finite() => format!(
+            "not bounded within 1 %: a conductor passes through or just beside the area; near its surface the field may reach {raw_bound_ut:.0} µT, above the reported maximum"
+        ),
+        (Some(_), None) => {
+            "not bounded: a conductor passes through or just beside the area; the true maximum may be higher than reported"
+                .to_string()
+        }
+    }
+}
+
+/// An area against one table: the highest ratio over the area (cells,
+/// boundary and refinement; `peak` with the table's measure index) and the
+/// shares of cells at or above the level and the review fraction.
+fn compare_area(
+    t: &ReferenceTable,
+    computed: &[&CellSample],
+    rf: ReviewFraction,
+    f0_hz: f64,
+    peak: Option<(&peak::AreaPeak, usize)>,
+) -> AreaComparison {
     let n = computed.len();
     // Levels per spectral line, computed once per table.
     let line_hz: Vec<f64> =
@@ -771,18 +942,28 @@ fn compare_area(t: &ReferenceTable, computed: &[&CellSample], rf: ReviewFraction
             share_at_or_above_level: None,
             share_at_or_above_review: None,
             uncovered_hz: uncovered,
+            max_ratio_bound: None,
         };
     }
-    let max_ratio = ratios.iter().cloned().fold(0.0, f64::max);
+    let cell_max = ratios.iter().cloned().fold(0.0, f64::max);
+    let (max_ratio, max_ratio_bound, verdict_ratio) = match peak {
+        Some((p, m)) => {
+            let max = cell_max.max(p.max[m].value);
+            let bound = p.settled.then_some(p.bound[m].max(max));
+            (max, bound, bound.unwrap_or(max))
+        }
+        None => (cell_max, None, cell_max),
+    };
     let share = |threshold: f64| ratios.iter().filter(|r| **r >= threshold).count() as f64 / n as f64;
     AreaComparison {
         table_id: t.id().into(),
         max_ratio: Some(max_ratio),
-        verdict: Verdict::of_ratio(max_ratio, rf),
+        verdict: Verdict::of_ratio(verdict_ratio, rf),
         level_ut,
         share_at_or_above_level: Some(share(1.0)),
         share_at_or_above_review: Some(share(rf.get())),
         uncovered_hz: Vec::new(),
+        max_ratio_bound,
     }
 }
 

@@ -6,8 +6,21 @@
 //! inside a conductor count as above every level (the zone around a
 //! conductor always includes the conductor). Crossings are placed by linear
 //! interpolation along the cell edge.
+//!
+//! Zones and contours of an area are clipped exactly to its polygon (also
+//! non-convex) by the `i_overlay` crate; a zone is first extended one cell
+//! beyond the grid's outer nodes with their values, so that where it reaches
+//! the area's edge it closes along the polygon rather than half a cell
+//! inside it. Within that outer half cell the zone follows the outermost
+//! node's value (the map's resolution: one grid band).
 
 use crate::assess::GridSpec;
+use i_overlay::core::fill_rule::FillRule;
+use i_overlay::core::overlay_rule::OverlayRule;
+use i_overlay::float::clip::FloatClip;
+use i_overlay::float::single::SingleFloatOverlay;
+use i_overlay::string::clip::ClipRule;
+use nalgebra::Point2;
 use std::collections::HashMap;
 
 /// A contour line in plan coordinates, m. Closed when `closed` (the last
@@ -28,29 +41,51 @@ struct Lattice<'a> {
     grid: &'a GridSpec,
     values: &'a [f64],
     inside: &'a [bool],
-    /// A ring of below-level nodes around the grid, so every line closes.
-    padded: bool,
+    /// Nodes added around the grid.
+    pad: Pad,
+}
+
+/// Nodes added around the grid.
+#[derive(Clone, Copy, PartialEq)]
+enum Pad {
+    None,
+    /// A ring of below-level nodes, so every line closes.
+    Below,
+    /// A ring repeating the outer nodes one cell further out, then a ring
+    /// below the level: zones reach past the grid, to be clipped.
+    Extend,
+}
+
+impl Pad {
+    fn rings(self) -> usize {
+        match self {
+            Pad::None => 0,
+            Pad::Below => 1,
+            Pad::Extend => 2,
+        }
+    }
 }
 
 impl Lattice<'_> {
     fn dims(&self) -> (usize, usize) {
-        if self.padded { (self.grid.nx + 2, self.grid.ny + 2) } else { (self.grid.nx, self.grid.ny) }
+        let r = 2 * self.pad.rings();
+        (self.grid.nx + r, self.grid.ny + r)
     }
-    /// Value at lattice node (i, j); `None` for padding.
+    /// Value at lattice node (i, j); `None` for below-level padding.
     fn value(&self, i: usize, j: usize) -> Option<f64> {
-        let (gi, gj) = if self.padded {
-            if i == 0 || j == 0 || i > self.grid.nx || j > self.grid.ny {
-                return None;
-            }
-            (i - 1, j - 1)
-        } else {
-            (i, j)
-        };
-        let k = gj * self.grid.nx + gi;
+        let r = self.pad.rings();
+        let (nx, ny) = (self.grid.nx, self.grid.ny);
+        if r > 0 && (i == 0 || j == 0 || i + 1 >= nx + 2 * r || j + 1 >= ny + 2 * r) {
+            return None;
+        }
+        // Padding rings inside the outermost one repeat the nearest node.
+        let gi = (i.saturating_sub(r)).min(nx - 1);
+        let gj = (j.saturating_sub(r)).min(ny - 1);
+        let k = gj * nx + gi;
         Some(if self.inside.get(k).copied().unwrap_or(false) { ABOVE } else { self.values[k] })
     }
     fn position(&self, i: usize, j: usize) -> [f64; 2] {
-        let off = if self.padded { 1.0 } else { 0.0 };
+        let off = self.pad.rings() as f64;
         let s = self.grid.spacing_m;
         [self.grid.x0_m + (i as f64 - off + 0.5) * s, self.grid.y0_m + (j as f64 - off + 0.5) * s]
     }
@@ -166,18 +201,99 @@ fn chain(l: &Lattice<'_>, level: f64, segs: Vec<(Edge, Edge)>) -> Vec<Polyline> 
 
 /// Contour lines at `level` (lines that reach the grid's edge stay open).
 pub fn isolines(grid: &GridSpec, values: &[f64], inside: &[bool], level: f64) -> Vec<Polyline> {
-    let l = Lattice { grid, values, inside, padded: false };
+    let l = Lattice { grid, values, inside, pad: Pad::None };
     chain(&l, level, segments(&l, level))
 }
 
 /// Closed rings bounding the zones at or above `level`, closed along the
 /// grid's edge where a zone reaches it: the zone to mark off.
 pub fn zone_rings(grid: &GridSpec, values: &[f64], inside: &[bool], level: f64) -> Vec<Polyline> {
-    let l = Lattice { grid, values, inside, padded: true };
+    let l = Lattice { grid, values, inside, pad: Pad::Below };
     chain(&l, level, segments(&l, level))
 }
 
 /// Twice the signed area of a closed ring (positive counter-clockwise).
 pub fn signed_area2(points: &[[f64; 2]]) -> f64 {
     points.windows(2).map(|w| w[0][0] * w[1][1] - w[1][0] * w[0][1]).sum()
+}
+
+/// A zone polygon: its exterior ring first (counter-clockwise), then its
+/// holes (clockwise), each ring closed (last point equal to the first), as
+/// RFC 7946 §3.1.6 recommends.
+pub type ZonePolygon = Vec<Vec<[f64; 2]>>;
+
+/// The zones at or above `level` inside `polygon` (the area), clipped
+/// exactly to it and closed along it.
+pub fn clipped_zones(
+    grid: &GridSpec,
+    values: &[f64],
+    inside: &[bool],
+    level: f64,
+    polygon: &[Point2<f64>],
+) -> Vec<ZonePolygon> {
+    if grid.is_empty() || values.len() < grid.len() {
+        return Vec::new();
+    }
+    let l = Lattice { grid, values, inside, pad: Pad::Extend };
+    let rings: Vec<Vec<[f64; 2]>> = chain(&l, level, segments(&l, level))
+        .into_iter()
+        .filter(|r| r.closed && r.points.len() >= 4)
+        .map(|mut r| {
+            r.points.pop();
+            r.points
+        })
+        .collect();
+    if rings.is_empty() {
+        return Vec::new();
+    }
+    let clip: Vec<[f64; 2]> = polygon.iter().map(|p| [p.x, p.y]).collect();
+    // Even–odd: a ring inside another is a hole, whatever its direction.
+    let shapes = rings.overlay(&clip, OverlayRule::Intersect, FillRule::EvenOdd);
+    shapes
+        .into_iter()
+        .map(|shape| shape.into_iter().enumerate().map(|(k, ring)| closed_ring(ring, k == 0)).collect())
+        .collect()
+}
+
+/// `ring` turned counter-clockwise (or clockwise) and closed.
+fn closed_ring(mut ring: Vec<[f64; 2]>, counter_clockwise: bool) -> Vec<[f64; 2]> {
+    if let Some(first) = ring.first().copied() {
+        ring.push(first);
+    }
+    if (signed_area2(&ring) > 0.0) != counter_clockwise {
+        ring.reverse();
+    }
+    ring
+}
+
+/// Contour lines at `level` clipped exactly to `polygon` (the area).
+pub fn clipped_isolines(
+    grid: &GridSpec,
+    values: &[f64],
+    inside: &[bool],
+    level: f64,
+    polygon: &[Point2<f64>],
+) -> Vec<Polyline> {
+    let lines: Vec<Vec<[f64; 2]>> =
+        isolines(grid, values, inside, level).into_iter().map(|l| l.points).filter(|p| p.len() >= 2).collect();
+    if lines.is_empty() {
+        return Vec::new();
+    }
+    let clip: Vec<[f64; 2]> = polygon.iter().map(|p| [p.x, p.y]).collect();
+    let rule = ClipRule { invert: false, boundary_included: true };
+    lines
+        .clip_by(&clip, FillRule::EvenOdd, rule)
+        .into_iter()
+        .filter(|p| p.len() >= 2)
+        .map(|points| {
+            let (a, b) = (points[0], points[points.len() - 1]);
+            let closed = points.len() > 2 && (a[0] - b[0]).abs() < 1e-9 && (a[1] - b[1]).abs() < 1e-9;
+            Polyline { points, closed }
+        })
+        .collect()
+}
+
+/// Area of a zone polygon (exterior minus holes), m².
+pub fn zone_area(zone: &ZonePolygon) -> f64 {
+    zone.iter().enumerate().map(|(k, r)| if k == 0 { 1.0 } else { -1.0 } * signed_area2(r).abs() / 2.0).sum()
 }

@@ -1,12 +1,13 @@
 //! GeoJSON (RFC 7946) of conductors, positions, contour lines and zone
-//! polygons. With a georeference the coordinates are WGS 84 longitude and
+//! polygons (clipped exactly to each area's polygon and closed along it).
+//! With a georeference the coordinates are WGS 84 longitude and
 //! latitude (see `geo.rs` for the conversion and its accuracy, stated in
 //! the `coordinate_conversion` member); without
 //! one they stay in the site's local frame in metres, which the
 //! FeatureCollection says in its `coordinate_frame` member (RFC 7946 §4
 //! allows another frame only by prior arrangement between the parties).
 
-use super::contour::{self, Polyline};
+use super::contour;
 use super::geo::to_lon_lat;
 use crate::assess::{AreaMap, Assessment};
 use crate::cautions::cautions;
@@ -27,55 +28,6 @@ impl Frame<'_> {
         v.push(z);
         v
     }
-}
-
-/// Zone polygons (exterior rings counter-clockwise, holes clockwise, as RFC
-/// 7946 §3.1.6 recommends) from the closed rings of a level.
-fn polygons(rings: &[Polyline]) -> Vec<Vec<Vec<[f64; 2]>>> {
-    let inside = |p: [f64; 2], ring: &[[f64; 2]]| {
-        let mut c = false;
-        let n = ring.len();
-        for i in 0..n {
-            let (a, b) = (ring[i], ring[(i + n - 1) % n]);
-            if (a[1] > p[1]) != (b[1] > p[1]) && p[0] < (b[0] - a[0]) * (p[1] - a[1]) / (b[1] - a[1]) + a[0] {
-                c = !c;
-            }
-        }
-        c
-    };
-    let rings: Vec<&Vec<[f64; 2]>> =
-        rings.iter().filter(|r| r.closed && r.points.len() >= 4).map(|r| &r.points).collect();
-    let depth: Vec<usize> = rings
-        .iter()
-        .enumerate()
-        .map(|(i, r)| rings.iter().enumerate().filter(|(j, o)| *j != i && inside(r[0], o)).count())
-        .collect();
-    let orient = |r: &Vec<[f64; 2]>, ccw: bool| {
-        let mut r = r.clone();
-        if (contour::signed_area2(&r) > 0.0) != ccw {
-            r.reverse();
-        }
-        r
-    };
-    let mut out: Vec<(usize, Vec<Vec<[f64; 2]>>)> = Vec::new();
-    for (i, r) in rings.iter().enumerate() {
-        if depth[i].is_multiple_of(2) {
-            out.push((i, vec![orient(r, true)]));
-        }
-    }
-    for (i, r) in rings.iter().enumerate() {
-        if depth[i] % 2 == 1 {
-            // The hole belongs to the smallest exterior ring containing it.
-            let owner = out
-                .iter_mut()
-                .filter(|(k, _)| inside(r[0], rings[*k]))
-                .min_by(|a, b| contour::signed_area2(&a.1[0]).abs().total_cmp(&contour::signed_area2(&b.1[0]).abs()));
-            if let Some((_, poly)) = owner {
-                poly.push(orient(r, false));
-            }
-        }
-    }
-    out.into_iter().map(|(_, p)| p).collect()
 }
 
 /// The GeoJSON document of an assessment and the maps of its areas.
@@ -104,7 +56,7 @@ pub fn assessment_geojson(site: &Site, a: &Assessment, maps: &[AreaMap]) -> Valu
         for t in &m.tables {
             let Some(ratio) = t.ratio.iter().copied().collect::<Option<Vec<f64>>>() else { continue };
             for (what, level) in [("level", 1.0), ("review", a.review_fraction)] {
-                let lines = contour::isolines(&m.grid, &ratio, &m.inside_conductor, level);
+                let lines = contour::clipped_isolines(&m.grid, &ratio, &m.inside_conductor, level, &m.polygon);
                 let coords: Vec<Vec<Vec<f64>>> =
                     lines.iter().map(|l| l.points.iter().map(|p| f.xy(p[0], p[1])).collect()).collect();
                 let b_ut = t.level_ut.map(|l| l * level);
@@ -114,7 +66,7 @@ pub fn assessment_geojson(site: &Site, a: &Assessment, maps: &[AreaMap]) -> Valu
                     "properties": {"kind": "contour", "area": m.area_id, "height_m": m.height_m, "table_id": t.table_id,
                                    "threshold": what, "ratio": level, "b_ut": b_ut}
                 }));
-                let zones = polygons(&contour::zone_rings(&m.grid, &ratio, &m.inside_conductor, level));
+                let zones = contour::clipped_zones(&m.grid, &ratio, &m.inside_conductor, level, &m.polygon);
                 let zcoords: Vec<Vec<Vec<Vec<f64>>>> = zones
                     .iter()
                     .map(|poly| poly.iter().map(|ring| ring.iter().map(|p| f.xy(p[0], p[1])).collect()).collect())

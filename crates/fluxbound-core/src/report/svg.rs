@@ -259,7 +259,7 @@ struct ContourStyle {
 /// The isolines of `ratio` at one level, and a label on the longest one
 /// (three quarters along it, clear of the ends).
 fn contour_level(s: &mut String, map: &AreaMap, v: &View, ratio: &[f64], level_ut: Option<f64>, st: &ContourStyle) {
-    let lines = contour::isolines(&map.grid, ratio, &map.inside_conductor, st.level);
+    let lines = contour::clipped_isolines(&map.grid, ratio, &map.inside_conductor, st.level, &map.polygon);
     for l in &lines {
         let _ = writeln!(
             s,

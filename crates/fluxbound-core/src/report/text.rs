@@ -162,6 +162,10 @@ fn area_block(s: &mut String, a: &Assessment, ar: &AreaResult) {
     let at = ar.max_at.map(|p| format!(" at ({:.2}, {:.2})", p[0], p[1])).unwrap_or_default();
     let _ =
         writeln!(s, "    B highest {} µT{at}, mean {} µT", num(ar.max_resultant_ut, 2), num(ar.mean_resultant_ut, 2));
+    // The highest value covers cells, boundary and between samples; say how sure it is.
+    if !ar.max_certainty.is_empty() {
+        let _ = writeln!(s, "    highest value (cells and boundary): {}", ar.max_certainty);
+    }
     if ar.cells_inside_conductors > 0 {
         let _ = writeln!(s, "    {} cells inside conductors are marked and not counted", ar.cells_inside_conductors);
     }

@@ -40,8 +40,14 @@ fn an_assessment_over_the_pairs_budget_is_refused_before_any_field_is_computed()
     let UseCaseError::OverBudget(p) = err else { panic!("{err:?}") };
     assert_eq!(p.0[0].pointer, "/areas");
     assert!(p.0[0].detail.contains("101 segment-point pairs"), "{}", p.0[0].detail);
+    // 101 pairs cover the grid but not the boundary samples and refinement
+    // of the area's maximum (issue 10): refused, pointing at the spacing.
     let budget = Budget { max_pairs: 101, ..Budget::default() };
-    assert!(usecase::assess_site(&site, &LoadCase::Present, &t, ReviewFraction::DEFAULT, &budget).is_ok());
+    let err = usecase::assess_site(&site, &LoadCase::Present, &t, ReviewFraction::DEFAULT, &budget).unwrap_err();
+    let UseCaseError::OverBudget(p) = err else { panic!("{err:?}") };
+    assert_eq!(p.0[0].pointer, "/areas/0/spacing_m");
+    assert!(p.0[0].detail.contains("proving this area's maximum"), "{}", p.0[0].detail);
+    assert!(usecase::assess_site(&site, &LoadCase::Present, &t, ReviewFraction::DEFAULT, &Budget::default()).is_ok());
 }
 
 #[test]

@@ -1,0 +1,345 @@
+//! The guaranteed maximum of an area: sampled over the cells and along the
+//! polygon's boundary, then refined where the bounds of
+//! [`crate::field::bound`] say the field between samples could be higher,
+//! until the reported maximum is provably within [`CERTAINTY`] of the true
+//! one (or a region can no longer be refined: a conductor within reach).
+//!
+//! The polygon is covered by regions, each with a sample point and a radius
+//! `ρ` that reaches every point of it: the grid's squares that meet the
+//! polygon (`ρ` = half the diagonal) and the pieces of its boundary (`ρ` =
+//! half the piece). A region is settled when its bound is within
+//! `max / CERTAINTY`; otherwise it is split (squares in four, pieces in two)
+//! and the children are sampled. Samples count towards the maximum only at
+//! points of the closed polygon outside every conductor.
+
+use super::grid::{GridSpec, contains};
+use crate::field::{self, Excitation, Filaments, bound::SegmentBounds};
+use nalgebra::{Point2, Point3};
+
+/// The reported maximum is at least this fraction of the proven bound (the
+/// issue's "within 1 % below the true maximum").
+pub const CERTAINTY: f64 = 0.99;
+
+/// Regions are not split below this fraction of the grid spacing (half-side
+/// of a square, half-length of a boundary piece): 2⁻¹⁴, so a 0.25 m grid
+/// stops at 15 µm. The slope term `ρ·Σ 0.4·|I|/d²` ignores the cancellation
+/// between phases, so beside a balanced three-phase busbar (field falling
+/// as 1/d²) it needs ρ well under a millimetre to come within 1 % (the
+/// switch-room example does not settle at 2⁻¹⁰ of its spacing); only the few regions
+/// near the maximum go that deep.
+const FLOOR_FRACTION: f64 = 1.0 / 16384.0;
+
+/// What is maximised, from the resultants per spectral line (both grow
+/// with every line, so a bound per line bounds them).
+#[derive(Debug, Clone)]
+pub enum Measure {
+    /// Root-sum-square over the lines, µT.
+    Resultant,
+    /// `Σ_f B_f / B_RL(f)`: one weight `1 / B_RL(f)` per line.
+    Ratio(Vec<f64>),
+}
+
+impl Measure {
+    pub fn of(&self, lines_ut: &[f64]) -> f64 {
+        match self {
+            Measure::Resultant => lines_ut.iter().map(|b| b * b).sum::<f64>().sqrt(),
+            Measure::Ratio(w) => lines_ut.iter().zip(w).map(|(b, w)| b * w).sum(),
+        }
+    }
+}
+
+/// The field engine's view of a site at one load: what sampling needs.
+pub struct Engine<'a> {
+    pub filaments: &'a Filaments,
+    pub excitation: &'a Excitation,
+    pub bounds: &'a SegmentBounds,
+}
+
+impl Engine<'_> {
+    /// Line resultants at each point, µT (`None` inside a conductor).
+    fn sample(&self, points: &[Point3<f64>]) -> Vec<Option<Vec<f64>>> {
+        let set = field::evaluate(self.filaments, points, self.excitation);
+        (0..points.len())
+            .map(|i| set.inside_of(i).next().is_none().then(|| set.at(i).iter().map(field::resultant_ut).collect()))
+            .collect()
+    }
+    fn pairs(&self, points: usize) -> u64 {
+        (points as u64).saturating_mul(self.filaments.segment_count() as u64)
+    }
+}
+
+/// The highest sample of one measure and where it is.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Peak {
+    pub value: f64,
+    pub at: Option<Point3<f64>>,
+}
+
+/// An area's maximum per measure, with its proven bound.
+#[derive(Debug, Clone, PartialEq)]
+pub struct AreaPeak {
+    /// Highest sample per measure (cells, boundary, refinement).
+    pub max: Vec<Peak>,
+    /// Proven upper bound of the true maximum per measure (may be infinite
+    /// for a zero-radius conductor within reach).
+    pub bound: Vec<f64>,
+    /// Every region settled within [`CERTAINTY`].
+    pub settled: bool,
+    /// Boundary samples taken (vertices, piece ends and midpoints).
+    pub boundary_samples: usize,
+    /// Samples added by refinement.
+    pub refinement_samples: usize,
+    /// Segment–point pairs spent here.
+    pub pairs: u64,
+}
+
+/// The refinement would spend more than its budget of pairs.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct OverBudget {
+    pub needed_pairs: u64,
+}
+
+#[derive(Debug, Clone)]
+struct Region {
+    centre: Point2<f64>,
+    /// Half-side of a square, half-length of a boundary piece, m.
+    half_m: f64,
+    /// `None` for a square; the piece's unit direction otherwise.
+    along: Option<nalgebra::Vector2<f64>>,
+    lines: Option<Vec<f64>>,
+}
+
+impl Region {
+    fn rho_m(&self) -> f64 {
+        if self.along.is_some() { self.half_m } else { self.half_m * std::f64::consts::SQRT_2 }
+    }
+    fn children(&self, polygon: &[Point2<f64>]) -> Vec<Region> {
+        let h = self.half_m / 2.0;
+        let offsets: Vec<nalgebra::Vector2<f64>> = match self.along {
+            Some(u) => vec![u * h, -u * h],
+            None => vec![[h, h].into(), [-h, h].into(), [h, -h].into(), [-h, -h].into()],
+        };
+        offsets
+            .into_iter()
+            .map(|o| Region { centre: self.centre + o, half_m: h, along: self.along, lines: None })
+            .filter(|r| r.along.is_some() || square_meets_polygon(r.centre, h, polygon))
+            .collect()
+    }
+}
+
+/// The polygon, its height and its spacing.
+pub struct AreaShape<'a> {
+    pub polygon: &'a [Point2<f64>],
+    pub height_m: f64,
+    pub spacing_m: f64,
+}
+
+/// Samples the boundary and refines. `cells` are the grid's cell centres
+/// inside the polygon with their line resultants (`None` inside a
+/// conductor); `budget_pairs` the pairs this area may still spend.
+pub fn area_peak(
+    engine: &Engine<'_>,
+    area: &AreaShape<'_>,
+    measures: &[Measure],
+    cells: &[(Point3<f64>, Option<Vec<f64>>)],
+    budget_pairs: u64,
+) -> Result<AreaPeak, OverBudget> {
+    let mut state = State::new(measures, budget_pairs);
+    for (p, lines) in cells {
+        state.record(*p, lines.as_deref());
+    }
+    let mut regions: Vec<Region> = cells
+        .iter()
+        .map(|(p, lines)| Region { centre: p.xy(), half_m: area.spacing_m / 2.0, along: None, lines: lines.clone() })
+        .collect();
+    let mut fresh = edge_cells(area);
+    let (ends, pieces) = boundary_pieces(area);
+    state.boundary_samples = ends.len() + pieces.len();
+    let end_lines = state.sample(engine, area, &ends)?;
+    for (p, l) in ends.iter().zip(&end_lines) {
+        state.record(Point3::new(p.x, p.y, area.height_m), l.as_deref());
+    }
+    fresh.extend(pieces);
+    state.sample_regions(engine, area, &mut fresh)?;
+    regions.extend(fresh);
+    let floor_m = area.spacing_m * FLOOR_FRACTION;
+    while !regions.is_empty() {
+        let mut next = Vec::new();
+        for r in &regions {
+            if !state.settle(engine, area, r, floor_m) {
+                next.extend(r.children(area.polygon));
+            }
+        }
+        state.refinement_samples += next.len();
+        state.sample_regions(engine, area, &mut next)?;
+        regions = next;
+    }
+    Ok(state.finish())
+}
+
+/// Running maximum and bound of one area's refinement.
+struct State<'m> {
+    measures: &'m [Measure],
+    max: Vec<Peak>,
+    bound: Vec<f64>,
+    settled: bool,
+    boundary_samples: usize,
+    refinement_samples: usize,
+    pairs: u64,
+    budget_pairs: u64,
+}
+
+impl<'m> State<'m> {
+    fn new(measures: &'m [Measure], budget_pairs: u64) -> Self {
+        State {
+            measures,
+            max: vec![Peak { value: 0.0, at: None }; measures.len()],
+            bound: vec![0.0; measures.len()],
+            settled: true,
+            boundary_samples: 0,
+            refinement_samples: 0,
+            pairs: 0,
+            budget_pairs,
+        }
+    }
+
+    /// A sample of the closed polygon raises the maximum.
+    fn record(&mut self, at: Point3<f64>, lines: Option<&[f64]>) {
+        let Some(lines) = lines else { return };
+        for (q, m) in self.measures.iter().zip(self.max.iter_mut()) {
+            let v = q.of(lines);
+            if v > m.value || m.at.is_none() {
+                *m = Peak { value: v, at: Some(at) };
+            }
+        }
+    }
+
+    fn sample(
+        &mut self,
+        engine: &Engine<'_>,
+        area: &AreaShape<'_>,
+        at: &[Point2<f64>],
+    ) -> Result<Vec<Option<Vec<f64>>>, OverBudget> {
+        self.pairs = self.pairs.saturating_add(engine.pairs(at.len()));
+        if self.pairs > self.budget_pairs {
+            return Err(OverBudget { needed_pairs: self.pairs });
+        }
+        let points: Vec<Point3<f64>> = at.iter().map(|p| Point3::new(p.x, p.y, area.height_m)).collect();
+        Ok(engine.sample(&points))
+    }
+
+    /// Samples every region's centre; centres on the closed polygon count
+    /// towards the maximum (a piece's centre lies on the boundary).
+    fn sample_regions(
+        &mut self,
+        engine: &Engine<'_>,
+        area: &AreaShape<'_>,
+        regions: &mut [Region],
+    ) -> Result<(), OverBudget> {
+        let centres: Vec<Point2<f64>> = regions.iter().map(|r| r.centre).collect();
+        let lines = self.sample(engine, area, &centres)?;
+        for (r, l) in regions.iter_mut().zip(lines) {
+            if r.along.is_some() || contains(area.polygon, r.centre) {
+                self.record(Point3::new(r.centre.x, r.centre.y, area.height_m), l.as_deref());
+            }
+            r.lines = l;
+        }
+        Ok(())
+    }
+
+    /// Whether `r` is settled (its bound is recorded); a region at the
+    /// floor is recorded as it stands and leaves the maximum unsettled.
+    fn settle(&mut self, engine: &Engine<'_>, area: &AreaShape<'_>, r: &Region, floor_m: f64) -> bool {
+        let centre = Point3::new(r.centre.x, r.centre.y, area.height_m);
+        let lines = engine.bounds.line_bounds(&centre, r.rho_m(), r.lines.as_deref());
+        let u: Vec<f64> = self.measures.iter().map(|q| q.of(&lines)).collect();
+        let within = u.iter().zip(&self.max).all(|(u, m)| *u <= m.value / CERTAINTY);
+        let at_floor = r.half_m <= floor_m;
+        if within || at_floor {
+            for (b, u) in self.bound.iter_mut().zip(u) {
+                *b = b.max(u);
+            }
+            self.settled &= within;
+            return true;
+        }
+        false
+    }
+
+    fn finish(self) -> AreaPeak {
+        let bound = self.bound.iter().zip(&self.max).map(|(b, m)| b.max(m.value)).collect();
+        AreaPeak {
+            max: self.max,
+            bound,
+            settled: self.settled,
+            boundary_samples: self.boundary_samples,
+            refinement_samples: self.refinement_samples,
+            pairs: self.pairs,
+        }
+    }
+}
+
+/// Squares of the bounding grid whose centre lies outside the polygon but
+/// which still meet it: together with the inside cells they cover it.
+fn edge_cells(area: &AreaShape<'_>) -> Vec<Region> {
+    let Some(g) = GridSpec::bounding(area.polygon, area.spacing_m) else { return Vec::new() };
+    let h = area.spacing_m / 2.0;
+    (0..g.ny)
+        .flat_map(|j| (0..g.nx).map(move |i| g.node(i, j)))
+        .map(|(x, y)| Point2::new(x, y))
+        .filter(|c| !contains(area.polygon, *c) && square_meets_polygon(*c, h, area.polygon))
+        .map(|c| Region { centre: c, half_m: h, along: None, lines: None })
+        .collect()
+}
+
+/// The boundary cut into pieces of at most half the spacing: the piece
+/// ends (vertices included) as samples, the pieces as regions.
+fn boundary_pieces(area: &AreaShape<'_>) -> (Vec<Point2<f64>>, Vec<Region>) {
+    let n = area.polygon.len();
+    let (mut ends, mut pieces) = (Vec::new(), Vec::new());
+    for k in 0..n {
+        let (a, b) = (area.polygon[k], area.polygon[(k + 1) % n]);
+        let len = (b - a).norm();
+        if len == 0.0 {
+            continue;
+        }
+        let count = (len / (area.spacing_m / 2.0)).ceil().max(1.0) as usize;
+        let u = (b - a) / len;
+        let half_m = len / count as f64 / 2.0;
+        for i in 0..count {
+            let start = a + (b - a) * (i as f64 / count as f64);
+            ends.push(start);
+            pieces.push(Region { centre: start + u * half_m, half_m, along: Some(u), lines: None });
+        }
+    }
+    (ends, pieces)
+}
+
+/// Whether the square of half-side `h` around `c` meets the polygon.
+fn square_meets_polygon(c: Point2<f64>, h: f64, polygon: &[Point2<f64>]) -> bool {
+    if contains(polygon, c) {
+        return true;
+    }
+    let n = polygon.len();
+    (0..n).any(|k| segment_meets_square(polygon[k], polygon[(k + 1) % n], c, h))
+}
+
+/// Liang–Barsky: whether the segment `a`–`b` meets the closed square.
+fn segment_meets_square(a: Point2<f64>, b: Point2<f64>, c: Point2<f64>, h: f64) -> bool {
+    let d = b - a;
+    let (mut t0, mut t1) = (0.0_f64, 1.0_f64);
+    for (p, q) in [(-d.x, a.x - (c.x - h)), (d.x, (c.x + h) - a.x), (-d.y, a.y - (c.y - h)), (d.y, (c.y + h) - a.y)] {
+        if p == 0.0 {
+            if q < 0.0 {
+                return false;
+            }
+        } else {
+            let t = q / p;
+            if p < 0.0 {
+                t0 = t0.max(t);
+            } else {
+                t1 = t1.min(t);
+            }
+        }
+    }
+    t0 <= t1
+}

@@ -1,0 +1,172 @@
+//! The field bounds of `field::bound`, checked against the closed form of a
+//! finite straight segment written here independently (Source: Griffiths,
+//! *Introduction to Electrodynamics*, Example 5.5:
+//! `B = (µ0 I / 4π s)(sin θ2 − sin θ1)`, direction `û × ŝ`), on random
+//! configurations from a fixed-seed generator (reproducible).
+
+use fluxbound_core::field::bound::{
+    SLOPE_BOUND_UT_M_PER_A, SegmentBounds, VALUE_BOUND_UT_M_PER_A, distance_to_segment,
+};
+use fluxbound_core::field::{Excitation, Filament, Filaments, SpectralLine};
+use nalgebra::{Point3, Vector3};
+use num_complex::Complex64;
+
+/// xorshift64*: a small reproducible generator, uniform in [0, 1).
+struct Rng(u64);
+
+impl Rng {
+    fn next(&mut self) -> f64 {
+        self.0 ^= self.0 >> 12;
+        self.0 ^= self.0 << 25;
+        self.0 ^= self.0 >> 27;
+        (self.0.wrapping_mul(0x2545_F491_4F6C_DD1D) >> 11) as f64 / (1u64 << 53) as f64
+    }
+    fn range(&mut self, lo: f64, hi: f64) -> f64 {
+        lo + (hi - lo) * self.next()
+    }
+    fn point(&mut self, half: f64) -> Point3<f64> {
+        Point3::new(self.range(-half, half), self.range(-half, half), self.range(-half, half))
+    }
+    fn unit(&mut self) -> Vector3<f64> {
+        loop {
+            let v = Vector3::new(self.range(-1.0, 1.0), self.range(-1.0, 1.0), self.range(-1.0, 1.0));
+            if v.norm() > 0.1 && v.norm() <= 1.0 {
+                return v.normalize();
+            }
+        }
+    }
+}
+
+/// Field vector (µT) of a segment `a`→`b` carrying `i_a` at `p`, from the
+/// angle form: `s` the distance to the line, `t1`, `t2` the ends' axial
+/// coordinates from the foot of the perpendicular.
+fn segment_field(a: &Point3<f64>, b: &Point3<f64>, i_a: f64, p: &Point3<f64>) -> Vector3<f64> {
+    let u = (b - a).normalize();
+    let foot = a + u * (p - a).dot(&u);
+    let sv = p - foot;
+    let s = sv.norm();
+    let (t1, t2) = ((a - foot).dot(&u), (b - foot).dot(&u));
+    let sin = |t: f64| t / (t * t + s * s).sqrt();
+    u.cross(&(sv / s)) * (0.1 * i_a / s * (sin(t2) - sin(t1)))
+}
+
+#[test]
+fn one_segment_never_exceeds_point_two_i_over_its_distance_to_the_segment() {
+    // 20 000 random segments (0.01–10 m) and points in a 10 m box: the
+    // bound may be approached (beside a long segment, ratio → 1) but not
+    // passed; 1e-12 relative allows for rounding only.
+    let mut rng = Rng(0x5EED_0001);
+    let mut worst = 0.0_f64;
+    for _ in 0..20_000 {
+        let a = rng.point(5.0);
+        let b = a + rng.unit() * rng.range(0.01, 10.0);
+        let p = rng.point(5.0);
+        let d = distance_to_segment(&p, &a, &b);
+        if d < 1e-6 {
+            continue;
+        }
+        let ratio = segment_field(&a, &b, 1.0, &p).norm() / (VALUE_BOUND_UT_M_PER_A / d);
+        worst = worst.max(ratio);
+    }
+    assert!(worst <= 1.0 + 1e-12, "worst |B| / (0.2 I/d) = {worst}");
+    assert!(worst > 0.5, "the sample never came near the bound: {worst}");
+}
+
+#[test]
+fn one_segments_field_changes_no_faster_than_point_four_i_over_d_squared() {
+    // Difference quotients over a step h = 1e-4·d along random directions:
+    // |B(p + h u) − B(p)| / h ≤ 0.4 I / (d − h)², d − h the least distance
+    // along the step. Points beyond a segment's end, seen end-on, are
+    // sampled on purpose: there the infinite-wire slope 0.2 I/d² is passed.
+    let mut rng = Rng(0x5EED_0002);
+    let (mut worst, mut beyond_infinite_wire) = (0.0_f64, 0);
+    for k in 0..20_000 {
+        let a = rng.point(5.0);
+        let dir = rng.unit();
+        let b = a + dir * rng.range(0.01, 10.0);
+        let p = if k % 4 == 0 {
+            // Near the axis beyond the end b.
+            b + dir * rng.range(0.01, 2.0) + rng.unit() * rng.range(0.0, 0.05)
+        } else {
+            rng.point(5.0)
+        };
+        let d = distance_to_segment(&p, &a, &b);
+        if d < 1e-3 {
+            continue;
+        }
+        let h = 1e-4 * d;
+        let u = rng.unit();
+        let slope = (segment_field(&a, &b, 1.0, &(p + u * h)) - segment_field(&a, &b, 1.0, &p)).norm() / h;
+        worst = worst.max(slope / (SLOPE_BOUND_UT_M_PER_A / ((d - h) * (d - h))));
+        if slope > 0.2 / (d * d) * 1.01 {
+            beyond_infinite_wire += 1;
+        }
+    }
+    // 1e-6 relative: the bound is taken at the least distance along the
+    // step, so the difference quotient is within it up to rounding; 1e-6
+    // covers the cancellation in a difference over a step of 1e-4·d.
+    assert!(worst <= 1.0 + 1e-6, "worst slope / (0.4 I/d²) = {worst}");
+    assert!(beyond_infinite_wire > 0, "no sample showed a finite segment passing the infinite-wire slope");
+}
+
+#[test]
+fn the_bound_over_a_ball_holds_at_every_point_sampled_inside_it() {
+    // Three segments with complex currents at two spectral lines; balls of
+    // random radius; 200 points inside each. Each line's resultant at every
+    // point must stay within `line_bounds` given the resultant at the
+    // centre (1e-12 relative: rounding only).
+    let mut rng = Rng(0x5EED_0003);
+    for _ in 0..300 {
+        let segs: Vec<(Point3<f64>, Point3<f64>)> = (0..3)
+            .map(|_| {
+                let a = rng.point(3.0);
+                (a, a + rng.unit() * rng.range(0.1, 6.0))
+            })
+            .collect();
+        let currents: Vec<[Complex64; 2]> = (0..3)
+            .map(|_| {
+                [
+                    Complex64::from_polar(rng.range(1.0, 3000.0), rng.range(0.0, 6.3)),
+                    Complex64::from_polar(rng.range(0.0, 300.0), rng.range(0.0, 6.3)),
+                ]
+            })
+            .collect();
+        let filaments = Filaments::new(
+            &segs.iter().map(|(a, b)| Filament { path: vec![*a, *b], radius_m: 1e-3 }).collect::<Vec<_>>(),
+        );
+        let excitation = Excitation {
+            lines: (0..2)
+                .map(|f| SpectralLine {
+                    order: [1, 5][f],
+                    frequency_hz: [50.0, 250.0][f],
+                    currents_a: currents.iter().map(|c| c[f]).collect(),
+                })
+                .collect(),
+        };
+        let bounds = SegmentBounds::new(&filaments, &excitation);
+        let field = |p: &Point3<f64>, f: usize| -> f64 {
+            // Phasor sum of the closed forms: real geometry times complex current.
+            let (mut re, mut im) = (Vector3::zeros(), Vector3::zeros());
+            for ((a, b), c) in segs.iter().zip(&currents) {
+                let g = segment_field(a, b, 1.0, p);
+                re += g * c[f].re;
+                im += g * c[f].im;
+            }
+            (re.norm_squared() + im.norm_squared()).sqrt()
+        };
+        let centre = rng.point(4.0);
+        let rho = rng.range(0.001, 0.5);
+        let sampled = [field(&centre, 0), field(&centre, 1)];
+        let bound = bounds.line_bounds(&centre, rho, Some(&sampled));
+        for _ in 0..200 {
+            let p = centre + rng.unit() * rho * rng.next();
+            if segs.iter().any(|(a, b)| distance_to_segment(&p, a, b) < 1e-3) {
+                continue;
+            }
+            for (f, limit) in bound.iter().enumerate() {
+                let b = field(&p, f);
+                assert!(b <= limit * (1.0 + 1e-12), "line {f}: {b} µT above the bound {limit} µT");
+            }
+        }
+    }
+}
