@@ -416,6 +416,9 @@ fn check_command(file: &Path, out: &mut dyn Write) -> Result<ExitCode, CliError>
                 s.areas().len()
             )
             .map_err(CliError::Write)?;
+            for n in s.input_notes().iter() {
+                writeln!(out, "  note: {n}").map_err(CliError::Write)?;
+            }
             Ok(ExitCode::SUCCESS)
         }
         Err(problems) => {

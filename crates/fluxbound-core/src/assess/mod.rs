@@ -453,7 +453,8 @@ pub fn assess(
         positions,
         areas,
         summary,
-        notes: NOTES.iter().map(|s| s.to_string()).collect(),
+        // The validator's notes on the input (pointer: what it changed) follow the method notes.
+        notes: NOTES.iter().map(|s| s.to_string()).chain(site.input_notes().iter().map(|n| n.to_string())).collect(),
         cautions: cautions(),
         provenance: None,
     })

@@ -2,4 +2,5 @@
 //! phase-current conventions of `src/domain/site/currents.rs`.
 
 mod currents;
+mod plain;
 mod validation;
