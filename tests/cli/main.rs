@@ -862,3 +862,43 @@ fn distance_arguments_that_are_wrong_exit_1_naming_their_flag() {
         assert_rejected_with(&out, &[needle]);
     }
 }
+
+#[test]
+fn a_table_shown_as_json_is_accepted_back_as_a_table_file() {
+    let shown = fluxbound(&["tables", "show", "icnirp-2010-occupational", "--format", "json"], None);
+    assert_eq!(shown.status.code(), Some(0), "stderr: {}", stderr_of(&shown));
+    let text = stdout_of(&shown).replace("\"icnirp-2010-occupational\"", "\"acme-copy\"");
+    assert!(text.contains("\"version\": 1"), "the shown table names its version: {text}");
+    let path = temp_file("shown-table", &text);
+    let out = fluxbound(&["assess", SWITCH_ROOM, "--table-file", path.to_str().unwrap(), "--format", "json"], None);
+    assert_eq!(out.status.code(), Some(0), "stderr: {}", stderr_of(&out));
+    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert!(table_ids(&v).contains(&"acme-copy"), "{:?}", table_ids(&v));
+}
+
+#[test]
+fn an_assessment_names_the_site_file_its_fingerprint_and_every_phase_current() {
+    let out = fluxbound(&["assess", SWITCH_ROOM, "--format", "json"], None);
+    assert_eq!(out.status.code(), Some(0), "stderr: {}", stderr_of(&out));
+    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let p = &v["provenance"];
+    assert_eq!(p["site_file"], SWITCH_ROOM);
+    assert_eq!(p["site_revision"], Value::Null);
+    assert_eq!(p["site_sha256"].as_str().unwrap().len(), 64);
+    let circuits = v["load_case"]["circuits"].as_array().unwrap();
+    assert!(circuits.iter().all(|c| !c["phases"].as_array().unwrap().is_empty()), "{circuits:?}");
+    let text = stdout_of(&fluxbound(&["assess", SWITCH_ROOM], None));
+    assert!(text.contains(&format!("Site          file {SWITCH_ROOM}")), "{text}");
+    assert!(text.contains(p["site_sha256"].as_str().unwrap()), "{text}");
+}
+
+#[test]
+fn a_site_file_with_a_key_given_twice_exits_1_with_its_pointer() {
+    let site = std::fs::read_to_string(manifest_dir().join(SWITCH_ROOM)).unwrap();
+    let doubled = site.replacen("\"frequency_hz\": 50", "\"frequency_hz\": 50, \"frequency_hz\": 60", 1);
+    assert_ne!(site, doubled, "the example names its frequency as expected");
+    let path = temp_file("doubled-key", &doubled);
+    let out = fluxbound(&["check", path.to_str().unwrap()], None);
+    assert_eq!(out.status.code(), Some(1));
+    assert!(stdout_of(&out).contains("/frequency_hz: the key 'frequency_hz' is given twice"), "{}", stdout_of(&out));
+}
