@@ -200,3 +200,64 @@ fn geojson_and_svg_carry_the_provenance() {
     assert!(picture.contains("from site file bay4.json"));
     assert!(picture.contains("LV-main: A 1400 A, B 1400 A, C 1250 A"));
 }
+
+/// A single-phase go-and-return pair 0.3 m apart, 1000 m long, with a 5th
+/// (30 %) and a 50th (1 %) harmonic; a desk 1 m from the go conductor.
+const HARMONIC_SITE: &str = r#"{"name": "harmonic bay", "frequency_hz": 50,
+ "circuits": [{"id": "VFD", "kind": "single_phase", "current_a": 1000,
+   "harmonics": [{"order": 5, "percent": 30, "angle_deg": 0}, {"order": 50, "percent": 1, "angle_deg": 0}]}],
+ "conductors": [{"id": "go", "circuit": "VFD", "phase": "A", "radius_m": 0.02, "path": [[-500, 0, 0], [500, 0, 0]]},
+                {"id": "back", "circuit": "VFD", "phase": "N", "radius_m": 0.02, "path": [[-500, 0.3, 0], [500, 0.3, 0]]}],
+ "positions": [{"id": "desk", "at": [0, 1, 0]}]}"#;
+
+/// A flat 1000 µT table that stops at 1 kHz, so 2500 Hz is not covered.
+const SHORT_TABLE: &str = r#"{"id": "acme-1k", "title": "Acme flat to 1 kHz (invented)", "source": "Invented for tests",
+ "applies_to": {"population": "workers", "body_region": "whole_body"}, "kind": "screening",
+ "bands": [{"from_hz": 1, "to_hz": 1000, "coefficient": 1000, "exponent": 0}]}"#;
+
+#[test]
+fn a_ratio_of_several_frequencies_is_marked_and_shows_each_term() {
+    let site = fluxbound_core::site::parse_site(HARMONIC_SITE).unwrap();
+    let tables = vec![builtin_table("icnirp-2010-occupational").unwrap().clone()];
+    let a = assess::assess(&site, &LoadCase::Present, &tables, &Options::default()).unwrap();
+    // Two long antiparallel wires at 1 m and 0.7 m: B = 0.2 · I · (1/0.7 − 1/1)
+    // µT (OpenStax University Physics Vol. 2 §12.2, B = μ0·I/(2πr) = 0.2·I/r
+    // µT with I in A and r in m), at I = 1000, 300 and 10 A: 85.714, 25.714
+    // and 0.857 µT. The 1000 m length changes B by 2e-6 relative (cos of
+    // 1/500 rad), so 1e-4 relative is a safe tolerance.
+    let per = &a.positions[0].comparisons[0].per_frequency;
+    let want = [(50.0, 1000.0), (250.0, 300.0), (2500.0, 10.0)];
+    assert_eq!(per.len(), 3);
+    for (term, (f_hz, i_a)) in per.iter().zip(want) {
+        let b = 0.2 * i_a * (1.0 / 0.7 - 1.0);
+        assert!((term.frequency_hz - f_hz).abs() < 1e-9);
+        assert!((term.b_ut - b).abs() / b < 1e-4, "{} vs {b}", term.b_ut);
+    }
+    // ICNIRP 2010 Table 3, occupational, 25 Hz–3 kHz: 0.3/f T (from memory),
+    // 120 µT at 2500 Hz.
+    assert!((per[2].level_ut - 120.0).abs() < 1e-9);
+    let text = text::assessment_text(&a);
+    assert!(text.contains("T1 ratio 0.119 is a sum over 3 frequencies"), "{text}");
+    assert!(text.contains("2500 Hz  B_f      0.857 µT  B_RL(f)    120.000 µT"), "{text}");
+    let csv = csv_export::positions_csv(&a);
+    let mut reader = csv::Reader::from_reader(csv.as_bytes());
+    let headers: Vec<String> = reader.headers().unwrap().iter().map(str::to_string).collect();
+    let row = reader.records().next().unwrap().unwrap();
+    let col = |name: &str| headers.iter().position(|h| h == name).unwrap();
+    assert_eq!(&row[col("ratio_kind")], "sum_over_frequencies");
+    assert_eq!(row[col("ratio_terms")].split("; ").count(), 3, "{}", &row[col("ratio_terms")]);
+}
+
+#[test]
+fn a_table_that_does_not_cover_a_frequency_lists_it() {
+    let site = fluxbound_core::site::parse_site(HARMONIC_SITE).unwrap();
+    let tables = vec![fluxbound_core::limits::parse_table(SHORT_TABLE).unwrap()];
+    let a = assess::assess(&site, &LoadCase::Present, &tables, &Options::default()).unwrap();
+    // 50 · 50 Hz, a product of exact small integers (1e-9 Hz is slack).
+    let uncovered = &a.positions[0].comparisons[0].uncovered_hz;
+    assert!(uncovered.len() == 1 && (uncovered[0] - 2500.0).abs() < 1e-9, "{uncovered:?}");
+    let text = text::assessment_text(&a);
+    assert!(text.contains("T1 not covered: the table has no level at 2500 Hz"), "{text}");
+    let csv = csv_export::positions_csv(&a);
+    assert!(csv.contains(",2500,"), "{csv}");
+}
