@@ -128,6 +128,9 @@ async fn an_assessment_records_when_by_which_build_and_from_which_revision_and_d
     assert_eq!(p["site_file"], Value::Null);
     assert_eq!(p["tool_version"], env!("CARGO_PKG_VERSION"));
     let sha = p["site_sha256"].as_str().unwrap();
+    // The service hashes as the core does (the CLI calls the same function).
+    let doc: fluxbound_core::site::wire::SiteDoc = fluxbound_core::site::parse_json(&site.to_string()).unwrap();
+    assert_eq!(sha, fluxbound_core::provenance::fingerprint(&doc));
     assert!(sha.len() == 64 && sha.bytes().all(|b| b.is_ascii_hexdigit() && !b.is_ascii_uppercase()), "{sha}");
     assert!(p["computed_at"].as_str().unwrap().ends_with('Z'), "{p}");
     let commit = p["build_commit"].as_str().unwrap();

@@ -294,7 +294,7 @@ fn the_field_of_a_straight_conductor_follows_the_right_hand_rule() {
 fn evaluating_malformed_json_exits_1_with_the_pointer_and_a_plain_message() {
     let doc = r#"{"frequency_hz": 50, "conductors": [{"id": "a", "radius_m": , "path": []}], "points": []}"#;
     let out = evaluate_stdin(doc);
-    assert_rejected_with(&out, &["/conductors/0/radius_m", "a value is missing here", "line 1"]);
+    assert_rejected_with(&out, &["/conductors/0/radius_m", "the value here cannot be read", "line 1"]);
 }
 
 #[test]

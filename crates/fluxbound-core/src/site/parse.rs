@@ -120,7 +120,10 @@ fn syntax_words(raw: &str) -> Option<&'static str> {
         | "EOF while parsing a list"
         | "EOF while parsing an object"
         | "EOF while parsing a string" => "the document ends too early (it is empty or cut off)",
-        "expected value" => "a value is missing here, or it is not valid JSON (text needs double quotes)",
+        // serde_json also says this for a number or list where a word is expected.
+        "expected value" => {
+            "the value here cannot be read: it is missing, is not valid JSON (text needs double quotes), or is not one of the accepted words"
+        }
         "trailing comma" => "a comma is followed by nothing: remove the last comma",
         "trailing characters" => "there is more text after the end of the document",
         "key must be a string" => "an object key must be text in double quotes",
