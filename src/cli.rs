@@ -416,6 +416,9 @@ fn check_command(file: &Path, out: &mut dyn Write) -> Result<ExitCode, CliError>
                 s.areas().len()
             )
             .map_err(CliError::Write)?;
+            for n in s.input_notes().iter() {
+                writeln!(out, "  note: {n}").map_err(CliError::Write)?;
+            }
             Ok(ExitCode::SUCCESS)
         }
         Err(problems) => {
@@ -455,6 +458,18 @@ fn read_site(path: &Path) -> Result<Site, CliError> {
     site::parse_site(&read_input(path)?).map_err(CliError::in_file)
 }
 
+/// The site document as parsed (for its fingerprint) and the checked site.
+fn read_site_doc(path: &Path) -> Result<(site::wire::SiteDoc, Site), CliError> {
+    let doc: site::wire::SiteDoc = site::parse_json(&read_input(path)?).map_err(CliError::in_file)?;
+    let checked = site::validate_site(&doc).map_err(CliError::in_file)?;
+    Ok((doc, checked))
+}
+
+/// How a site file is named in a result's provenance.
+fn file_label(path: &Path) -> String {
+    if path == Path::new("-") { "standard input".to_string() } else { path.display().to_string() }
+}
+
 /// `--review-fraction`, checked (absent means the default).
 fn review_fraction_flag(value: Option<f64>) -> Result<ReviewFraction, CliError> {
     value.map_or(Ok(ReviewFraction::DEFAULT), |v| {
@@ -490,13 +505,14 @@ fn assessment_tables(
 }
 
 fn assess_command(args: &AssessArgs, out: &mut dyn Write) -> Result<ExitCode, CliError> {
-    let site = read_site(&args.site)?;
+    let (doc, site) = read_site_doc(&args.site)?;
     let custom = read_table_files(&args.table_files)?;
     let tables = assessment_tables(&args.tables, &site, custom)?;
     let review_fraction = review_fraction_flag(args.review_fraction)?;
     let load = LoadCase::from(args.load);
     let budget = Budget::offline();
-    let result = usecase::assess_site(&site, &load, &tables, review_fraction, &budget)?;
+    let result = usecase::assess_site(&site, &load, &tables, review_fraction, &budget)?
+        .with_provenance(crate::service::provenance_now(&doc, None, Some(file_label(&args.site))));
     if let (Some(area_id), Some(path)) = (&args.map, &args.out) {
         write_file(path, &usecase::area_map_svg(&site, &result, &load, &tables, area_id, &budget)?)?;
     }

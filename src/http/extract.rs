@@ -6,12 +6,14 @@ use crate::service::{Caller, IfMatch};
 use axum::body::Bytes;
 use axum::extract::{FromRequest, FromRequestParts, Request};
 use axum::http::{StatusCode, header, request::Parts};
-use fluxbound_core::site::{Problems, parse_json};
+use fluxbound_core::site::{Problems, json_syntax_error, parse_json};
 use serde::de::DeserializeOwned;
 
 /// A JSON body parsed strictly: 415 without a JSON content type, 413 over
 /// the size bound, 400 for malformed JSON, 422 with a pointer for a shape
-/// error (wrong type, unknown or missing field).
+/// error (wrong type, unknown or missing field), a key given twice in one
+/// object or a NUL character in a text. Every message is in plain words
+/// (the core's `parse_json`), never serde's Rust type names.
 pub struct ApiJson<T>(pub T);
 
 impl<T: DeserializeOwned> FromRequest<AppState> for ApiJson<T> {
@@ -35,8 +37,8 @@ impl<T: DeserializeOwned> FromRequest<AppState> for ApiJson<T> {
             }
         })?;
         let text = std::str::from_utf8(&bytes).map_err(|_| ApiError::malformed_json("the body is not UTF-8"))?;
-        if let Err(e) = serde_json::from_str::<serde::de::IgnoredAny>(text) {
-            return Err(ApiError::malformed_json(format!("{e}")));
+        if let Some(why) = json_syntax_error(text) {
+            return Err(ApiError::malformed_json(why));
         }
         parse_json(text).map(ApiJson).map_err(ApiError::validation)
     }
@@ -133,9 +135,17 @@ pub struct PageQuery {
 impl PageQuery {
     /// Reads the query string (unknown parameters are a 400).
     pub fn from_uri(uri: &axum::http::Uri) -> Result<PageQuery, ApiError> {
-        axum::extract::Query::<PageQuery>::try_from_uri(uri)
+        let q = axum::extract::Query::<PageQuery>::try_from_uri(uri)
             .map(|q| q.0)
-            .map_err(|e| ApiError::bad_request(e.body_text(), Problems::default()))
+            .map_err(|e| ApiError::bad_request(e.body_text(), Problems::default()))?;
+        // No stored name holds one, and PostgreSQL refuses a NUL in a query.
+        if q.name.as_deref().is_some_and(|n| n.chars().any(char::is_control)) {
+            return Err(ApiError::bad_request(
+                "the name filter contains a control character",
+                Problems::one("/name", "give the name without control characters"),
+            ));
+        }
+        Ok(q)
     }
     /// The page size as given (a positive integer, 400 otherwise); its
     /// range is the service's rule ([`crate::service::page_limit`]).

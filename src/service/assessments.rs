@@ -76,7 +76,7 @@ impl Service {
         request: AssessmentRequest,
     ) -> Result<AssessmentView> {
         caller.require(Role::Assessor)?;
-        let (rev, site) = self.site_at_revision(caller, site_id, request.revision).await?;
+        let (rev, doc, site) = self.site_doc_at_revision(caller, site_id, request.revision).await?;
         let budget = self.limits().budget();
         usecase::check_assessment_budget(&site, &budget)?;
         let choice = choose_tables(request.tables.as_deref().unwrap_or_default(), &[], site.tables());
@@ -86,6 +86,7 @@ impl Service {
         let pairs = usecase::segment_count(site.conductors());
         let result =
             self.compute(move || usecase::assess_site(&site, &load, &tables, review_fraction, &budget)).await??;
+        let result = result.with_provenance(super::provenance_now(&doc, Some(rev.revision), None));
         let points: u64 = result.positions.iter().map(|p| p.heights.len() as u64).sum::<u64>()
             + result.areas.iter().map(|a| a.cells as u64).sum::<u64>();
         self.count_pairs(pairs * points);

@@ -128,6 +128,13 @@ impl Service {
         if label.is_some_and(|l| l.chars().count() > 100) {
             return Err(ServiceError::Validation(super::one_problem("/label", "label must be at most 100 characters")));
         }
+        // Printouts and logs show labels, and PostgreSQL cannot store NUL.
+        if label.is_some_and(|l| l.chars().any(char::is_control)) {
+            return Err(ServiceError::Validation(super::one_problem(
+                "/label",
+                "label must not contain control characters (such as NUL, tab or a line break)",
+            )));
+        }
         let secret = new_secret();
         let row = self.store().key_insert(org_id, role.as_str(), &hash_secret(&secret), label).await?;
         let token = format!("{PREFIX}{}_{secret}", row.id);

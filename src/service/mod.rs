@@ -150,6 +150,29 @@ impl From<UseCaseError> for ServiceError {
     }
 }
 
+/// The build commit recorded by `build.rs` (12 hex digits or `unknown`).
+pub const BUILD_COMMIT: &str = env!("FLUXBOUND_BUILD_COMMIT");
+
+/// Provenance of a result computed now by this build from `site` (the
+/// parsed site document), read from a stored revision or from a file. The
+/// clock is read here, at the edge; the fingerprint rule lives in the core.
+pub fn provenance_now(
+    site: &fluxbound_core::site::wire::SiteDoc,
+    revision: Option<i64>,
+    file: Option<String>,
+) -> fluxbound_core::provenance::Provenance {
+    use fluxbound_core::provenance::{CANONICAL_FORM, Provenance, fingerprint};
+    Provenance {
+        computed_at: crate::ids::Timestamp::now().format(),
+        tool_version: env!("CARGO_PKG_VERSION").to_string(),
+        build_commit: BUILD_COMMIT.to_string(),
+        site_sha256: fingerprint(site),
+        canonical_form: CANONICAL_FORM.to_string(),
+        site_revision: revision,
+        site_file: file,
+    }
+}
+
 fn one_problem(pointer: impl Into<String>, detail: impl Into<String>) -> Problems {
     Problems::one(pointer, detail)
 }

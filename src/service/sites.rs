@@ -119,6 +119,17 @@ impl Service {
         site_id: &SiteId,
         revision: Option<i64>,
     ) -> Result<(crate::store::RevisionRow, fluxbound_core::site::Site)> {
+        let (rev, _, site) = self.site_doc_at_revision(caller, site_id, revision).await?;
+        Ok((rev, site))
+    }
+
+    /// The stored revision, its document and the checked site.
+    pub(super) async fn site_doc_at_revision(
+        &self,
+        caller: &Caller,
+        site_id: &SiteId,
+        revision: Option<i64>,
+    ) -> Result<(crate::store::RevisionRow, SiteDoc, fluxbound_core::site::Site)> {
         let rev = match revision {
             Some(r) => self
                 .store()
@@ -129,7 +140,7 @@ impl Service {
         };
         let doc: SiteDoc = stored(&rev.body)?;
         let site = validate_site(&doc).map_err(ServiceError::Validation)?;
-        Ok((rev, site))
+        Ok((rev, doc, site))
     }
 
     #[tracing::instrument(name = "sites_delete", skip_all, fields(org = %caller.org_id, site = %id))]

@@ -12,5 +12,6 @@ mod openapi;
 mod persistence;
 mod reports;
 mod sites;
+mod strict;
 mod surveys;
 mod tables;

@@ -291,16 +291,16 @@ fn the_field_of_a_straight_conductor_follows_the_right_hand_rule() {
 }
 
 #[test]
-fn evaluating_malformed_json_exits_1_with_the_pointer_and_serdes_message() {
+fn evaluating_malformed_json_exits_1_with_the_pointer_and_a_plain_message() {
     let doc = r#"{"frequency_hz": 50, "conductors": [{"id": "a", "radius_m": , "path": []}], "points": []}"#;
     let out = evaluate_stdin(doc);
-    assert_rejected_with(&out, &["/conductors/0/radius_m", "expected value", "line 1"]);
+    assert_rejected_with(&out, &["/conductors/0/radius_m", "the value here cannot be read", "line 1"]);
 }
 
 #[test]
 fn evaluating_truncated_json_exits_1_and_blames_the_whole_document() {
     let out = evaluate_stdin(r#"{"frequency_hz": 50,"#);
-    assert_rejected_with(&out, &["(document)", "EOF while parsing"]);
+    assert_rejected_with(&out, &["(document)", "the document ends too early"]);
 }
 
 #[test]
@@ -309,7 +309,7 @@ fn evaluating_a_document_with_an_unknown_field_exits_1_with_its_pointer() {
         {"id": "a", "radius_m": 0.01, "path": [[0, 0, 0], [1, 0, 0]], "current": {"rms_a": 1, "phase": 30}}
     ], "points": []}"#;
     let out = evaluate_stdin(doc);
-    assert_rejected_with(&out, &["/conductors/0/current/phase", "unknown field `phase`"]);
+    assert_rejected_with(&out, &["/conductors/0/current/phase", "unknown key 'phase'"]);
 }
 
 #[test]
@@ -861,4 +861,44 @@ fn distance_arguments_that_are_wrong_exit_1_naming_their_flag() {
         let out = fluxbound(&[&["distance", site][..], args].concat(), None);
         assert_rejected_with(&out, &[needle]);
     }
+}
+
+#[test]
+fn a_table_shown_as_json_is_accepted_back_as_a_table_file() {
+    let shown = fluxbound(&["tables", "show", "icnirp-2010-occupational", "--format", "json"], None);
+    assert_eq!(shown.status.code(), Some(0), "stderr: {}", stderr_of(&shown));
+    let text = stdout_of(&shown).replace("\"icnirp-2010-occupational\"", "\"acme-copy\"");
+    assert!(text.contains("\"version\": 1"), "the shown table names its version: {text}");
+    let path = temp_file("shown-table", &text);
+    let out = fluxbound(&["assess", SWITCH_ROOM, "--table-file", path.to_str().unwrap(), "--format", "json"], None);
+    assert_eq!(out.status.code(), Some(0), "stderr: {}", stderr_of(&out));
+    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert!(table_ids(&v).contains(&"acme-copy"), "{:?}", table_ids(&v));
+}
+
+#[test]
+fn an_assessment_names_the_site_file_its_fingerprint_and_every_phase_current() {
+    let out = fluxbound(&["assess", SWITCH_ROOM, "--format", "json"], None);
+    assert_eq!(out.status.code(), Some(0), "stderr: {}", stderr_of(&out));
+    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let p = &v["provenance"];
+    assert_eq!(p["site_file"], SWITCH_ROOM);
+    assert_eq!(p["site_revision"], Value::Null);
+    assert_eq!(p["site_sha256"].as_str().unwrap().len(), 64);
+    let circuits = v["load_case"]["circuits"].as_array().unwrap();
+    assert!(circuits.iter().all(|c| !c["phases"].as_array().unwrap().is_empty()), "{circuits:?}");
+    let text = stdout_of(&fluxbound(&["assess", SWITCH_ROOM], None));
+    assert!(text.contains(&format!("Site          file {SWITCH_ROOM}")), "{text}");
+    assert!(text.contains(p["site_sha256"].as_str().unwrap()), "{text}");
+}
+
+#[test]
+fn a_site_file_with_a_key_given_twice_exits_1_with_its_pointer() {
+    let site = std::fs::read_to_string(manifest_dir().join(SWITCH_ROOM)).unwrap();
+    let doubled = site.replacen("\"frequency_hz\": 50", "\"frequency_hz\": 50, \"frequency_hz\": 60", 1);
+    assert_ne!(site, doubled, "the example names its frequency as expected");
+    let path = temp_file("doubled-key", &doubled);
+    let out = fluxbound(&["check", path.to_str().unwrap()], None);
+    assert_eq!(out.status.code(), Some(1));
+    assert!(stdout_of(&out).contains("/frequency_hz: the key 'frequency_hz' is given twice"), "{}", stdout_of(&out));
 }

@@ -1,7 +1,8 @@
 //! The pure core of Fluxbound: no I/O, no async, no framework.
 //!
 //! Its normal dependencies are nalgebra, num-complex, serde, serde_json,
-//! serde_path_to_error, thiserror and rayon; `utoipa` enters only with the
+//! serde_path_to_error, thiserror, rayon, csv, geographiclib-rs and sha2;
+//! `utoipa` enters only with the
 //! optional `schema` feature, which the service turns on to generate its
 //! OpenAPI document from these types. Cargo enforces the rule (the core
 //! cannot name tokio, axum or sqlx because they are not its dependencies);
@@ -23,6 +24,7 @@
 //! survey/lm   the Levenberg–Marquardt solver of the fit, tuning named and cited
 //! mitigate/   distance to a level along a direction
 //! report/     pure renderers: text, CSV, SVG, GeoJSON, contours, geodesy
+//! provenance  canonical JSON (RFC 8785), the site fingerprint, where a result came from
 //! usecase     one function per thing a caller can do (CLI and service alike)
 //! evaluate    the stateless evaluation document
 //! cautions    the cautions every result carries
@@ -39,6 +41,7 @@ pub mod evaluate;
 pub mod field;
 pub mod limits;
 pub mod mitigate;
+pub mod provenance;
 pub mod report;
 pub mod site;
 pub mod survey;

@@ -1,6 +1,7 @@
 //! Load cases: which currents an assessment uses.
 
-use crate::site::{CircuitLoad, Pointer, Problems, Site};
+use crate::site::wire::{CircuitKind, Phase};
+use crate::site::{Circuit, CircuitLoad, Pointer, Problems, Site};
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 
@@ -134,6 +135,23 @@ pub struct CircuitLoadReport {
     pub present_a: f64,
     /// Nominal RMS phase current assessed, A.
     pub assessed_a: f64,
+    /// Every line phase's fundamental RMS current as assessed (per-phase
+    /// overrides included): A, B, C for a three-phase circuit, A alone for
+    /// a single-phase one.
+    #[serde(default)]
+    pub phases: Vec<PhaseLoadReport>,
+}
+
+/// One line phase's assessed fundamental current.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
+pub struct PhaseLoadReport {
+    /// The phase.
+    pub phase: Phase,
+    /// Fundamental RMS current, A.
+    pub current_a: f64,
+    /// Fundamental phase angle, degrees.
+    pub angle_deg: f64,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -157,7 +175,43 @@ pub(crate) fn report(case: &LoadCase, site: &Site, loads: &[CircuitLoad]) -> Loa
                 id: c.id.clone(),
                 present_a: c.current_a,
                 assessed_a: c.nominal_current_a(*l),
+                phases: phase_loads(c, *l),
             })
             .collect(),
     }
+}
+
+/// The line phases of `c` at `load`, fundamental only.
+fn phase_loads(c: &Circuit, load: CircuitLoad) -> Vec<PhaseLoadReport> {
+    let lines: &[Phase] = match c.kind {
+        CircuitKind::ThreePhase => &[Phase::A, Phase::B, Phase::C],
+        CircuitKind::SinglePhase => &[Phase::A],
+    };
+    lines
+        .iter()
+        .filter_map(|&phase| {
+            let (current_a, angle_deg) = c.line_fundamental_a(phase, load)?;
+            Some(PhaseLoadReport { phase, current_a, angle_deg })
+        })
+        .collect()
+}
+
+impl LoadCaseReport {
+    /// Each circuit's assessed phase currents in words:
+    /// `LV-main: A 1400 A, B 1400 A, C 1250 A`.
+    pub fn phase_lines(&self) -> Vec<String> {
+        self.circuits
+            .iter()
+            .map(|c| {
+                let phases: Vec<String> =
+                    c.phases.iter().map(|p| format!("{:?} {} A", p.phase, round_a(p.current_a))).collect();
+                format!("{}: {}", c.id, phases.join(", "))
+            })
+            .collect()
+    }
+}
+
+/// A current rounded to 0.1 A for reading (the JSON keeps full precision).
+fn round_a(v: f64) -> f64 {
+    (v * 10.0).round() / 10.0
 }

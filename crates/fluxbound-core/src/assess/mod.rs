@@ -15,7 +15,7 @@ mod review;
 mod verdict;
 
 pub use grid::{DEFAULT_MAX_GRID_CELLS, GridSpec, area_grid, bounding_cells, check_grid_budget, contains};
-pub use load::{CircuitLoadReport, LoadCase, LoadCaseReport, LoadError};
+pub use load::{CircuitLoadReport, LoadCase, LoadCaseReport, LoadError, PhaseLoadReport};
 pub use map::{AreaMap, MAP_MAX_CELLS, TableRatios, area_map};
 pub use peak::CERTAINTY;
 pub use review::{ReviewFraction, ReviewFractionError};
@@ -377,6 +377,21 @@ pub struct Assessment {
     pub notes: Vec<String>,
     /// Cautions that apply to every result.
     pub cautions: Vec<String>,
+    /// When, by which build, from which site document (fingerprint) and
+    /// revision or file this result was computed; `null` only in results
+    /// stored before provenance was recorded.
+    #[serde(default)]
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub provenance: Option<crate::provenance::Provenance>,
+}
+
+impl Assessment {
+    /// This result with its provenance, filled by the caller (the core
+    /// reads no clock).
+    pub fn with_provenance(mut self, provenance: crate::provenance::Provenance) -> Assessment {
+        self.provenance = Some(provenance);
+        self
+    }
 }
 
 /// Notes every assessment carries beside the cautions.
@@ -501,8 +516,10 @@ pub fn assess(
         positions,
         areas,
         summary,
-        notes: NOTES.iter().map(|s| s.to_string()).collect(),
+        // The validator's notes on the input (pointer: what it changed) follow the method notes.
+        notes: NOTES.iter().map(|s| s.to_string()).chain(site.input_notes().iter().map(|n| n.to_string())).collect(),
         cautions: cautions(),
+        provenance: None,
     })
 }
 

@@ -115,6 +115,14 @@ pub struct TableDoc {
     /// memory).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub notes: Vec<String>,
+    /// The version the table had where it was shown (`fluxbound tables show
+    /// ID --format json` prints it), read so that output can be given back
+    /// as a custom table. It is information only: a stored custom table
+    /// gets its version from the store, a table file is version 1. Never
+    /// written (the shown table's own `version` is written instead).
+    #[serde(default, skip_serializing)]
+    #[cfg_attr(feature = "schema", schema(minimum = 1))]
+    pub version: Option<u32>,
 }
 
 /// A checked table: bands sorted, non-overlapping, contiguous except at
@@ -201,6 +209,8 @@ pub fn validate_table_at(mut doc: TableDoc, at: &Pointer) -> Result<ReferenceTab
         check_coverage(&doc, &bp, &mut p);
     }
     p.into_result(())?;
+    // The shown version was information; the checked table's own counts.
+    doc.version = None;
     let mut order: Vec<usize> = (0..doc.bands.len()).collect();
     order.sort_by(|a, b| doc.bands[*a].from_hz.total_cmp(&doc.bands[*b].from_hz));
     doc.bands = order.into_iter().map(|i| doc.bands[i]).collect();
@@ -214,9 +224,14 @@ fn check_header(doc: &TableDoc, at: &Pointer, p: &mut Problems) {
     }
     if doc.title.trim().is_empty() {
         p.push(&at.key("title"), "title must not be empty");
+    } else if doc.title.chars().any(char::is_control) {
+        p.push(&at.key("title"), "title must not contain control characters (such as NUL, tab or a line break)");
     }
     if doc.source.trim().is_empty() {
         p.push(&at.key("source"), "give the full citation of the source");
+    }
+    if doc.version == Some(0) {
+        p.push(&at.key("version"), "versions count from 1");
     }
 }
 

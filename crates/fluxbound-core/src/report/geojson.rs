@@ -85,6 +85,9 @@ pub fn assessment_geojson(site: &Site, a: &Assessment, maps: &[AreaMap]) -> Valu
         "coordinate_frame": if site.georeference().is_some() { "wgs84-lon-lat" } else { "site-local-metres" },
         "load_case": a.load_case.kind,
         "cautions": cautions(),
+        "provenance": a.provenance,
+        "load_case_currents": a.load_case,
+        "tables": a.tables,
         "features": features,
     });
     if site.georeference().is_some() {

@@ -105,7 +105,9 @@ pub fn area_map_svg(site: &Site, a: &Assessment, map: &AreaMap) -> String {
     // north arrow and cautions.
     let bottom = (MAP_Y + v.h_px).max(560.0);
     let range = colour_range(map);
-    open_document(&mut s, map, &v, bottom + 150.0);
+    let footer = provenance_lines(a);
+    open_document(&mut s, map, &v, bottom + FOOTER_TOP + FOOTER_LINE * footer.len() as f64 + 10.0);
+    provenance_metadata(&mut s, a);
     title_block(&mut s, a, map);
     cells(&mut s, map, &v, range);
     area_outline(&mut s, map, &v);
@@ -115,6 +117,7 @@ pub fn area_map_svg(site: &Site, a: &Assessment, map: &AreaMap) -> String {
     legend(&mut s, a, map, range);
     scale_bar_and_north(&mut s, site, &v, bottom);
     cautions(&mut s, bottom);
+    provenance_footer(&mut s, &footer, bottom);
     s.push_str("</svg>\n");
     s
 }
@@ -446,5 +449,52 @@ fn cautions(s: &mut String, bottom: f64) {
     let cy = bottom + 78.0;
     for (i, c) in CAUTIONS.iter().enumerate() {
         let _ = writeln!(s, r#"<text x="{MAP_X}" y="{:.1}" font-size="10">{}</text>"#, cy + 13.0 * i as f64, esc(c));
+    }
+}
+
+/// The provenance and assessed phase currents as machine-readable JSON in
+/// the document's `<metadata>` (SVG 1.1 §5.11), beside the printed footer.
+fn provenance_metadata(s: &mut String, a: &Assessment) {
+    let doc = serde_json::json!({
+        "provenance": a.provenance,
+        "load_case": a.load_case,
+        "tables": a.tables,
+    });
+    let _ = writeln!(s, "<metadata>{}</metadata>", esc(&doc.to_string()));
+}
+
+/// Where the provenance footer starts below the map's bottom, and its line
+/// pitch, px (under the cautions, which end near `bottom + 130`).
+const FOOTER_TOP: f64 = 148.0;
+const FOOTER_LINE: f64 = 11.0;
+
+/// The footer printed under the cautions: when, by which build, from which
+/// site document; every phase current; each table's citation.
+fn provenance_lines(a: &Assessment) -> Vec<String> {
+    let mut lines = Vec::new();
+    match &a.provenance {
+        Some(p) => {
+            lines.push(format!(
+                "Computed {} UTC by fluxbound {} (build {}) from site {}",
+                p.computed_at,
+                p.tool_version,
+                p.build_commit,
+                p.site_source()
+            ));
+            lines.push(format!("Site SHA-256 {} (RFC 8785 canonical JSON)", p.site_sha256));
+        }
+        None => lines.push("Provenance not recorded (computed before provenance was kept)".to_string()),
+    }
+    lines.push(format!("Load case {}: {}", a.load_case.kind, a.load_case.phase_lines().join("; ")));
+    for (i, t) in a.tables.iter().enumerate() {
+        lines.push(format!("T{} = {} v{}: {}", i + 1, t.id, t.version, t.source));
+    }
+    lines
+}
+
+fn provenance_footer(s: &mut String, lines: &[String], bottom: f64) {
+    for (i, line) in lines.iter().enumerate() {
+        let y = bottom + FOOTER_TOP + FOOTER_LINE * i as f64;
+        let _ = writeln!(s, r#"<text x="{MAP_X}" y="{y:.1}" font-size="9">{}</text>"#, esc(line));
     }
 }

@@ -73,13 +73,15 @@ fn table_column(a: &Assessment, id: &str) -> String {
     a.tables.iter().position(|t| t.id == id).map(|i| format!("T{}", i + 1)).unwrap_or_default()
 }
 
-/// Title, the pre-screen caution, load case, frequency, review fraction and
-/// the numbered tables.
+/// Title, the pre-screen caution, provenance, load case with every phase
+/// current, frequency, review fraction and the numbered tables with their
+/// full citations.
 fn heading(s: &mut String, a: &Assessment) {
     let name = a.site_name.as_deref().unwrap_or("(unnamed site)");
     let _ = writeln!(s, "MAGNETIC FIELD EXPOSURE PRE-SCREEN — {name}");
     let _ = writeln!(s, "Computed pre-screen only: compliance is decided under local codes by qualified assessors.");
     let _ = writeln!(s);
+    provenance_lines(s, a.provenance.as_ref());
     let loads: Vec<String> = a.load_case.circuits.iter().map(|c| format!("{} {:.0} A", c.id, c.assessed_a)).collect();
     let _ = writeln!(
         s,
@@ -87,11 +89,68 @@ fn heading(s: &mut String, a: &Assessment) {
         a.load_case.kind,
         if loads.is_empty() { "no circuits".into() } else { loads.join(", ") }
     );
+    for line in a.load_case.phase_lines() {
+        let _ = writeln!(s, "  phases      {line}");
+    }
     let _ = writeln!(s, "Frequency     {} Hz", a.frequency_hz);
     let _ = writeln!(s, "Review from   {:.0} % of a level", a.review_fraction * 100.0);
     let _ = writeln!(s, "Tables");
     for (i, t) in a.tables.iter().enumerate() {
         let _ = writeln!(s, "  T{}  {} (v{}) — {}", i + 1, t.id, t.version, t.title);
+        let _ = writeln!(s, "       source: {}", t.source);
+    }
+}
+
+/// When, by which build and from which site document the result was
+/// computed (absent only in results stored before provenance existed).
+fn provenance_lines(s: &mut String, p: Option<&crate::provenance::Provenance>) {
+    let Some(p) = p else {
+        let _ = writeln!(s, "Provenance    not recorded (computed before provenance was kept)");
+        return;
+    };
+    let _ = writeln!(s, "Computed      {} (UTC)", p.computed_at);
+    let _ = writeln!(s, "Tool          fluxbound {} (build {})", p.tool_version, p.build_commit);
+    let _ = writeln!(s, "Site          {}", p.site_source());
+    let _ = writeln!(s, "Site SHA-256  {}", p.site_sha256);
+    let _ = writeln!(s, "              ({})", p.canonical_form);
+}
+
+/// Under a position: each table whose worst ratio sums several
+/// frequencies, with its terms, and the frequencies a table does not cover.
+fn ratio_terms(s: &mut String, a: &Assessment, p: &PositionResult) {
+    for c in &p.comparisons {
+        let column = table_column(a, &c.table_id);
+        if c.per_frequency.len() > 1 {
+            let _ = writeln!(
+                s,
+                "    {column} ratio {} is a sum over {} frequencies (Σ B_f / B_RL(f)):",
+                num(c.ratio, 3),
+                c.per_frequency.len()
+            );
+            for f in &c.per_frequency {
+                let _ = writeln!(
+                    s,
+                    "      {:>7} Hz  B_f {:>10.3} µT  B_RL(f) {:>10.3} µT  ratio {:.4}",
+                    f.frequency_hz, f.b_ut, f.level_ut, f.ratio
+                );
+            }
+        }
+        uncovered_line(s, &column, &c.uncovered_hz);
+    }
+}
+
+/// "T2 does not cover 150 Hz, 250 Hz" when a table leaves frequencies out.
+fn uncovered_line(s: &mut String, column: &str, uncovered_hz: &[f64]) {
+    if !uncovered_hz.is_empty() {
+        let list: Vec<String> = uncovered_hz.iter().map(|f| format!("{f} Hz")).collect();
+        let _ = writeln!(s, "    {column} not covered: the table has no level at {}", list.join(", "));
+    }
+}
+
+/// Per table of an area, the frequencies it does not cover.
+fn area_uncovered(s: &mut String, a: &Assessment, ar: &AreaResult) {
+    for c in &ar.comparisons {
+        uncovered_line(s, &table_column(a, &c.table_id), &c.uncovered_hz);
     }
 }
 
@@ -123,6 +182,7 @@ fn position_block(s: &mut String, a: &Assessment, p: &PositionResult) {
         }
         let _ = writeln!(s, "{}", row.trim_end());
     }
+    ratio_terms(s, a, p);
     time_weighted_line(s, p.time_weighted.as_ref());
     for n in &p.notes {
         let _ = writeln!(s, "    note: {n}");
@@ -182,6 +242,7 @@ fn area_block(s: &mut String, a: &Assessment, ar: &AreaResult) {
         );
     }
     time_weighted_line(s, ar.time_weighted.as_ref());
+    area_uncovered(s, a, ar);
 }
 
 /// The worst verdict and the positions and areas at or near a level.

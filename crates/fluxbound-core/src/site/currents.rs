@@ -65,6 +65,19 @@ impl Circuit {
         (rms, angle)
     }
 
+    /// Fundamental RMS magnitude (A) and angle (degrees) of line phase A, B
+    /// or C at `load`, as the model sets them (no phasor round trip), for
+    /// reports; `None` for the neutral or a phase the circuit lacks.
+    pub fn line_fundamental_a(&self, phase: Phase, load: CircuitLoad) -> Option<(f64, f64)> {
+        let index = match (phase, self.kind) {
+            (Phase::A, _) => 0,
+            (Phase::B, CircuitKind::ThreePhase) => 1,
+            (Phase::C, CircuitKind::ThreePhase) => 2,
+            _ => return None,
+        };
+        Some(self.fundamental_a(index, load))
+    }
+
     fn line_phase_a(&self, phase_index: usize, order: u32, load: CircuitLoad) -> Complex64 {
         let (rms, angle_deg) = self.fundamental_a(phase_index, load);
         if order == 1 {

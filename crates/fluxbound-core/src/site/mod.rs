@@ -12,13 +12,13 @@ pub mod wire;
 pub use currents::CircuitLoad;
 pub(crate) use currents::excitation_of;
 pub use model::*;
-pub use parse::parse_json;
+pub use parse::{json_syntax_error, parse_json, plain_words};
 pub use problem::{Pointer, Problem, Problems};
 pub use validate::{
     COORDINATE_LIMIT_M, CURRENT_LIMIT_A, FREQUENCY_RANGE_HZ, HARMONIC_ORDERS, MAX_VERTICES, MIN_SEGMENT_M,
     RADIUS_RANGE_M, validate_site,
 };
-pub(crate) use validate::{check_circuits, check_conductors, check_coordinate, check_frequency};
+pub(crate) use validate::{check_circuits, check_conductors, check_coordinate, check_frequency, check_name};
 
 /// Parses and validates a site document in one step.
 pub fn parse_site(text: &str) -> Result<Site, Problems> {

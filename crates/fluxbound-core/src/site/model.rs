@@ -20,6 +20,9 @@ pub struct Site {
     /// assessing, since custom tables live outside the site).
     tables: Vec<String>,
     georeference: Option<super::wire::GeoreferenceDoc>,
+    /// What the validator changed while accepting the document (such as
+    /// a closed polygon ring's repeated vertex dropped), with pointers.
+    notes: super::problem::Problems,
 }
 
 /// The parts of a checked site, handed over by the validator.
@@ -32,6 +35,7 @@ pub(super) struct CheckedParts {
     pub areas: Vec<Area>,
     pub tables: Vec<String>,
     pub georeference: Option<super::wire::GeoreferenceDoc>,
+    pub notes: super::problem::Problems,
 }
 
 impl Site {
@@ -46,6 +50,7 @@ impl Site {
             areas: p.areas,
             tables: p.tables,
             georeference: p.georeference,
+            notes: p.notes,
         }
     }
     pub fn name(&self) -> Option<&str> {
@@ -73,6 +78,11 @@ impl Site {
     }
     pub fn georeference(&self) -> Option<&super::wire::GeoreferenceDoc> {
         self.georeference.as_ref()
+    }
+    /// What the validator changed while accepting the document, each with
+    /// its pointer (information, never a reason to refuse).
+    pub fn input_notes(&self) -> &super::problem::Problems {
+        &self.notes
     }
 }
 

@@ -35,16 +35,15 @@ pub const MAX_POLYGON_VERTICES: usize = 1000;
 pub fn validate_site(doc: &SiteDoc) -> Result<Site, Problems> {
     let root = Pointer::root();
     let mut p = Problems::default();
-    if let Some(name) = &doc.name
-        && name.chars().count() > MAX_NAME_CHARS
-    {
-        p.push(&root.key("name"), format!("name is longer than {MAX_NAME_CHARS} characters"));
+    let mut notes = Problems::default();
+    if let Some(name) = &doc.name {
+        check_name(name, &root.key("name"), &mut p);
     }
     check_frequency(doc.frequency_hz, &root.key("frequency_hz"), &mut p);
     let circuits = check_circuits(&doc.circuits, &root.key("circuits"), &mut p);
     let conductors = check_conductors(&doc.conductors, &root.key("conductors"), &doc.circuits, &mut p);
     let positions = check_positions(&doc.positions, &root.key("positions"), &mut p);
-    let areas = check_areas(&doc.areas, &root.key("areas"), &mut p);
+    let areas = check_areas(&doc.areas, &root.key("areas"), &mut p, &mut notes);
     if let Some(g) = &doc.georeference {
         let gp = root.key("georeference");
         check_range(g.origin_lon_deg, (-180.0, 180.0), "degrees", &gp.key("origin_lon_deg"), &mut p);
@@ -70,7 +69,20 @@ pub fn validate_site(doc: &SiteDoc) -> Result<Site, Problems> {
         areas,
         tables: doc.tables.clone(),
         georeference: doc.georeference,
+        notes,
     }))
+}
+
+/// A name or label: at most [`MAX_NAME_CHARS`] characters, none of them a
+/// control character (NUL, line breaks, escapes: they corrupt printouts
+/// and logs, and PostgreSQL cannot store NUL).
+pub(crate) fn check_name(name: &str, at: &Pointer, p: &mut Problems) {
+    if name.chars().count() > MAX_NAME_CHARS {
+        p.push(at, format!("name is longer than {MAX_NAME_CHARS} characters"));
+    }
+    if name.chars().any(char::is_control) {
+        p.push(at, "name must not contain control characters (such as NUL, tab or a line break)");
+    }
 }
 
 pub(crate) fn check_frequency(f_hz: f64, at: &Pointer, p: &mut Problems) {
@@ -133,7 +145,7 @@ fn check_ids<'a>(ids: impl Iterator<Item = &'a str>, list: &Pointer, what: &str,
         } else if id.chars().count() > MAX_ID_CHARS {
             p.push(&at, format!("id is longer than {MAX_ID_CHARS} characters"));
         } else if id.chars().any(char::is_control) {
-            p.push(&at, "id must not contain control characters");
+            p.push(&at, "id must not contain control characters (such as NUL, tab or a line break)");
         }
         if let Some(first) = seen.insert(id, i) {
             p.push(&at, format!("duplicate {what} id '{id}' (first used at {})", list.index(first)));
@@ -358,19 +370,36 @@ fn check_positions(docs: &[PositionDoc], at: &Pointer, p: &mut Problems) -> Vec<
         .collect()
 }
 
-fn check_areas(docs: &[AreaDoc], at: &Pointer, p: &mut Problems) -> Vec<Area> {
+fn check_areas(docs: &[AreaDoc], at: &Pointer, p: &mut Problems, notes: &mut Problems) -> Vec<Area> {
     check_ids(docs.iter().map(|d| d.id.as_str()), at, "area", p);
     docs.iter()
         .enumerate()
         .map(|(i, d)| {
             let ap = at.index(i);
-            let polygon = check_polygon(&d.polygon, &ap.key("polygon"), p);
+            let polygon = check_polygon(open_ring(&d.polygon, &ap.key("polygon"), notes), &ap.key("polygon"), p);
             check_coordinate(d.height_m, &ap.key("height_m"), p);
             check_range(d.spacing_m, SPACING_RANGE_M, "m", &ap.key("spacing_m"), p);
             check_occupancy(d.occupancy_h, &ap.key("occupancy_h"), p);
             Area { id: d.id.clone(), polygon, height_m: d.height_m, spacing_m: d.spacing_m, occupancy_h: d.occupancy_h }
         })
         .collect()
+}
+
+/// A polygon written as a closed ring (its last vertex repeats the first,
+/// as GIS files and our own GeoJSON export write it) without the repeat,
+/// noted at the dropped vertex; any other polygon as given.
+fn open_ring<'a>(poly: &'a [[f64; 2]], at: &Pointer, notes: &mut Problems) -> &'a [[f64; 2]] {
+    let closed = poly.len() >= 4
+        && poly.first().zip(poly.last()).is_some_and(|(a, b)| (a[0] - b[0]).hypot(a[1] - b[1]) < MIN_SEGMENT_M);
+    if !closed {
+        return poly;
+    }
+    let last = poly.len() - 1;
+    notes.push(
+        &at.index(last),
+        format!("the last vertex repeats the first (a closed ring); it was dropped, leaving {last} vertices"),
+    );
+    &poly[..last]
 }
 
 fn check_polygon(poly: &[[f64; 2]], at: &Pointer, p: &mut Problems) -> Vec<Point2<f64>> {

@@ -160,6 +160,12 @@ pub fn validate_survey(doc: &SurveyDoc, site: &Site) -> Result<Survey, Problems>
 /// uncertainties as fractions.
 fn check_header(doc: &SurveyDoc, p: &mut Problems) -> (f64, f64) {
     let root = Pointer::root();
+    if let Some(name) = &doc.name {
+        crate::site::check_name(name, &root.key("name"), p);
+    }
+    if let Some(model) = &doc.meter.model {
+        crate::site::check_name(model, &root.key("meter").key("model"), p);
+    }
     if doc.measured_at.trim().is_empty() || doc.measured_at.len() > 40 {
         p.push(&root.key("measured_at"), "give the time of measurement (RFC 3339, e.g. 2026-11-20T09:30:00Z)");
     }
@@ -288,6 +294,8 @@ fn check_points(doc: &SurveyDoc, quantity: MeterQuantity, p: &mut Problems) -> V
         let row = |field: &str| if from_csv { at.clone() } else { at.key(field) };
         if m.id.trim().is_empty() || m.id.chars().count() > 64 {
             p.push(&row("id"), format!("measurement {}: id must be 1–64 characters", i + 1));
+        } else if m.id.chars().any(char::is_control) {
+            p.push(&row("id"), format!("measurement {}: id must not contain control characters", i + 1));
         } else if !seen.insert(m.id.clone()) {
             p.push(&row("id"), format!("duplicate measurement id '{}'", m.id));
         }

@@ -14,6 +14,7 @@ mod assess;
 mod engine;
 mod layering;
 mod limits;
+mod provenance;
 mod report;
 mod site;
 mod survey;

@@ -2,4 +2,5 @@
 //! phase-current conventions of `crates/fluxbound-core/src/site/currents.rs`.
 
 mod currents;
+mod plain;
 mod validation;
