@@ -317,6 +317,12 @@ pub struct Assessment {
     pub notes: Vec<String>,
     /// Cautions that apply to every result.
     pub cautions: Vec<String>,
+    /// Model warnings about the site (open ends, no return path, overlapping
+    /// conductors, points inside conductors or below ground), each with its
+    /// pointer into the site document. They never block the result. Empty
+    /// in assessments stored before warnings existed.
+    #[serde(default)]
+    pub warnings: Vec<crate::site::Warning>,
 }
 
 /// Notes every assessment carries beside the cautions.
@@ -440,6 +446,7 @@ pub fn assess(
         summary,
         notes: NOTES.iter().map(|s| s.to_string()).collect(),
         cautions: cautions(),
+        warnings: crate::site::site_warnings(site),
     })
 }
 

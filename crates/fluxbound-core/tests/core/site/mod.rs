@@ -3,3 +3,4 @@
 
 mod currents;
 mod validation;
+mod warnings;
