@@ -416,6 +416,8 @@ fn check_command(file: &Path, out: &mut dyn Write) -> Result<ExitCode, CliError>
                 s.areas().len()
             )
             .map_err(CliError::Write)?;
+            // Warnings never fail the check: the site is valid, only suspect.
+            write!(out, "{}", text::warnings_text(&usecase::site_warnings(&s))).map_err(CliError::Write)?;
             Ok(ExitCode::SUCCESS)
         }
         Err(problems) => {

@@ -5,6 +5,7 @@ use crate::service::{AssessmentRequest, AssessmentView, SiteView, TableView};
 use crate::store::{KeyRow, SiteRow};
 use fluxbound_core::assess::Assessment;
 use fluxbound_core::limits::TableDoc;
+use fluxbound_core::site::Warning;
 use fluxbound_core::site::wire::SiteDoc;
 use serde::{Deserialize, Serialize};
 use utoipa::ToSchema;
@@ -20,6 +21,10 @@ pub struct SiteResource {
     pub created_at: String,
     pub updated_at: String,
     pub site: SiteDoc,
+    /// Model warnings about this revision's document (open ends, no return
+    /// path, overlapping conductors, points inside conductors or below
+    /// ground), with pointers into `site`. They never block storing it.
+    pub warnings: Vec<Warning>,
 }
 
 impl From<SiteView> for SiteResource {
@@ -33,6 +38,7 @@ impl From<SiteView> for SiteResource {
             created_at: v.row.site.created_at,
             updated_at: v.row.site.updated_at,
             site: v.doc,
+            warnings: v.warnings,
         }
     }
 }
@@ -235,6 +241,8 @@ pub struct SurveyReconciliation {
     pub load_fit: fluxbound_core::survey::LoadFit,
     /// Cautions that apply to every result.
     pub cautions: Vec<String>,
+    /// Model warnings about the surveyed site revision.
+    pub warnings: Vec<Warning>,
 }
 
 /// The extrapolation of a stored survey to rated load.
@@ -246,4 +254,6 @@ pub struct SurveyExtrapolation {
     pub notes: Vec<String>,
     /// Cautions that apply to every result.
     pub cautions: Vec<String>,
+    /// Model warnings about the surveyed site revision.
+    pub warnings: Vec<Warning>,
 }

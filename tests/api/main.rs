@@ -14,3 +14,4 @@ mod reports;
 mod sites;
 mod surveys;
 mod tables;
+mod warnings;

@@ -112,6 +112,7 @@ pub struct EvaluateResponse {
     /// points inside conductors or below ground), each with its pointer into
     /// the request document. They never block the result.
     #[serde(default)]
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub warnings: Vec<site::Warning>,
 }
 

@@ -115,6 +115,7 @@ pub async fn surveys_reconciliation(
         reconciliation: a.reconciliation,
         load_fit: a.load_fit,
         cautions: a.cautions,
+        warnings: a.warnings,
     })
     .await
 }
@@ -151,7 +152,12 @@ pub async fn surveys_extrapolation(
         if let Some(f) = review_fraction {
             fluxbound_core::usecase::rejudge_extrapolation(&mut a, f);
         }
-        SurveyExtrapolation { extrapolation: a.extrapolation, notes: a.notes, cautions: a.cautions }
+        SurveyExtrapolation {
+            extrapolation: a.extrapolation,
+            notes: a.notes,
+            cautions: a.cautions,
+            warnings: a.warnings,
+        }
     })
     .await
 }

@@ -322,6 +322,7 @@ pub struct Assessment {
     /// pointer into the site document. They never block the result. Empty
     /// in assessments stored before warnings existed.
     #[serde(default)]
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub warnings: Vec<crate::site::Warning>,
 }
 

@@ -308,6 +308,7 @@ pub struct SurveyAnalysis {
     /// Model warnings about the surveyed site, with pointers into the site
     /// document. Empty in analyses stored before warnings existed.
     #[serde(default)]
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub warnings: Vec<crate::site::Warning>,
 }
 
