@@ -339,3 +339,31 @@ fn collinear_segments_with_a_gap_are_as_far_apart_as_the_gap() {
     );
     assert!((d - 0.25).abs() < 1e-15, "{d}");
 }
+
+// ---- where warnings are shown -------------------------------------------
+
+#[test]
+fn an_assessment_carries_its_sites_warnings_and_the_text_report_lists_them() {
+    let mut doc = clean();
+    doc["conductors"][0].as_object_mut().unwrap().remove("continues");
+    let site = parse_site(&doc.to_string()).expect("valid");
+    let tables = vec![fluxbound_core::limits::builtin_table("icnirp-2010-occupational").unwrap().clone()];
+    let options = fluxbound_core::assess::Options::default();
+    let a = fluxbound_core::assess::assess(&site, &fluxbound_core::assess::LoadCase::Present, &tables, &options)
+        .expect("assessable");
+    assert_eq!(a.warnings, site_warnings(&site));
+    let text = fluxbound_core::report::text::assessment_text(&a);
+    assert!(text.contains("MODEL WARNINGS (1)"), "{text}");
+    assert!(text.contains("  - open_end at /conductors/0/path/0: the start of conductor 'go'"), "{text}");
+}
+
+#[test]
+fn the_text_report_has_no_warnings_block_for_a_clean_site() {
+    let site = parse_site(&clean().to_string()).expect("valid");
+    let tables = vec![fluxbound_core::limits::builtin_table("icnirp-2010-occupational").unwrap().clone()];
+    let options = fluxbound_core::assess::Options::default();
+    let a = fluxbound_core::assess::assess(&site, &fluxbound_core::assess::LoadCase::Present, &tables, &options)
+        .expect("assessable");
+    assert!(a.warnings.is_empty());
+    assert!(!fluxbound_core::report::text::assessment_text(&a).contains("WARNINGS"));
+}
