@@ -419,6 +419,8 @@ fn check_command(file: &Path, out: &mut dyn Write) -> Result<ExitCode, CliError>
             for n in s.input_notes().iter() {
                 writeln!(out, "  note: {n}").map_err(CliError::Write)?;
             }
+            // Warnings never fail the check: the site is valid, only suspect.
+            write!(out, "{}", text::warnings_text(&usecase::site_warnings(&s))).map_err(CliError::Write)?;
             Ok(ExitCode::SUCCESS)
         }
         Err(problems) => {

@@ -6,6 +6,7 @@ use crate::service::{AssessmentRequest, AssessmentView, SiteView, TableView};
 use crate::store::{KeyRow, SiteRow};
 use fluxbound_core::assess::Assessment;
 use fluxbound_core::limits::TableDoc;
+use fluxbound_core::site::Warning;
 use fluxbound_core::site::wire::SiteDoc;
 use serde::{Deserialize, Serialize};
 use utoipa::ToSchema;
@@ -21,6 +22,10 @@ pub struct SiteResource {
     pub created_at: Timestamp,
     pub updated_at: Timestamp,
     pub site: SiteDoc,
+    /// Model warnings about this revision's document (open ends, no return
+    /// path, overlapping conductors, points inside conductors or below
+    /// ground), with pointers into `site`. They never block storing it.
+    pub warnings: Vec<Warning>,
 }
 
 impl From<SiteView> for SiteResource {
@@ -34,6 +39,7 @@ impl From<SiteView> for SiteResource {
             created_at: v.row.site.created_at,
             updated_at: v.row.site.updated_at,
             site: v.doc,
+            warnings: v.warnings,
         }
     }
 }
@@ -236,6 +242,8 @@ pub struct SurveyReconciliation {
     pub load_fit: fluxbound_core::survey::LoadFit,
     /// Cautions that apply to every result.
     pub cautions: Vec<String>,
+    /// Model warnings about the surveyed site revision.
+    pub warnings: Vec<Warning>,
 }
 
 /// The extrapolation of a stored survey to rated load.
@@ -247,4 +255,6 @@ pub struct SurveyExtrapolation {
     pub notes: Vec<String>,
     /// Cautions that apply to every result.
     pub cautions: Vec<String>,
+    /// Model warnings about the surveyed site revision.
+    pub warnings: Vec<Warning>,
 }

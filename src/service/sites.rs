@@ -14,19 +14,25 @@ pub enum IfMatch {
     OneOf(Vec<i64>),
 }
 use crate::store::{RevisionRow, SiteRow, UpdateOutcome};
-use fluxbound_core::site::validate_site;
 use fluxbound_core::site::wire::SiteDoc;
+use fluxbound_core::site::{Warning, validate_site};
+use fluxbound_core::usecase;
 
 /// A site revision with its document.
 #[derive(Debug, Clone, PartialEq)]
 pub struct SiteView {
     pub row: RevisionRow,
     pub doc: SiteDoc,
+    /// The document's model warnings (they never block storing it).
+    pub warnings: Vec<Warning>,
 }
 
 fn view(row: RevisionRow) -> Result<SiteView> {
     let doc = stored(&row.body)?;
-    Ok(SiteView { row, doc })
+    // A stored document passed validation when stored; should a later, stricter
+    // rule reject it, it is shown without warnings rather than not at all.
+    let warnings = validate_site(&doc).map(|s| usecase::site_warnings(&s)).unwrap_or_default();
+    Ok(SiteView { row, doc, warnings })
 }
 
 fn display_name(doc: &SiteDoc) -> String {
@@ -34,20 +40,21 @@ fn display_name(doc: &SiteDoc) -> String {
 }
 
 impl Service {
-    /// Validates a site document fully (rules and size bounds).
-    fn check_site_doc(&self, doc: &SiteDoc) -> Result<()> {
+    /// Validates a site document fully (rules and size bounds) and returns
+    /// its model warnings.
+    fn check_site_doc(&self, doc: &SiteDoc) -> Result<Vec<Warning>> {
         let site = validate_site(doc).map_err(ServiceError::Validation)?;
         let bounds = self.limits().check_site(&site);
-        if bounds.is_empty() { Ok(()) } else { Err(ServiceError::TooBig(bounds)) }
+        if bounds.is_empty() { Ok(usecase::site_warnings(&site)) } else { Err(ServiceError::TooBig(bounds)) }
     }
 
     #[tracing::instrument(name = "sites_create", skip_all, fields(org = %caller.org_id))]
     pub async fn sites_create(&self, caller: &Caller, doc: SiteDoc) -> Result<SiteView> {
         caller.require(Role::Assessor)?;
-        self.check_site_doc(&doc)?;
+        let warnings = self.check_site_doc(&doc)?;
         let row = self.store().site_create(&caller.org_id, &display_name(&doc), &to_json(&doc)).await?;
-        tracing::info!(site = %row.site.id, "site created");
-        Ok(SiteView { row, doc })
+        tracing::info!(site = %row.site.id, warnings = warnings.len(), "site created");
+        Ok(SiteView { row, doc, warnings })
     }
 
     #[tracing::instrument(name = "sites_list", skip_all, fields(org = %caller.org_id))]
@@ -100,11 +107,11 @@ impl Service {
             IfMatch::OneOf(tags) if tags.contains(&latest) => latest,
             IfMatch::OneOf(_) => return Err(ServiceError::PreconditionFailed { current: latest }),
         };
-        self.check_site_doc(&doc)?;
+        let warnings = self.check_site_doc(&doc)?;
         match self.store().site_update(&caller.org_id, id, expected, &display_name(&doc), &to_json(&doc)).await? {
             UpdateOutcome::Updated(row) => {
-                tracing::info!(revision = row.revision, "site revised");
-                Ok(SiteView { row, doc })
+                tracing::info!(revision = row.revision, warnings = warnings.len(), "site revised");
+                Ok(SiteView { row, doc, warnings })
             }
             UpdateOutcome::Stale { current } => Err(ServiceError::PreconditionFailed { current }),
             UpdateOutcome::NotFound => Err(ServiceError::NotFound("site")),

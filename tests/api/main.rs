@@ -15,3 +15,4 @@ mod sites;
 mod strict;
 mod surveys;
 mod tables;
+mod warnings;

@@ -1,7 +1,7 @@
 //! The `fluxbound` binary, run as a user would run it: arguments, standard
 //! input, files, exit codes, standard output and standard error.
 
-use serde_json::Value;
+use serde_json::{Value, json};
 use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output, Stdio};
@@ -138,7 +138,8 @@ fn evaluating_the_busbar_example_prints_exactly_the_documented_keys() {
     let v: Value = serde_json::from_slice(&out.stdout).expect("stdout is one JSON document");
 
     // `EvaluateResponse` in crates/fluxbound-core/src/evaluate.rs: a published interface.
-    assert_eq!(keys(&v), sorted(vec!["frequency_hz", "points", "segment_point_pairs", "cautions"]));
+    // Issue 10 added `warnings` (model warnings with pointers).
+    assert_eq!(keys(&v), sorted(vec!["frequency_hz", "points", "segment_point_pairs", "cautions", "warnings"]));
     for p in v["points"].as_array().expect("points is an array") {
         assert_eq!(keys(p), sorted(vec!["at", "resultant_ut", "maximum_ut", "frequencies", "inside_conductors"]));
         for f in p["frequencies"].as_array().expect("frequencies is an array") {
@@ -348,6 +349,35 @@ fn checking_a_valid_site_exits_0_and_prints_ok() {
     assert_eq!(out.status.code(), Some(0), "stdout: {stdout}\nstderr: {}", stderr_of(&out));
     assert!(stdout.starts_with("ok"), "stdout: {stdout}");
     assert!(stdout.contains("3 conductor(s)"), "stdout: {stdout}");
+}
+
+#[test]
+fn checking_the_furnace_example_prints_its_open_end_warnings_and_still_exits_0() {
+    let out = fluxbound(&["check", manifest_dir().join("examples/site-furnace-feeder.json").to_str().unwrap()], None);
+    let stdout = stdout_of(&out);
+    assert_eq!(out.status.code(), Some(0), "warnings alone do not fail a check; stdout: {stdout}");
+    assert!(stdout.starts_with("ok"), "stdout: {stdout}");
+    assert!(stdout.contains("MODEL WARNINGS"), "stdout: {stdout}");
+    // The go and return conductors' far ends (conductors 0 and 1, vertex 2).
+    assert!(stdout.contains("open_end at /conductors/0/path/2:"), "stdout: {stdout}");
+    assert!(stdout.contains("open_end at /conductors/1/path/2:"), "stdout: {stdout}");
+}
+
+#[test]
+fn checking_a_site_without_warnings_prints_no_warnings_block() {
+    let site = json!({
+        "frequency_hz": 50,
+        "conductors": [
+            { "id": "go", "path": [[0, 0, 1], [10, 0, 1], [10, 1, 1]], "radius_m": 0.01,
+              "current": { "rms_a": 100, "phase_deg": 0 }, "continues": { "start": true } },
+            { "id": "back", "path": [[10, 1, 1], [0, 1, 1]], "radius_m": 0.01,
+              "current": { "rms_a": 100, "phase_deg": 180 }, "continues": { "end": true } }
+        ]
+    });
+    let out = fluxbound(&["check", "-"], Some(&site.to_string()));
+    let stdout = stdout_of(&out);
+    assert_eq!(out.status.code(), Some(0), "stdout: {stdout}");
+    assert!(stdout.starts_with("ok") && !stdout.contains("WARNINGS"), "stdout: {stdout}");
 }
 
 #[test]

@@ -5,6 +5,7 @@
 
 use crate::cautions::cautions;
 use crate::field::{self, FieldPhasor};
+use crate::site::warnings::{Probe, model_warnings};
 use crate::site::wire::{CircuitDoc, ConductorDoc};
 use crate::site::{
     self, Conductor, Pointer, Problems, check_circuits, check_conductors, check_coordinate, check_frequency,
@@ -107,6 +108,12 @@ pub struct EvaluateResponse {
     pub segment_point_pairs: u64,
     /// Cautions that apply to every result.
     pub cautions: Vec<String>,
+    /// Model warnings (open ends, no return path, overlapping conductors,
+    /// points inside conductors or below ground), each with its pointer into
+    /// the request document. They never block the result.
+    #[serde(default)]
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub warnings: Vec<site::Warning>,
 }
 
 /// A checked request, ready to compute.
@@ -189,7 +196,20 @@ pub fn evaluate(ev: &Evaluation) -> EvaluateResponse {
         points,
         segment_point_pairs: ev.pair_count(),
         cautions: cautions(),
+        warnings: evaluation_warnings(ev),
     }
+}
+
+/// The model warnings of a checked request, pointers into the request.
+pub fn evaluation_warnings(ev: &Evaluation) -> Vec<site::Warning> {
+    let points = Pointer::root().key("points");
+    let probes: Vec<Probe> = ev
+        .points
+        .iter()
+        .enumerate()
+        .map(|(i, at)| Probe { at: *at, pointer: points.index(i).to_string(), group: i })
+        .collect();
+    model_warnings(ev.frequency_hz, &ev.circuits, &ev.conductors, &probes, Vec::new())
 }
 
 /// Parses, checks and computes a request document.

@@ -15,7 +15,8 @@
 //! field/      phasor Biot–Savart kernel, influence matrices, resultant and maximum,
 //!             bounds of a segment's field and its rate of change (field/bound)
 //! site/       the site document: wire types, strict parsing, validation with
-//!             JSON pointers, the checked model, phase and harmonic conventions
+//!             JSON pointers, the checked model, phase and harmonic conventions,
+//!             model warnings (open ends, no return path, overlaps, …)
 //! limits/     reference-level tables as data: bands, lookup, validation, built-ins
 //! assess/     exposure at positions and areas, load cases, ratios and verdicts,
 //!             area grids and field maps, the proven area maximum (assess/peak)

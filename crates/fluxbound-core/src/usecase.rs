@@ -187,6 +187,14 @@ pub fn assess_site(
     })
 }
 
+/// The model warnings of a checked site (open ends, no return path,
+/// overlapping conductors, points inside conductors or below ground), with
+/// pointers into the site document. Assessments, survey analyses and
+/// evaluations carry theirs; `check` and the site resources show these.
+pub fn site_warnings(site: &Site) -> Vec<crate::site::Warning> {
+    crate::site::site_warnings(site)
+}
+
 /// Checks a survey document against the site it was measured on.
 pub fn check_survey(site: &Site, doc: &SurveyDoc) -> Result<Survey, UseCaseError> {
     survey::validate_survey(doc, site).map_err(UseCaseError::Survey)

@@ -116,6 +116,7 @@ pub async fn surveys_reconciliation(
         reconciliation: a.reconciliation,
         load_fit: a.load_fit,
         cautions: a.cautions,
+        warnings: a.warnings,
     })
     .await
 }
@@ -152,7 +153,12 @@ pub async fn surveys_extrapolation(
         if let Some(f) = review_fraction {
             fluxbound_core::usecase::rejudge_extrapolation(&mut a, f);
         }
-        SurveyExtrapolation { extrapolation: a.extrapolation, notes: a.notes, cautions: a.cautions }
+        SurveyExtrapolation {
+            extrapolation: a.extrapolation,
+            notes: a.notes,
+            cautions: a.cautions,
+            warnings: a.warnings,
+        }
     })
     .await
 }

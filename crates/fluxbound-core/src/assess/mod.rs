@@ -383,6 +383,13 @@ pub struct Assessment {
     #[serde(default)]
     #[cfg_attr(feature = "schema", schema(required = true))]
     pub provenance: Option<crate::provenance::Provenance>,
+    /// Model warnings about the site (open ends, no return path, overlapping
+    /// conductors, points inside conductors or below ground), each with its
+    /// pointer into the site document. They never block the result. Empty
+    /// in assessments stored before warnings existed.
+    #[serde(default)]
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub warnings: Vec<crate::site::Warning>,
 }
 
 impl Assessment {
@@ -520,6 +527,7 @@ pub fn assess(
         notes: NOTES.iter().map(|s| s.to_string()).chain(site.input_notes().iter().map(|n| n.to_string())).collect(),
         cautions: cautions(),
         provenance: None,
+        warnings: crate::site::site_warnings(site),
     })
 }
 

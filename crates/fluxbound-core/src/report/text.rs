@@ -41,6 +41,10 @@ fn time_weighted_line(s: &mut String, tw: Option<&crate::assess::TimeWeighted>) 
 pub fn assessment_text(a: &Assessment) -> String {
     let mut s = String::new();
     heading(&mut s, a);
+    if !a.warnings.is_empty() {
+        let _ = writeln!(s);
+        s.push_str(&warnings_text(&a.warnings));
+    }
     if !a.positions.is_empty() {
         let _ = writeln!(s);
         let _ = writeln!(s, "POSITIONS   B in µT RMS; under each table: exposure ratio B / level, and verdict");
@@ -261,6 +265,21 @@ fn summary(s: &mut String, a: &Assessment) {
     }
 }
 
+/// The model warnings block: a heading line, then one line per warning
+/// (code, pointer, detail). Empty when there are none.
+pub fn warnings_text(warnings: &[crate::site::Warning]) -> String {
+    let mut s = String::new();
+    if warnings.is_empty() {
+        return s;
+    }
+    let _ = writeln!(s, "MODEL WARNINGS ({})   the results stand, but the model may not be right here", warnings.len());
+    for w in warnings {
+        let at = if w.pointer.is_empty() { "(document)" } else { &w.pointer };
+        let _ = writeln!(s, "  - {} at {at}: {}", snake(&w.code), w.detail);
+    }
+    s
+}
+
 /// The closing block every result carries.
 fn cautions(s: &mut String, cautions: &[String]) {
     let _ = writeln!(s);
@@ -344,6 +363,10 @@ pub fn survey_text(site_name: Option<&str>, s: &crate::survey::SurveyAnalysis) -
     extrapolation_block(&mut out, s.extrapolation.as_ref());
     for n in &s.notes {
         let _ = writeln!(out, "note: {n}");
+    }
+    if !s.warnings.is_empty() {
+        let _ = writeln!(out);
+        out.push_str(&warnings_text(&s.warnings));
     }
     cautions(&mut out, &s.cautions);
     out

@@ -7,6 +7,7 @@ mod parse;
 mod problem;
 mod strict;
 mod validate;
+pub mod warnings;
 pub mod wire;
 
 pub use currents::CircuitLoad;
@@ -19,6 +20,7 @@ pub use validate::{
     RADIUS_RANGE_M, validate_site,
 };
 pub(crate) use validate::{check_circuits, check_conductors, check_coordinate, check_frequency, check_name};
+pub use warnings::{Warning, WarningCode, site_warnings};
 
 /// Parses and validates a site document in one step.
 pub fn parse_site(text: &str) -> Result<Site, Problems> {

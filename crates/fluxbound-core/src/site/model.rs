@@ -132,6 +132,9 @@ pub struct Conductor {
     pub path: Vec<Point3<f64>>,
     pub radius_m: f64,
     pub drive: Drive,
+    /// Whether the path continues beyond the model at its first and last
+    /// vertex (`[start, end]`); such ends are not open ends.
+    pub continues: [bool; 2],
 }
 
 #[derive(Debug, Clone, PartialEq)]

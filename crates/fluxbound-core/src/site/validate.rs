@@ -245,7 +245,8 @@ fn check_conductor(
         check_range(c.radius_m, RADIUS_RANGE_M, "m", &rp, p);
     }
     let drive = check_drive(c, at, circuits, by_id, p);
-    Conductor { id: c.id.clone(), path, radius_m: c.radius_m, drive }
+    let continues = c.continues.map_or([false; 2], |k| [k.start, k.end]);
+    Conductor { id: c.id.clone(), path, radius_m: c.radius_m, drive, continues }
 }
 
 fn check_path(path: &[[f64; 3]], at: &Pointer, p: &mut Problems) -> Vec<Point3<f64>> {

@@ -202,6 +202,25 @@ pub struct ConductorDoc {
     /// An explicit RMS phasor instead of circuit and phase.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub current: Option<CurrentDoc>,
+    /// Which ends of the path continue beyond the model (the current flows
+    /// on, out of the modelled region). An end that meets no other
+    /// conductor and is not marked here draws an `open_end` warning.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub continues: Option<ContinuesDoc>,
+}
+
+/// Ends of a conductor's path that continue beyond the model: the path is
+/// cut where the model stops, not where the current stops.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
+#[serde(deny_unknown_fields)]
+pub struct ContinuesDoc {
+    /// The first vertex is where the model stops (default false).
+    #[serde(default)]
+    pub start: bool,
+    /// The last vertex is where the model stops (default false).
+    #[serde(default)]
+    pub end: bool,
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]

@@ -305,6 +305,11 @@ pub struct SurveyAnalysis {
     pub notes: Vec<String>,
     /// Cautions that apply to every result.
     pub cautions: Vec<String>,
+    /// Model warnings about the surveyed site, with pointers into the site
+    /// document. Empty in analyses stored before warnings existed.
+    #[serde(default)]
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub warnings: Vec<crate::site::Warning>,
 }
 
 fn median(mut v: Vec<f64>) -> Option<f64> {
@@ -827,5 +832,6 @@ pub fn analyse_with(
         extrapolation,
         notes,
         cautions: cautions(),
+        warnings: crate::site::site_warnings(survey.site()),
     })
 }

@@ -4,3 +4,4 @@
 mod currents;
 mod plain;
 mod validation;
+mod warnings;

@@ -698,6 +698,7 @@ fn wire_site() -> SiteDoc {
             phase: None,
             share: None,
             current: Some(CurrentDoc { rms_a: 100.0, phase_deg: 0.0 }),
+            continues: None,
         }],
         positions: vec![PositionDoc {
             id: "desk".into(),
