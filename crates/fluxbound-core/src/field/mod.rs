@@ -7,6 +7,7 @@
 //! geometry; [`evaluate`] streams the same kernel straight into phasors
 //! without storing `G`, which is what a large map needs.
 
+pub mod bound;
 mod geometry;
 mod kernel;
 mod phasor;

@@ -2,6 +2,7 @@
 //! textbook closed forms, an outside library's numbers, and invariants that
 //! any correct Biot–Savart implementation satisfies.
 
+mod bounds;
 mod closed_forms;
 mod conformance;
 mod invariants;
