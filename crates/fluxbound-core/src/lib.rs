@@ -11,7 +11,8 @@
 //! # Layout
 //!
 //! ```text
-//! field/      phasor Biot–Savart kernel, influence matrices, resultant and maximum
+//! field/      phasor Biot–Savart kernel, influence matrices, resultant and maximum;
+//!             bound.rs: guaranteed bounds of a segment's field and slope
 //! site/       the site document: wire types, strict parsing, validation with
 //!             JSON pointers, the checked model, phase and harmonic conventions
 //! limits/     reference-level tables as data: bands, lookup, validation, built-ins
@@ -20,7 +21,7 @@
 //! survey/     measured against modelled (a checked survey carries its site),
 //!             bounded least-squares load fit, extrapolation to rated load
 //! survey/lm   the Levenberg–Marquardt solver of the fit, tuning named and cited
-//! mitigate/   distance to a level along a direction
+//! mitigate/   first crossing and clearance to a level or a table, proven by bounds
 //! report/     pure renderers: text, CSV, SVG, GeoJSON, contours, geodesy
 //! usecase     one function per thing a caller can do (CLI and service alike)
 //! evaluate    the stateless evaluation document

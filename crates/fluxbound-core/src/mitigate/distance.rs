@@ -95,7 +95,10 @@ pub struct DistanceResult {
     /// The point at that distance.
     #[cfg_attr(feature = "schema", schema(required = true))]
     pub at: Option<[f64; 3]>,
-    /// Both distances are within this of the true ones, on the long side, m.
+    /// Where the bounds settle the field, both distances are within this of
+    /// the true ones, on the long side, m. Where the field stays within the
+    /// bounds' margin of the threshold they can be longer: the clearance's
+    /// proven range is from `clearance_sampled_above_m` to `clearance_m`.
     pub tolerance_m: f64,
     /// Farthest distance searched, m.
     pub searched_to_m: f64,
@@ -124,6 +127,11 @@ pub struct DistanceResult {
     /// First crossing along `clearance_direction`, m (`null` if none).
     #[cfg_attr(feature = "schema", schema(required = true))]
     pub clearance_direction_first_crossing_m: Option<f64>,
+    /// The farthest point along `clearance_direction` found at or above the
+    /// threshold, m: the true clearance lies between this and `clearance_m`
+    /// (`null` when none was found, e.g. below along the whole ray).
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub clearance_sampled_above_m: Option<f64>,
     /// Directions searched (1 unless `shortest`).
     pub directions_searched: usize,
     /// Segment–point pairs the search used (its compute budget's unit).
@@ -428,6 +436,7 @@ fn assemble(
         clearance_at: point_at(from, &clear.dir, clear.outcome.clearance_m),
         clearance_direction: [clear.dir.x, clear.dir.y, clear.dir.z],
         clearance_direction_first_crossing_m: clear.outcome.first_below_m,
+        clearance_sampled_above_m: clear.outcome.above_m,
         directions_searched: searched.len(),
         pairs_used,
         notes: words,
@@ -449,12 +458,20 @@ fn describe(meter: &Meter, first: &Searched, clear: &Searched, shortest: bool, c
             "Clearance: not found within {MAX_RANGE_M} m: {subject} is not proven below {thr} at the end of the searched range."
         ),
     });
+    if let (Some(c), Some(a)) = (clear.outcome.clearance_m, clear.outcome.above_m)
+        && c - a > DISTANCE_TOLERANCE_M
+    {
+        w.push(format!(
+            "The clearance lies between {a:.5} m and {c:.5} m: in between {subject} stays so close to {thr} that the bounds cannot settle it, and the longer value is reported."
+        ));
+    }
     if !shortest || first.dir == clear.dir {
-        match (first.outcome.first_below_m, clear.outcome.clearance_m) {
+        match (first.outcome.first_below_m, first.outcome.clearance_m) {
             (None, _) => w.push(format!(
                 "First crossing: not found within {MAX_RANGE_M} m: {subject} does not fall below {thr} along this ray."
             )),
-            (Some(f), c) if c.is_none_or(|c| f + DISTANCE_TOLERANCE_M < c) => w.push(format!(
+            // A point at or above the threshold beyond the first crossing.
+            (Some(f), _) if first.outcome.above_m.is_some_and(|a| f + DISTANCE_TOLERANCE_M < a) => w.push(format!(
                 "First crossing at {f:.5} m, but farther out {subject} rises to {thr} again: it stays below only beyond the clearance."
             )),
             _ => {}

@@ -14,12 +14,13 @@
 //! the side that makes both distances longer, never shorter.
 
 use super::Meter;
+use super::distance::Sample;
 use crate::field::bound::{segment_field_bound_ut, segment_segment_distance_m, segment_slope_bound_ut_per_m};
 use nalgebra::{Point3, Unit, Vector3};
 
 /// Intervals narrower than this are not split further, m. Both distances
 /// are reported to within it (it is below the documented 0.1 mm).
-pub const RESOLUTION_M: f64 = 1.0e-5;
+pub const RESOLUTION_M: f64 = 1.0e-6;
 
 /// What a search along a ray found.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -30,6 +31,10 @@ pub struct RayOutcome {
     /// Distance beyond which the quantity stays below up to the range, m;
     /// `None` when it does not come below before the range's end.
     pub clearance_m: Option<f64>,
+    /// The farthest point found at or above the threshold on the way to
+    /// the clearance, m: the true clearance lies between it and
+    /// `clearance_m` (`None` when no point was found above).
+    pub above_m: Option<f64>,
 }
 
 /// The search stopped: its budget of segment–point pairs is spent.
@@ -64,8 +69,8 @@ impl Ray<'_> {
     /// Both distances along this ray.
     pub fn search(&self, spent: &mut u64, budget: u64) -> Result<RayOutcome, OutOfBudget> {
         let first_below_m = self.first_below(spent, budget)?;
-        let clearance_m = self.clearance(spent, budget)?;
-        Ok(RayOutcome { first_below_m, clearance_m })
+        let (clearance_m, above_m) = self.clearance(spent, budget)?;
+        Ok(RayOutcome { first_below_m, clearance_m, above_m })
     }
 
     /// Depth-first from the origin: the first interval not certified above
@@ -76,7 +81,7 @@ impl Ray<'_> {
         }
         let mut stack = vec![(0.0, self.range_m)];
         while let Some((a, b)) = stack.pop() {
-            match self.classify(a, b, spent, budget)? {
+            match self.classify(a, b, spent, budget)?.0 {
                 Class::Above | Class::Unsettled { mid_below: false } => {}
                 Class::Below => return Ok(Some(a)),
                 Class::Unsettled { mid_below: true } => return Ok(Some(0.5 * (a + b))),
@@ -91,14 +96,24 @@ impl Ray<'_> {
     }
 
     /// Depth-first from the range's end: the last interval not certified
-    /// below ends at the clearance.
-    fn clearance(&self, spent: &mut u64, budget: u64) -> Result<Option<f64>, OutOfBudget> {
+    /// below ends at the clearance. Also the farthest point seen at or above
+    /// the threshold on the way (a sampled midpoint, or the end of an
+    /// interval certified above).
+    fn clearance(&self, spent: &mut u64, budget: u64) -> Result<(Option<f64>, Option<f64>), OutOfBudget> {
         let mut stack = vec![(0.0, self.range_m)];
+        let mut above: Option<f64> = None;
         while let Some((a, b)) = stack.pop() {
-            match self.classify(a, b, spent, budget)? {
+            let (class, mid_above) = self.classify(a, b, spent, budget)?;
+            if mid_above {
+                above = farther(above, 0.5 * (a + b));
+            }
+            match class {
                 Class::Below => {}
                 Class::Above | Class::Unsettled { .. } => {
-                    return Ok((b < self.range_m).then_some(b));
+                    if class == Class::Above {
+                        above = farther(above, b);
+                    }
+                    return Ok(((b < self.range_m).then_some(b), above));
                 }
                 Class::Split => {
                     let m = 0.5 * (a + b);
@@ -108,32 +123,45 @@ impl Ray<'_> {
             }
         }
         // Below along the whole ray, origin included.
-        Ok(Some(0.0))
+        Ok((Some(0.0), None))
     }
 
-    fn classify(&self, a: f64, b: f64, spent: &mut u64, budget: u64) -> Result<Class, OutOfBudget> {
+    /// The interval's class, and whether its midpoint was sampled at or
+    /// above the threshold (inside a conductor included).
+    fn classify(&self, a: f64, b: f64, spent: &mut u64, budget: u64) -> Result<(Class, bool), OutOfBudget> {
+        let (class, sample) = self.settle(a, b, spent, budget)?;
+        Ok((class, !sample.below))
+    }
+
+    fn settle(&self, a: f64, b: f64, spent: &mut u64, budget: u64) -> Result<(Class, Sample), OutOfBudget> {
         let (pa, pb) = (self.point(a), self.point(b));
         let mid = self.point(0.5 * (a + b));
         let sample = self.meter.sample(&mid, spent, budget)?;
         let near = self.meter.nearness(&pa, &pb);
         if near.wholly_inside {
-            return Ok(Class::Above);
+            return Ok((Class::Above, sample));
         }
         let half = 0.5 * (b - a);
         if let Some(lines) = &sample.per_line_ut {
             let (upper, lower) = self.meter.bounds(lines, &near, half);
             if !near.touches && upper < self.meter.threshold() {
-                return Ok(Class::Below);
+                return Ok((Class::Below, sample));
             }
             if near.finite && lower >= self.meter.threshold() {
-                return Ok(Class::Above);
+                return Ok((Class::Above, sample));
             }
         }
         if b - a <= RESOLUTION_M {
-            return Ok(Class::Unsettled { mid_below: sample.below });
+            let mid_below = sample.below;
+            return Ok((Class::Unsettled { mid_below }, sample));
         }
-        Ok(Class::Split)
+        Ok((Class::Split, sample))
     }
+}
+
+/// The farther of a known point (if any) and `s`, m.
+fn farther(known: Option<f64>, s: f64) -> Option<f64> {
+    Some(known.map_or(s, |k| k.max(s)))
 }
 
 /// How near an interval of the ray comes to each segment.

@@ -81,6 +81,9 @@ fn between_two_in_phase_wires_the_first_crossing_is_in_the_null_and_the_clearanc
     let (d, c) = (r.distance_m.unwrap(), r.clearance_m.unwrap());
     assert!(on_the_long_side(d, first), "first crossing {d} vs {first}");
     assert!(on_the_long_side(c, clear), "clearance {c} vs {clear}");
+    // The point found above brackets the clearance from below (rounding 1e-9 m).
+    let above = r.clearance_sampled_above_m.unwrap();
+    assert!(above <= clear + 1e-9 && clear - above < 1e-4, "{above} vs {clear}");
     assert!(r.notes.iter().any(|n| n.contains("rises to 0.02 µT again")), "{:?}", r.notes);
 }
 
