@@ -282,7 +282,22 @@ fn directions(
     direction: Direction,
 ) -> (Vec<Unit<Vector3<f64>>>, Vec<String>) {
     match direction {
-        Direction::Along(d) => (vec![d], Vec::new()),
+        Direction::Along(d) => {
+            // The caller's own choice is searched; say when it is an axis.
+            let notes = axes_through(meter, site, from)
+                .iter()
+                .find(|(_, t)| d.dot(t).abs() > AXIS_EXCLUSION_DEG.to_radians().cos())
+                .map(|(id, _)| {
+                    format!(
+                        "This direction runs within {AXIS_EXCLUSION_DEG}° of the axis of conductor '{id}', which the \
+                         origin lies on: past an open end the thin-wire model gives zero field along a conductor's own \
+                         axis, an artefact of a conductor that ends in free space; `shortest` leaves such directions out."
+                    )
+                })
+                .into_iter()
+                .collect();
+            (vec![d], notes)
+        }
         Direction::Shortest => {
             let n = (360.0 / SHORTEST_STEP_DEG).round() as usize;
             let all = (0..n)

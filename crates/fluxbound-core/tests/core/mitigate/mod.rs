@@ -138,6 +138,9 @@ fn shortest_from_a_short_conductor_does_not_follow_its_axis_past_the_open_end() 
     assert!(axis_angle >= 10.0 - 1e-9, "clearance along {:?}", r.clearance_direction);
     assert!(r.clearance_m.unwrap() > 1.5, "{r:?}");
     assert!(r.notes.iter().any(|n| n.contains("axis of conductor 'stub'")), "{:?}", r.notes);
+    // Asked along the axis itself, the search runs and says why not to trust it.
+    let axial = search(&site, Point3::new(0.0, 0.0, 1.0), along(1.0, 0.0, 0.0), Target::LevelUt(10.0));
+    assert!(axial.notes.iter().any(|n| n.contains("runs within 10° of the axis of conductor 'stub'")), "{axial:?}");
     // Sideways the distance follows the closed form (tolerance 1e-4 m plus
     // rounding).
     let side = search(&site, Point3::new(0.0, 0.0, 1.0), along(0.0, 1.0, 0.0), Target::LevelUt(10.0));
