@@ -11,6 +11,7 @@ use clap::{Parser, Subcommand, ValueEnum};
 use fluxbound_core::assess::{AssessError, LoadCase, LoadError, ReviewFraction};
 use fluxbound_core::evaluate::EvaluateRequest;
 use fluxbound_core::limits::{self, ReferenceTable, TableSource, UnknownTable};
+use fluxbound_core::mitigate;
 use fluxbound_core::report::text;
 use fluxbound_core::site::{self, Problems, Site};
 use fluxbound_core::survey::wire::SurveyDoc;
@@ -57,7 +58,7 @@ pub enum Command {
         #[command(subcommand)]
         action: Option<TablesAction>,
     },
-    /// Distance from a position, conductor or point to where the field falls below a level (JSON).
+    /// First crossing and clearance from a position, conductor or point to a µT level or a table's ratio 1.
     Distance(DistanceArgs),
     /// Spot-measurement surveys.
     Survey {
@@ -110,22 +111,32 @@ pub struct AssessArgs {
 }
 
 #[derive(Debug, clap::Args)]
+#[command(group(clap::ArgGroup::new("to").required(true).args(["level_ut", "table"])))]
 pub struct DistanceArgs {
     /// Site model (JSON), or `-` for standard input.
     #[arg(value_name = "SITE")]
     pub site: PathBuf,
-    /// Level, µT RMS (resultant).
+    /// Level, µT RMS (resultant over all frequencies).
     #[arg(long = "level-ut", value_name = "MICROTESLA", allow_negative_numbers = true)]
-    pub level_ut: f64,
+    pub level_ut: Option<f64>,
+    /// Table id: distance to where its exposure ratio Σ B_f / B_RL(f) falls below 1.
+    #[arg(long, value_name = "ID")]
+    pub table: Option<String>,
+    /// A custom table (JSON) that --table may name; may be repeated.
+    #[arg(long = "table-file", value_name = "FILE")]
+    pub table_files: Vec<PathBuf>,
     /// `position:ID`, `conductor:ID` (middle of its longest segment) or `point:x,y,z` (m).
     #[arg(long, value_name = "ORIGIN")]
     pub from: String,
-    /// `shortest` (horizontal directions in 5° steps and straight up) or `x,y,z`; default shortest.
+    /// `shortest` (the smallest clearance over horizontal directions in 5° steps and straight up) or `x,y,z`; default shortest.
     #[arg(long, value_name = "DIRECTION", allow_hyphen_values = true)]
     pub direction: Option<String>,
     /// Currents to search at.
     #[arg(long, value_enum, default_value_t = LoadArg::Present)]
     pub load: LoadArg,
+    /// Output format (JSON by default, as before the plain-words table existed).
+    #[arg(long, value_enum, default_value_t = Format::Json)]
+    pub format: Format,
 }
 
 /// Where the database is: `DATABASE_URL=postgres://…` or SQLite in `--data-dir`.
@@ -317,7 +328,9 @@ fn problem_lines(e: UseCaseError) -> Vec<String> {
         UseCaseError::Load(l) => load_lines(l),
         UseCaseError::Survey(p) | UseCaseError::Evaluate(p) | UseCaseError::OverBudget(p) => in_file(p),
         UseCaseError::UnknownArea(id) => vec![format!("--map: the site has no area '{id}'")],
-        UseCaseError::Distance { arg, detail } => vec![format!("--{}: {detail}", arg.name().replace('_', "-"))],
+        UseCaseError::Distance { arg, detail } | UseCaseError::DistanceOverBudget { arg, detail } => {
+            vec![format!("--{}: {detail}", arg.name().replace('_', "-"))]
+        }
     }
 }
 
@@ -534,8 +547,18 @@ fn assess_command(args: &AssessArgs, out: &mut dyn Write) -> Result<ExitCode, Cl
 
 fn distance_command(args: &DistanceArgs, out: &mut dyn Write) -> Result<ExitCode, CliError> {
     let site = read_site(&args.site)?;
-    let query = usecase::DistanceQuery::parse(&args.from, args.direction.as_deref(), args.level_ut)?;
-    write_json(out, &usecase::distance_to_level(&site, &LoadCase::from(args.load), &query)?)?;
+    let to = match (&args.table, args.level_ut) {
+        (Some(id), _) => usecase::DistanceTo::Table(id.clone()),
+        (None, Some(level)) => usecase::DistanceTo::LevelUt(level),
+        (None, None) => return Err(CliError::flag("--level-ut", "give --level-ut or --table")),
+    };
+    let query = usecase::DistanceQuery::new(&args.from, args.direction.as_deref(), to)?;
+    let custom = read_table_files(&args.table_files)?;
+    let result = usecase::distance(&site, &LoadCase::from(args.load), &query, &custom, &Budget::offline())?;
+    match args.format {
+        Format::Json => write_json(out, &result)?,
+        Format::Table => write!(out, "{}", mitigate::distance_text(&result)).map_err(CliError::Write)?,
+    }
     Ok(ExitCode::SUCCESS)
 }
 

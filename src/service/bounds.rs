@@ -3,7 +3,7 @@
 
 use fluxbound_core::assess::{DEFAULT_MAX_GRID_CELLS, MAP_MAX_CELLS, check_grid_budget};
 use fluxbound_core::site::{Pointer, Problems, Site};
-use fluxbound_core::usecase::{Budget, DEFAULT_MAX_PAIRS, segment_count};
+use fluxbound_core::usecase::{Budget, DEFAULT_MAX_DISTANCE_PAIRS, DEFAULT_MAX_PAIRS, segment_count};
 use serde::{Deserialize, Serialize};
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -24,6 +24,9 @@ pub struct Limits {
     pub rate_per_key: u32,
     /// Seconds before a request is answered 503.
     pub request_timeout_s: u64,
+    /// Segment–point pairs per distance query (its probes go one point at a
+    /// time: ≈ 1 s at the default, estimated).
+    pub max_distance_pairs: u64,
 }
 
 impl Default for Limits {
@@ -38,6 +41,7 @@ impl Default for Limits {
             max_pairs: DEFAULT_MAX_PAIRS,
             rate_per_key: 50,
             request_timeout_s: 30,
+            max_distance_pairs: DEFAULT_MAX_DISTANCE_PAIRS,
         }
     }
 }
@@ -66,6 +70,11 @@ impl Limits {
 
     /// The compute budgets of the use cases.
     pub fn budget(&self) -> Budget {
-        Budget { max_pairs: self.max_pairs, max_grid_cells: self.max_grid_cells, map_max_cells: MAP_MAX_CELLS }
+        Budget {
+            max_pairs: self.max_pairs,
+            max_grid_cells: self.max_grid_cells,
+            map_max_cells: MAP_MAX_CELLS,
+            max_distance_pairs: self.max_distance_pairs,
+        }
     }
 }

@@ -146,6 +146,9 @@ impl From<UseCaseError> for ServiceError {
             U::UnknownArea(_) => ServiceError::NotFound("area"),
             U::Distance { arg, detail } => ServiceError::Validation(one_problem(format!("/{}", arg.name()), detail)),
             U::OverBudget(p) => ServiceError::TooBig(p),
+            U::DistanceOverBudget { arg, detail } => {
+                ServiceError::TooBig(one_problem(format!("/{}", arg.name()), detail))
+            }
         }
     }
 }

@@ -8,7 +8,7 @@ use fluxbound_core::limits::{ReferenceTable, builtin_table};
 use fluxbound_core::mitigate::DistanceResult;
 use fluxbound_core::site::wire::SiteDoc;
 use fluxbound_core::site::{Site, validate_site};
-use fluxbound_core::usecase::{self, DistanceQuery};
+use fluxbound_core::usecase::{self, DistanceQuery, DistanceTo};
 
 struct Context {
     site: Site,
@@ -78,8 +78,10 @@ impl Service {
         Ok(doc)
     }
 
-    /// Distance from `from` along `direction` to where the field falls below
-    /// `level_ut`, at the assessment's load case.
+    /// First crossing and clearance from `from` along `direction` (or the
+    /// shortest clearance) to a level or a table, at the assessment's load
+    /// case; a table is looked up among the assessment's pinned tables,
+    /// then the built-in ones, then the organisation's latest versions.
     #[tracing::instrument(name = "reports_distance", skip_all, fields(org = %caller.org_id, assessment = %id))]
     pub async fn reports_distance(
         &self,
@@ -87,11 +89,22 @@ impl Service {
         id: &AssessmentId,
         from: &str,
         direction: Option<&str>,
-        level_ut: f64,
+        to: DistanceTo,
     ) -> Result<DistanceResult> {
-        let query = DistanceQuery::parse(from, direction, level_ut)?;
-        let ctx = self.report_context(caller, id).await?;
-        let result = self.compute(move || usecase::distance_to_level(&ctx.site, &ctx.request.load, &query)).await??;
+        let query = DistanceQuery::new(from, direction, to.clone())?;
+        let mut ctx = self.report_context(caller, id).await?;
+        if let DistanceTo::Table(table_id) = &to
+            && !ctx.tables.iter().any(|t| t.id() == table_id)
+            && builtin_table(table_id).is_none()
+            && let Some(v) = self.store().table_version(&caller.org_id, table_id, None).await?
+        {
+            ctx.tables.push(stored_table(&v)?);
+        }
+        let budget = self.limits().budget();
+        let result = self
+            .compute(move || usecase::distance(&ctx.site, &ctx.request.load, &query, &ctx.tables, &budget))
+            .await??;
+        self.count_pairs(result.pairs_used);
         Ok(result)
     }
 }

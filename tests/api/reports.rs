@@ -89,3 +89,48 @@ async fn the_distance_query_answers_from_a_position_and_rejects_bad_input_with_p
         .await;
     assert_problem(app.get(&format!("/v1/assessments/{id}/positions.csv"), &other).await, 404, "not-found", None).await;
 }
+
+#[tokio::test]
+async fn the_distance_query_answers_to_a_table_with_a_first_crossing_and_a_clearance() {
+    let app = spawn_app().await;
+    let key = app.key("org-a", Role::Assessor).await;
+    let id = furnace_assessment(&app, &key).await;
+    let path = format!("/v1/assessments/{id}/distance");
+    let res = app
+        .get(&format!("{path}?table=icnirp-2010-occupational&from=position:walkway-near-feeder&direction=0,-1,0"), &key)
+        .await;
+    assert_eq!(res.status(), 200);
+    let d: Value = res.json().await.unwrap();
+    assert_eq!(d["quantity"], "exposure_ratio");
+    assert_eq!(d["table"]["id"], "icnirp-2010-occupational");
+    assert!(d["level_ut"].is_null(), "{d}");
+    let (first, clear) = (d["distance_m"].as_f64().unwrap(), d["clearance_m"].as_f64().unwrap());
+    assert!(first > 0.0 && first <= clear, "{d}");
+    assert!(d["notes"].as_array().unwrap().iter().any(|n| n.as_str().unwrap().contains("proven")), "{d}");
+    assert_problem(
+        app.get(&format!("{path}?table=nope&from=position:walkway-near-feeder"), &key).await,
+        422,
+        "validation",
+        Some("/table"),
+    )
+    .await;
+    assert_problem(
+        app.get(&format!("{path}?table=icnirp-2010-occupational&level_ut=100&from=point:1,2,3"), &key).await,
+        422,
+        "validation",
+        Some("/table"),
+    )
+    .await;
+}
+
+#[tokio::test]
+async fn a_distance_over_its_budget_returns_422_budget_exceeded_naming_the_direction() {
+    let limits = fluxbound::service::Limits { max_distance_pairs: 1000, rate_per_key: 0, ..Default::default() };
+    let app = spawn_app_with(TestDb::fresh().await, limits).await;
+    let key = app.key("org-a", Role::Assessor).await;
+    let id = furnace_assessment(&app, &key).await;
+    let res =
+        app.get(&format!("/v1/assessments/{id}/distance?level_ut=100&from=position:walkway-near-feeder"), &key).await;
+    let problem = assert_problem(res, 422, "budget-exceeded", Some("/direction")).await;
+    assert!(problem["errors"][0]["detail"].as_str().unwrap().contains("instead of shortest"), "{problem}");
+}

@@ -878,12 +878,68 @@ fn distance_finds_where_a_long_wires_field_halves_at_twice_the_radius() {
     assert!(rel_diff(b0, 20.0) < 1e-6, "{b0}");
 }
 
+/// The long wire of `LONG_WIRE_SITE` with a 10 % 5th harmonic.
+const HARMONIC_WIRE_SITE: &str = r#"{"frequency_hz": 50,
+    "circuits": [{"id": "w", "kind": "single_phase", "current_a": 1000, "harmonics": [{"order": 5, "percent": 10}]}],
+    "conductors": [{"id": "w-A", "circuit": "w", "phase": "A", "radius_m": 0.01, "path": [[-10000, 0, 0], [10000, 0, 0]]}],
+    "positions": [{"id": "p", "at": [0, 1, 0]}]}"#;
+
+/// 100 µT at 50 Hz, 20 µT at 250 Hz (invented for tests).
+const TWO_BAND_TABLE: &str = r#"{"id": "test-two-bands", "title": "Two flat bands (invented for tests)",
+    "source": "invented for tests", "applies_to": {"population": "workers", "body_region": "whole_body"},
+    "kind": "reference_level",
+    "bands": [{"from_hz": 40, "to_hz": 100, "coefficient": 100, "exponent": 0},
+              {"from_hz": 100, "to_hz": 400, "coefficient": 20, "exponent": 0}]}"#;
+
+#[test]
+fn distance_to_a_table_sums_the_harmonics_and_says_both_distances_in_words() {
+    // Hand sum (B = 0.2·I/r µT, OpenStax University Physics Vol. 2 §12.2):
+    // ratio = (200/r)/100 + (20/r)/20 = 3/r, so 1 at r = 3 m, 2 m beyond the
+    // position at 1 m. Tolerance 1e-3 m (search 1e-4 m, 20 km wire 5e-8).
+    let site = temp_file("harmonic-wire", HARMONIC_WIRE_SITE);
+    let table = temp_file("two-bands", TWO_BAND_TABLE);
+    let base = ["distance", site.to_str().unwrap(), "--from", "position:p", "--direction", "0,1,0"];
+    let table_args = ["--table", "test-two-bands", "--table-file", table.to_str().unwrap()];
+    let out = fluxbound(&[&base[..], &table_args[..]].concat(), None);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr_of(&out));
+    let v: Value = serde_json::from_str(&stdout_of(&out)).unwrap();
+    assert!((v["clearance_m"].as_f64().unwrap() - 2.0).abs() < 1e-3, "{v}");
+    assert!((v["ratio_at_origin"].as_f64().unwrap() - 3.0).abs() < 1e-6, "{v}");
+    assert_eq!(v["quantity"], "exposure_ratio");
+
+    let out = fluxbound(&[&base[..], &table_args[..], &["--format", "table"][..]].concat(), None);
+    let text = stdout_of(&out);
+    assert!(text.contains("clearance       2.0000"), "{text}");
+    assert!(text.contains("exposure ratio 1 of table test-two-bands"), "{text}");
+    // A level the field keeps above to 10 km is said in words, not a number.
+    let out = fluxbound(&[&base[..], &["--level-ut", "0.001", "--format", "table"][..]].concat(), None);
+    let text = stdout_of(&out);
+    assert!(text.contains("clearance       not found within 10000 m"), "{text}");
+    assert!(text.contains("first crossing  not found within 10000 m"), "{text}");
+}
+
+#[test]
+fn distance_shortest_says_it_is_not_an_exclusion_zone() {
+    let site = temp_file("long-wire-shortest", LONG_WIRE_SITE);
+    let out = fluxbound(
+        &["distance", site.to_str().unwrap(), "--from", "conductor:w-A", "--level-ut", "10", "--format", "table"],
+        None,
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", stderr_of(&out));
+    let text = stdout_of(&out);
+    // 0.2 · 100 / 10 = 2 m from the axis (OpenStax §12.2), sideways.
+    assert!(text.contains("clearance       2.0000"), "{text}");
+    assert!(text.contains("not an exclusion zone") && text.contains("could be smaller"), "{text}");
+    assert!(text.contains("axis of conductor 'w-A'"), "{text}");
+}
+
 #[test]
 fn distance_arguments_that_are_wrong_exit_1_naming_their_flag() {
     let path = temp_file("long-wire-bad", LONG_WIRE_SITE);
     let site = path.to_str().unwrap();
-    let cases: [(&[&str], &str); 3] = [
+    let cases: [(&[&str], &str); 4] = [
         (&["--from", "position:ghost", "--level-ut", "10"], "--from: unknown position 'ghost'"),
+        (&["--from", "position:p", "--table", "nope"], "--table: unknown table 'nope'"),
         (&["--from", "position:p", "--level-ut", "-5"], "--level-ut: "),
         (&["--from", "position:p", "--level-ut", "10", "--direction", "sideways"], "--direction: "),
     ];

@@ -30,22 +30,47 @@ pub struct Budget {
     pub max_grid_cells: u64,
     /// Nodes of one area map (the map is coarsened to fit).
     pub map_max_cells: usize,
+    /// Segment–point pairs of one distance query (its probes of the field
+    /// and of the bounds each count every segment once).
+    pub max_distance_pairs: u64,
 }
 
 /// Default segment–point pairs per computation.
 pub const DEFAULT_MAX_PAIRS: u64 = 1_000_000_000;
 
+/// Default segment–point pairs per distance query. Its probes go one point
+/// at a time (a 64-lane kernel chunk per segment plus the bounds), so a
+/// pair costs tens of times more than in a batch: estimated at about 1 s
+/// on two cores (not measured in a release build). `shortest` on the
+/// furnace example uses about 1.6 million.
+pub const DEFAULT_MAX_DISTANCE_PAIRS: u64 = 20_000_000;
+
+/// How many times the service's distance budget the command line allows.
+pub const OFFLINE_DISTANCE_FACTOR: u64 = 20;
+
 impl Default for Budget {
     fn default() -> Self {
-        Budget { max_pairs: DEFAULT_MAX_PAIRS, max_grid_cells: DEFAULT_MAX_GRID_CELLS, map_max_cells: MAP_MAX_CELLS }
+        Budget {
+            max_pairs: DEFAULT_MAX_PAIRS,
+            max_grid_cells: DEFAULT_MAX_GRID_CELLS,
+            map_max_cells: MAP_MAX_CELLS,
+            max_distance_pairs: DEFAULT_MAX_DISTANCE_PAIRS,
+        }
     }
 }
 
 impl Budget {
     /// The command line's budget: the same grids and maps as the service,
-    /// no cap on pairs (the user's own machine and patience decide).
+    /// no cap on pairs (the user's own machine and patience decide), and
+    /// [`OFFLINE_DISTANCE_FACTOR`] times the service's distance budget (a
+    /// distance search needs some cap to end at all where the field hugs
+    /// the threshold).
     pub fn offline() -> Budget {
-        Budget { max_pairs: u64::MAX, ..Budget::default() }
+        Budget {
+            max_pairs: u64::MAX,
+            max_distance_pairs: DEFAULT_MAX_DISTANCE_PAIRS * OFFLINE_DISTANCE_FACTOR,
+            ..Budget::default()
+        }
     }
 }
 
@@ -55,6 +80,7 @@ pub enum DistanceArg {
     LevelUt,
     From,
     Direction,
+    Table,
 }
 
 impl DistanceArg {
@@ -64,6 +90,7 @@ impl DistanceArg {
             DistanceArg::LevelUt => "level_ut",
             DistanceArg::From => "from",
             DistanceArg::Direction => "direction",
+            DistanceArg::Table => "table",
         }
     }
 }
@@ -93,6 +120,10 @@ pub enum UseCaseError {
     /// A distance query argument is wrong.
     #[error("{arg:?}: {detail}")]
     Distance { arg: DistanceArg, detail: String },
+    /// A distance search exceeds its compute budget; `arg` is what to
+    /// change to reduce it.
+    #[error("{arg:?}: {detail}")]
+    DistanceOverBudget { arg: DistanceArg, detail: String },
     /// The work exceeds a compute budget; pointers into the document whose
     /// size is to blame.
     #[error("the request exceeds a compute budget")]
@@ -292,13 +323,22 @@ pub const MAX_DISTANCE_LEVEL_UT: f64 = 1.0e9;
 /// The direction searched when the caller names none.
 pub const DEFAULT_DIRECTION: &str = "shortest";
 
-/// A checked distance query: from where, along which direction, to which level.
+/// What a distance is to: a µT level or a table's exposure ratio 1.
+#[derive(Debug, Clone, PartialEq)]
+pub enum DistanceTo {
+    /// µT RMS, the resultant over all frequencies.
+    LevelUt(f64),
+    /// A table id (exposure ratio Σ_f B_f / B_RL(f) = 1).
+    Table(String),
+}
+
+/// A checked distance query: from where, along which direction, to which
+/// level or table.
 #[derive(Debug, Clone, PartialEq)]
 pub struct DistanceQuery {
     origin: Origin,
     direction: mitigate::Direction,
-    /// µT RMS (resultant).
-    level_ut: f64,
+    to: DistanceTo,
 }
 
 impl DistanceQuery {
@@ -306,13 +346,25 @@ impl DistanceQuery {
     /// `direction` (`shortest` or `x,y,z`; absent means `shortest`) and
     /// `level_ut` (µT RMS, positive).
     pub fn parse(from: &str, direction: Option<&str>, level_ut: f64) -> Result<DistanceQuery, UseCaseError> {
-        if !(level_ut.is_finite() && level_ut > 0.0 && level_ut <= MAX_DISTANCE_LEVEL_UT) {
-            return Err(distance_error(DistanceArg::LevelUt)("level_ut must be a positive number of µT".into()));
+        DistanceQuery::new(from, direction, DistanceTo::LevelUt(level_ut))
+    }
+
+    /// [`DistanceQuery::parse`] to a level or to a table (checked against
+    /// the available tables when the distance is computed).
+    pub fn new(from: &str, direction: Option<&str>, to: DistanceTo) -> Result<DistanceQuery, UseCaseError> {
+        match &to {
+            DistanceTo::LevelUt(l) if !(l.is_finite() && *l > 0.0 && *l <= MAX_DISTANCE_LEVEL_UT) => {
+                return Err(distance_error(DistanceArg::LevelUt)("level_ut must be a positive number of µT".into()));
+            }
+            DistanceTo::Table(id) if id.trim().is_empty() => {
+                return Err(distance_error(DistanceArg::Table)("name a table id (see the tables list)".into()));
+            }
+            _ => {}
         }
         let origin = Origin::parse(from).map_err(distance_error(DistanceArg::From))?;
         let direction = mitigate::parse_direction(direction.unwrap_or(DEFAULT_DIRECTION))
             .map_err(distance_error(DistanceArg::Direction))?;
-        Ok(DistanceQuery { origin, direction, level_ut })
+        Ok(DistanceQuery { origin, direction, to })
     }
 }
 
@@ -320,12 +372,74 @@ fn distance_error(arg: DistanceArg) -> impl Fn(String) -> UseCaseError {
     move |detail| UseCaseError::Distance { arg, detail }
 }
 
+/// The table `id` among `available`, else a built-in table.
+fn distance_table(id: &str, available: &[ReferenceTable]) -> Result<ReferenceTable, UseCaseError> {
+    available
+        .iter()
+        .find(|t| t.id() == id)
+        .or_else(|| crate::limits::builtin_table(id))
+        .cloned()
+        .ok_or_else(|| distance_error(DistanceArg::Table)(format!("unknown table '{id}' (see the tables list)")))
+}
+
 /// Distance along the query's direction to where the resultant field of
-/// `site` at `load` falls below the query's level.
+/// `site` at `load` falls below the query's level, within the default
+/// budget (see [`distance`]).
 pub fn distance_to_level(site: &Site, load: &LoadCase, query: &DistanceQuery) -> Result<DistanceResult, UseCaseError> {
+    distance(site, load, query, &[], &Budget::default())
+}
+
+/// The first crossing and the clearance from the query's origin along its
+/// direction (or the shortest clearance), to its level or to its table
+/// (looked up in `tables`, then among the built-in ones), within
+/// `budget.max_distance_pairs`.
+pub fn distance(
+    site: &Site,
+    load: &LoadCase,
+    query: &DistanceQuery,
+    tables: &[ReferenceTable],
+    budget: &Budget,
+) -> Result<DistanceResult, UseCaseError> {
     let loads = resolve_load(site, load)?;
-    let at = query.origin.locate(site, &loads).map_err(distance_error(DistanceArg::From))?;
-    Ok(mitigate::distance_to_level(site, &loads, at, query.direction, query.level_ut))
+    let target = match &query.to {
+        DistanceTo::LevelUt(l) => mitigate::Target::LevelUt(*l),
+        DistanceTo::Table(id) => mitigate::Target::Table(distance_table(id, tables)?),
+    };
+    let meter = mitigate::Meter::new(site, &loads, &target).map_err(|e| distance_failure(e, query, site))?;
+    let at = query.origin.locate(site, &meter).map_err(distance_error(DistanceArg::From))?;
+    mitigate::distance_with(&meter, site, at, query.direction, budget.max_distance_pairs)
+        .map_err(|e| distance_failure(e, query, site))
+}
+
+/// A distance search's failure, addressed to what the caller can change.
+fn distance_failure(e: mitigate::DistanceError, query: &DistanceQuery, site: &Site) -> UseCaseError {
+    match e {
+        mitigate::DistanceError::NotCovered(hz) => {
+            let list: Vec<String> = hz.iter().map(|f| format!("{f} Hz")).collect();
+            distance_error(DistanceArg::Table)(format!(
+                "the table does not cover {}, where the site carries current: choose a table that does",
+                list.join(", ")
+            ))
+        }
+        mitigate::DistanceError::OverBudget { budget, started } => {
+            let segments = segment_count(site.conductors());
+            let when = if started { "stopped after" } else { "would need more than" };
+            let reduce = match query.direction {
+                mitigate::Direction::Shortest => {
+                    "give one direction instead of shortest (each sampled direction is a search of its own), or use a site with fewer conductor segments"
+                }
+                mitigate::Direction::Along(_) => {
+                    "use a site with fewer conductor segments, or a level or table whose boundary the field does not hug along this ray"
+                }
+            };
+            UseCaseError::DistanceOverBudget {
+                arg: DistanceArg::Direction,
+                detail: format!(
+                    "the distance search {when} its budget of {budget} segment-point pairs ({segments} segments): {reduce}"
+                ),
+            }
+        }
+    }
 }
 
 /// Evaluates a stateless evaluation document within the pairs budget.

@@ -8,6 +8,7 @@ use axum::extract::{Path, State};
 use axum::http::{HeaderValue, StatusCode, Uri, header};
 use axum::response::{IntoResponse, Response};
 use fluxbound_core::mitigate::DistanceResult;
+use fluxbound_core::usecase::DistanceTo;
 
 fn typed(body: String, content_type: &'static str) -> Response {
     let mut res = (StatusCode::OK, body).into_response();
@@ -76,23 +77,37 @@ pub async fn reports_geojson(
 #[serde(deny_unknown_fields)]
 #[into_params(parameter_in = Query)]
 pub struct DistanceQuery {
-    /// Level, µT RMS (resultant).
-    #[param(value_type = f64)]
-    pub level_ut: String,
-    /// `position:ID`, `conductor:ID` (middle of its longest segment) or `point:x,y,z` (m).
+    /// Level, µT RMS (resultant over all frequencies). Give this or `table`.
+    #[param(value_type = Option<f64>)]
+    pub level_ut: Option<String>,
+    /// Table id: the distance to where its exposure ratio Σ_f B_f / B_RL(f)
+    /// falls below 1 (the assessment's pinned version, else a built-in table,
+    /// else the organisation's latest version). Give this or `level_ut`.
+    pub table: Option<String>,
+    /// `position:ID` (its highest-field height), `conductor:ID` (middle of its
+    /// longest segment) or `point:x,y,z` (m).
     pub from: String,
-    /// `shortest` (default: horizontal directions in 5° steps and vertical) or `x,y,z`.
+    /// `shortest` (default: the smallest clearance over horizontal directions in
+    /// 5° steps and straight up) or `x,y,z`.
     pub direction: Option<String>,
 }
 
-/// Distance at which the resultant field first falls below a level, by
-/// bracketing and bisection on the exact field (tolerance 0.1 mm).
+/// Along a ray from `from`: the first crossing (`distance_m`, the first point
+/// where the field falls below the level or the table's exposure ratio below 1)
+/// and the clearance (`clearance_m`, beyond which it stays below up to
+/// `searched_to_m`). Both are proven, not sampled: over any stretch of the ray,
+/// per frequency, a segment's field is at most 0.2·|I|/d µT and its rate of
+/// change at most 0.4·|I|/d² µT/m (d the distance to the segment), so a narrow
+/// null or a re-rise cannot be stepped over. `shortest` is the smallest
+/// clearance over sampled directions: a distance along rays, not an exclusion
+/// zone. Costs segment–point pairs against a budget (422 `budget-exceeded`).
 #[utoipa::path(get, path = "/v1/assessments/{assessment_id}/distance", tag = "reports",
     params(("assessment_id" = String, Path, description = "Assessment id"), DistanceQuery),
     responses(
         (status = 200, description = "The distance and where", body = DistanceResult),
         (status = 404, description = "No such assessment"),
-        (status = 422, description = "Unknown position or conductor, bad level or direction"),
+        (status = 400, description = "Neither level_ut nor table given, or a malformed query"),
+        (status = 422, description = "Unknown position, conductor or table, bad level or direction, a table that does not cover the site's frequencies, or over the distance budget (`budget-exceeded`)"),
     ),
     security(("bearer" = [])))]
 pub async fn reports_distance(
@@ -105,9 +120,21 @@ pub async fn reports_distance(
     let q = axum::extract::Query::<DistanceQuery>::try_from_uri(&uri)
         .map_err(|e| ApiError::bad_request(e.body_text(), Default::default()))?
         .0;
-    let level: f64 = q.level_ut.parse().map_err(|_| {
-        ApiError::validation(fluxbound_core::site::Problems::one("/level_ut", "level_ut must be a number (µT)"))
-    })?;
-    let r = s.service.reports_distance(&caller, &id, &q.from, q.direction.as_deref(), level).await?;
+    let to = match (q.level_ut, q.table) {
+        (Some(level), None) => DistanceTo::LevelUt(level.parse().map_err(|_| {
+            ApiError::validation(fluxbound_core::site::Problems::one("/level_ut", "level_ut must be a number (µT)"))
+        })?),
+        (None, Some(table)) => DistanceTo::Table(table),
+        (Some(_), Some(_)) => {
+            return Err(ApiError::validation(fluxbound_core::site::Problems::one(
+                "/table",
+                "give level_ut or table, not both",
+            )));
+        }
+        (None, None) => {
+            return Err(ApiError::bad_request("give level_ut (µT) or table (a table id)", Default::default()));
+        }
+    };
+    let r = s.service.reports_distance(&caller, &id, &q.from, q.direction.as_deref(), to).await?;
     Ok(axum::Json(r).into_response())
 }

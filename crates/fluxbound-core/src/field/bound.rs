@@ -1,30 +1,55 @@
-//! Upper bounds on the field of straight segments, for results that must be
-//! guaranteed rather than sampled (the area maximum).
+//! Guaranteed bounds of a straight segment's field and of its rate of
+//! change, from geometry alone, so a search can prove that a stretch of
+//! space is above or below a level without sampling every point (distances)
+//! and that no point of a region exceeds a sampled maximum by more than a
+//! stated margin (area maxima).
 //!
-//! # The bounds and their derivation
+//! # The bounds (derived here; checked against the closed form in
+//! `tests/core/engine/bounds.rs`)
 //!
-//! One straight segment carrying `I` (A RMS; for a phasor `|I|`) at a point
-//! a distance `d` from the segment itself (not from its infinite line):
+//! A segment carrying RMS current `I` (A) seen from a point at distance `ρ`
+//! from its line, its ends at signed angles `α1 < α2` from the
+//! perpendicular, has the field (Griffiths, *Introduction to
+//! Electrodynamics*, Ex. 5.5; µ0/4π = 0.1 µT·m/A)
 //!
-//! 1. **Value**: `|B| ≤ 0.2·|I|/d` µT (d in m).
-//!    Griffiths, *Introduction to Electrodynamics*, Example 5.5:
-//!    `B = (µ0 I / 4π s)·(sin θ2 − sin θ1)`, `s` the distance to the line.
-//!    If the foot of the perpendicular lies on the segment, `d = s` and
-//!    `|sin θ2 − sin θ1| ≤ 2`, so `B ≤ 2·0.1·I/d`. Otherwise both ends lie
-//!    on one side at axial distances `0 ≤ t1 < t2` with `d² = s² + t1²`, and
-//!    `sin θ2 − sin θ1 ≤ 1 − t1/d = s²/(d(d + t1)) ≤ s/d`, so
-//!    `B ≤ 0.1·I/s · s/d = 0.1·I/d`. Both are within `0.2·I/d`.
-//! 2. **Rate of change**: every directional derivative of the segment's
-//!    field vector is at most `0.4·|I|/d²` µT/m.
-//!    Biot–Savart, `B = (µ0 I/4π) ∫ dl × r/|r|³`, `r` from the element to the
-//!    point. The Jacobian of `r/|r|³` is `(1 − 3 r̂ r̂ᵀ)/|r|³`, of operator
-//!    norm `2/|r|³`, so a derivative is at most `0.1·I·2·∫ dl/|r|³`. Along
-//!    the whole line through the segment `∫ dl/(s² + l²)^{3/2} = 2/s²`; with
-//!    the foot on the segment (`s = d`) that gives `0.4·I/d²`. With the foot
-//!    outside, the segment lies beyond the nearest end at axial distance
-//!    `t1`, and `∫₀^∞ dl/(s² + (t1 + l)²)^{3/2} = 1/(d(d + t1)) ≤ 1/d²`,
-//!    half as much. (The infinite-wire slope `0.2·I/d²` is not a bound: a
-//!    finite segment seen end-on varies faster.)
+//! ```text
+//! B = F φ̂,   F = 0.1·I·(sin α2 − sin α1) / ρ
+//! ```
+//!
+//! Let `d` be the distance from the point to the segment *itself* (not its
+//! infinite line).
+//!
+//! **Field.** `|B| ≤ 0.2·|I|/d` µT ([`FIELD_BOUND_UT_M_PER_A`]). If the foot
+//! of the perpendicular lies on the segment, `ρ = d` and
+//! `|sin α2 − sin α1| ≤ 2`. Otherwise both ends lie on one side, say
+//! `0 ≤ α1 < α2 < π/2` with the nearer end at `α1`, so `ρ = d·cos α1` and
+//! `sin α2 − sin α1 ≤ 1 − sin α1 ≤ cos α1` (square both sides:
+//! `(1 − s)² ≤ (1 − s)(1 + s)`), giving `|B| ≤ 0.1·|I|/d`.
+//!
+//! **Rate of change.** `|∂B/∂u| ≤ 0.4·|I|/d²` µT/m for every unit direction
+//! `u` ([`SLOPE_BOUND_UT_PER_M_M2_PER_A`]). In cylindrical coordinates the
+//! Jacobian of `F(ρ, z) φ̂` maps `u` to `(F_ρ u_ρ + F_z u_z) φ̂ − (F/ρ) u_φ ρ̂`;
+//! the two parts are orthogonal in and out, so its norm is
+//! `max(√(F_ρ² + F_z²), |F|/ρ)`. With `w_i = z_i − z = ρ tan α_i`,
+//! differentiating gives `(F_ρ, F_z) = (0.1·I/ρ²)·(c(α1) − c(α2))` for the
+//! curve `c(α) = (sin α (1 + cos² α), cos³ α)`, whose speed is
+//! `|c′(α)| = cos α · √(1 + 3 cos² α)`. A chord is at most the arc between
+//! its ends:
+//! - foot on the segment (`ρ = d`, `α1 ≤ 0 ≤ α2`): the whole arc is
+//!   `∫₋₁¹ √(4 − 3s²) ds = 1 + (4/√3)(π/3) ≈ 3.418`, so
+//!   `√(F_ρ² + F_z²) ≤ 0.342·|I|/d²`, and `|F|/ρ ≤ 0.2·|I|/d²` from the field bound;
+//! - foot off the segment (`ρ = d cos α1`): the arc from `α1` to `π/2` is
+//!   `∫ √(4 − 3s²) ds ≤ 2(1 − sin α1)`, so both parts are
+//!   `≤ 0.2·|I|/(d²(1 + sin α1)) ≤ 0.2·|I|/d²`.
+//!
+//! Hence 0.342 ≤ 0.4. (The infinite-wire slope `0.2·|I|/d²` is *not* a
+//! bound: moving away from the middle of a segment seen under ±54.7°
+//! (cos² α = 1/3) the slope is `0.218·|I|/d²`.)
+//!
+//! For many segments and complex phasors the triangle inequality gives, per
+//! spectral line, `|B_f| ≤ Σ_j 0.2·|I_jf|/d_j` and
+//! `|d|B_f|/ds| ≤ Σ_j 0.4·|I_jf|/d_j²` (the resultant's rate of change is at
+//! most the phasor vector's).
 //!
 //! # Using them over a region
 //!
@@ -43,17 +68,61 @@
 use super::{Excitation, Filaments};
 use nalgebra::Point3;
 
-/// µT·m/A: `|B| ≤ VALUE_BOUND · |I| / d` for one segment (2·µ0/4π).
-pub const VALUE_BOUND_UT_M_PER_A: f64 = 0.2;
-/// µT·m/A: `|∂B/∂u| ≤ SLOPE_BOUND · |I| / d²` for one segment (4·µ0/4π).
-pub const SLOPE_BOUND_UT_M_PER_A: f64 = 0.4;
+/// `|B| ≤ FIELD_BOUND_UT_M_PER_A · |I| / d` for one segment, µT·m/A.
+pub const FIELD_BOUND_UT_M_PER_A: f64 = 0.2;
 
-/// Distance from `p` to the segment `a`–`b`, m.
-pub fn distance_to_segment(p: &Point3<f64>, a: &Point3<f64>, b: &Point3<f64>) -> f64 {
+/// `|∂B/∂u| ≤ SLOPE_BOUND_UT_PER_M_M2_PER_A · |I| / d²` for one segment,
+/// µT·m/A (the derivation gives 0.342; 0.4 leaves margin).
+pub const SLOPE_BOUND_UT_PER_M_M2_PER_A: f64 = 0.4;
+
+/// Relative margin taken off computed distances so rounding can never make
+/// a bound too small (distances are computed to ~1e-15 relative).
+const DISTANCE_MARGIN: f64 = 1.0e-9;
+
+/// Distance from `p` to the segment `a`–`b`, m (a degenerate segment is its
+/// point).
+pub fn point_segment_distance_m(p: &Point3<f64>, a: &Point3<f64>, b: &Point3<f64>) -> f64 {
     let ab = b - a;
-    let len2 = ab.norm_squared();
-    let t = if len2 > 0.0 { ((p - a).dot(&ab) / len2).clamp(0.0, 1.0) } else { 0.0 };
+    let l2 = ab.norm_squared();
+    let t = if l2 > 0.0 { ((p - a).dot(&ab) / l2).clamp(0.0, 1.0) } else { 0.0 };
     (p - (a + ab * t)).norm()
+}
+
+/// A lower bound (within 1e-9 relative) of the smallest distance between
+/// the segments `p0`–`p1` and `a`–`b`, m.
+///
+/// The squared distance is a convex function of the two segment parameters
+/// on the unit square: its minimum is either at the lines' common
+/// perpendicular (when that falls inside both segments) or on the square's
+/// edge, i.e. an end of one segment against the other segment.
+pub fn segment_segment_distance_m(p0: &Point3<f64>, p1: &Point3<f64>, a: &Point3<f64>, b: &Point3<f64>) -> f64 {
+    let ends = point_segment_distance_m(p0, a, b)
+        .min(point_segment_distance_m(p1, a, b))
+        .min(point_segment_distance_m(a, p0, p1))
+        .min(point_segment_distance_m(b, p0, p1));
+    let (d1, d2, r) = (p1 - p0, b - a, p0 - a);
+    let (aa, bb, ee) = (d1.dot(&d1), d1.dot(&d2), d2.dot(&d2));
+    let (c, f) = (d1.dot(&r), d2.dot(&r));
+    let denom = aa * ee - bb * bb;
+    let interior = if denom > 0.0 {
+        let s = (bb * f - c * ee) / denom;
+        let t = (aa * f - bb * c) / denom;
+        ((0.0..=1.0).contains(&s) && (0.0..=1.0).contains(&t)).then(|| (r + d1 * s - d2 * t).norm())
+    } else {
+        None
+    };
+    ends.min(interior.unwrap_or(f64::INFINITY)) * (1.0 - DISTANCE_MARGIN)
+}
+
+/// Upper bound of one segment's field, µT: `0.2·|I|/d` (∞ at `d = 0`).
+pub fn segment_field_bound_ut(current_a: f64, d_m: f64) -> f64 {
+    FIELD_BOUND_UT_M_PER_A * current_a.abs() / d_m
+}
+
+/// Upper bound of one segment's rate of change of field, µT/m:
+/// `0.4·|I|/d²` (∞ at `d = 0`).
+pub fn segment_slope_bound_ut_per_m(current_a: f64, d_m: f64) -> f64 {
+    SLOPE_BOUND_UT_PER_M_M2_PER_A * current_a.abs() / (d_m * d_m)
 }
 
 /// The segments of a site with each one's RMS current magnitude per
@@ -104,7 +173,7 @@ impl SegmentBounds {
         let mut slope = vec![0.0; self.lines];
         let mut slope_valid = sampled_ut.is_some();
         for s in &self.segments {
-            let free = distance_to_segment(centre, &s.a, &s.b) - rho_m;
+            let free = point_segment_distance_m(centre, &s.a, &s.b) - rho_m;
             if free <= s.radius_m {
                 slope_valid = false;
             }
@@ -114,8 +183,8 @@ impl SegmentBounds {
                 return vec![f64::INFINITY; self.lines];
             }
             for (f, i) in s.current_a.iter().enumerate() {
-                value[f] += VALUE_BOUND_UT_M_PER_A * i / d;
-                slope[f] += SLOPE_BOUND_UT_M_PER_A * i / (d * d);
+                value[f] += FIELD_BOUND_UT_M_PER_A * i / d;
+                slope[f] += SLOPE_BOUND_UT_PER_M_M2_PER_A * i / (d * d);
             }
         }
         match sampled_ut {

@@ -1,7 +1,13 @@
-//! What-if answers: how far away the field falls below a level.
+//! What-if answers: how far away the field falls below a level or a
+//! table's exposure ratio below 1, proven by bounds.
 
 mod distance;
+mod ray;
+mod text;
 
 pub use distance::{
-    DISTANCE_TOLERANCE_M, Direction, DistanceResult, MAX_RANGE_M, Origin, distance_to_level, parse_direction,
+    AXIS_EXCLUSION_DEG, DISTANCE_TOLERANCE_M, Direction, DistanceError, DistanceQuantity, DistanceResult,
+    DistanceTable, MAX_RANGE_M, Meter, Origin, SHORTEST_STEP_DEG, Target, distance, distance_with, parse_direction,
 };
+pub use ray::RESOLUTION_M;
+pub use text::distance_text;

@@ -6,6 +6,7 @@
 //! - `site`: one test per validation rule, current conventions;
 //! - `limits`: built-in table values, band edges, custom tables;
 //! - `assess`: hand-computable assessments;
+//! - `mitigate`: distances to a level or a table, against closed forms;
 //! - `report`: contours, distances, pictures, exports, geodesy;
 //! - `survey`: synthetic surveys, fit, extrapolation, CSV rows;
 //! - `layering`: the core's dependency graph is pure (from `cargo metadata`).
@@ -14,6 +15,7 @@ mod assess;
 mod engine;
 mod layering;
 mod limits;
+mod mitigate;
 mod provenance;
 mod report;
 mod site;

@@ -5,7 +5,7 @@
 //! configurations from a fixed-seed generator (reproducible).
 
 use fluxbound_core::field::bound::{
-    SLOPE_BOUND_UT_M_PER_A, SegmentBounds, VALUE_BOUND_UT_M_PER_A, distance_to_segment,
+    FIELD_BOUND_UT_M_PER_A, SLOPE_BOUND_UT_PER_M_M2_PER_A, SegmentBounds, point_segment_distance_m,
 };
 use fluxbound_core::field::{Excitation, Filament, Filaments, SpectralLine};
 use nalgebra::{Point3, Vector3};
@@ -61,11 +61,11 @@ fn one_segment_never_exceeds_point_two_i_over_its_distance_to_the_segment() {
         let a = rng.point(5.0);
         let b = a + rng.unit() * rng.range(0.01, 10.0);
         let p = rng.point(5.0);
-        let d = distance_to_segment(&p, &a, &b);
+        let d = point_segment_distance_m(&p, &a, &b);
         if d < 1e-6 {
             continue;
         }
-        let ratio = segment_field(&a, &b, 1.0, &p).norm() / (VALUE_BOUND_UT_M_PER_A / d);
+        let ratio = segment_field(&a, &b, 1.0, &p).norm() / (FIELD_BOUND_UT_M_PER_A / d);
         worst = worst.max(ratio);
     }
     assert!(worst <= 1.0 + 1e-12, "worst |B| / (0.2 I/d) = {worst}");
@@ -90,14 +90,14 @@ fn one_segments_field_changes_no_faster_than_point_four_i_over_d_squared() {
         } else {
             rng.point(5.0)
         };
-        let d = distance_to_segment(&p, &a, &b);
+        let d = point_segment_distance_m(&p, &a, &b);
         if d < 1e-3 {
             continue;
         }
         let h = 1e-4 * d;
         let u = rng.unit();
         let slope = (segment_field(&a, &b, 1.0, &(p + u * h)) - segment_field(&a, &b, 1.0, &p)).norm() / h;
-        worst = worst.max(slope / (SLOPE_BOUND_UT_M_PER_A / ((d - h) * (d - h))));
+        worst = worst.max(slope / (SLOPE_BOUND_UT_PER_M_M2_PER_A / ((d - h) * (d - h))));
         if slope > 0.2 / (d * d) * 1.01 {
             beyond_infinite_wire += 1;
         }
@@ -160,7 +160,7 @@ fn the_bound_over_a_ball_holds_at_every_point_sampled_inside_it() {
         let bound = bounds.line_bounds(&centre, rho, Some(&sampled));
         for _ in 0..200 {
             let p = centre + rng.unit() * rho * rng.next();
-            if segs.iter().any(|(a, b)| distance_to_segment(&p, a, b) < 1e-3) {
+            if segs.iter().any(|(a, b)| point_segment_distance_m(&p, a, b) < 1e-3) {
                 continue;
             }
             for (f, limit) in bound.iter().enumerate() {

@@ -6,6 +6,7 @@ mod bounds;
 mod closed_forms;
 mod conformance;
 mod invariants;
+mod segment_bounds;
 mod variants;
 
 use fluxbound_core::field::{self, Excitation, FieldPhasor, Filament, Filaments, SpectralLine};

@@ -5,7 +5,7 @@
 
 use fluxbound_core::assess::{self, AreaMap, Assessment, GridSpec, LoadCase, Options};
 use fluxbound_core::limits::builtin_table;
-use fluxbound_core::mitigate::{Direction, Origin, distance_to_level};
+use fluxbound_core::mitigate::{Direction, DistanceResult, Meter, Origin, Target, distance};
 use fluxbound_core::report::{contour, csv as csv_export, geo, geojson, palette, svg};
 use fluxbound_core::site::wire::GeoreferenceDoc;
 use fluxbound_core::site::{CircuitLoad, Site, parse_site};
@@ -115,12 +115,25 @@ fn zone_rings_close_along_the_edge_of_the_grid() {
     assert!(!open[0].closed, "the plain contour stays open at the edge");
 }
 
+/// The distance search to `level_ut` without a budget cap.
+fn distance_to_level(
+    site: &Site,
+    loads: &[CircuitLoad],
+    from: Point3<f64>,
+    direction: Direction,
+    level_ut: f64,
+) -> DistanceResult {
+    distance(site, loads, from, direction, &Target::LevelUt(level_ut), u64::MAX).unwrap()
+}
+
 #[test]
 fn the_distance_to_a_level_from_a_single_wire_is_point_two_i_over_b() {
     // 2000 A, level 100 µT → 0.2 · 2000 / 100 = 4.0 m from the axis.
     let site = vertical_wire_site(2000.0, 2.0, 0.5);
     let loads = vec![CircuitLoad::PRESENT];
-    let from = Origin::Conductor("v-A".into()).locate(&site, &loads).unwrap();
+    let target = Target::LevelUt(100.0);
+    let meter = Meter::new(&site, &loads, &target).unwrap();
+    let from = Origin::Conductor("v-A".into()).locate(&site, &meter).unwrap();
     let east = Direction::Along(Unit::new_normalize(Vector3::new(1.0, 0.0, 0.0)));
     let r = distance_to_level(&site, &loads, from, east, 100.0);
     // Tolerance: the bisection's 1e-4 m plus the finite length, (R/L)² ≈ 2e-7.
