@@ -66,7 +66,7 @@
 //! through the conductor), with `d ≥ radius`.
 
 use super::{Excitation, Filaments};
-use nalgebra::Point3;
+use nalgebra::{Point3, Vector3};
 
 /// `|B| ≤ FIELD_BOUND_UT_M_PER_A · |I| / d` for one segment, µT·m/A.
 pub const FIELD_BOUND_UT_M_PER_A: f64 = 0.2;
@@ -88,30 +88,59 @@ pub fn point_segment_distance_m(p: &Point3<f64>, a: &Point3<f64>, b: &Point3<f64
     (p - (a + ab * t)).norm()
 }
 
-/// A lower bound (within 1e-9 relative) of the smallest distance between
-/// the segments `p0`–`p1` and `a`–`b`, m.
+/// Parameters `(s, t)` in [0, 1] of the closest points `p1 + s·(q1 − p1)`
+/// and `p2 + t·(q2 − p2)` of two 3-D segments.
 ///
-/// The squared distance is a convex function of the two segment parameters
-/// on the unit square: its minimum is either at the lines' common
-/// perpendicular (when that falls inside both segments) or on the square's
-/// edge, i.e. an end of one segment against the other segment.
-pub fn segment_segment_distance_m(p0: &Point3<f64>, p1: &Point3<f64>, a: &Point3<f64>, b: &Point3<f64>) -> f64 {
-    let ends = point_segment_distance_m(p0, a, b)
-        .min(point_segment_distance_m(p1, a, b))
-        .min(point_segment_distance_m(a, p0, p1))
-        .min(point_segment_distance_m(b, p0, p1));
-    let (d1, d2, r) = (p1 - p0, b - a, p0 - a);
-    let (aa, bb, ee) = (d1.dot(&d1), d1.dot(&d2), d2.dot(&d2));
-    let (c, f) = (d1.dot(&r), d2.dot(&r));
-    let denom = aa * ee - bb * bb;
-    let interior = if denom > 0.0 {
-        let s = (bb * f - c * ee) / denom;
-        let t = (aa * f - bb * c) / denom;
-        ((0.0..=1.0).contains(&s) && (0.0..=1.0).contains(&t)).then(|| (r + d1 * s - d2 * t).norm())
-    } else {
-        None
-    };
-    ends.min(interior.unwrap_or(f64::INFINITY)) * (1.0 - DISTANCE_MARGIN)
+/// Ericson, *Real-Time Collision Detection* (2005), §5.1.9
+/// "Closest points of two line segments": minimise over the unclamped lines,
+/// clamp `s`, solve `t` for it, and re-solve `s` when `t` had to be
+/// clamped. Parallel segments (`a·e − b² ≤ 1e-12·a·e`, relative so that
+/// metre and kilometre segments behave alike) take `s = 0`; any `s` is then
+/// optimal up to the clamping that follows.
+pub fn segment_segment_closest(p1: &Point3<f64>, q1: &Point3<f64>, p2: &Point3<f64>, q2: &Point3<f64>) -> (f64, f64) {
+    let (d1, d2, r): (Vector3<f64>, Vector3<f64>, Vector3<f64>) = (q1 - p1, q2 - p2, p1 - p2);
+    let (a, e, f) = (d1.norm_squared(), d2.norm_squared(), d2.dot(&r));
+    if a <= 0.0 && e <= 0.0 {
+        return (0.0, 0.0);
+    }
+    if a <= 0.0 {
+        return (0.0, (f / e).clamp(0.0, 1.0));
+    }
+    let c = d1.dot(&r);
+    if e <= 0.0 {
+        return ((-c / a).clamp(0.0, 1.0), 0.0);
+    }
+    let b = d1.dot(&d2);
+    let denom = a * e - b * b;
+    let mut s = if denom > 1e-12 * a * e { ((b * f - c * e) / denom).clamp(0.0, 1.0) } else { 0.0 };
+    let mut t = (b * s + f) / e;
+    if t < 0.0 {
+        t = 0.0;
+        s = (-c / a).clamp(0.0, 1.0);
+    } else if t > 1.0 {
+        t = 1.0;
+        s = ((b - c) / a).clamp(0.0, 1.0);
+    }
+    (s, t)
+}
+
+/// Shortest distance between two 3-D segments, m (see
+/// [`segment_segment_closest`]); exact up to rounding.
+pub fn segment_segment_distance_m(p1: &Point3<f64>, q1: &Point3<f64>, p2: &Point3<f64>, q2: &Point3<f64>) -> f64 {
+    let (s, t) = segment_segment_closest(p1, q1, p2, q2);
+    ((p1 + (q1 - p1) * s) - (p2 + (q2 - p2) * t)).norm()
+}
+
+/// A lower bound (within 1e-9 relative) of the smallest distance between
+/// the segments `p0`–`p1` and `a`–`b`, m: the closest-point distance with
+/// rounding taken off, so a bound built on it is never too small.
+pub fn segment_segment_distance_lower_bound_m(
+    p0: &Point3<f64>,
+    p1: &Point3<f64>,
+    a: &Point3<f64>,
+    b: &Point3<f64>,
+) -> f64 {
+    segment_segment_distance_m(p0, p1, a, b) * (1.0 - DISTANCE_MARGIN)
 }
 
 /// Upper bound of one segment's field, µT: `0.2·|I|/d` (∞ at `d = 0`).

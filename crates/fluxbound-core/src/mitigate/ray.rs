@@ -15,7 +15,9 @@
 
 use super::Meter;
 use super::distance::Sample;
-use crate::field::bound::{segment_field_bound_ut, segment_segment_distance_m, segment_slope_bound_ut_per_m};
+use crate::field::bound::{
+    segment_field_bound_ut, segment_segment_distance_lower_bound_m, segment_slope_bound_ut_per_m,
+};
 use nalgebra::{Point3, Unit, Vector3};
 
 /// Intervals narrower than this are not split further, m. Both distances
@@ -191,7 +193,7 @@ pub(super) fn nearness(segments: &[Segment], pa: &Point3<f64>, pb: &Point3<f64>)
     let mut n =
         Nearness { distance_m: Vec::with_capacity(segments.len()), touches: false, wholly_inside: false, finite: true };
     for s in segments {
-        let d = segment_segment_distance_m(pa, pb, &s.a, &s.b);
+        let d = segment_segment_distance_lower_bound_m(pa, pb, &s.a, &s.b);
         n.touches |= d < s.radius_m;
         n.finite &= d > 0.0;
         // A capsule is convex: both ends inside means all of it is.

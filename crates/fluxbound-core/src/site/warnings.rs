@@ -42,7 +42,8 @@
 use super::model::{Conductor, Drive, Placement, Site};
 use super::problem::Pointer;
 use super::{Circuit, CircuitLoad, excitation_of};
-use nalgebra::{Point3, Vector3};
+use crate::field::bound::{point_segment_distance_m, segment_segment_distance_m};
+use nalgebra::Point3;
 use num_complex::Complex64;
 use serde::{Deserialize, Serialize};
 use std::collections::HashMap;
@@ -544,58 +545,4 @@ fn joined_at_an_end(conductors: &[Conductor], x: (usize, usize), y: (usize, usiz
 fn end_meets(end: &Point3<f64>, r_end_m: f64, other: &Conductor, index: usize) -> bool {
     let d = point_segment_distance_m(end, &other.path[index], &other.path[index + 1]);
     d <= r_end_m.max(other.radius_m) + CONTACT_TOLERANCE_M
-}
-
-// ---- distances ----------------------------------------------------------
-
-/// Distance from `p` to the segment `a`–`b`, m (the segment itself, not its
-/// infinite line).
-pub fn point_segment_distance_m(p: &Point3<f64>, a: &Point3<f64>, b: &Point3<f64>) -> f64 {
-    let ab = b - a;
-    let len2 = ab.norm_squared();
-    let t = if len2 > 0.0 { ((p - a).dot(&ab) / len2).clamp(0.0, 1.0) } else { 0.0 };
-    (p - (a + ab * t)).norm()
-}
-
-/// Parameters `(s, t)` in [0, 1] of the closest points `p1 + s·(q1 − p1)`
-/// and `p2 + t·(q2 − p2)` of two 3-D segments.
-///
-/// Ericson, *Real-Time Collision Detection* (2005), §5.1.9
-/// "Closest points of two line segments": minimise over the unclamped lines,
-/// clamp `s`, solve `t` for it, and re-solve `s` when `t` had to be
-/// clamped. Parallel segments (`a·e − b² ≤ 1e-12·a·e`, relative so that
-/// metre and kilometre segments behave alike) take `s = 0`; any `s` is then
-/// optimal up to the clamping that follows.
-pub fn segment_segment_closest(p1: &Point3<f64>, q1: &Point3<f64>, p2: &Point3<f64>, q2: &Point3<f64>) -> (f64, f64) {
-    let (d1, d2, r): (Vector3<f64>, Vector3<f64>, Vector3<f64>) = (q1 - p1, q2 - p2, p1 - p2);
-    let (a, e, f) = (d1.norm_squared(), d2.norm_squared(), d2.dot(&r));
-    if a <= 0.0 && e <= 0.0 {
-        return (0.0, 0.0);
-    }
-    if a <= 0.0 {
-        return (0.0, (f / e).clamp(0.0, 1.0));
-    }
-    let c = d1.dot(&r);
-    if e <= 0.0 {
-        return ((-c / a).clamp(0.0, 1.0), 0.0);
-    }
-    let b = d1.dot(&d2);
-    let denom = a * e - b * b;
-    let mut s = if denom > 1e-12 * a * e { ((b * f - c * e) / denom).clamp(0.0, 1.0) } else { 0.0 };
-    let mut t = (b * s + f) / e;
-    if t < 0.0 {
-        t = 0.0;
-        s = (-c / a).clamp(0.0, 1.0);
-    } else if t > 1.0 {
-        t = 1.0;
-        s = ((b - c) / a).clamp(0.0, 1.0);
-    }
-    (s, t)
-}
-
-/// Shortest distance between two 3-D segments, m (see
-/// [`segment_segment_closest`]).
-pub fn segment_segment_distance_m(p1: &Point3<f64>, q1: &Point3<f64>, p2: &Point3<f64>, q2: &Point3<f64>) -> f64 {
-    let (s, t) = segment_segment_closest(p1, q1, p2, q2);
-    ((p1 + (q1 - p1) * s) - (p2 + (q2 - p2) * t)).norm()
 }

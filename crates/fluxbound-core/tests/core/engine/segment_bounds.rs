@@ -5,7 +5,8 @@
 //! foot, positive along the current), not through the engine's kernel.
 
 use fluxbound_core::field::bound::{
-    FIELD_BOUND_UT_M_PER_A, SLOPE_BOUND_UT_PER_M_M2_PER_A, point_segment_distance_m, segment_segment_distance_m,
+    FIELD_BOUND_UT_M_PER_A, SLOPE_BOUND_UT_PER_M_M2_PER_A, point_segment_distance_m,
+    segment_segment_distance_lower_bound_m,
 };
 use nalgebra::{Point3, Vector3};
 use proptest::prelude::*;
@@ -74,7 +75,7 @@ proptest! {
         p0 in coords(3.0), p1 in coords(3.0), a in coords(3.0), b in coords(3.0),
     ) {
         let (p0, p1, a, b) = (Point3::from(p0), Point3::from(p1), Point3::from(a), Point3::from(b));
-        let d = segment_segment_distance_m(&p0, &p1, &a, &b);
+        let d = segment_segment_distance_lower_bound_m(&p0, &p1, &a, &b);
         let n = 200;
         let mut sampled = f64::INFINITY;
         for i in 0..=n {

@@ -2,7 +2,8 @@
 //! clean model and checks the warning's code and pointer. The segment
 //! distance is checked against brute-force sampling.
 
-use fluxbound_core::site::warnings::{segment_segment_distance_m, site_warnings};
+use fluxbound_core::field::bound::segment_segment_distance_m;
+use fluxbound_core::site::warnings::site_warnings;
 use fluxbound_core::site::{Warning, WarningCode, parse_site};
 use nalgebra::Point3;
 use proptest::prelude::*;
