@@ -5,9 +5,11 @@
 //! a user's custom table.
 
 mod builtin;
+mod coverage;
 mod table;
 
 pub use builtin::{DEFAULT_TABLE_IDS, IMPLANT_TABLE_ID, builtin_table, builtin_tables};
+pub use coverage::{COVERAGE_SPAN_HZ, CoverageHole, coverage_holes};
 pub use table::*;
 
 use crate::site::{Problems, parse_json};

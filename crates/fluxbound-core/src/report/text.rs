@@ -342,7 +342,20 @@ pub fn table_text(t: &ReferenceTable) -> String {
             let _ = writeln!(s, "note: {n}");
         }
     }
+    coverage_lines(&mut s, t);
     s
+}
+
+/// The table's holes within 1 Hz–10 MHz in plain words, or that it has none.
+fn coverage_lines(s: &mut String, t: &ReferenceTable) {
+    let holes = crate::limits::coverage_holes(t);
+    let _ = writeln!(s);
+    if holes.is_empty() {
+        let _ = writeln!(s, "coverage: every frequency from 1 Hz to 10 MHz has a level.");
+    }
+    for h in &holes {
+        let _ = writeln!(s, "hole: {}", h.words);
+    }
 }
 
 /// Plain-text survey reconciliation, load fit and extrapolation.

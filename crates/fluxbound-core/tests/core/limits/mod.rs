@@ -4,6 +4,7 @@
 
 mod bands;
 mod builtin;
+mod coverage;
 mod custom;
 
 use fluxbound_core::limits::{ReferenceTable, builtin_table};
