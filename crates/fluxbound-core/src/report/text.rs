@@ -191,6 +191,27 @@ fn position_block(s: &mut String, a: &Assessment, p: &PositionResult) {
     for n in &p.notes {
         let _ = writeln!(s, "    note: {n}");
     }
+    regime_lines(s, &p.regimes);
+}
+
+/// Each regime read against a result: the tiers, then its words with their
+/// sources.
+fn regime_lines(s: &mut String, regimes: &[crate::assess::RegimeResult]) {
+    for r in regimes {
+        let tiers = if r.evaluated {
+            format!(
+                ": highest tier exceeded {}; first tier met {}",
+                r.highest_exceeded.as_deref().unwrap_or("none"),
+                r.first_met.as_deref().unwrap_or("none")
+            )
+        } else {
+            " (not read)".to_string()
+        };
+        let _ = writeln!(s, "    regime {}{tiers}", r.regime);
+        for w in &r.words {
+            let _ = writeln!(s, "      {} [{}]", w.text, w.source);
+        }
+    }
 }
 
 /// One height (or point) of a position: B, major axis, each table's ratio
@@ -247,6 +268,7 @@ fn area_block(s: &mut String, a: &Assessment, ar: &AreaResult) {
     }
     time_weighted_line(s, ar.time_weighted.as_ref());
     area_uncovered(s, a, ar);
+    regime_lines(s, &ar.regimes);
 }
 
 /// The worst verdict and the positions and areas at or near a level.

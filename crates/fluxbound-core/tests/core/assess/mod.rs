@@ -4,6 +4,7 @@
 //! published table values (docs/REFERENCES.md).
 
 mod boundary;
+mod regime;
 mod usecase;
 
 use fluxbound_core::assess::{self, Assessment, LoadCase, Options, ReviewFraction, Verdict};

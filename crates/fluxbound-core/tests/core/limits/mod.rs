@@ -6,6 +6,7 @@ mod bands;
 mod builtin;
 mod coverage;
 mod custom;
+mod regimes;
 
 use fluxbound_core::limits::{ReferenceTable, builtin_table};
 
