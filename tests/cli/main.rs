@@ -757,6 +757,47 @@ fn a_table_file_is_loaded_and_applied_beside_the_chosen_tables() {
     assert_eq!(c["level_ut"].as_f64(), Some(50.0));
 }
 
+/// A two-tier regime of the Acme table (50 µT) and ICNIRP 2010 occupational (1000 µT); invented for tests.
+const CUSTOM_REGIME: &str = r#"{
+    "id": "acme-regime", "title": "Acme tiers (invented for tests)", "source": "Acme HS-17 (invented for tests)",
+    "tiers": [
+        {"name": "acme", "tables": ["acme-hs17"],
+         "met": {"text": "Within the Acme limit.", "source": "Acme HS-17 §1"},
+         "exceeded": {"text": "Above the Acme limit: ask the safety office.", "source": "Acme HS-17 §2"}},
+        {"name": "icnirp", "tables": ["icnirp-2010-occupational"],
+         "met": {"text": "Within ICNIRP occupational.", "source": "Acme HS-17 §3"},
+         "exceeded": {"text": "Above ICNIRP occupational.", "source": "Acme HS-17 §4"}}
+    ]
+}"#;
+
+#[test]
+fn a_regime_file_is_read_against_every_result_beside_the_built_in_regimes() {
+    let table = temp_file("regime-table", CUSTOM_TABLE);
+    let regime = temp_file("regime", CUSTOM_REGIME);
+    let args = ["assess", SWITCH_ROOM, "--table-file", table.to_str().unwrap()];
+    let out = fluxbound(&[&args[..], &["--regime-file", regime.to_str().unwrap(), "--format", "json"]].concat(), None);
+    assert_eq!(out.status.code(), Some(0), "stderr: {}", stderr_of(&out));
+    let v: Value = serde_json::from_slice(&out.stdout).expect("stdout is one JSON document");
+    let desk = v["positions"].as_array().unwrap().iter().find(|p| p["id"] == "desk-1").expect("desk-1");
+    let regimes = desk["regimes"].as_array().unwrap();
+    let acme = regimes.iter().find(|r| r["regime"] == "acme-regime").unwrap_or_else(|| panic!("{regimes:?}"));
+    assert_eq!(acme["evaluated"], true, "{acme}");
+    assert!(acme["words"].as_array().unwrap().iter().all(|w| w["source"].as_str().unwrap().starts_with("Acme HS-17")));
+    // The defaults include eu-2013-35-low and -limbs but not -high: the EU regime is named, not read.
+    let eu = regimes.iter().find(|r| r["regime"] == "eu-2013-35").expect("EU regime named");
+    assert_eq!(eu["evaluated"], false);
+}
+
+#[test]
+fn a_bad_regime_file_names_the_flag_the_file_and_the_pointer_into_it() {
+    let regime = temp_file("bad-regime", &CUSTOM_REGIME.replace(r#""source": "Acme HS-17 §2""#, r#""source": """#));
+    let out = fluxbound(&["assess", SWITCH_ROOM, "--regime-file", regime.to_str().unwrap()], None);
+    assert_rejected_with(&out, &[&format!("--regime-file {}: /tiers/0/exceeded/source", regime.display())]);
+    let clash = temp_file("clash-regime", &CUSTOM_REGIME.replace("acme-regime", "eu-2013-35"));
+    let out = fluxbound(&["assess", SWITCH_ROOM, "--regime-file", clash.to_str().unwrap()], None);
+    assert_rejected_with(&out, &["--regime-file", "regime id 'eu-2013-35' is already used"]);
+}
+
 #[test]
 fn an_invalid_table_file_exits_1_with_the_pointer_into_that_file() {
     let path = temp_file("bad-table", &CUSTOM_TABLE.replace(r#""coefficient": 50"#, r#""coefficient": 0"#));

@@ -26,7 +26,7 @@ pub use verdict::{FrequencyRatio, Ratio, Verdict, exposure_ratio, line_levels, r
 use crate::cautions::cautions;
 use crate::field;
 use crate::limits::{
-    AppliesTo, IMPLANT_TABLE_ID, Population, ReferenceTable, TableBodyRegion, TableKind, builtin_table,
+    AppliesTo, IMPLANT_TABLE_ID, Population, ReferenceTable, Regime, TableBodyRegion, TableKind, builtin_table,
 };
 use crate::site::wire::{BodyRegion, Group};
 use crate::site::{Placement, Problems, Site};
@@ -549,15 +549,31 @@ pub fn assess(
 /// Fills each position's and area's `regimes` from its verdicts, against
 /// the built-in regimes.
 fn read_builtin_regimes(tables: &[ReferenceTable], positions: &mut [PositionResult], areas: &mut [AreaResult]) {
-    let regimes = crate::limits::builtin_regimes();
     let assessed: Vec<&str> = tables.iter().map(|t| t.id()).collect();
+    fill_regimes(crate::limits::builtin_regimes(), &assessed, positions, areas);
+}
+
+/// Sets every result's `regimes` to `regimes` read against its verdicts.
+fn fill_regimes(regimes: &[Regime], assessed: &[&str], positions: &mut [PositionResult], areas: &mut [AreaResult]) {
     for p in positions.iter_mut() {
         let compared: Vec<(&str, Verdict)> = p.comparisons.iter().map(|c| (c.table_id.as_str(), c.verdict)).collect();
-        p.regimes = read_regimes(regimes, &assessed, &compared);
+        p.regimes = read_regimes(regimes, assessed, &compared);
     }
     for a in areas.iter_mut() {
         let compared: Vec<(&str, Verdict)> = a.comparisons.iter().map(|c| (c.table_id.as_str(), c.verdict)).collect();
-        a.regimes = read_regimes(regimes, &assessed, &compared);
+        a.regimes = read_regimes(regimes, assessed, &compared);
+    }
+}
+
+impl Assessment {
+    /// This result read against the built-in regimes followed by `custom`
+    /// ones (for example a `--regime-file`), from the verdicts it holds.
+    pub fn with_regimes(mut self, custom: &[Regime]) -> Assessment {
+        let regimes: Vec<Regime> = crate::limits::builtin_regimes().iter().chain(custom).cloned().collect();
+        let assessed: Vec<String> = self.tables.iter().map(|t| t.id.clone()).collect();
+        let assessed: Vec<&str> = assessed.iter().map(String::as_str).collect();
+        fill_regimes(&regimes, &assessed, &mut self.positions, &mut self.areas);
+        self
     }
 }
 
