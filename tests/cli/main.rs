@@ -532,7 +532,11 @@ fn showing_a_table_lists_every_remaining_coverage_hole_in_plain_words() {
     assert_eq!(out.status.code(), Some(0), "stderr: {}", stderr_of(&out));
     let holes: Vec<&str> = stdout.lines().filter(|l| l.starts_with("hole: ")).collect();
     assert_eq!(holes.len(), 2, "stdout:\n{stdout}");
-    assert!(holes[0].starts_with("hole: below 10.7 Hz this table gives no level"), "{}", holes[0]);
+    assert!(
+        holes[0].starts_with("hole: below 10.7 Hz (down to 1 Hz) this table gives no level (no source value"),
+        "{}",
+        holes[0]
+    );
     assert!(holes[1].starts_with("hole: above 3000 Hz"), "{}", holes[1]);
     let full = stdout_of(&fluxbound(&["tables", "show", "icnirp-2010-occupational"], None));
     assert!(full.contains("coverage: every frequency from 1 Hz to 10 MHz has a level."), "{full}");

@@ -45,9 +45,9 @@ pub fn coverage_holes(table: &ReferenceTable) -> Vec<CoverageHole> {
 fn hole(table: &ReferenceTable, from_hz: f64, to_hz: f64) -> CoverageHole {
     let (lo, hi) = COVERAGE_SPAN_HZ;
     let place = if from_hz <= lo {
-        format!("below {} Hz", to_hz)
+        format!("below {} Hz (down to {lo} Hz)", to_hz)
     } else if to_hz >= hi {
-        format!("above {} Hz", from_hz)
+        format!("above {} Hz (up to {hi:e} Hz)", from_hz)
     } else {
         format!("between {} Hz and {} Hz", from_hz, to_hz)
     };

@@ -54,7 +54,7 @@ fn the_ieee_limb_level_below_10_7_hz_stays_a_hole_as_no_source_value_is_availabl
     // REFERENCES.md gives the limb level only from 10.7 Hz; nothing is invented below it.
     assert_eq!(holes("ieee-c95.1-2019-limbs"), [(1.0, 10.7), (3000.0, 1.0e7)]);
     let words = &coverage_holes(table("ieee-c95.1-2019-limbs"))[0].words;
-    assert!(words.starts_with("below 10.7 Hz this table gives no level"), "{words}");
+    assert!(words.starts_with("below 10.7 Hz (down to 1 Hz) this table gives no level (no source value"), "{words}");
 }
 
 #[test]
