@@ -198,16 +198,19 @@ fn position_block(s: &mut String, a: &Assessment, p: &PositionResult) {
 /// sources.
 fn regime_lines(s: &mut String, regimes: &[crate::assess::RegimeResult]) {
     for r in regimes {
-        let tiers = if r.evaluated {
-            format!(
-                ": highest tier exceeded {}; first tier met {}",
-                r.highest_exceeded.as_deref().unwrap_or("none"),
-                r.first_met.as_deref().unwrap_or("none")
-            )
-        } else {
-            " (not read)".to_string()
-        };
-        let _ = writeln!(s, "    regime {}{tiers}", r.regime);
+        if !r.evaluated {
+            // One line: the program's own reason, no tiers to show.
+            let why = r.words.first().map(|w| w.text.as_str()).unwrap_or("not read");
+            let _ = writeln!(s, "    regime {}: {why}", r.regime);
+            continue;
+        }
+        let _ = writeln!(
+            s,
+            "    regime {}: highest tier exceeded {}; first tier met {}",
+            r.regime,
+            r.highest_exceeded.as_deref().unwrap_or("none"),
+            r.first_met.as_deref().unwrap_or("none")
+        );
         for w in &r.words {
             let _ = writeln!(s, "      {} [{}]", w.text, w.source);
         }

@@ -122,3 +122,15 @@ fn the_text_report_shows_each_regime_with_its_tiers_and_sourced_words() {
     );
     assert!(text.contains("[from memory (Directive 2013/35/EU, Article 3(3))]"), "{text}");
 }
+
+#[test]
+fn the_text_report_gives_an_unread_regime_one_line_naming_the_missing_tables() {
+    let a = two_thousand_microtesla(&["eu-2013-35-low"]);
+    let text = fluxbound_core::report::text::assessment_text(&a);
+    assert!(
+        text.contains(
+            "regime eu-2013-35: Not read against this regime: its table(s) eu-2013-35-high, eu-2013-35-limbs"
+        ),
+        "{text}"
+    );
+}
