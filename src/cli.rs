@@ -86,6 +86,11 @@ pub struct AssessArgs {
     /// A custom table (JSON) to load and apply; may be repeated.
     #[arg(long = "table-file", value_name = "FILE")]
     pub table_files: Vec<PathBuf>,
+    /// A custom regime (JSON: ordered tiers of table ids with met/exceeded
+    /// sentences) to read the results against, beside the built-in ones;
+    /// may be repeated.
+    #[arg(long = "regime-file", value_name = "FILE")]
+    pub regime_files: Vec<PathBuf>,
     /// Currents to assess at.
     #[arg(long, value_enum, default_value_t = LoadArg::Present)]
     pub load: LoadArg,
@@ -505,6 +510,24 @@ fn read_table_files(paths: &[PathBuf]) -> Result<Vec<ReferenceTable>, CliError> 
         .collect()
 }
 
+/// Each `--regime-file`, checked; an id already used by a built-in regime
+/// or an earlier file is refused (a result would name it twice).
+fn read_regime_files(paths: &[PathBuf]) -> Result<Vec<limits::Regime>, CliError> {
+    let mut regimes: Vec<limits::Regime> = Vec::new();
+    for f in paths {
+        let r = limits::parse_regime(&read_input(f)?).map_err(|problems| {
+            CliError::Problems(problems.iter().map(|p| format!("--regime-file {}: {p}", f.display())).collect())
+        })?;
+        let taken = limits::builtin_regimes().iter().chain(&regimes).any(|other| other.id() == r.id());
+        if taken {
+            let detail = format!("{}: regime id '{}' is already used", f.display(), r.id());
+            return Err(CliError::flag("--regime-file", detail));
+        }
+        regimes.push(r);
+    }
+    Ok(regimes)
+}
+
 /// The tables of an assessment: the chosen ids (the `--tables` list, else
 /// the site's, else the defaults) looked up among the table files and the
 /// built-ins, then every table file itself.
@@ -526,8 +549,10 @@ fn assess_command(args: &AssessArgs, out: &mut dyn Write) -> Result<ExitCode, Cl
     let review_fraction = review_fraction_flag(args.review_fraction)?;
     let load = LoadCase::from(args.load);
     let budget = Budget::offline();
+    let regimes = read_regime_files(&args.regime_files)?;
     let result = usecase::assess_site(&site, &load, &tables, review_fraction, &budget)?
         .with_provenance(crate::service::provenance_now(&doc, None, Some(file_label(&args.site))));
+    let result = if regimes.is_empty() { result } else { result.with_regimes(&regimes) };
     if let (Some(area_id), Some(path)) = (&args.map, &args.out) {
         write_file(path, &usecase::area_map_svg(&site, &result, &load, &tables, area_id, &budget)?)?;
     }

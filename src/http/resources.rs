@@ -5,7 +5,7 @@ use crate::ids::{AssessmentId, KeyId, SiteId, SurveyId, Timestamp};
 use crate::service::{AssessmentRequest, AssessmentView, SiteView, TableView};
 use crate::store::{KeyRow, SiteRow};
 use fluxbound_core::assess::Assessment;
-use fluxbound_core::limits::TableDoc;
+use fluxbound_core::limits::{CoverageHole, TableDoc};
 use fluxbound_core::site::Warning;
 use fluxbound_core::site::wire::SiteDoc;
 use serde::{Deserialize, Serialize};
@@ -94,6 +94,10 @@ pub struct TableResource {
     pub latest_version: i64,
     pub versions: Vec<TableVersionResource>,
     pub table: TableDoc,
+    /// Frequency ranges within 1 Hz–10 MHz where this table gives no level
+    /// (below, between or above its bands), in plain words; empty when it
+    /// covers the whole span.
+    pub coverage_holes: Vec<CoverageHole>,
 }
 
 impl From<TableView> for TableResource {
@@ -113,6 +117,7 @@ impl From<TableView> for TableResource {
                     updated_at: i.updated_at,
                 })
                 .collect(),
+            coverage_holes: fluxbound_core::limits::coverage_holes(&v.table),
             table: v.table.doc().clone(),
         }
     }

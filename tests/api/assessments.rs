@@ -126,3 +126,28 @@ async fn an_assessment_option_review_fraction_outside_zero_to_one_returns_422_at
     let rf = created["result"]["review_fraction"].as_f64().unwrap();
     assert!((rf - 0.5).abs() < 1e-15, "{rf}");
 }
+
+#[tokio::test]
+async fn an_assessment_reads_each_position_against_the_regimes_of_its_tables() {
+    // small_site at rated load: 1000 A in a long wire seen from 0.5 m →
+    // 0.2 · 1000 / 0.5 = 400 µT at 50 Hz (OpenStax University Physics Vol. 2,
+    // §12.2, V). ICNIRP 2010 general public 200 µT (Table 4, V) exceeded,
+    // occupational 1000 µT (Table 3, V) met; ratios 2.0 and 0.4 are far from
+    // any edge, so the 2 km wire's finite-length error (~6e-8) cannot move a tier.
+    let app = spawn_app().await;
+    let key = app.key("org-a", Role::Assessor).await;
+    let id = app.site(&key, &small_site("regimes")).await;
+    let body = json!({"tables": ["icnirp-2010-public", "icnirp-2010-occupational"], "load": {"kind": "rated"}});
+    let res = app.post(&format!("/v1/sites/{id}/assessments"), &key, &body).await;
+    assert_eq!(res.status(), 201);
+    let created: Value = res.json().await.unwrap();
+    let regimes = created["result"]["positions"][0]["regimes"].as_array().unwrap().clone();
+    assert_eq!(regimes.len(), 1, "only the ICNIRP 2010 regime has assessed tables: {regimes:?}");
+    let r = &regimes[0];
+    assert_eq!((r["regime"].as_str(), r["evaluated"].as_bool()), (Some("icnirp-2010"), Some(true)));
+    assert_eq!(
+        (r["highest_exceeded"].as_str(), r["first_met"].as_str()),
+        (Some("general public"), Some("occupational"))
+    );
+    assert!(r["words"][0]["text"].as_str().unwrap().starts_with("Above the general-public reference level"), "{r}");
+}

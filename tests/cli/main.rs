@@ -525,6 +525,24 @@ fn showing_a_table_prints_its_source_citation_and_every_band() {
 }
 
 #[test]
+fn showing_a_table_lists_every_remaining_coverage_hole_in_plain_words() {
+    // IEEE C95.1-2019 limbs: no source value below 10.7 Hz (docs/REFERENCES.md), none above 3 kHz.
+    let out = fluxbound(&["tables", "show", "ieee-c95.1-2019-limbs"], None);
+    let stdout = stdout_of(&out);
+    assert_eq!(out.status.code(), Some(0), "stderr: {}", stderr_of(&out));
+    let holes: Vec<&str> = stdout.lines().filter(|l| l.starts_with("hole: ")).collect();
+    assert_eq!(holes.len(), 2, "stdout:\n{stdout}");
+    assert!(
+        holes[0].starts_with("hole: below 10.7 Hz (down to 1 Hz) this table gives no level (no source value"),
+        "{}",
+        holes[0]
+    );
+    assert!(holes[1].starts_with("hole: above 3000 Hz"), "{}", holes[1]);
+    let full = stdout_of(&fluxbound(&["tables", "show", "icnirp-2010-occupational"], None));
+    assert!(full.contains("coverage: every frequency from 1 Hz to 10 MHz has a level."), "{full}");
+}
+
+#[test]
 fn showing_a_table_as_json_gives_its_bands_and_citation() {
     let out = fluxbound(&["tables", "show", "icnirp-2010-occupational", "--format", "json"], None);
     assert_eq!(out.status.code(), Some(0), "stderr: {}", stderr_of(&out));
@@ -741,6 +759,47 @@ fn a_table_file_is_loaded_and_applied_beside_the_chosen_tables() {
     let desk = v["positions"].as_array().unwrap().iter().find(|p| p["id"] == "desk-1").expect("desk-1");
     let c = desk["comparisons"].as_array().unwrap().iter().find(|c| c["table_id"] == "acme-hs17").expect("compared");
     assert_eq!(c["level_ut"].as_f64(), Some(50.0));
+}
+
+/// A two-tier regime of the Acme table (50 µT) and ICNIRP 2010 occupational (1000 µT); invented for tests.
+const CUSTOM_REGIME: &str = r#"{
+    "id": "acme-regime", "title": "Acme tiers (invented for tests)", "source": "Acme HS-17 (invented for tests)",
+    "tiers": [
+        {"name": "acme", "tables": ["acme-hs17"],
+         "met": {"text": "Within the Acme limit.", "source": "Acme HS-17 §1"},
+         "exceeded": {"text": "Above the Acme limit: ask the safety office.", "source": "Acme HS-17 §2"}},
+        {"name": "icnirp", "tables": ["icnirp-2010-occupational"],
+         "met": {"text": "Within ICNIRP occupational.", "source": "Acme HS-17 §3"},
+         "exceeded": {"text": "Above ICNIRP occupational.", "source": "Acme HS-17 §4"}}
+    ]
+}"#;
+
+#[test]
+fn a_regime_file_is_read_against_every_result_beside_the_built_in_regimes() {
+    let table = temp_file("regime-table", CUSTOM_TABLE);
+    let regime = temp_file("regime", CUSTOM_REGIME);
+    let args = ["assess", SWITCH_ROOM, "--table-file", table.to_str().unwrap()];
+    let out = fluxbound(&[&args[..], &["--regime-file", regime.to_str().unwrap(), "--format", "json"]].concat(), None);
+    assert_eq!(out.status.code(), Some(0), "stderr: {}", stderr_of(&out));
+    let v: Value = serde_json::from_slice(&out.stdout).expect("stdout is one JSON document");
+    let desk = v["positions"].as_array().unwrap().iter().find(|p| p["id"] == "desk-1").expect("desk-1");
+    let regimes = desk["regimes"].as_array().unwrap();
+    let acme = regimes.iter().find(|r| r["regime"] == "acme-regime").unwrap_or_else(|| panic!("{regimes:?}"));
+    assert_eq!(acme["evaluated"], true, "{acme}");
+    assert!(acme["words"].as_array().unwrap().iter().all(|w| w["source"].as_str().unwrap().starts_with("Acme HS-17")));
+    // The defaults include eu-2013-35-low and -limbs but not -high: the EU regime is named, not read.
+    let eu = regimes.iter().find(|r| r["regime"] == "eu-2013-35").expect("EU regime named");
+    assert_eq!(eu["evaluated"], false);
+}
+
+#[test]
+fn a_bad_regime_file_names_the_flag_the_file_and_the_pointer_into_it() {
+    let regime = temp_file("bad-regime", &CUSTOM_REGIME.replace(r#""source": "Acme HS-17 §2""#, r#""source": """#));
+    let out = fluxbound(&["assess", SWITCH_ROOM, "--regime-file", regime.to_str().unwrap()], None);
+    assert_rejected_with(&out, &[&format!("--regime-file {}: /tiers/0/exceeded/source", regime.display())]);
+    let clash = temp_file("clash-regime", &CUSTOM_REGIME.replace("acme-regime", "eu-2013-35"));
+    let out = fluxbound(&["assess", SWITCH_ROOM, "--regime-file", clash.to_str().unwrap()], None);
+    assert_rejected_with(&out, &["--regime-file", "regime id 'eu-2013-35' is already used"]);
 }
 
 #[test]

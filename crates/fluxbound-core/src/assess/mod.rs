@@ -11,6 +11,7 @@ mod grid;
 mod load;
 mod map;
 mod peak;
+mod regime;
 mod review;
 mod verdict;
 
@@ -18,13 +19,14 @@ pub use grid::{DEFAULT_MAX_GRID_CELLS, GridSpec, area_grid, bounding_cells, chec
 pub use load::{CircuitLoadReport, LoadCase, LoadCaseReport, LoadError, PhaseLoadReport};
 pub use map::{AreaMap, MAP_MAX_CELLS, TableRatios, area_map};
 pub use peak::CERTAINTY;
+pub use regime::{RegimeResult, read_regimes};
 pub use review::{ReviewFraction, ReviewFractionError};
 pub use verdict::{FrequencyRatio, Ratio, Verdict, exposure_ratio, line_levels, ratio_of};
 
 use crate::cautions::cautions;
 use crate::field;
 use crate::limits::{
-    AppliesTo, IMPLANT_TABLE_ID, Population, ReferenceTable, TableBodyRegion, TableKind, builtin_table,
+    AppliesTo, IMPLANT_TABLE_ID, Population, ReferenceTable, Regime, TableBodyRegion, TableKind, builtin_table,
 };
 use crate::site::wire::{BodyRegion, Group};
 use crate::site::{Placement, Problems, Site};
@@ -233,6 +235,12 @@ pub struct PositionResult {
     pub time_weighted: Option<TimeWeighted>,
     /// Notes on this position.
     pub notes: Vec<String>,
+    /// Each regime with an assessed table, read against this result: the
+    /// highest tier exceeded and the first tier met, in plain words carried
+    /// by the regime. Empty in results stored before regimes existed.
+    #[serde(default)]
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub regimes: Vec<RegimeResult>,
 }
 
 /// An area's result against one table.
@@ -329,6 +337,12 @@ pub struct AreaResult {
     /// What the shares are taken over, in words.
     #[serde(default)]
     pub share_basis: String,
+    /// Each regime with an assessed table, read against this result: the
+    /// highest tier exceeded and the first tier met, in plain words carried
+    /// by the regime. Empty in results stored before regimes existed.
+    #[serde(default)]
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub regimes: Vec<RegimeResult>,
 }
 
 /// The basis of the area shares, as every area result states it.
@@ -511,8 +525,9 @@ pub fn assess(
     let bounds = field::bound::SegmentBounds::new(&filaments, &excitation);
     let engine = peak::Engine { filaments: &filaments, excitation: &excitation, bounds: &bounds };
     let rf = options.review_fraction;
-    let positions = assess_positions(site, &plan, &sampler, &tables, rf);
-    let areas = assess_areas(site, &plan, &sampler, &engine, &tables, rf, options.max_refine_pairs)?;
+    let mut positions = assess_positions(site, &plan, &sampler, &tables, rf);
+    let mut areas = assess_areas(site, &plan, &sampler, &engine, &tables, rf, options.max_refine_pairs)?;
+    read_builtin_regimes(&tables, &mut positions, &mut areas);
     let summary = summarise(&positions, &areas);
     Ok(Assessment {
         site_name: site.name().map(str::to_string),
@@ -529,6 +544,37 @@ pub fn assess(
         provenance: None,
         warnings: crate::site::site_warnings(site),
     })
+}
+
+/// Fills each position's and area's `regimes` from its verdicts, against
+/// the built-in regimes.
+fn read_builtin_regimes(tables: &[ReferenceTable], positions: &mut [PositionResult], areas: &mut [AreaResult]) {
+    let assessed: Vec<&str> = tables.iter().map(|t| t.id()).collect();
+    fill_regimes(crate::limits::builtin_regimes(), &assessed, positions, areas);
+}
+
+/// Sets every result's `regimes` to `regimes` read against its verdicts.
+fn fill_regimes(regimes: &[Regime], assessed: &[&str], positions: &mut [PositionResult], areas: &mut [AreaResult]) {
+    for p in positions.iter_mut() {
+        let compared: Vec<(&str, Verdict)> = p.comparisons.iter().map(|c| (c.table_id.as_str(), c.verdict)).collect();
+        p.regimes = read_regimes(regimes, assessed, &compared);
+    }
+    for a in areas.iter_mut() {
+        let compared: Vec<(&str, Verdict)> = a.comparisons.iter().map(|c| (c.table_id.as_str(), c.verdict)).collect();
+        a.regimes = read_regimes(regimes, assessed, &compared);
+    }
+}
+
+impl Assessment {
+    /// This result read against the built-in regimes followed by `custom`
+    /// ones (for example a `--regime-file`), from the verdicts it holds.
+    pub fn with_regimes(mut self, custom: &[Regime]) -> Assessment {
+        let regimes: Vec<Regime> = crate::limits::builtin_regimes().iter().chain(custom).cloned().collect();
+        let assessed: Vec<String> = self.tables.iter().map(|t| t.id.clone()).collect();
+        let assessed: Vec<&str> = assessed.iter().map(String::as_str).collect();
+        fill_regimes(&regimes, &assessed, &mut self.positions, &mut self.areas);
+        self
+    }
 }
 
 /// Every reason the assessment cannot run, or the resolved circuit loads.
@@ -755,6 +801,7 @@ fn assess_position(
         verdict,
         time_weighted: time_weighted(q.occupancy_h, max_resultant_ut),
         notes: position_notes(q, tables.is_empty(), computed.len() < samples.len()),
+        regimes: Vec::new(),
     }
 }
 
@@ -905,6 +952,7 @@ fn assess_area(
         boundary_samples: pv.peak.boundary_samples,
         refinement_samples: pv.peak.refinement_samples,
         share_basis: SHARE_BASIS.to_string(),
+        regimes: Vec::new(),
     }
 }
 

@@ -5,9 +5,15 @@
 //! a user's custom table.
 
 mod builtin;
+mod coverage;
+mod regime;
 mod table;
 
 pub use builtin::{DEFAULT_TABLE_IDS, IMPLANT_TABLE_ID, builtin_table, builtin_tables};
+pub use coverage::{COVERAGE_SPAN_HZ, CoverageHole, coverage_holes};
+pub use regime::{
+    MAX_TIER_TABLES, MAX_TIERS, Regime, RegimeDoc, Sentence, Tier, builtin_regimes, parse_regime, validate_regime_at,
+};
 pub use table::*;
 
 use crate::site::{Problems, parse_json};

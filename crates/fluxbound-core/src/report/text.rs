@@ -191,6 +191,30 @@ fn position_block(s: &mut String, a: &Assessment, p: &PositionResult) {
     for n in &p.notes {
         let _ = writeln!(s, "    note: {n}");
     }
+    regime_lines(s, &p.regimes);
+}
+
+/// Each regime read against a result: the tiers, then its words with their
+/// sources.
+fn regime_lines(s: &mut String, regimes: &[crate::assess::RegimeResult]) {
+    for r in regimes {
+        if !r.evaluated {
+            // One line: the program's own reason, no tiers to show.
+            let why = r.words.first().map(|w| w.text.as_str()).unwrap_or("not read");
+            let _ = writeln!(s, "    regime {}: {why}", r.regime);
+            continue;
+        }
+        let _ = writeln!(
+            s,
+            "    regime {}: highest tier exceeded {}; first tier met {}",
+            r.regime,
+            r.highest_exceeded.as_deref().unwrap_or("none"),
+            r.first_met.as_deref().unwrap_or("none")
+        );
+        for w in &r.words {
+            let _ = writeln!(s, "      {} [{}]", w.text, w.source);
+        }
+    }
 }
 
 /// One height (or point) of a position: B, major axis, each table's ratio
@@ -247,6 +271,7 @@ fn area_block(s: &mut String, a: &Assessment, ar: &AreaResult) {
     }
     time_weighted_line(s, ar.time_weighted.as_ref());
     area_uncovered(s, a, ar);
+    regime_lines(s, &ar.regimes);
 }
 
 /// The worst verdict and the positions and areas at or near a level.
@@ -342,7 +367,20 @@ pub fn table_text(t: &ReferenceTable) -> String {
             let _ = writeln!(s, "note: {n}");
         }
     }
+    coverage_lines(&mut s, t);
     s
+}
+
+/// The table's holes within 1 Hz–10 MHz in plain words, or that it has none.
+fn coverage_lines(s: &mut String, t: &ReferenceTable) {
+    let holes = crate::limits::coverage_holes(t);
+    let _ = writeln!(s);
+    if holes.is_empty() {
+        let _ = writeln!(s, "coverage: every frequency from 1 Hz to 10 MHz has a level.");
+    }
+    for h in &holes {
+        let _ = writeln!(s, "hole: {}", h.words);
+    }
 }
 
 /// Plain-text survey reconciliation, load fit and extrapolation.

@@ -4,6 +4,7 @@
 //! published table values (docs/REFERENCES.md).
 
 mod boundary;
+mod regime;
 mod usecase;
 
 use fluxbound_core::assess::{self, Assessment, LoadCase, Options, ReviewFraction, Verdict};
@@ -110,14 +111,45 @@ fn harmonics_are_summed_as_b_over_level_per_frequency() {
 
 #[test]
 fn a_table_that_does_not_cover_a_harmonic_gives_not_covered_rather_than_a_guess() {
-    // ACGIH whole-body ceiling is given here for 1–300 Hz only; a 7th
-    // harmonic at 350 Hz is outside it.
-    let a = seventh_harmonic_at_one_metre("acgih-sub-rf-whole-body");
+    // A table invented for this test covers 1–300 Hz only (as the ACGIH
+    // ceilings did before issue 11); a 7th harmonic at 350 Hz is outside it.
+    let only_to_300 = fluxbound_core::limits::parse_table(
+        r#"{"id": "to-300", "title": "To 300 Hz", "source": "invented for this test",
+            "applies_to": {"population": "workers", "body_region": "whole_body"}, "kind": "screening",
+            "bands": [{"from_hz": 1, "to_hz": 300, "coefficient": 6.0e4, "exponent": -1}]}"#,
+    )
+    .unwrap();
+    let doc = wire_site(
+        1000.0,
+        1000.0,
+        json!([{"order": 7, "percent": 10}]),
+        json!([point("p", [0.0, 1.0, 0.0])]),
+        json!([]),
+    );
+    let site = parse_site(&doc.to_string()).unwrap();
+    let a = assess::assess(&site, &LoadCase::Present, &[only_to_300], &Options::default()).unwrap();
     let c = &a.positions[0].comparisons[0];
     assert_eq!(c.verdict, Verdict::NotCovered);
     assert_eq!(c.ratio, None);
     assert_eq!(c.uncovered_hz, vec![350.0]);
     assert_eq!(a.summary.positions_not_judged, vec!["p".to_string()]);
+}
+
+#[test]
+fn a_50_hz_site_with_a_7th_harmonic_gets_an_acgih_verdict() {
+    // Worked by hand: 1000 A at 1 m → 200 µT at 50 Hz (0.2·I/r, OpenStax
+    // §12.2, V) and a 10 % 7th harmonic → 20 µT at 350 Hz. ACGIH whole-body
+    // ceiling: 6e4/50 = 1200 µT at 50 Hz (V, published summaries) and 200 µT
+    // flat from 300 Hz to 30 kHz (from memory, M). Sum: 200/1200 + 20/200 =
+    // 0.1666667 + 0.1 = 0.2666667. Tolerance 1e-8 relative: the 10 km wire's
+    // finite-length error at 1 m is 5e-9.
+    let a = seventh_harmonic_at_one_metre("acgih-sub-rf-whole-body");
+    let c = &a.positions[0].comparisons[0];
+    assert_ne!(c.verdict, Verdict::NotCovered);
+    assert_eq!(c.verdict, Verdict::Within);
+    assert!(rel(c.ratio.unwrap(), 200.0 / 1200.0 + 20.0 / 200.0) < 1e-8, "{:?}", c.ratio);
+    assert!(c.uncovered_hz.is_empty());
+    assert!(a.summary.positions_not_judged.is_empty());
 }
 
 #[test]

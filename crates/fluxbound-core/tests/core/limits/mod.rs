@@ -4,7 +4,9 @@
 
 mod bands;
 mod builtin;
+mod coverage;
 mod custom;
+mod regimes;
 
 use fluxbound_core::limits::{ReferenceTable, builtin_table};
 
