@@ -13,6 +13,7 @@ mod map;
 mod peak;
 mod review;
 mod verdict;
+mod weighted_peak;
 
 pub use grid::{DEFAULT_MAX_GRID_CELLS, GridSpec, area_grid, bounding_cells, check_grid_budget, contains};
 pub use load::{CircuitLoadReport, LoadCase, LoadCaseReport, LoadError, PhaseLoadReport};
@@ -20,6 +21,7 @@ pub use map::{AreaMap, MAP_MAX_CELLS, TableRatios, area_map};
 pub use peak::CERTAINTY;
 pub use review::{ReviewFraction, ReviewFractionError};
 pub use verdict::{FrequencyRatio, Ratio, Verdict, exposure_ratio, line_levels, ratio_of};
+pub use weighted_peak::{LineInfo, NotComputed, Term, Weighting, filter_phase_deg, peak_magnitude};
 
 use crate::cautions::cautions;
 use crate::field;

@@ -1,0 +1,197 @@
+//! The weighted peak index on spectra worked by hand. Check values are
+//! from issue 11, computed by hand from ICNIRP 2010 eq. (7) and its
+//! Appendix (filter phase 180°, 90°, 0°, −90° for f⁻², f⁻¹, f⁰, f¹;
+//! docs/REFERENCES.md "Weighted peak method") with the ICNIRP 2010
+//! occupational table (V, REFERENCES.md: flat 1000 µT from 25 to 300 Hz,
+//! 3·10⁵/f µT from 300 Hz to 3 kHz).
+
+use fluxbound_core::assess::{LineInfo, NotComputed, Weighting, exposure_ratio, filter_phase_deg, line_levels};
+use fluxbound_core::field::FieldPhasor;
+use fluxbound_core::limits::{ReferenceTable, TableDoc, builtin_table, validate_table};
+use num_complex::Complex64;
+use proptest::prelude::*;
+use serde_json::json;
+
+/// The index is refined to well below 1e-9 relative (golden section to
+/// 1e-12 rad); the issue asks for 1e-6 relative, so 1e-7 leaves room for
+/// rounding in the hand values given to 6–7 digits.
+const TOL: f64 = 1e-7;
+
+fn icnirp_occupational() -> ReferenceTable {
+    builtin_table("icnirp-2010-occupational").expect("built-in").clone()
+}
+
+fn along_x(b_ut: f64, angle_deg: f64) -> FieldPhasor {
+    FieldPhasor::new(
+        Complex64::from_polar(b_ut, angle_deg.to_radians()),
+        Complex64::new(0.0, 0.0),
+        Complex64::new(0.0, 0.0),
+    )
+}
+
+fn lines(f0_hz: f64, orders: &[u32]) -> Vec<LineInfo> {
+    orders.iter().map(|h| LineInfo { order: *h, frequency_hz: f0_hz * f64::from(*h), phase_known: true }).collect()
+}
+
+fn summation(table: &ReferenceTable, lines: &[LineInfo], phasors: &[FieldPhasor]) -> f64 {
+    let hz: Vec<f64> = lines.iter().map(|l| l.frequency_hz).collect();
+    exposure_ratio(phasors.iter().map(fluxbound_core::field::resultant_ut), &line_levels(table, &hz)).expect("covered")
+}
+
+fn wpi(table: &ReferenceTable, lines: &[LineInfo], phasors: &[FieldPhasor]) -> f64 {
+    Weighting::of(table, lines).index(phasors).expect("computed")
+}
+
+#[test]
+fn the_filter_phase_is_minus_ninety_degrees_times_the_band_exponent() {
+    // ICNIRP 2010 Appendix: 180° for f⁻², 90° for f⁻¹, 0° flat, −90° for f¹.
+    for (n, phase) in [(-2.0, 180.0), (-1.0, 90.0), (0.0, 0.0), (1.0, -90.0)] {
+        assert!((filter_phase_deg(n) - phase).abs() < 1e-12, "exponent {n}");
+    }
+}
+
+#[test]
+fn a_fundamental_and_third_harmonic_peaking_together_give_the_summation() {
+    // Issue 11: 600 µT at 50 Hz + 300 µT at 150 Hz at 0°: 0.6 + 0.3 = 0.9 both ways.
+    let t = icnirp_occupational();
+    let l = lines(50.0, &[1, 3]);
+    let b = [along_x(600.0, 0.0), along_x(300.0, 0.0)];
+    assert!((summation(&t, &l, &b) - 0.9).abs() < TOL);
+    assert!((wpi(&t, &l, &b) - 0.9).abs() < TOL);
+}
+
+#[test]
+fn a_third_harmonic_in_opposition_gives_the_root_of_five_twelfths() {
+    // Issue 11: max over c of 0.6c − 0.3(4c³ − 3c) = 1.5c − 1.2c³, at
+    // c² = 5/12, value √(5/12) = 0.645497 (derived by hand).
+    let t = icnirp_occupational();
+    let l = lines(50.0, &[1, 3]);
+    let b = [along_x(600.0, 0.0), along_x(300.0, 180.0)];
+    assert!((summation(&t, &l, &b) - 0.9).abs() < TOL);
+    assert!((wpi(&t, &l, &b) - (5.0f64 / 12.0).sqrt()).abs() < TOL);
+}
+
+#[test]
+fn a_circularly_polarised_field_peaks_at_its_component_not_its_resultant() {
+    // Issue 11: two perpendicular 500 µT RMS components 90° apart: resultant
+    // √2·500 = 707.1 µT → ratio 0.7071; the vector turns at constant length
+    // 500 µT (RMS scale) → WPI 0.5.
+    let t = icnirp_occupational();
+    let l = lines(50.0, &[1]);
+    let b = [FieldPhasor::new(Complex64::new(500.0, 0.0), Complex64::new(0.0, 500.0), Complex64::new(0.0, 0.0))];
+    assert!((summation(&t, &l, &b) - 0.5 * 2f64.sqrt()).abs() < TOL);
+    assert!((wpi(&t, &l, &b) - 0.5).abs() < TOL);
+}
+
+#[test]
+fn the_seventh_harmonic_in_a_falling_band_is_shifted_by_plus_ninety_degrees() {
+    // Issue 11: 600 µT at 50 Hz + 257.142857 µT at 350 Hz (level
+    // 3e5/350 = 857.142857 µT, ratio 0.3) at 90°: filter phase +90° gives
+    // 0.6cosθ − 0.3cos7θ, max 0.842807 (issue's hand value; 6 digits, so
+    // 1e-6). The wrong sign would give 0.6cosθ + 0.3cos7θ → 0.9.
+    let t = icnirp_occupational();
+    let l = lines(50.0, &[1, 7]);
+    let b = [along_x(600.0, 0.0), along_x(300.0e3 / 350.0 * 0.3, 90.0)];
+    assert!((summation(&t, &l, &b) - 0.9).abs() < TOL);
+    assert!((wpi(&t, &l, &b) - 0.842807).abs() < 1e-6);
+}
+
+fn rising_table() -> ReferenceTable {
+    let doc: TableDoc = serde_json::from_value(json!({
+        "id": "rising-test",
+        "title": "Invented table with a rising band",
+        "source": "invented for this test",
+        "applies_to": {"population": "workers", "body_region": "whole_body"},
+        "kind": "screening",
+        "bands": [
+            {"from_hz": 1, "to_hz": 100, "coefficient": 100, "exponent": 0},
+            {"from_hz": 100, "to_hz": 1000, "coefficient": 1, "exponent": 1}
+        ],
+        "decision_rule": "weighted_peak"
+    }))
+    .expect("table json");
+    validate_table(doc).expect("valid table")
+}
+
+#[test]
+fn a_rising_band_delays_its_line_by_ninety_degrees() {
+    // Invented table: flat 100 µT to 100 Hz, then 1·f µT (rising, φ = −90°).
+    // 50 µT at 50 Hz (ratio 0.5, φ 0°) + 75 µT at 150 Hz (level 150 µT,
+    // ratio 0.5) at harmonic angle +90°: the filter's −90° brings it back to
+    // 0°, so both peak at t = 0: WPI = 0.5 + 0.5 = 1.0 (by hand).
+    let t = rising_table();
+    let l = lines(50.0, &[1, 3]);
+    let b = [along_x(50.0, 0.0), along_x(75.0, 90.0)];
+    assert!((wpi(&t, &l, &b) - 1.0).abs() < TOL);
+    // At harmonic angle −90° (or with the wrong filter sign at +90°) the
+    // lines are 180° apart: 0.5cosθ − 0.5cos3θ = 0.5(c − 4c³ + 3c) =
+    // 2c(1 − c²), largest at c² = 1/3: 4 / (3√3) = 0.769800 (by hand).
+    let b = [along_x(50.0, 0.0), along_x(75.0, -90.0)];
+    assert!((wpi(&t, &l, &b) - 4.0 / (3.0 * 3f64.sqrt())).abs() < TOL);
+}
+
+#[test]
+fn a_harmonic_on_a_band_edge_takes_the_larger_index_of_both_filter_phases() {
+    // 300 Hz is the 5th harmonic of 60 Hz and the edge between the flat
+    // (0°) and the f⁻¹ (90°) bands of ICNIRP 2010 occupational (level
+    // 1000 µT on both sides). 600 µT at 60 Hz + 300 µT at 300 Hz: at
+    // harmonic angle 0° the flat phase lines the peaks up (0.9); at −90° the
+    // f⁻¹ phase does (−90° + 90° = 0°, 0.9). Either way 0.9 (by hand).
+    let t = icnirp_occupational();
+    let l = lines(60.0, &[1, 5]);
+    for angle in [0.0, -90.0] {
+        let b = [along_x(600.0, 0.0), along_x(300.0, angle)];
+        assert!((wpi(&t, &l, &b) - 0.9).abs() < TOL, "angle {angle}");
+    }
+}
+
+#[test]
+fn a_harmonic_without_a_stated_phase_gives_no_index_and_says_why() {
+    let t = icnirp_occupational();
+    let mut l = lines(50.0, &[1, 3]);
+    l[1].phase_known = false;
+    let b = [along_x(600.0, 0.0), along_x(300.0, 0.0)];
+    let err = Weighting::of(&t, &l).index(&b).expect_err("phase unknown");
+    assert_eq!(err, NotComputed::UnknownPhase { frequencies_hz: vec![150.0] });
+    assert!(err.note().contains("150 Hz") && err.note().contains("angle_deg"), "{}", err.note());
+    // Without field at that harmonic the unknown phase does not matter.
+    let b = [along_x(600.0, 0.0), along_x(0.0, 0.0)];
+    assert!((Weighting::of(&t, &l).index(&b).expect("computed") - 0.6).abs() < TOL);
+}
+
+fn phasor_strategy() -> impl Strategy<Value = FieldPhasor> {
+    prop::array::uniform6(-1000.0f64..1000.0).prop_map(|v| {
+        FieldPhasor::new(Complex64::new(v[0], v[1]), Complex64::new(v[2], v[3]), Complex64::new(v[4], v[5]))
+    })
+}
+
+proptest! {
+    /// The summation assumes every line peaks together, so by the triangle
+    /// inequality it is never below the index (ICNIRP 2010: the summation
+    /// is conservative). Tolerance 1e-9 relative: both are sums of a few
+    /// products, rounding is near 1e-15; the index is a sampled maximum,
+    /// which can only be below the true one.
+    #[test]
+    fn the_summation_is_never_below_the_weighted_peak_index(
+        orders in prop::sample::subsequence(vec![1u32, 2, 3, 5, 7, 11, 13, 25, 49], 1..6),
+        phasors in prop::collection::vec(phasor_strategy(), 6),
+    ) {
+        let t = icnirp_occupational();
+        let l = lines(50.0, &orders);
+        let b = &phasors[..l.len()];
+        let s = summation(&t, &l, b);
+        let w = wpi(&t, &l, b);
+        prop_assert!(w <= s * (1.0 + 1e-9), "wpi {w} > summation {s}");
+        // Lower bound: a peak is never below the RMS over the period; lines
+        // of different orders are orthogonal, so the mean of |v(θ)|² is
+        // Σ r_i² / 2 with r_i = B_i / B_RL(f_i) (derived). Same tolerance.
+        let hz: Vec<f64> = l.iter().map(|x| x.frequency_hz).collect();
+        let levels = line_levels(&t, &hz);
+        let mean_square: f64 = b
+            .iter()
+            .zip(&levels)
+            .map(|(p, lv)| (fluxbound_core::field::resultant_ut(p) / lv.expect("covered")).powi(2) / 2.0)
+            .sum();
+        prop_assert!(w >= mean_square.sqrt() * (1.0 - 1e-9), "wpi {w} below the RMS {}", mean_square.sqrt());
+    }
+}
