@@ -26,7 +26,7 @@
 //! do not occur in the model (orders are whole numbers 1–50).
 
 use crate::field::FieldPhasor;
-use crate::limits::ReferenceTable;
+use crate::limits::{DecisionRule, ReferenceTable};
 use num_complex::Complex64;
 use std::f64::consts::TAU;
 
@@ -254,4 +254,35 @@ fn golden_max(terms: &[Term], mut lo: f64, mut hi: f64) -> f64 {
         }
     }
     f1.max(f2).max(magnitude_at(terms, 0.5 * (lo + hi)))
+}
+
+/// Both numbers of one comparison and the rule that decided its verdict.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) struct Decision {
+    /// The weighted peak index (`None`: not computed, see `note`).
+    pub index: Option<f64>,
+    /// Why the index is missing.
+    pub note: Option<String>,
+    /// The rule the verdict was read from.
+    pub decided_by: DecisionRule,
+    /// The number the verdict is read from (`None`: not covered).
+    pub deciding: Option<f64>,
+}
+
+/// The table's rule where it can be applied: the weighted peak index
+/// decides only for a `weighted_peak` table, at a point the summation
+/// covers, with the index computed; otherwise the summation decides (the
+/// conservative side, never below the index).
+pub(crate) fn decide(rule: DecisionRule, summation: Option<f64>, index: Result<f64, NotComputed>) -> Decision {
+    let (index, note) = match (summation, index) {
+        (None, _) => (None, Some(NotComputed::NotCovered.note())),
+        (Some(_), Ok(i)) => (Some(i), None),
+        (Some(_), Err(e)) => (None, Some(e.note())),
+    };
+    match (rule, index) {
+        (DecisionRule::WeightedPeak, Some(i)) => {
+            Decision { index: Some(i), note, decided_by: DecisionRule::WeightedPeak, deciding: Some(i) }
+        }
+        _ => Decision { index, note, decided_by: DecisionRule::Summation, deciding: summation },
+    }
 }

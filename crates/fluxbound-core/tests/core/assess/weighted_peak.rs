@@ -195,3 +195,147 @@ proptest! {
         prop_assert!(w >= mean_square.sqrt() * (1.0 - 1e-9), "wpi {w} below the RMS {}", mean_square.sqrt());
     }
 }
+
+// ---- The same check values as site models through `assess` ----
+//
+// Field of a long straight wire: B[µT] = 0.2 · I[A] / R[m] (OpenStax
+// University Physics Vol. 2, §12.2, V). At 1 m, 3000 A gives 600 µT; a
+// harmonic of p % gives p % of that. Wires are 20 km long (`L`), so the
+// finite-length error at 1 m is 5e-9 relative; tolerances 1e-6 cover it.
+
+use super::{L, point, wire_site};
+use fluxbound_core::assess::{self, Assessment, LoadCase, Options, Verdict};
+use fluxbound_core::limits::DecisionRule;
+use fluxbound_core::site::parse_site;
+use serde_json::Value;
+
+fn assess_with(doc: Value, tables: &[ReferenceTable]) -> Assessment {
+    let site = parse_site(&doc.to_string()).unwrap_or_else(|p| panic!("site: {p}"));
+    assess::assess(&site, &LoadCase::Present, tables, &Options::default()).unwrap_or_else(|p| panic!("assess: {p}"))
+}
+
+/// ICNIRP 2010 occupational with its verdict read from the weighted peak.
+fn occupational_by_weighted_peak() -> ReferenceTable {
+    let mut doc = icnirp_occupational().doc().clone();
+    doc.id = "icnirp-2010-occupational-wpm".into();
+    doc.decision_rule = DecisionRule::WeightedPeak;
+    validate_table(doc).expect("valid")
+}
+
+fn wire_at_one_metre(harmonics: Value) -> Value {
+    wire_site(3000.0, 3000.0, harmonics, json!([point("p", [0.0, 1.0, 0.0])]), json!([]))
+}
+
+#[test]
+fn a_wire_with_a_third_harmonic_in_phase_reports_summation_and_index_of_point_nine() {
+    // 600 µT at 50 Hz + 300 µT (50 %) at 150 Hz, angle 0°: 0.9 and 0.9 (issue 11).
+    let a =
+        assess_with(wire_at_one_metre(json!([{"order": 3, "percent": 50, "angle_deg": 0}])), &[icnirp_occupational()]);
+    let c = &a.positions[0].comparisons[0];
+    assert!((c.ratio.unwrap() - 0.9).abs() < 1e-6);
+    assert!((c.weighted_peak_index.unwrap() - 0.9).abs() < 1e-6);
+    assert_eq!(c.decided_by, DecisionRule::Summation);
+    assert_eq!(c.weighted_peak_note, None);
+    let h = &a.positions[0].heights[0].comparisons[0];
+    assert!((h.weighted_peak_index.unwrap() - 0.9).abs() < 1e-6);
+}
+
+#[test]
+fn a_wire_with_a_third_harmonic_in_opposition_is_decided_by_the_index_when_the_table_says_so() {
+    // Same at 180°: summation 0.9, WPI √(5/12) = 0.645497 (issue 11, by hand).
+    let doc = wire_at_one_metre(json!([{"order": 3, "percent": 50, "angle_deg": 180}]));
+    let a = assess_with(doc.clone(), &[icnirp_occupational()]);
+    let c = &a.positions[0].comparisons[0];
+    assert!((c.ratio.unwrap() - 0.9).abs() < 1e-6);
+    assert!((c.weighted_peak_index.unwrap() - (5.0f64 / 12.0).sqrt()).abs() < 1e-6);
+    assert_eq!((c.verdict, c.decided_by), (Verdict::Approaching, DecisionRule::Summation));
+    // At 4/3 of the current the summation is 1.2 (exceeds) but the index
+    // 4/3 · 0.645497 = 0.860663 (approaching, review fraction 0.5).
+    let doc = wire_site(
+        4000.0,
+        4000.0,
+        json!([{"order": 3, "percent": 50, "angle_deg": 180}]),
+        json!([point("p", [0.0, 1.0, 0.0])]),
+        json!([]),
+    );
+    let a = assess_with(doc, &[icnirp_occupational(), occupational_by_weighted_peak()]);
+    let (sum, wpm) = (&a.positions[0].comparisons[0], &a.positions[0].comparisons[1]);
+    assert_eq!((sum.verdict, sum.decided_by), (Verdict::Exceeds, DecisionRule::Summation));
+    assert_eq!((wpm.verdict, wpm.decided_by), (Verdict::Approaching, DecisionRule::WeightedPeak));
+    assert!((wpm.ratio.unwrap() - 1.2).abs() < 1e-6, "ratio keeps meaning the summation");
+    assert!((wpm.weighted_peak_index.unwrap() - 4.0 / 3.0 * (5.0f64 / 12.0).sqrt()).abs() < 1e-6);
+    assert_eq!(a.positions[0].heights[0].comparisons[1].decided_by, DecisionRule::WeightedPeak);
+}
+
+#[test]
+fn a_wire_with_a_seventh_harmonic_at_ninety_degrees_gives_the_falling_band_value() {
+    // 257.142857 µT at 350 Hz = 42.857143 % of 600 µT, angle 90°: WPI
+    // 0.842807 (issue 11, 6 digits → 1e-6).
+    let a = assess_with(
+        wire_at_one_metre(json!([{"order": 7, "percent": 300.0 / 7.0, "angle_deg": 90}])),
+        &[icnirp_occupational()],
+    );
+    let c = &a.positions[0].comparisons[0];
+    assert!((c.ratio.unwrap() - 0.9).abs() < 1e-6);
+    assert!((c.weighted_peak_index.unwrap() - 0.842807).abs() < 1e-6);
+}
+
+#[test]
+fn a_harmonic_without_angle_gives_no_index_and_the_summation_decides() {
+    let a = assess_with(wire_at_one_metre(json!([{"order": 3, "percent": 50}])), &[occupational_by_weighted_peak()]);
+    let c = &a.positions[0].comparisons[0];
+    assert_eq!(c.weighted_peak_index, None);
+    assert_eq!(c.decided_by, DecisionRule::Summation);
+    let note = c.weighted_peak_note.as_deref().unwrap_or("");
+    assert!(note.contains("150 Hz") && note.contains("angle_deg"), "{note}");
+    assert!((c.ratio.unwrap() - 0.9).abs() < 1e-6);
+}
+
+#[test]
+fn two_perpendicular_wires_ninety_degrees_apart_give_a_circular_field_with_index_one_half() {
+    // Wire A along x at z = 0 and wire B along y at z = 2, point (0, 0, 1):
+    // each 1 m away, A's field along y, B's along x, 0.2 · 2500 / 1 = 500 µT
+    // each (OpenStax §12.2), currents 90° apart → circular field: resultant
+    // 707.1 µT → ratio 0.7071, WPI 0.5 (issue 11).
+    let doc = json!({
+        "frequency_hz": 50,
+        "circuits": [
+            {"id": "a", "kind": "single_phase", "current_a": 2500, "angle_deg": 0},
+            {"id": "b", "kind": "single_phase", "current_a": 2500, "angle_deg": 90}
+        ],
+        "conductors": [
+            {"id": "a-A", "circuit": "a", "phase": "A", "radius_m": 0.01, "path": [[-L, 0.0, 0.0], [L, 0.0, 0.0]]},
+            {"id": "b-A", "circuit": "b", "phase": "A", "radius_m": 0.01, "path": [[0.0, -L, 2.0], [0.0, L, 2.0]]}
+        ],
+        "positions": [point("p", [0.0, 0.0, 1.0])],
+        "areas": []
+    });
+    let a = assess_with(doc, &[icnirp_occupational()]);
+    let c = &a.positions[0].comparisons[0];
+    assert!((c.ratio.unwrap() - 0.5 * 2f64.sqrt()).abs() < 1e-6);
+    assert!((c.weighted_peak_index.unwrap() - 0.5).abs() < 1e-6);
+}
+
+#[test]
+fn an_area_reports_the_highest_index_over_its_cells_never_above_its_summation() {
+    // One wire: every cell sees the same waveform shape, so the index is
+    // √(5/12) / 0.9 = 0.717219 of the summation in every cell (derived);
+    // the area's index (cells) is at most that share of its max_ratio.
+    let doc = wire_site(
+        3000.0,
+        3000.0,
+        json!([{"order": 3, "percent": 50, "angle_deg": 180}]),
+        json!([]),
+        json!([{"id": "z", "height_m": 0.0, "spacing_m": 0.5,
+                "polygon": [[-1.0, 1.0], [1.0, 1.0], [1.0, 3.0], [-1.0, 3.0]]}]),
+    );
+    let a = assess_with(doc, &[occupational_by_weighted_peak()]);
+    let c = &a.areas[0].comparisons[0];
+    let share = (5.0f64 / 12.0).sqrt() / 0.9;
+    let (index, max_ratio) = (c.weighted_peak_index.unwrap(), c.max_ratio.unwrap());
+    assert!(index <= max_ratio * share * (1.0 + 1e-9), "{index} vs {max_ratio}");
+    // The cell nearest the wire is 1.25 m away (centres at y = 1.25 … 2.75):
+    // 0.2 · 3000 / 1.25 = 480 µT + 240 µT → summation 0.72, index 0.72 · share.
+    assert!((index - 0.72 * share).abs() < 1e-6, "{index}");
+    assert_eq!(c.decided_by, DecisionRule::WeightedPeak);
+}
