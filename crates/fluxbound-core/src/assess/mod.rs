@@ -145,6 +145,7 @@ pub struct PointComparison {
     /// The rule the verdict was read from: the table's `decision_rule`
     /// where it can be applied, else `summation`.
     #[serde(default)]
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub decided_by: DecisionRule,
 }
 
@@ -218,6 +219,7 @@ pub struct PositionComparison {
     /// The rule the verdict was read from: the table's `decision_rule`
     /// where it can be applied, else `summation`.
     #[serde(default)]
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub decided_by: DecisionRule,
 }
 
@@ -315,6 +317,7 @@ pub struct AreaComparison {
     /// The rule the verdict was read from: the table's `decision_rule`
     /// where it can be applied, else `summation`.
     #[serde(default)]
+    #[cfg_attr(feature = "schema", schema(required = true))]
     pub decided_by: DecisionRule,
 }
 

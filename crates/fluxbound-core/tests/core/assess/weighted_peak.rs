@@ -339,3 +339,19 @@ fn an_area_reports_the_highest_index_over_its_cells_never_above_its_summation() 
     assert!((index - 0.72 * share).abs() < 1e-6, "{index}");
     assert_eq!(c.decided_by, DecisionRule::WeightedPeak);
 }
+
+#[test]
+fn the_text_report_shows_the_index_beside_the_summation_and_the_deciding_rule() {
+    // Summation 0.9 and index √(5/12) = 0.645 (issue 11) for T1; the
+    // unstated-angle case names its reason.
+    let a = assess_with(
+        wire_at_one_metre(json!([{"order": 3, "percent": 50, "angle_deg": 180}])),
+        &[icnirp_occupational(), occupational_by_weighted_peak()],
+    );
+    let text = fluxbound_core::report::text::assessment_text(&a);
+    assert!(text.contains("T1 summation 0.900, weighted peak 0.645 → verdict by summation"), "{text}");
+    assert!(text.contains("T2 summation 0.900, weighted peak 0.645 → verdict by weighted_peak"), "{text}");
+    let a = assess_with(wire_at_one_metre(json!([{"order": 3, "percent": 50}])), &[icnirp_occupational()]);
+    let text = fluxbound_core::report::text::assessment_text(&a);
+    assert!(text.contains("weighted peak — (weighted peak index not computed"), "{text}");
+}
