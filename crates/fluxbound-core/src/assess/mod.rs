@@ -304,8 +304,9 @@ pub struct AreaComparison {
     #[serde(default)]
     #[cfg_attr(feature = "schema", schema(required = true))]
     pub max_ratio_bound: Option<f64>,
-    /// Weighted peak index (ICNIRP 2010 eq. 7 and Appendix), the highest over the computed grid cells: the
-    /// peak of the filter-weighted waveform, never above the summation
+    /// Weighted peak index (ICNIRP 2010 eq. 7 and Appendix), the highest
+    /// over the computed grid cells and the point of the summation's
+    /// maximum: the peak of the filter-weighted waveform, never above the summation
     /// ratio. `null` when not computed; `weighted_peak_note` says why.
     #[serde(default)]
     #[cfg_attr(feature = "schema", schema(required = true))]
@@ -684,6 +685,7 @@ fn assess_areas(
             span.clone().map(|i| CellSample { at: plan.points[i], field: sampler.sample(i) }).collect();
         let peak = area_peak(engine, a, &samples, &measures.list, left).map_err(|e| refine_over_budget(k, e))?;
         left = left.saturating_sub(peak.pairs);
+        let worst_phasors = worst_point_phasors(engine, &peak, &measures);
         out.push(assess_area(
             a,
             &samples,
@@ -692,6 +694,7 @@ fn assess_areas(
             site.frequency_hz(),
             &AreaPeakView { peak: &peak, measures: &measures },
             &sampler.lines,
+            &worst_phasors,
         ));
     }
     Ok(out)
@@ -718,6 +721,26 @@ impl AreaMeasures {
         }
         AreaMeasures { list, of_table }
     }
+}
+
+/// Per area table, the field phasors at the point of the summation's
+/// maximum over the area (cells, boundary or refinement; `None` when the
+/// table does not cover the lines or the point lies inside a conductor),
+/// so the area's weighted peak index also counts that point.
+fn worst_point_phasors(
+    engine: &peak::Engine<'_>,
+    peak: &peak::AreaPeak,
+    measures: &AreaMeasures,
+) -> Vec<Option<Vec<field::FieldPhasor>>> {
+    measures
+        .of_table
+        .iter()
+        .map(|m| {
+            let at = peak.max[(*m)?].at?;
+            let set = field::evaluate(engine.filaments, &[at], engine.excitation);
+            set.inside.is_empty().then(|| set.at(0).to_vec())
+        })
+        .collect()
 }
 
 /// An area's refined maximum with the measures it was taken of.
@@ -991,12 +1014,18 @@ fn assess_area(
     f0_hz: f64,
     pv: &AreaPeakView<'_>,
     lines: &[LineInfo],
+    worst_phasors: &[Option<Vec<field::FieldPhasor>>],
 ) -> AreaResult {
     let computed: Vec<&CellSample> = samples.iter().filter(|s| s.field.computed()).collect();
     let comparisons: Vec<AreaComparison> = tables
         .iter()
         .zip(&pv.measures.of_table)
-        .map(|(t, m)| compare_area(t, &computed, rf, f0_hz, m.map(|m| (pv.peak, m)), &Weighting::of(t, lines)))
+        .zip(worst_phasors)
+        .map(|((t, m), worst)| {
+            let weighting = Weighting::of(t, lines);
+            let peak = m.map(|m| (pv.peak, m));
+            compare_area(t, &computed, rf, f0_hz, peak, (&weighting, worst.as_deref()))
+        })
         .collect();
     let resultant = pv.peak.max[0];
     let max_resultant_ut = resultant.at.map(|_| resultant.value);
@@ -1052,7 +1081,7 @@ fn compare_area(
     rf: ReviewFraction,
     f0_hz: f64,
     peak: Option<(&peak::AreaPeak, usize)>,
-    weighting: &Weighting,
+    (weighting, worst_phasors): (&Weighting, Option<&[field::FieldPhasor]>),
 ) -> AreaComparison {
     let n = computed.len();
     // Levels per spectral line, computed once per table.
@@ -1099,7 +1128,10 @@ fn compare_area(
         None => (cell_max, None, cell_max),
     };
     let share = |threshold: f64| ratios.iter().filter(|r| **r >= threshold).count() as f64 / n as f64;
-    let index = highest_index(computed.iter().map(|s| weighting.index(&s.field.phasors)));
+    // Over the cells and at the summation's worst point.
+    let index = highest_index(
+        computed.iter().map(|s| s.field.phasors.as_slice()).chain(worst_phasors).map(|b| weighting.index(b)),
+    );
     let d = weighted_peak::decide(t.decision_rule(), Some(verdict_ratio), index);
     let deciding = match d.decided_by {
         DecisionRule::WeightedPeak => d.deciding.map(|i| area_index_for_verdict(i, cell_max, verdict_ratio)),
@@ -1121,8 +1153,8 @@ fn compare_area(
 }
 
 /// The number an area's verdict is read from under the weighted peak rule.
-/// The index is taken over the grid cells only; between cells it may be
-/// higher. To stay on the safe side it is raised by the factor by which the
+/// The index is taken over the grid cells and the summation's worst point
+/// only; between them it may be higher. To stay on the safe side it is raised by the factor by which the
 /// summation's maximum over the area (proven bound, boundary and
 /// refinement) exceeds the summation's maximum over the cells, and never
 /// put above the summation's own verdict number (the summation is never

@@ -317,10 +317,10 @@ fn two_perpendicular_wires_ninety_degrees_apart_give_a_circular_field_with_index
 }
 
 #[test]
-fn an_area_reports_the_highest_index_over_its_cells_never_above_its_summation() {
+fn an_area_reports_the_highest_index_over_its_cells_and_worst_point_never_above_its_summation() {
     // One wire: every cell sees the same waveform shape, so the index is
-    // √(5/12) / 0.9 = 0.717219 of the summation in every cell (derived);
-    // the area's index (cells) is at most that share of its max_ratio.
+    // √(5/12) / 0.9 = 0.717219 of the summation at every point (derived);
+    // the area's index is at most that share of its max_ratio.
     let doc = wire_site(
         3000.0,
         3000.0,
@@ -334,9 +334,11 @@ fn an_area_reports_the_highest_index_over_its_cells_never_above_its_summation() 
     let share = (5.0f64 / 12.0).sqrt() / 0.9;
     let (index, max_ratio) = (c.weighted_peak_index.unwrap(), c.max_ratio.unwrap());
     assert!(index <= max_ratio * share * (1.0 + 1e-9), "{index} vs {max_ratio}");
-    // The cell nearest the wire is 1.25 m away (centres at y = 1.25 … 2.75):
-    // 0.2 · 3000 / 1.25 = 480 µT + 240 µT → summation 0.72, index 0.72 · share.
-    assert!((index - 0.72 * share).abs() < 1e-6, "{index}");
+    // The summation's worst point is on the edge nearest the wire (y = 1 m):
+    // 600 µT + 300 µT → summation 0.9, index √(5/12) = 0.645497 (issue 11);
+    // the cells alone (centres from y = 1.25 m) would give only 0.72 · share.
+    assert!((max_ratio - 0.9).abs() < 1e-6, "{max_ratio}");
+    assert!((index - (5.0f64 / 12.0).sqrt()).abs() < 1e-6, "{index}");
     assert_eq!(c.decided_by, DecisionRule::WeightedPeak);
 }
 
