@@ -450,9 +450,10 @@ impl Assessment {
 }
 
 /// Notes every assessment carries beside the cautions.
-pub const NOTES: [&str; 3] = [
+pub const NOTES: [&str; 4] = [
     "Compared quantity: resultant RMS flux density (root-sum-square of three RMS components).",
     "Several frequencies are combined as the sum of B_f / B_RL(f) over frequencies (ICNIRP 2010 multi-frequency rule, cited from memory).",
+    "Beside the summation every comparison gives the weighted peak index (ICNIRP 2010 eq. 7 and Appendix: each frequency weighted by 1 / B_RL(f), shifted by the filter phase -90 degrees times the band exponent, peak of the instantaneous vector over one period); it is not computed for a harmonic without a stated angle_deg. decided_by names the rule the verdict was read from: the table's decision_rule where it can be applied, else the summation.",
     "Time-weighted averages are information only (the highest value for the hours of occupancy, at most 8, in an 8-hour day): power-frequency reference levels are ceilings and are not time-averaged.",
 ];
 
