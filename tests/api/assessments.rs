@@ -151,3 +151,50 @@ async fn an_assessment_reads_each_position_against_the_regimes_of_its_tables() {
     );
     assert!(r["words"][0]["text"].as_str().unwrap().starts_with("Above the general-public reference level"), "{r}");
 }
+
+/// One long wire (±10 km along x), 3000 A with a 3rd harmonic of 50 % at
+/// 180°, a point 1 m away: 600 µT at 50 Hz and 300 µT at 150 Hz (OpenStax
+/// University Physics Vol. 2 §12.2, B = 0.2 · I / R µT).
+fn third_harmonic_in_opposition() -> Value {
+    json!({
+        "name": "wpi", "frequency_hz": 50,
+        "circuits": [{"id": "w", "kind": "single_phase", "current_a": 3000,
+                      "harmonics": [{"order": 3, "percent": 50, "angle_deg": 180}]}],
+        "conductors": [{"id": "w-A", "circuit": "w", "phase": "A", "radius_m": 0.01,
+                        "path": [[-10000.0, 0.0, 0.0], [10000.0, 0.0, 0.0]]}],
+        "positions": [{"id": "p", "at": [0.0, 1.0, 0.0]}]
+    })
+}
+
+#[tokio::test]
+async fn an_assessment_reports_the_weighted_peak_index_and_a_table_can_let_it_decide() {
+    let app = spawn_app().await;
+    let key = app.key("org-a", Role::Assessor).await;
+    // Invented flat 1000 µT table (the ICNIRP 2010 occupational value at
+    // 50–150 Hz) whose verdict is read from the weighted peak.
+    let table = json!({
+        "id": "flat-1000-wpm", "title": "Flat 1000 µT, weighted peak", "source": "Invented for tests",
+        "applies_to": {"population": "workers", "body_region": "whole_body"}, "kind": "screening",
+        "bands": [{"from_hz": 1, "to_hz": 3000, "coefficient": 1000, "exponent": 0}],
+        "decision_rule": "weighted_peak"
+    });
+    assert_eq!(app.post("/v1/tables", &key, &table).await.status(), 201);
+    let id = app.site(&key, &third_harmonic_in_opposition()).await;
+    let res = app
+        .post(
+            &format!("/v1/sites/{id}/assessments"),
+            &key,
+            &json!({"tables": ["icnirp-2010-occupational", "flat-1000-wpm"]}),
+        )
+        .await;
+    assert_eq!(res.status(), 201);
+    let a: Value = res.json().await.unwrap();
+    // Issue 11 check value (by hand): summation 0.9, index √(5/12) = 0.645497;
+    // 1e-6 covers the 20 km wire's 5e-9 finite-length error.
+    for (k, rule) in [(0, "summation"), (1, "weighted_peak")] {
+        let c = &a["result"]["positions"][0]["comparisons"][k];
+        assert!((c["ratio"].as_f64().unwrap() - 0.9).abs() < 1e-6, "{c}");
+        assert!((c["weighted_peak_index"].as_f64().unwrap() - (5.0f64 / 12.0).sqrt()).abs() < 1e-6, "{c}");
+        assert_eq!(c["decided_by"], rule);
+    }
+}

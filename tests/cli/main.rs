@@ -1047,3 +1047,50 @@ fn a_site_file_with_a_key_given_twice_exits_1_with_its_pointer() {
     assert_eq!(out.status.code(), Some(1));
     assert!(stdout_of(&out).contains("/frequency_hz: the key 'frequency_hz' is given twice"), "{}", stdout_of(&out));
 }
+
+/// A 50 Hz site with one long wire (±10 km along x) carrying 3000 A and a
+/// 3rd harmonic of 50 % at `angle_deg`, a point 1 m away: 0.2 · 3000 / 1 =
+/// 600 µT at 50 Hz and 300 µT at 150 Hz (OpenStax University Physics
+/// Vol. 2, §12.2, B = 0.2 · I / R µT).
+fn third_harmonic_site(angle_deg: f64) -> String {
+    json!({
+        "frequency_hz": 50,
+        "circuits": [{"id": "w", "kind": "single_phase", "current_a": 3000,
+                      "harmonics": [{"order": 3, "percent": 50, "angle_deg": angle_deg}]}],
+        "conductors": [{"id": "w-A", "circuit": "w", "phase": "A", "radius_m": 0.01,
+                        "path": [[-10000.0, 0.0, 0.0], [10000.0, 0.0, 0.0]]}],
+        "positions": [{"id": "p", "at": [0.0, 1.0, 0.0]}]
+    })
+    .to_string()
+}
+
+#[test]
+fn assess_reports_the_weighted_peak_index_beside_the_summation_and_the_rule_that_decided() {
+    // Issue 11 check values against ICNIRP 2010 occupational: at 0° the
+    // summation and the index are both 0.9; at 180° the summation stays 0.9
+    // and the index is √(5/12) = 0.645497 (by hand). 1e-6: the 20 km wire's
+    // finite-length error at 1 m is 5e-9, the index is refined to 1e-9.
+    for (angle, expected) in [(0.0, 0.9), (180.0, (5.0f64 / 12.0).sqrt())] {
+        let site = temp_file("wpi-site", &third_harmonic_site(angle));
+        let v = assess_json(&[site.to_str().unwrap(), "--tables", "icnirp-2010-occupational"]);
+        let c = &v["positions"][0]["comparisons"][0];
+        assert!((c["ratio"].as_f64().unwrap() - 0.9).abs() < 1e-6, "{c}");
+        assert!((c["weighted_peak_index"].as_f64().unwrap() - expected).abs() < 1e-6, "{c}");
+        assert_eq!(c["decided_by"], "summation");
+    }
+    // A table file that asks for the weighted peak: the verdict follows it.
+    let builtin = example_json("crates/fluxbound-core/src/limits/builtin.json");
+    let mut doc = builtin
+        .as_array()
+        .and_then(|a| a.iter().find(|t| t["id"] == "icnirp-2010-occupational"))
+        .expect("the built-in ICNIRP 2010 occupational table")
+        .clone();
+    doc["id"] = json!("icnirp-wpm");
+    doc["decision_rule"] = json!("weighted_peak");
+    let file = temp_file("wpi-table", &doc.to_string());
+    let site = temp_file("wpi-site", &third_harmonic_site(180.0));
+    let v = assess_json(&[site.to_str().unwrap(), "--table-file", file.to_str().unwrap(), "--tables", "icnirp-wpm"]);
+    let c = &v["positions"][0]["comparisons"][0];
+    assert_eq!(c["decided_by"], "weighted_peak", "{c}");
+    assert_eq!(c["verdict"], "approaching", "index 0.645 is above the review fraction 0.5");
+}

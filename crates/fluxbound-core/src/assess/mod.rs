@@ -14,6 +14,7 @@ mod peak;
 mod regime;
 mod review;
 mod verdict;
+mod weighted_peak;
 
 pub use grid::{DEFAULT_MAX_GRID_CELLS, GridSpec, area_grid, bounding_cells, check_grid_budget, contains};
 pub use load::{CircuitLoadReport, LoadCase, LoadCaseReport, LoadError, PhaseLoadReport};
@@ -22,11 +23,13 @@ pub use peak::CERTAINTY;
 pub use regime::{RegimeResult, read_regimes};
 pub use review::{ReviewFraction, ReviewFractionError};
 pub use verdict::{FrequencyRatio, Ratio, Verdict, exposure_ratio, line_levels, ratio_of};
+pub use weighted_peak::{LineInfo, NotComputed, Term, Weighting, filter_phase_deg, peak_magnitude};
 
 use crate::cautions::cautions;
 use crate::field;
 use crate::limits::{
-    AppliesTo, IMPLANT_TABLE_ID, Population, ReferenceTable, Regime, TableBodyRegion, TableKind, builtin_table,
+    AppliesTo, DecisionRule, IMPLANT_TABLE_ID, Population, ReferenceTable, Regime, TableBodyRegion, TableKind,
+    builtin_table,
 };
 use crate::site::wire::{BodyRegion, Group};
 use crate::site::{Placement, Problems, Site};
@@ -132,6 +135,21 @@ pub struct PointComparison {
     pub ratio: Option<f64>,
     /// Verdict at this point against this table.
     pub verdict: Verdict,
+    /// Weighted peak index (ICNIRP 2010 eq. 7 and Appendix) at this point: the
+    /// peak of the filter-weighted waveform, never above the summation
+    /// ratio. `null` when not computed; `weighted_peak_note` says why.
+    #[serde(default)]
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub weighted_peak_index: Option<f64>,
+    /// Why the weighted peak index is not given (`null` when it is).
+    #[serde(default)]
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub weighted_peak_note: Option<String>,
+    /// The rule the verdict was read from: the table's `decision_rule`
+    /// where it can be applied, else `summation`.
+    #[serde(default)]
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub decided_by: DecisionRule,
 }
 
 /// One evaluated point of a position.
@@ -191,6 +209,21 @@ pub struct PositionComparison {
     pub per_frequency: Vec<FrequencyRatio>,
     /// Frequencies present that the table does not cover, Hz.
     pub uncovered_hz: Vec<f64>,
+    /// Weighted peak index (ICNIRP 2010 eq. 7 and Appendix), the highest over the heights: the
+    /// peak of the filter-weighted waveform, never above the summation
+    /// ratio. `null` when not computed; `weighted_peak_note` says why.
+    #[serde(default)]
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub weighted_peak_index: Option<f64>,
+    /// Why the weighted peak index is not given (`null` when it is).
+    #[serde(default)]
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub weighted_peak_note: Option<String>,
+    /// The rule the verdict was read from: the table's `decision_rule`
+    /// where it can be applied, else `summation`.
+    #[serde(default)]
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub decided_by: DecisionRule,
 }
 
 /// Time-weighted average over an 8-hour day (information only): the
@@ -280,6 +313,22 @@ pub struct AreaComparison {
     #[serde(default)]
     #[cfg_attr(feature = "schema", schema(required = true))]
     pub max_ratio_bound: Option<f64>,
+    /// Weighted peak index (ICNIRP 2010 eq. 7 and Appendix), the highest
+    /// over the computed grid cells and the point of the summation's
+    /// maximum: the peak of the filter-weighted waveform, never above the summation
+    /// ratio. `null` when not computed; `weighted_peak_note` says why.
+    #[serde(default)]
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub weighted_peak_index: Option<f64>,
+    /// Why the weighted peak index is not given (`null` when it is).
+    #[serde(default)]
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub weighted_peak_note: Option<String>,
+    /// The rule the verdict was read from: the table's `decision_rule`
+    /// where it can be applied, else `summation`.
+    #[serde(default)]
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub decided_by: DecisionRule,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -416,9 +465,10 @@ impl Assessment {
 }
 
 /// Notes every assessment carries beside the cautions.
-pub const NOTES: [&str; 3] = [
+pub const NOTES: [&str; 4] = [
     "Compared quantity: resultant RMS flux density (root-sum-square of three RMS components).",
     "Several frequencies are combined as the sum of B_f / B_RL(f) over frequencies (ICNIRP 2010 multi-frequency rule, cited from memory).",
+    "Beside the summation every comparison gives the weighted peak index (ICNIRP 2010 eq. 7 and Appendix: each frequency weighted by 1 / B_RL(f), shifted by the filter phase -90 degrees times the band exponent, peak of the instantaneous vector over one period); it is not computed for a harmonic without a stated angle_deg. decided_by names the rule the verdict was read from: the table's decision_rule where it can be applied, else the summation.",
     "Time-weighted averages are information only (the highest value for the hours of occupancy, at most 8, in an 8-hour day): power-frequency reference levels are ceilings and are not time-averaged.",
 ];
 
@@ -428,6 +478,8 @@ struct Sample {
     maximum_ut: f64,
     /// `(frequency_hz, resultant_ut)` per spectral line.
     spectrum: Vec<(f64, f64)>,
+    /// RMS field phasor per spectral line, µT (for the weighted peak index).
+    phasors: Vec<field::FieldPhasor>,
     /// Conductors the point lies inside (no thin-wire field there).
     inside: Vec<String>,
 }
@@ -490,6 +542,8 @@ struct Sampler<'a> {
     site: &'a Site,
     set: field::FieldSet,
     line_hz: Vec<f64>,
+    /// Order, frequency and whether the phase is stated, per line.
+    lines: Vec<LineInfo>,
 }
 
 impl Sampler<'_> {
@@ -499,6 +553,7 @@ impl Sampler<'_> {
             resultant_ut: field::total_resultant_ut(phasors),
             maximum_ut: field::total_maximum_ut(phasors),
             spectrum: self.line_hz.iter().zip(phasors).map(|(f, b)| (*f, field::resultant_ut(b))).collect(),
+            phasors: phasors.to_vec(),
             inside: self.set.inside_of(i).map(|k| self.site.conductors()[k].id.clone()).collect(),
         }
     }
@@ -521,6 +576,7 @@ pub fn assess(
         site,
         set: field::evaluate(&filaments, &plan.points, &excitation),
         line_hz: excitation.lines.iter().map(|l| l.frequency_hz).collect(),
+        lines: line_infos(site, &excitation),
     };
     let bounds = field::bound::SegmentBounds::new(&filaments, &excitation);
     let engine = peak::Engine { filaments: &filaments, excitation: &excitation, bounds: &bounds };
@@ -575,6 +631,18 @@ impl Assessment {
         fill_regimes(&regimes, &assessed, &mut self.positions, &mut self.areas);
         self
     }
+}
+
+/// What the weighted peak index needs to know of each spectral line: a
+/// harmonic some circuit carries without a stated `angle_deg` has no known
+/// phase.
+fn line_infos(site: &Site, excitation: &field::Excitation) -> Vec<LineInfo> {
+    let unknown = site.orders_without_angle();
+    excitation
+        .lines
+        .iter()
+        .map(|l| LineInfo { order: l.order, frequency_hz: l.frequency_hz, phase_known: !unknown.contains(&l.order) })
+        .collect()
 }
 
 /// Every reason the assessment cannot run, or the resolved circuit loads.
@@ -641,7 +709,7 @@ fn assess_positions(
                 .collect();
             let applicable: Vec<&ReferenceTable> =
                 tables.iter().filter(|t| applies(t, q.body_region, q.group)).collect();
-            assess_position(q, &samples, &applicable, rf, site.frequency_hz())
+            assess_position(q, &samples, &applicable, rf, site.frequency_hz(), &sampler.lines)
         })
         .collect()
 }
@@ -665,6 +733,7 @@ fn assess_areas(
             span.clone().map(|i| CellSample { at: plan.points[i], field: sampler.sample(i) }).collect();
         let peak = area_peak(engine, a, &samples, &measures.list, left).map_err(|e| refine_over_budget(k, e))?;
         left = left.saturating_sub(peak.pairs);
+        let worst_phasors = worst_point_phasors(engine, &peak, &measures);
         out.push(assess_area(
             a,
             &samples,
@@ -672,6 +741,8 @@ fn assess_areas(
             rf,
             site.frequency_hz(),
             &AreaPeakView { peak: &peak, measures: &measures },
+            &sampler.lines,
+            &worst_phasors,
         ));
     }
     Ok(out)
@@ -698,6 +769,26 @@ impl AreaMeasures {
         }
         AreaMeasures { list, of_table }
     }
+}
+
+/// Per area table, the field phasors at the point of the summation's
+/// maximum over the area (cells, boundary or refinement; `None` when the
+/// table does not cover the lines or the point lies inside a conductor),
+/// so the area's weighted peak index also counts that point.
+fn worst_point_phasors(
+    engine: &peak::Engine<'_>,
+    peak: &peak::AreaPeak,
+    measures: &AreaMeasures,
+) -> Vec<Option<Vec<field::FieldPhasor>>> {
+    measures
+        .of_table
+        .iter()
+        .map(|m| {
+            let at = peak.max[(*m)?].at?;
+            let set = field::evaluate(engine.filaments, &[at], engine.excitation);
+            set.inside.is_empty().then(|| set.at(0).to_vec())
+        })
+        .collect()
 }
 
 /// An area's refined maximum with the measures it was taken of.
@@ -776,13 +867,16 @@ fn assess_position(
     tables: &[&ReferenceTable],
     rf: ReviewFraction,
     f0_hz: f64,
+    lines: &[LineInfo],
 ) -> PositionResult {
     let computed: Vec<&HeightSample> = samples.iter().filter(|s| s.field.computed()).collect();
     let max = computed.iter().max_by(|a, b| a.field.resultant_ut.total_cmp(&b.field.resultant_ut));
     let mean = mean_of(computed.iter().map(|s| s.field.resultant_ut));
     let mean_spectrum = mean_spectrum(&computed);
-    let comparisons: Vec<PositionComparison> =
-        tables.iter().map(|t| compare_position(t, &computed, &mean_spectrum, rf, f0_hz)).collect();
+    let comparisons: Vec<PositionComparison> = tables
+        .iter()
+        .map(|t| compare_position(t, &computed, &mean_spectrum, rf, f0_hz, &Weighting::of(t, lines)))
+        .collect();
     let verdict = if tables.is_empty() {
         Verdict::NotCovered
     } else {
@@ -793,7 +887,7 @@ fn assess_position(
         id: q.id.clone(),
         body_region: q.body_region,
         group: q.group,
-        heights: samples.iter().map(|s| height_result(s, tables, rf)).collect(),
+        heights: samples.iter().map(|s| height_result(s, tables, rf, lines)).collect(),
         max_resultant_ut,
         max_height_m: max.and_then(|s| s.height_m),
         mean_resultant_ut: mean,
@@ -822,7 +916,7 @@ fn mean_spectrum(computed: &[&HeightSample]) -> Vec<(f64, f64)> {
 }
 
 /// One height's field and its verdict against each table.
-fn height_result(s: &HeightSample, tables: &[&ReferenceTable], rf: ReviewFraction) -> HeightResult {
+fn height_result(s: &HeightSample, tables: &[&ReferenceTable], rf: ReviewFraction, lines: &[LineInfo]) -> HeightResult {
     let ok = s.field.computed();
     HeightResult {
         height_m: s.height_m,
@@ -835,17 +929,51 @@ fn height_result(s: &HeightSample, tables: &[&ReferenceTable], rf: ReviewFractio
             Vec::new()
         },
         inside_conductors: s.field.inside.clone(),
-        comparisons: tables
-            .iter()
-            .map(|t| {
-                if !ok {
-                    return PointComparison { table_id: t.id().into(), ratio: None, verdict: Verdict::NotComputed };
-                }
-                let r = ratio_of(&s.field.spectrum, t);
-                PointComparison { table_id: t.id().into(), ratio: r.ratio, verdict: r.verdict(rf) }
-            })
-            .collect(),
+        comparisons: tables.iter().map(|t| compare_point(t, &s.field, rf, &Weighting::of(t, lines))).collect(),
     }
+}
+
+/// One point against one table: both numbers, the verdict of the one the
+/// table's rule picks.
+fn compare_point(t: &ReferenceTable, field: &Sample, rf: ReviewFraction, weighting: &Weighting) -> PointComparison {
+    if !field.computed() {
+        return PointComparison {
+            table_id: t.id().into(),
+            ratio: None,
+            verdict: Verdict::NotComputed,
+            weighted_peak_index: None,
+            weighted_peak_note: Some(NotComputed::NoField.note()),
+            decided_by: DecisionRule::Summation,
+        };
+    }
+    let r = ratio_of(&field.spectrum, t);
+    let d = weighted_peak::decide(t.decision_rule(), r.ratio, weighting.index(&field.phasors));
+    PointComparison {
+        table_id: t.id().into(),
+        ratio: r.ratio,
+        verdict: verdict_of(d.deciding, rf),
+        weighted_peak_index: d.index,
+        weighted_peak_note: d.note,
+        decided_by: d.decided_by,
+    }
+}
+
+/// The verdict of a deciding number (`None`: not covered).
+fn verdict_of(deciding: Option<f64>, rf: ReviewFraction) -> Verdict {
+    match deciding {
+        Some(r) => Verdict::of_ratio(r, rf),
+        None => Verdict::NotCovered,
+    }
+}
+
+/// The highest index over several points, or the first reason one is
+/// missing (a position's index needs every height).
+fn highest_index(indices: impl Iterator<Item = Result<f64, NotComputed>>) -> Result<f64, NotComputed> {
+    let mut best = 0.0f64;
+    for i in indices {
+        best = best.max(i?);
+    }
+    Ok(best)
 }
 
 /// A position against one table: the verdict of its worst computed height.
@@ -855,6 +983,7 @@ fn compare_position(
     mean_spectrum: &[(f64, f64)],
     rf: ReviewFraction,
     f0_hz: f64,
+    weighting: &Weighting,
 ) -> PositionComparison {
     let level_ut = level_at_fundamental(t, f0_hz);
     let ratios: Vec<(Option<f64>, Ratio)> =
@@ -872,17 +1001,27 @@ fn compare_position(
             level_ut,
             per_frequency: Vec::new(),
             uncovered_hz: Vec::new(),
+            weighted_peak_index: None,
+            weighted_peak_note: Some(NotComputed::NoField.note()),
+            decided_by: DecisionRule::Summation,
         };
     };
+    // The worst height under the weighted peak rule may be another height:
+    // the index is the highest over all heights.
+    let index = highest_index(computed.iter().map(|s| weighting.index(&s.field.phasors)));
+    let d = weighted_peak::decide(t.decision_rule(), worst.ratio, index);
     PositionComparison {
         table_id: t.id().into(),
         ratio: worst.ratio,
-        verdict: worst.verdict(rf),
+        verdict: verdict_of(d.deciding, rf),
         worst_height_m: *worst_height_m,
         ratio_of_height_mean: ratio_of(mean_spectrum, t).ratio,
         level_ut,
         per_frequency: worst.per_frequency.clone(),
         uncovered_hz: worst.uncovered_hz.clone(),
+        weighted_peak_index: d.index,
+        weighted_peak_note: d.note,
+        decided_by: d.decided_by,
     }
 }
 
@@ -923,12 +1062,19 @@ fn assess_area(
     rf: ReviewFraction,
     f0_hz: f64,
     pv: &AreaPeakView<'_>,
+    lines: &[LineInfo],
+    worst_phasors: &[Option<Vec<field::FieldPhasor>>],
 ) -> AreaResult {
     let computed: Vec<&CellSample> = samples.iter().filter(|s| s.field.computed()).collect();
     let comparisons: Vec<AreaComparison> = tables
         .iter()
         .zip(&pv.measures.of_table)
-        .map(|(t, m)| compare_area(t, &computed, rf, f0_hz, m.map(|m| (pv.peak, m))))
+        .zip(worst_phasors)
+        .map(|((t, m), worst)| {
+            let weighting = Weighting::of(t, lines);
+            let peak = m.map(|m| (pv.peak, m));
+            compare_area(t, &computed, rf, f0_hz, peak, (&weighting, worst.as_deref()))
+        })
         .collect();
     let resultant = pv.peak.max[0];
     let max_resultant_ut = resultant.at.map(|_| resultant.value);
@@ -985,6 +1131,7 @@ fn compare_area(
     rf: ReviewFraction,
     f0_hz: f64,
     peak: Option<(&peak::AreaPeak, usize)>,
+    (weighting, worst_phasors): (&Weighting, Option<&[field::FieldPhasor]>),
 ) -> AreaComparison {
     let n = computed.len();
     // Levels per spectral line, computed once per table.
@@ -1016,6 +1163,9 @@ fn compare_area(
             share_at_or_above_review: None,
             uncovered_hz: uncovered,
             max_ratio_bound: None,
+            weighted_peak_index: None,
+            weighted_peak_note: Some(if n == 0 { NotComputed::NoField } else { NotComputed::NotCovered }.note()),
+            decided_by: DecisionRule::Summation,
         };
     }
     let cell_max = ratios.iter().cloned().fold(0.0, f64::max);
@@ -1028,16 +1178,42 @@ fn compare_area(
         None => (cell_max, None, cell_max),
     };
     let share = |threshold: f64| ratios.iter().filter(|r| **r >= threshold).count() as f64 / n as f64;
+    // Over the cells and at the summation's worst point.
+    let index = highest_index(
+        computed.iter().map(|s| s.field.phasors.as_slice()).chain(worst_phasors).map(|b| weighting.index(b)),
+    );
+    let d = weighted_peak::decide(t.decision_rule(), Some(verdict_ratio), index);
+    let deciding = match d.decided_by {
+        DecisionRule::WeightedPeak => d.deciding.map(|i| area_index_for_verdict(i, cell_max, verdict_ratio)),
+        DecisionRule::Summation => Some(verdict_ratio),
+    };
     AreaComparison {
         table_id: t.id().into(),
         max_ratio: Some(max_ratio),
-        verdict: Verdict::of_ratio(verdict_ratio, rf),
+        verdict: verdict_of(deciding, rf),
         level_ut,
         share_at_or_above_level: Some(share(1.0)),
         share_at_or_above_review: Some(share(rf.get())),
         uncovered_hz: Vec::new(),
         max_ratio_bound,
+        weighted_peak_index: d.index,
+        weighted_peak_note: d.note,
+        decided_by: d.decided_by,
     }
+}
+
+/// The number an area's verdict is read from under the weighted peak rule.
+/// The index is taken over the grid cells and the summation's worst point
+/// only; between them it may be higher. To stay on the safe side it is raised by the factor by which the
+/// summation's maximum over the area (proven bound, boundary and
+/// refinement) exceeds the summation's maximum over the cells, and never
+/// put above the summation's own verdict number (the summation is never
+/// below the index). This margin is a judgement, not a proof.
+fn area_index_for_verdict(cells_index: f64, cells_summation: f64, summation_verdict: f64) -> f64 {
+    if cells_summation <= 0.0 {
+        return summation_verdict;
+    }
+    (cells_index * (summation_verdict / cells_summation).max(1.0)).min(summation_verdict)
 }
 
 fn summarise(positions: &[PositionResult], areas: &[AreaResult]) -> Summary {

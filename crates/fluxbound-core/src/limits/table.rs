@@ -51,6 +51,31 @@ pub enum Quantity {
     BRms,
 }
 
+/// Which rule decides a table's verdict for a point. Both numbers are
+/// always reported; this names the one the verdict is read from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
+#[serde(rename_all = "snake_case")]
+pub enum DecisionRule {
+    /// `Σ_f B_f / B_RL(f)` (ICNIRP 2010 eq. 4/5): every line assumed to
+    /// peak at the same instant; never below the weighted peak index.
+    #[default]
+    Summation,
+    /// The weighted peak index (ICNIRP 2010 eq. 7 and Appendix), where it
+    /// can be computed; the summation decides where it cannot (a harmonic
+    /// without a stated angle).
+    WeightedPeak,
+}
+
+impl DecisionRule {
+    pub fn word(self) -> &'static str {
+        match self {
+            DecisionRule::Summation => "summation",
+            DecisionRule::WeightedPeak => "weighted_peak",
+        }
+    }
+}
+
 /// One band: `B_RL(f) = coefficient · f^exponent` µT RMS for
 /// `from_hz ≤ f < to_hz` (the last band of a run also includes `to_hz`).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
@@ -123,6 +148,14 @@ pub struct TableDoc {
     #[serde(default, skip_serializing)]
     #[cfg_attr(feature = "schema", schema(minimum = 1))]
     pub version: Option<u32>,
+    /// Which rule decides this table's verdicts (default `summation`);
+    /// both the summation ratio and the weighted peak index are reported.
+    #[serde(default, skip_serializing_if = "is_summation")]
+    pub decision_rule: DecisionRule,
+}
+
+fn is_summation(r: &DecisionRule) -> bool {
+    *r == DecisionRule::Summation
 }
 
 /// A checked table: bands sorted, non-overlapping, contiguous except at
@@ -163,6 +196,9 @@ impl ReferenceTable {
     }
     pub fn bands(&self) -> &[Band] {
         &self.doc.bands
+    }
+    pub fn decision_rule(&self) -> DecisionRule {
+        self.doc.decision_rule
     }
 
     /// The level in µT RMS at `frequency_hz`. A frequency on the edge shared

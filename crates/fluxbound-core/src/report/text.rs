@@ -143,6 +143,29 @@ fn ratio_terms(s: &mut String, a: &Assessment, p: &PositionResult) {
     }
 }
 
+/// The two numbers of a comparison side by side and the rule that decided:
+/// "T1 summation 0.900, weighted peak 0.645 → verdict by summation", or
+/// why the weighted peak index is missing.
+fn rule_line(
+    s: &mut String,
+    column: &str,
+    (summation, index): (Option<f64>, Option<f64>),
+    note: Option<&str>,
+    decided_by: crate::limits::DecisionRule,
+) {
+    let wpi = match (index, note) {
+        (Some(_), _) => num(index, 3),
+        (None, Some(n)) => format!("— ({n})"),
+        (None, None) => "—".to_string(),
+    };
+    let _ = writeln!(
+        s,
+        "    {column} summation {}, weighted peak {wpi} → verdict by {}",
+        num(summation, 3),
+        decided_by.word()
+    );
+}
+
 /// "T2 does not cover 150 Hz, 250 Hz" when a table leaves frequencies out.
 fn uncovered_line(s: &mut String, column: &str, uncovered_hz: &[f64]) {
     if !uncovered_hz.is_empty() {
@@ -187,6 +210,15 @@ fn position_block(s: &mut String, a: &Assessment, p: &PositionResult) {
         let _ = writeln!(s, "{}", row.trim_end());
     }
     ratio_terms(s, a, p);
+    for c in &p.comparisons {
+        rule_line(
+            s,
+            &table_column(a, &c.table_id),
+            (c.ratio, c.weighted_peak_index),
+            c.weighted_peak_note.as_deref(),
+            c.decided_by,
+        );
+    }
     time_weighted_line(s, p.time_weighted.as_ref());
     for n in &p.notes {
         let _ = writeln!(s, "    note: {n}");
@@ -267,6 +299,15 @@ fn area_block(s: &mut String, a: &Assessment, ar: &AreaResult) {
             pct(c.share_at_or_above_level),
             pct(c.share_at_or_above_review),
             verdict_word(c.verdict)
+        );
+    }
+    for c in &ar.comparisons {
+        rule_line(
+            s,
+            &table_column(a, &c.table_id),
+            (c.max_ratio, c.weighted_peak_index),
+            c.weighted_peak_note.as_deref(),
+            c.decided_by,
         );
     }
     time_weighted_line(s, ar.time_weighted.as_ref());

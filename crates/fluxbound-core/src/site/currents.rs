@@ -119,6 +119,20 @@ impl Site {
         orders_of(self.circuits())
     }
 
+    /// Harmonic orders (2 and up) of which some circuit carries current but
+    /// did not state `angle_deg`: their phase is unknown, so the weighted
+    /// peak index cannot be formed with them. Ascending.
+    pub fn orders_without_angle(&self) -> Vec<u32> {
+        let mut orders: Vec<u32> = self
+            .circuits()
+            .iter()
+            .flat_map(|c| c.harmonics.iter().filter(|h| !h.angle_given && h.percent > 0.0).map(|h| h.order))
+            .collect();
+        orders.sort_unstable();
+        orders.dedup();
+        orders
+    }
+
     /// Conductor currents at the present load with each circuit's current
     /// multiplied by `scales[c]` (missing entries mean 1). Explicit conductor
     /// currents are fundamental-only and are never scaled.

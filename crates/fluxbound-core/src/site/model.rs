@@ -112,7 +112,11 @@ pub struct PhaseOverride {
 pub struct Harmonic {
     pub order: u32,
     pub percent: f64,
+    /// Angle of phase A's harmonic, degrees (0 when not given).
     pub angle_deg: f64,
+    /// Whether the site document stated `angle_deg`: without it the phase
+    /// is unknown and the weighted peak index is not computed.
+    pub angle_given: bool,
 }
 
 /// Where a conductor's current comes from.

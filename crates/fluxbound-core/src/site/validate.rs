@@ -198,10 +198,20 @@ fn check_circuit(c: &CircuitDoc, at: &Pointer, p: &mut Problems) -> Circuit {
             p.push(&at_h.key("order"), format!("harmonic order {} is listed twice", h.order));
         }
         check_range(h.percent, (0.0, 100.0), "percent of the fundamental", &at_h.key("percent"), p);
-        check_angle(h.angle_deg, &at_h.key("angle_deg"), p);
+        if let Some(a) = h.angle_deg {
+            check_angle(a, &at_h.key("angle_deg"), p);
+        }
     }
-    let mut harmonics: Vec<Harmonic> =
-        c.harmonics.iter().map(|h| Harmonic { order: h.order, percent: h.percent, angle_deg: h.angle_deg }).collect();
+    let mut harmonics: Vec<Harmonic> = c
+        .harmonics
+        .iter()
+        .map(|h| Harmonic {
+            order: h.order,
+            percent: h.percent,
+            angle_deg: h.angle_deg.unwrap_or(0.0),
+            angle_given: h.angle_deg.is_some(),
+        })
+        .collect();
     harmonics.sort_by_key(|h| h.order);
     Circuit {
         id: c.id.clone(),

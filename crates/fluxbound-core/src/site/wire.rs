@@ -145,10 +145,13 @@ pub struct HarmonicDoc {
     #[cfg_attr(feature = "schema", schema(minimum = 0, maximum = 100))]
     pub percent: f64,
     /// Angle of phase A's harmonic, degrees, measured on the harmonic's own
-    /// time scale; phase p's angle is `angle_deg + order · φ_p`.
-    #[serde(default)]
+    /// time scale; phase p's angle is `angle_deg + order · φ_p`. Absent:
+    /// 0° for the field and its summation ratio, but the phase counts as
+    /// unknown, so no weighted peak index is computed with this harmonic
+    /// (ICNIRP 2010 asks for the real phases; none is assumed silently).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
     #[cfg_attr(feature = "schema", schema(minimum = -360, maximum = 360))]
-    pub angle_deg: f64,
+    pub angle_deg: Option<f64>,
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]

@@ -6,6 +6,7 @@
 mod boundary;
 mod regime;
 mod usecase;
+mod weighted_peak;
 
 use fluxbound_core::assess::{self, Assessment, LoadCase, Options, ReviewFraction, Verdict};
 use fluxbound_core::limits::{ReferenceTable, builtin_table};
