@@ -62,7 +62,7 @@ pub struct RegimeDoc {
     pub tiers: Vec<Tier>,
 }
 
-/// A checked regime. Only [`validate_regime`] makes one.
+/// A checked regime. Only [`validate_regime_at`] makes one.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Regime {
     #[serde(flatten)]
