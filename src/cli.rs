@@ -518,12 +518,8 @@ fn read_regime_files(paths: &[PathBuf]) -> Result<Vec<limits::Regime>, CliError>
         let r = limits::parse_regime(&read_input(f)?).map_err(|problems| {
             CliError::Problems(problems.iter().map(|p| format!("--regime-file {}: {p}", f.display())).collect())
         })?;
-        let taken = limits::builtin_regimes().iter().chain(&regimes).any(|other| other.id() == r.id());
-        if taken {
-            let detail = format!("{}: regime id '{}' is already used", f.display(), r.id());
-            return Err(CliError::flag("--regime-file", detail));
-        }
-        regimes.push(r);
+        limits::add_custom_regime(&mut regimes, r)
+            .map_err(|detail| CliError::flag("--regime-file", format!("{}: {detail}", f.display())))?;
     }
     Ok(regimes)
 }

@@ -27,6 +27,10 @@ pub struct AssessmentRequest {
     /// Assessment options.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub options: Option<AssessmentOptions>,
+    /// Custom regimes (ordered tiers of tables with their sentences) to
+    /// read the result against, beside the built-in ones.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub regimes: Vec<fluxbound_core::limits::RegimeDoc>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize, utoipa::ToSchema)]
@@ -76,6 +80,11 @@ impl Service {
         request: AssessmentRequest,
     ) -> Result<AssessmentView> {
         caller.require(Role::Assessor)?;
+        let regimes = fluxbound_core::limits::validate_custom_regimes(
+            &request.regimes,
+            &fluxbound_core::site::Pointer::root().key("regimes"),
+        )
+        .map_err(ServiceError::Validation)?;
         let (rev, doc, site) = self.site_doc_at_revision(caller, site_id, request.revision).await?;
         let budget = self.limits().budget();
         usecase::check_assessment_budget(&site, &budget)?;
@@ -87,6 +96,7 @@ impl Service {
         let result =
             self.compute(move || usecase::assess_site(&site, &load, &tables, review_fraction, &budget)).await??;
         let result = result.with_provenance(super::provenance_now(&doc, Some(rev.revision), None));
+        let result = if regimes.is_empty() { result } else { result.with_regimes(&regimes) };
         let points: u64 = result.positions.iter().map(|p| p.heights.len() as u64).sum::<u64>()
             + result.areas.iter().map(|a| a.cells as u64).sum::<u64>();
         self.count_pairs(pairs * points);

@@ -198,3 +198,51 @@ async fn an_assessment_reports_the_weighted_peak_index_and_a_table_can_let_it_de
         assert_eq!(c["decided_by"], rule);
     }
 }
+
+/// An invented two-tier regime over two built-in ICNIRP 2010 tables.
+fn site_regime(id: &str) -> Value {
+    json!({
+        "id": id, "title": "Works rule (invented)", "source": "Invented for tests",
+        "tiers": [
+            {"name": "general", "tables": ["icnirp-2010-public"],
+             "met": {"text": "Open to everyone.", "source": "invented"},
+             "exceeded": {"text": "Keep visitors out.", "source": "invented"}},
+            {"name": "trained staff", "tables": ["icnirp-2010-occupational"],
+             "met": {"text": "Trained staff only.", "source": "invented"},
+             "exceeded": {"text": "Nobody may stay here.", "source": "invented"}}
+        ]
+    })
+}
+
+#[tokio::test]
+async fn an_assessment_request_may_carry_custom_regimes_and_a_bad_one_is_422_with_its_pointer() {
+    // small_site at rated load: 0.2 · 1000 A / 0.5 m = 400 µT at 50 Hz
+    // (OpenStax University Physics Vol. 2 §12.2): above ICNIRP 2010 public
+    // (200 µT, Table 4) and within occupational (1000 µT, Table 3).
+    let app = spawn_app().await;
+    let key = app.key("org-a", Role::Assessor).await;
+    let id = app.site(&key, &small_site("custom-regime")).await;
+    let tables = json!(["icnirp-2010-public", "icnirp-2010-occupational"]);
+    let body = json!({"tables": tables, "load": {"kind": "rated"}, "regimes": [site_regime("works-rule")]});
+    let res = app.post(&format!("/v1/sites/{id}/assessments"), &key, &body).await;
+    assert_eq!(res.status(), 201);
+    let created: Value = res.json().await.unwrap();
+    let regimes = created["result"]["positions"][0]["regimes"].as_array().unwrap().clone();
+    let custom = regimes.iter().find(|r| r["regime"] == "works-rule").expect("the custom regime is read");
+    assert_eq!(
+        (custom["highest_exceeded"].as_str(), custom["first_met"].as_str()),
+        (Some("general"), Some("trained staff"))
+    );
+
+    let reused = json!({"tables": tables, "regimes": [site_regime("icnirp-2010")]});
+    let res = app.post(&format!("/v1/sites/{id}/assessments"), &key, &reused).await;
+    assert_problem(res, 422, "validation", Some("/regimes/0/id")).await;
+    let mut bad = site_regime("works-rule");
+    bad["tiers"] = json!([]);
+    let res = app.post(&format!("/v1/sites/{id}/assessments"), &key, &json!({"regimes": [bad]})).await;
+    let body = assert_problem(res, 422, "validation", None).await;
+    assert!(
+        body["errors"].as_array().unwrap().iter().any(|e| e["pointer"].as_str().unwrap().starts_with("/regimes/0")),
+        "{body}"
+    );
+}

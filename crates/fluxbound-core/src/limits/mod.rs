@@ -12,7 +12,8 @@ mod table;
 pub use builtin::{DEFAULT_TABLE_IDS, IMPLANT_TABLE_ID, builtin_table, builtin_tables};
 pub use coverage::{COVERAGE_SPAN_HZ, CoverageHole, coverage_holes};
 pub use regime::{
-    MAX_TIER_TABLES, MAX_TIERS, Regime, RegimeDoc, Sentence, Tier, builtin_regimes, parse_regime, validate_regime_at,
+    MAX_TIER_TABLES, MAX_TIERS, Regime, RegimeDoc, Sentence, Tier, add_custom_regime, builtin_regimes, parse_regime,
+    validate_custom_regimes, validate_regime_at,
 };
 pub use table::*;
 

@@ -99,6 +99,36 @@ pub fn parse_regime(text: &str) -> Result<Regime, Problems> {
     validate_regime_at(parse_json(text)?, &Pointer::root())
 }
 
+/// Adds `regime` to `custom` unless its id is already used by a built-in
+/// regime or an earlier custom one; the one rule for custom regimes, used
+/// by the command line (`--regime-file`) and the HTTP request (`regimes`).
+pub fn add_custom_regime(custom: &mut Vec<Regime>, regime: Regime) -> Result<(), String> {
+    let taken = builtin_regimes().iter().chain(custom.iter()).any(|other| other.id() == regime.id());
+    if taken {
+        return Err(format!("regime id '{}' is already used", regime.id()));
+    }
+    custom.push(regime);
+    Ok(())
+}
+
+/// Custom regimes given inline (JSON pointers `/…/i` under `at`), checked:
+/// every problem of every regime, and no reused id.
+pub fn validate_custom_regimes(docs: &[RegimeDoc], at: &Pointer) -> Result<Vec<Regime>, Problems> {
+    let mut problems = Problems::default();
+    let mut custom = Vec::new();
+    for (i, doc) in docs.iter().enumerate() {
+        match validate_regime_at(doc.clone(), &at.index(i)) {
+            Ok(r) => {
+                if let Err(detail) = add_custom_regime(&mut custom, r) {
+                    problems.push(&at.index(i).key("id"), detail);
+                }
+            }
+            Err(p) => problems.0.extend(p.0),
+        }
+    }
+    if problems.is_empty() { Ok(custom) } else { Err(problems) }
+}
+
 /// Checks a regime, reporting every problem with its pointer under `at`.
 pub fn validate_regime_at(doc: RegimeDoc, at: &Pointer) -> Result<Regime, Problems> {
     let mut p = Problems::default();
