@@ -16,8 +16,8 @@
 //!
 //! Sources (listed in docs/REFERENCES.md):
 //! - J. J. Moré, "The Levenberg–Marquardt algorithm: implementation and
-//!   theory", in G. A. Watson (ed.), *Numerical Analysis*, Lecture Notes in
-//!   Mathematics 630, Springer, 1978, pp. 105–116 (the damped step and the
+//!   theory", in G. A. Watson (ed.), *Numerical Analysis*, Springer LNM
+//!   vol. 630, 1978, pp. 105–116 (the damped step and the
 //!   column scaling; Moré accepts steps by a trust-region ratio test, this
 //!   solver by a simple decrease of the cost).
 //! - J. Nocedal and S. J. Wright, *Numerical Optimization*, 2nd ed.,
