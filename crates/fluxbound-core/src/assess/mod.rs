@@ -135,21 +135,10 @@ pub struct PointComparison {
     pub ratio: Option<f64>,
     /// Verdict at this point against this table.
     pub verdict: Verdict,
-    /// Weighted peak index (ICNIRP 2010 eq. 7 and Appendix) at this point: the
-    /// peak of the filter-weighted waveform, never above the summation
-    /// ratio. `null` when not computed; `weighted_peak_note` says why.
-    #[serde(default)]
-    #[cfg_attr(feature = "schema", schema(required = true))]
-    pub weighted_peak_index: Option<f64>,
-    /// Why the weighted peak index is not given (`null` when it is).
-    #[serde(default)]
-    #[cfg_attr(feature = "schema", schema(required = true))]
-    pub weighted_peak_note: Option<String>,
-    /// The rule the verdict was read from: the table's `decision_rule`
-    /// where it can be applied, else `summation`.
-    #[serde(default)]
-    #[cfg_attr(feature = "schema", schema(required = true))]
-    pub decided_by: DecisionRule,
+    /// The weighted peak index at this point and the rule that decided
+    /// (flattened: the three fields sit beside `ratio` in the JSON).
+    #[serde(flatten)]
+    pub weighted_peak: WeightedPeak,
 }
 
 /// One evaluated point of a position.
@@ -209,9 +198,23 @@ pub struct PositionComparison {
     pub per_frequency: Vec<FrequencyRatio>,
     /// Frequencies present that the table does not cover, Hz.
     pub uncovered_hz: Vec<f64>,
-    /// Weighted peak index (ICNIRP 2010 eq. 7 and Appendix), the highest over the heights: the
-    /// peak of the filter-weighted waveform, never above the summation
-    /// ratio. `null` when not computed; `weighted_peak_note` says why.
+    /// The weighted peak index beside the summation, and the rule the
+    /// verdict was read from (flattened: the three fields sit beside
+    /// `ratio` in the JSON).
+    #[serde(flatten)]
+    pub weighted_peak: WeightedPeak,
+}
+
+/// The weighted peak index of one comparison and the rule that decided
+/// its verdict; the same three fields for a point, a position and an area.
+#[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
+pub struct WeightedPeak {
+    /// Weighted peak index (ICNIRP 2010 eq. 7 and Appendix): the peak of
+    /// the filter-weighted waveform, never above the summation ratio; for a
+    /// position the highest over its heights, for an area the highest over
+    /// its computed cells and the point of the summation's maximum. `null`
+    /// when not computed; `weighted_peak_note` says why.
     #[serde(default)]
     #[cfg_attr(feature = "schema", schema(required = true))]
     pub weighted_peak_index: Option<f64>,
@@ -224,6 +227,24 @@ pub struct PositionComparison {
     #[serde(default)]
     #[cfg_attr(feature = "schema", schema(required = true))]
     pub decided_by: DecisionRule,
+}
+
+impl WeightedPeak {
+    /// No field at the point (inside a conductor): nothing to weigh, and
+    /// the summation (which is not computed either) is named.
+    fn no_field() -> WeightedPeak {
+        WeightedPeak {
+            weighted_peak_index: None,
+            weighted_peak_note: Some(NotComputed::NoField.note()),
+            decided_by: DecisionRule::Summation,
+        }
+    }
+}
+
+impl From<weighted_peak::Decision> for WeightedPeak {
+    fn from(d: weighted_peak::Decision) -> WeightedPeak {
+        WeightedPeak { weighted_peak_index: d.index, weighted_peak_note: d.note, decided_by: d.decided_by }
+    }
 }
 
 /// Time-weighted average over an 8-hour day (information only): the
@@ -313,22 +334,11 @@ pub struct AreaComparison {
     #[serde(default)]
     #[cfg_attr(feature = "schema", schema(required = true))]
     pub max_ratio_bound: Option<f64>,
-    /// Weighted peak index (ICNIRP 2010 eq. 7 and Appendix), the highest
-    /// over the computed grid cells and the point of the summation's
-    /// maximum: the peak of the filter-weighted waveform, never above the summation
-    /// ratio. `null` when not computed; `weighted_peak_note` says why.
-    #[serde(default)]
-    #[cfg_attr(feature = "schema", schema(required = true))]
-    pub weighted_peak_index: Option<f64>,
-    /// Why the weighted peak index is not given (`null` when it is).
-    #[serde(default)]
-    #[cfg_attr(feature = "schema", schema(required = true))]
-    pub weighted_peak_note: Option<String>,
-    /// The rule the verdict was read from: the table's `decision_rule`
-    /// where it can be applied, else `summation`.
-    #[serde(default)]
-    #[cfg_attr(feature = "schema", schema(required = true))]
-    pub decided_by: DecisionRule,
+    /// The weighted peak index beside the summation, and the rule the
+    /// verdict was read from (flattened: the three fields sit beside
+    /// `ratio` in the JSON).
+    #[serde(flatten)]
+    pub weighted_peak: WeightedPeak,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -941,9 +951,7 @@ fn compare_point(t: &ReferenceTable, field: &Sample, rf: ReviewFraction, weighti
             table_id: t.id().into(),
             ratio: None,
             verdict: Verdict::NotComputed,
-            weighted_peak_index: None,
-            weighted_peak_note: Some(NotComputed::NoField.note()),
-            decided_by: DecisionRule::Summation,
+            weighted_peak: WeightedPeak::no_field(),
         };
     }
     let r = ratio_of(&field.spectrum, t);
@@ -952,9 +960,7 @@ fn compare_point(t: &ReferenceTable, field: &Sample, rf: ReviewFraction, weighti
         table_id: t.id().into(),
         ratio: r.ratio,
         verdict: verdict_of(d.deciding, rf),
-        weighted_peak_index: d.index,
-        weighted_peak_note: d.note,
-        decided_by: d.decided_by,
+        weighted_peak: d.into(),
     }
 }
 
@@ -1001,9 +1007,7 @@ fn compare_position(
             level_ut,
             per_frequency: Vec::new(),
             uncovered_hz: Vec::new(),
-            weighted_peak_index: None,
-            weighted_peak_note: Some(NotComputed::NoField.note()),
-            decided_by: DecisionRule::Summation,
+            weighted_peak: WeightedPeak::no_field(),
         };
     };
     // The worst height under the weighted peak rule may be another height:
@@ -1019,9 +1023,7 @@ fn compare_position(
         level_ut,
         per_frequency: worst.per_frequency.clone(),
         uncovered_hz: worst.uncovered_hz.clone(),
-        weighted_peak_index: d.index,
-        weighted_peak_note: d.note,
-        decided_by: d.decided_by,
+        weighted_peak: d.into(),
     }
 }
 
@@ -1163,9 +1165,10 @@ fn compare_area(
             share_at_or_above_review: None,
             uncovered_hz: uncovered,
             max_ratio_bound: None,
-            weighted_peak_index: None,
-            weighted_peak_note: Some(if n == 0 { NotComputed::NoField } else { NotComputed::NotCovered }.note()),
-            decided_by: DecisionRule::Summation,
+            weighted_peak: WeightedPeak {
+                weighted_peak_note: Some(if n == 0 { NotComputed::NoField } else { NotComputed::NotCovered }.note()),
+                ..WeightedPeak::no_field()
+            },
         };
     }
     let cell_max = ratios.iter().cloned().fold(0.0, f64::max);
@@ -1196,9 +1199,7 @@ fn compare_area(
         share_at_or_above_review: Some(share(rf.get())),
         uncovered_hz: Vec::new(),
         max_ratio_bound,
-        weighted_peak_index: d.index,
-        weighted_peak_note: d.note,
-        decided_by: d.decided_by,
+        weighted_peak: d.into(),
     }
 }
 

@@ -146,13 +146,8 @@ fn ratio_terms(s: &mut String, a: &Assessment, p: &PositionResult) {
 /// The two numbers of a comparison side by side and the rule that decided:
 /// "T1 summation 0.900, weighted peak 0.645 → verdict by summation", or
 /// why the weighted peak index is missing.
-fn rule_line(
-    s: &mut String,
-    column: &str,
-    (summation, index): (Option<f64>, Option<f64>),
-    note: Option<&str>,
-    decided_by: crate::limits::DecisionRule,
-) {
+fn rule_line(s: &mut String, column: &str, summation: Option<f64>, wp: &crate::assess::WeightedPeak) {
+    let (index, note, decided_by) = (wp.weighted_peak_index, wp.weighted_peak_note.as_deref(), wp.decided_by);
     let wpi = match (index, note) {
         (Some(_), _) => num(index, 3),
         (None, Some(n)) => format!("— ({n})"),
@@ -211,13 +206,7 @@ fn position_block(s: &mut String, a: &Assessment, p: &PositionResult) {
     }
     ratio_terms(s, a, p);
     for c in &p.comparisons {
-        rule_line(
-            s,
-            &table_column(a, &c.table_id),
-            (c.ratio, c.weighted_peak_index),
-            c.weighted_peak_note.as_deref(),
-            c.decided_by,
-        );
+        rule_line(s, &table_column(a, &c.table_id), c.ratio, &c.weighted_peak);
     }
     time_weighted_line(s, p.time_weighted.as_ref());
     for n in &p.notes {
@@ -302,13 +291,7 @@ fn area_block(s: &mut String, a: &Assessment, ar: &AreaResult) {
         );
     }
     for c in &ar.comparisons {
-        rule_line(
-            s,
-            &table_column(a, &c.table_id),
-            (c.max_ratio, c.weighted_peak_index),
-            c.weighted_peak_note.as_deref(),
-            c.decided_by,
-        );
+        rule_line(s, &table_column(a, &c.table_id), c.max_ratio, &c.weighted_peak);
     }
     time_weighted_line(s, ar.time_weighted.as_ref());
     area_uncovered(s, a, ar);

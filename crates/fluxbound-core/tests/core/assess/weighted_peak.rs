@@ -233,11 +233,11 @@ fn a_wire_with_a_third_harmonic_in_phase_reports_summation_and_index_of_point_ni
         assess_with(wire_at_one_metre(json!([{"order": 3, "percent": 50, "angle_deg": 0}])), &[icnirp_occupational()]);
     let c = &a.positions[0].comparisons[0];
     assert!((c.ratio.unwrap() - 0.9).abs() < 1e-6);
-    assert!((c.weighted_peak_index.unwrap() - 0.9).abs() < 1e-6);
-    assert_eq!(c.decided_by, DecisionRule::Summation);
-    assert_eq!(c.weighted_peak_note, None);
+    assert!((c.weighted_peak.weighted_peak_index.unwrap() - 0.9).abs() < 1e-6);
+    assert_eq!(c.weighted_peak.decided_by, DecisionRule::Summation);
+    assert_eq!(c.weighted_peak.weighted_peak_note, None);
     let h = &a.positions[0].heights[0].comparisons[0];
-    assert!((h.weighted_peak_index.unwrap() - 0.9).abs() < 1e-6);
+    assert!((h.weighted_peak.weighted_peak_index.unwrap() - 0.9).abs() < 1e-6);
 }
 
 #[test]
@@ -247,8 +247,8 @@ fn a_wire_with_a_third_harmonic_in_opposition_is_decided_by_the_index_when_the_t
     let a = assess_with(doc.clone(), &[icnirp_occupational()]);
     let c = &a.positions[0].comparisons[0];
     assert!((c.ratio.unwrap() - 0.9).abs() < 1e-6);
-    assert!((c.weighted_peak_index.unwrap() - (5.0f64 / 12.0).sqrt()).abs() < 1e-6);
-    assert_eq!((c.verdict, c.decided_by), (Verdict::Approaching, DecisionRule::Summation));
+    assert!((c.weighted_peak.weighted_peak_index.unwrap() - (5.0f64 / 12.0).sqrt()).abs() < 1e-6);
+    assert_eq!((c.verdict, c.weighted_peak.decided_by), (Verdict::Approaching, DecisionRule::Summation));
     // At 4/3 of the current the summation is 1.2 (exceeds) but the index
     // 4/3 · 0.645497 = 0.860663 (approaching, review fraction 0.5).
     let doc = wire_site(
@@ -260,11 +260,11 @@ fn a_wire_with_a_third_harmonic_in_opposition_is_decided_by_the_index_when_the_t
     );
     let a = assess_with(doc, &[icnirp_occupational(), occupational_by_weighted_peak()]);
     let (sum, wpm) = (&a.positions[0].comparisons[0], &a.positions[0].comparisons[1]);
-    assert_eq!((sum.verdict, sum.decided_by), (Verdict::Exceeds, DecisionRule::Summation));
-    assert_eq!((wpm.verdict, wpm.decided_by), (Verdict::Approaching, DecisionRule::WeightedPeak));
+    assert_eq!((sum.verdict, sum.weighted_peak.decided_by), (Verdict::Exceeds, DecisionRule::Summation));
+    assert_eq!((wpm.verdict, wpm.weighted_peak.decided_by), (Verdict::Approaching, DecisionRule::WeightedPeak));
     assert!((wpm.ratio.unwrap() - 1.2).abs() < 1e-6, "ratio keeps meaning the summation");
-    assert!((wpm.weighted_peak_index.unwrap() - 4.0 / 3.0 * (5.0f64 / 12.0).sqrt()).abs() < 1e-6);
-    assert_eq!(a.positions[0].heights[0].comparisons[1].decided_by, DecisionRule::WeightedPeak);
+    assert!((wpm.weighted_peak.weighted_peak_index.unwrap() - 4.0 / 3.0 * (5.0f64 / 12.0).sqrt()).abs() < 1e-6);
+    assert_eq!(a.positions[0].heights[0].comparisons[1].weighted_peak.decided_by, DecisionRule::WeightedPeak);
 }
 
 #[test]
@@ -277,16 +277,16 @@ fn a_wire_with_a_seventh_harmonic_at_ninety_degrees_gives_the_falling_band_value
     );
     let c = &a.positions[0].comparisons[0];
     assert!((c.ratio.unwrap() - 0.9).abs() < 1e-6);
-    assert!((c.weighted_peak_index.unwrap() - 0.842807).abs() < 1e-6);
+    assert!((c.weighted_peak.weighted_peak_index.unwrap() - 0.842807).abs() < 1e-6);
 }
 
 #[test]
 fn a_harmonic_without_angle_gives_no_index_and_the_summation_decides() {
     let a = assess_with(wire_at_one_metre(json!([{"order": 3, "percent": 50}])), &[occupational_by_weighted_peak()]);
     let c = &a.positions[0].comparisons[0];
-    assert_eq!(c.weighted_peak_index, None);
-    assert_eq!(c.decided_by, DecisionRule::Summation);
-    let note = c.weighted_peak_note.as_deref().unwrap_or("");
+    assert_eq!(c.weighted_peak.weighted_peak_index, None);
+    assert_eq!(c.weighted_peak.decided_by, DecisionRule::Summation);
+    let note = c.weighted_peak.weighted_peak_note.as_deref().unwrap_or("");
     assert!(note.contains("150 Hz") && note.contains("angle_deg"), "{note}");
     assert!((c.ratio.unwrap() - 0.9).abs() < 1e-6);
 }
@@ -313,7 +313,7 @@ fn two_perpendicular_wires_ninety_degrees_apart_give_a_circular_field_with_index
     let a = assess_with(doc, &[icnirp_occupational()]);
     let c = &a.positions[0].comparisons[0];
     assert!((c.ratio.unwrap() - 0.5 * 2f64.sqrt()).abs() < 1e-6);
-    assert!((c.weighted_peak_index.unwrap() - 0.5).abs() < 1e-6);
+    assert!((c.weighted_peak.weighted_peak_index.unwrap() - 0.5).abs() < 1e-6);
 }
 
 #[test]
@@ -332,14 +332,14 @@ fn an_area_reports_the_highest_index_over_its_cells_and_worst_point_never_above_
     let a = assess_with(doc, &[occupational_by_weighted_peak()]);
     let c = &a.areas[0].comparisons[0];
     let share = (5.0f64 / 12.0).sqrt() / 0.9;
-    let (index, max_ratio) = (c.weighted_peak_index.unwrap(), c.max_ratio.unwrap());
+    let (index, max_ratio) = (c.weighted_peak.weighted_peak_index.unwrap(), c.max_ratio.unwrap());
     assert!(index <= max_ratio * share * (1.0 + 1e-9), "{index} vs {max_ratio}");
     // The summation's worst point is on the edge nearest the wire (y = 1 m):
     // 600 µT + 300 µT → summation 0.9, index √(5/12) = 0.645497 (issue 11);
     // the cells alone (centres from y = 1.25 m) would give only 0.72 · share.
     assert!((max_ratio - 0.9).abs() < 1e-6, "{max_ratio}");
     assert!((index - (5.0f64 / 12.0).sqrt()).abs() < 1e-6, "{index}");
-    assert_eq!(c.decided_by, DecisionRule::WeightedPeak);
+    assert_eq!(c.weighted_peak.decided_by, DecisionRule::WeightedPeak);
 }
 
 #[test]
