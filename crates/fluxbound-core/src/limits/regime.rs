@@ -132,7 +132,7 @@ pub fn validate_custom_regimes(docs: &[RegimeDoc], at: &Pointer) -> Result<Vec<R
 /// Checks a regime, reporting every problem with its pointer under `at`.
 pub fn validate_regime_at(doc: RegimeDoc, at: &Pointer) -> Result<Regime, Problems> {
     let mut p = Problems::default();
-    if !is_id(&doc.id) {
+    if !super::table::is_data_id(&doc.id) {
         p.push(&at.key("id"), "regime id must be 1–64 characters of letters, digits, '.', '-' or '_'");
     }
     check_text(&doc.title, &at.key("title"), "title must not be empty", &mut p);
@@ -160,7 +160,7 @@ fn check_tier(tier: &Tier, at: &Pointer, p: &mut Problems) {
         p.push(&tables, format!("a tier needs 1–{MAX_TIER_TABLES} table ids"));
     }
     for (i, id) in tier.tables.iter().enumerate() {
-        if !is_id(id) {
+        if !super::table::is_data_id(id) {
             p.push(&tables.index(i), "table id must be 1–64 characters of letters, digits, '.', '-' or '_'");
         } else if tier.tables[..i].contains(id) {
             p.push(&tables.index(i), format!("table '{id}' is listed twice in this tier"));
@@ -178,12 +178,6 @@ fn check_text(text: &str, at: &Pointer, blank: &str, p: &mut Problems) {
     } else if text.chars().any(char::is_control) {
         p.push(at, "must not contain control characters (such as NUL, tab or a line break)");
     }
-}
-
-fn is_id(id: &str) -> bool {
-    !id.is_empty()
-        && id.chars().count() <= 64
-        && id.chars().all(|c| c.is_ascii_alphanumeric() || matches!(c, '.' | '-' | '_'))
 }
 
 static BUILTIN: OnceLock<Vec<Regime>> = OnceLock::new();

@@ -255,7 +255,7 @@ pub fn validate_table_at(mut doc: TableDoc, at: &Pointer) -> Result<ReferenceTab
 
 /// The id, title and citation.
 fn check_header(doc: &TableDoc, at: &Pointer, p: &mut Problems) {
-    if doc.id.trim().is_empty() || doc.id.chars().count() > 64 || !doc.id.chars().all(is_id_char) {
+    if !is_data_id(&doc.id) {
         p.push(&at.key("id"), "table id must be 1–64 characters of letters, digits, '.', '-' or '_'");
     }
     if doc.title.trim().is_empty() {
@@ -322,8 +322,12 @@ fn check_gaps(gaps: &[Gap], gp: &Pointer, p: &mut Problems) -> bool {
     ok
 }
 
-fn is_id_char(c: char) -> bool {
-    c.is_ascii_alphanumeric() || matches!(c, '.' | '-' | '_')
+/// The id rule of tables and regimes: 1–64 characters of ASCII letters,
+/// digits, `.`, `-` or `_`.
+pub(crate) fn is_data_id(id: &str) -> bool {
+    !id.is_empty()
+        && id.chars().count() <= 64
+        && id.chars().all(|c| c.is_ascii_alphanumeric() || matches!(c, '.' | '-' | '_'))
 }
 
 /// Bands and declared gaps, sorted, must tile their span without overlap;
