@@ -1124,24 +1124,15 @@ fn certainty_words(max_ut: Option<f64>, bound_ut: Option<f64>, raw_bound_ut: f64
     }
 }
 
-/// An area against one table: the highest ratio over the area (cells,
-/// boundary and refinement; `peak` with the table's measure index) and the
-/// shares of cells at or above the level and the review fraction.
-fn compare_area(
-    t: &ReferenceTable,
-    computed: &[&CellSample],
-    rf: ReviewFraction,
-    f0_hz: f64,
-    peak: Option<(&peak::AreaPeak, usize)>,
-    (weighting, worst_phasors): (&Weighting, Option<&[field::FieldPhasor]>),
-) -> AreaComparison {
-    let n = computed.len();
+/// Each computed cell's exposure ratio against `t`, and the frequencies
+/// `t` does not cover (each once).
+fn cell_ratios(t: &ReferenceTable, computed: &[&CellSample]) -> (Vec<f64>, Vec<f64>) {
     // Levels per spectral line, computed once per table.
     let line_hz: Vec<f64> =
         computed.first().map(|s| s.field.spectrum.iter().map(|(f, _)| *f).collect()).unwrap_or_default();
     let levels = line_levels(t, &line_hz);
     let mut uncovered: Vec<f64> = Vec::new();
-    let mut ratios = Vec::with_capacity(n);
+    let mut ratios = Vec::with_capacity(computed.len());
     for s in computed {
         match exposure_ratio(s.field.spectrum.iter().map(|(_, b)| *b), &levels) {
             Ok(r) => ratios.push(r),
@@ -1154,22 +1145,42 @@ fn compare_area(
             }
         }
     }
+    (ratios, uncovered)
+}
+
+/// An area `t` cannot judge: no computed cell (`n == 0`), or frequencies
+/// the table does not cover.
+fn unjudged_area(t: &ReferenceTable, n: usize, level_ut: Option<f64>, uncovered: Vec<f64>) -> AreaComparison {
+    let why = if n == 0 { NotComputed::NoField } else { NotComputed::NotCovered };
+    AreaComparison {
+        table_id: t.id().into(),
+        max_ratio: None,
+        verdict: if n == 0 { Verdict::NotComputed } else { Verdict::NotCovered },
+        level_ut,
+        share_at_or_above_level: None,
+        share_at_or_above_review: None,
+        uncovered_hz: uncovered,
+        max_ratio_bound: None,
+        weighted_peak: WeightedPeak { weighted_peak_note: Some(why.note()), ..WeightedPeak::no_field() },
+    }
+}
+
+/// An area against one table: the highest ratio over the area (cells,
+/// boundary and refinement; `peak` with the table's measure index) and the
+/// shares of cells at or above the level and the review fraction.
+fn compare_area(
+    t: &ReferenceTable,
+    computed: &[&CellSample],
+    rf: ReviewFraction,
+    f0_hz: f64,
+    peak: Option<(&peak::AreaPeak, usize)>,
+    (weighting, worst_phasors): (&Weighting, Option<&[field::FieldPhasor]>),
+) -> AreaComparison {
+    let n = computed.len();
+    let (ratios, uncovered) = cell_ratios(t, computed);
     let level_ut = level_at_fundamental(t, f0_hz);
     if !uncovered.is_empty() || n == 0 {
-        return AreaComparison {
-            table_id: t.id().into(),
-            max_ratio: None,
-            verdict: if n == 0 { Verdict::NotComputed } else { Verdict::NotCovered },
-            level_ut,
-            share_at_or_above_level: None,
-            share_at_or_above_review: None,
-            uncovered_hz: uncovered,
-            max_ratio_bound: None,
-            weighted_peak: WeightedPeak {
-                weighted_peak_note: Some(if n == 0 { NotComputed::NoField } else { NotComputed::NotCovered }.note()),
-                ..WeightedPeak::no_field()
-            },
-        };
+        return unjudged_area(t, n, level_ut, uncovered);
     }
     let cell_max = ratios.iter().cloned().fold(0.0, f64::max);
     let (max_ratio, max_ratio_bound, verdict_ratio) = match peak {
