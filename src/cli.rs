@@ -7,6 +7,7 @@
 //! `--tables: unknown table 'nope'`); 2 usage or I/O error. Nothing here panics on user input, and
 //! a panic anywhere prints one line instead of a backtrace.
 
+use crate::config::ConnectionLimits;
 use clap::{Parser, Subcommand, ValueEnum};
 use fluxbound_core::assess::{AssessError, LoadCase, LoadError, ReviewFraction};
 use fluxbound_core::evaluate::EvaluateRequest;
@@ -183,6 +184,71 @@ pub struct ServeArgs {
     /// Seconds before a request is answered 503.
     #[arg(long, env = "FLUXBOUND_REQUEST_TIMEOUT_S", default_value_t = 30)]
     pub request_timeout_s: u64,
+    #[command(flatten)]
+    pub connections: ConnectionArgs,
+}
+
+/// Client connection limits (`config::ConnectionLimits`; defaults and
+/// reasons there).
+#[derive(Debug, clap::Args)]
+pub struct ConnectionArgs {
+    /// Seconds to receive a whole request head (from when the server waits for one).
+    #[arg(
+        long,
+        env = "FLUXBOUND_HEADER_READ_TIMEOUT_S",
+        value_name = "S",
+        default_value_t = ConnectionLimits::DEFAULT_HEADER_READ_TIMEOUT.as_secs(),
+        value_parser = clap::value_parser!(u64).range(1..)
+    )]
+    pub header_read_timeout_s: u64,
+    /// Seconds a connection with no request in flight may receive nothing before it is closed.
+    #[arg(
+        long,
+        env = "FLUXBOUND_IDLE_TIMEOUT_S",
+        value_name = "S",
+        default_value_t = ConnectionLimits::DEFAULT_IDLE_TIMEOUT.as_secs(),
+        value_parser = clap::value_parser!(u64).range(1..)
+    )]
+    pub idle_timeout_s: u64,
+    /// Seconds for a request body to arrive in full after its head (then 408).
+    #[arg(
+        long,
+        env = "FLUXBOUND_BODY_READ_TIMEOUT_S",
+        value_name = "S",
+        default_value_t = ConnectionLimits::DEFAULT_BODY_READ_TIMEOUT.as_secs(),
+        value_parser = clap::value_parser!(u64).range(1..)
+    )]
+    pub body_read_timeout_s: u64,
+    /// Open client connections at most; at the cap the longest-idle one is closed to admit a new one.
+    #[arg(
+        long,
+        env = "FLUXBOUND_MAX_CONNECTIONS",
+        value_name = "N",
+        default_value_t = ConnectionLimits::DEFAULT_MAX_CONNECTIONS as u64,
+        value_parser = clap::value_parser!(u64).range(1..=1_000_000)
+    )]
+    pub max_connections: u64,
+    /// Seconds a shutdown waits for requests in flight before dropping their connections.
+    #[arg(
+        long,
+        env = "FLUXBOUND_DRAIN_TIMEOUT_S",
+        value_name = "S",
+        default_value_t = ConnectionLimits::DEFAULT_DRAIN_TIMEOUT.as_secs()
+    )]
+    pub drain_timeout_s: u64,
+}
+
+impl ConnectionArgs {
+    fn limits(&self) -> ConnectionLimits {
+        use std::time::Duration;
+        ConnectionLimits {
+            header_read_timeout: Duration::from_secs(self.header_read_timeout_s),
+            idle_timeout: Duration::from_secs(self.idle_timeout_s),
+            body_read_timeout: Duration::from_secs(self.body_read_timeout_s),
+            max_connections: usize::try_from(self.max_connections).unwrap_or(usize::MAX),
+            drain_timeout: Duration::from_secs(self.drain_timeout_s),
+        }
+    }
 }
 
 #[derive(Debug, Subcommand)]
@@ -629,6 +695,7 @@ fn serve(args: ServeArgs) -> Result<ExitCode, CliError> {
     config.limits.max_points = args.max_points;
     config.limits.rate_per_key = args.rate_per_key;
     config.limits.request_timeout_s = args.request_timeout_s;
+    config.connections = args.connections.limits();
     runtime()?.block_on(async move {
         let app = crate::app::App::build(&config).await?;
         if let Some(demo) = &app.demo {

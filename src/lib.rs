@@ -8,9 +8,12 @@
 //! main.rs → cli.rs     argument parsing, exit codes, file I/O; calls the core's
 //!                      use cases directly (no database) or starts the service
 //! app.rs               wiring: store + service + router + listener; serve, shutdown
-//! config.rs            typed configuration
+//! config.rs            typed configuration (storage, bounds, connection limits)
 //! telemetry.rs         tracing subscriber (human or JSON)
-//! http/                axum routes (thin handlers), auth, problem+json, OpenAPI
+//! http/                axum routes (thin handlers), auth, problem+json, OpenAPI;
+//!                      server.rs + connections.rs: our accept loop over hyper
+//!                      (timeouts, the connection cap, the drain); body.rs: 413
+//!                      from Content-Length, 408 for slow bodies
 //! service/             authorisation, transactions, budgets; calls the core's use cases
 //! store/               sqlx over the Any driver: SQLite (default) or PostgreSQL
 //! ```
