@@ -13,7 +13,8 @@
 //! http/                axum routes (thin handlers), auth, problem+json, OpenAPI;
 //!                      server.rs + connections.rs: our accept loop over hyper
 //!                      (timeouts, the connection cap, the drain); body.rs: 413
-//!                      from Content-Length, 408 for slow bodies
+//!                      from Content-Length, 408 for slow bodies; access.rs: the
+//!                      access log
 //! service/             authorisation, transactions, budgets; calls the core's use cases
 //! store/               sqlx over the Any driver: SQLite (default) or PostgreSQL
 //! ```

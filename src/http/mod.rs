@@ -1,6 +1,7 @@
 //! The HTTP edge: axum routes, authentication, problem+json, OpenAPI.
 //! `router(state)` is pure: it builds the service graph and touches nothing.
 
+pub mod access;
 pub mod body;
 pub mod connections;
 pub mod extract;
@@ -115,6 +116,7 @@ pub fn router(state: AppState) -> Router {
         .merge(docs)
         .layer(middleware::from_fn_with_state(body_read_timeout, body::body_deadline))
         .layer(middleware::from_fn_with_state(body_limit, body::refuse_large))
+        .layer(middleware::from_fn(access::access_log))
         .layer(middleware::from_fn_with_state(state.metrics.clone(), metrics::track))
         .layer(CatchPanicLayer::custom(|_| ApiError::internal().into_response()))
         .layer(TraceLayer::new_for_http().make_span_with(|req: &Request| {

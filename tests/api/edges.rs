@@ -1,6 +1,6 @@
 //! The HTTP edge under careless and hostile clients: bodies refused from
 //! their header, slow bodies, silent and slow-header connections, the
-//! connection cap, readiness and the bounded drain.
+//! connection cap, readiness and the bounded drain, and the access log.
 //!
 //! These talk raw TCP to the server itself (`app.server`), not through the
 //! contract proxy, which would read every body in full first. Raw sockets
@@ -13,6 +13,7 @@ use fluxbound::service::{Limits, Role};
 use serde_json::Value;
 use std::io::{ErrorKind, Read, Write};
 use std::net::{SocketAddr, TcpStream};
+use std::sync::{Arc, Mutex};
 use std::time::{Duration, Instant};
 
 /// Limits small enough for tests; each test changes what it exercises.
@@ -251,4 +252,52 @@ async fn the_drain_drops_what_is_left_after_its_timeout_and_the_server_exits() {
     assert!(start.elapsed() >= Duration::from_millis(900), "the drain waited {:?}", start.elapsed());
     let seen = blocking(move || read_until_closed(&mut stuck, Duration::from_secs(5))).await;
     assert!(seen.closed_after.is_some() && seen.text.is_empty(), "{seen:?}");
+}
+
+/// A `MakeWriter` that keeps every log line in memory.
+#[derive(Clone, Default)]
+struct Captured(Arc<Mutex<Vec<u8>>>);
+
+impl Write for Captured {
+    fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
+        self.0.lock().unwrap().extend_from_slice(buf);
+        Ok(buf.len())
+    }
+    fn flush(&mut self) -> std::io::Result<()> {
+        Ok(())
+    }
+}
+
+// One thread: the logger set for this test's thread also sees the server's
+// tasks, which run on it.
+#[tokio::test(flavor = "current_thread")]
+async fn each_request_leaves_one_access_line_with_its_route_template_and_no_secrets() {
+    let logs = Captured::default();
+    let writer = logs.clone();
+    let subscriber =
+        tracing_subscriber::fmt().with_env_filter("info").with_ansi(false).with_writer(move || writer.clone()).finish();
+    let _guard = tracing::subscriber::set_default(subscriber);
+    let app = spawn_app().await;
+    let key = app.key("logged", Role::Assessor).await;
+    let id = app.site(&key, &small_site("Kesselhaus Ost 7731")).await;
+    assert_eq!(app.get("/v1/sites?name=zeta-quokka&limit=5", &key).await.status(), 200);
+    let res = app.get(&format!("/v1/sites/{id}"), &key).await;
+    assert_eq!(res.status(), 200);
+    let request_id = res.headers()["x-request-id"].to_str().unwrap().to_string();
+    let text = String::from_utf8(logs.0.lock().unwrap().clone()).unwrap();
+    let line = text
+        .lines()
+        .find(|l| l.contains(&format!("request_id={request_id}")) && l.contains("fluxbound::access"))
+        .unwrap_or_else(|| panic!("no access line for {request_id} in:\n{text}"));
+    for field in ["method=GET", "route=/v1/sites/{site_id}", "status=200", "latency_ms="] {
+        assert!(line.contains(field), "{field} missing from {line}");
+    }
+    let create = text
+        .lines()
+        .filter(|l| l.contains("fluxbound::access") && l.contains("method=POST") && l.contains("route=/v1/sites "))
+        .count();
+    assert_eq!(create, 1, "one line for the one POST /v1/sites:\n{text}");
+    for secret in [key.as_str(), "zeta-quokka", "Kesselhaus"] {
+        assert!(!text.contains(secret), "the log carries '{secret}':\n{text}");
+    }
 }
