@@ -4,7 +4,8 @@
 //!
 //! Exit codes: 0 success; 1 the input has problems (each printed where the
 //! user gave it: a JSON pointer into a file, or the flag, as in
-//! `--tables: unknown table 'nope'`); 2 usage or I/O error. Nothing here panics on user input, and
+//! `--tables: unknown table 'nope'`), or `health` found the server
+//! unhealthy or unreachable; 2 usage or I/O error. Nothing here panics on user input, and
 //! a panic anywhere prints one line instead of a backtrace.
 
 use crate::config::ConnectionLimits;
@@ -73,6 +74,20 @@ pub enum Command {
         #[command(subcommand)]
         action: KeysAction,
     },
+    /// Check a running server: GET /healthz; exit 0 on 200, 1 otherwise (for container health checks).
+    Health(HealthArgs),
+}
+
+#[derive(Debug, clap::Args)]
+pub struct HealthArgs {
+    /// Base URL of the server (http only); default: the address in
+    /// FLUXBOUND_LISTEN (an unspecified address probed on loopback), else
+    /// http://127.0.0.1:8080.
+    #[arg(long, value_name = "URL")]
+    pub url: Option<String>,
+    /// Seconds allowed to connect, and again for the answer.
+    #[arg(long, value_name = "S", default_value_t = 5, value_parser = clap::value_parser!(u64).range(1..=3600))]
+    pub timeout_s: u64,
 }
 
 #[derive(Debug, clap::Args)]
@@ -364,12 +379,15 @@ pub enum CliError {
     Service(#[from] crate::service::ServiceError),
     #[error("server error: {0}")]
     Serve(std::io::Error),
+    #[error("{0}")]
+    Health(#[from] crate::health::HealthError),
 }
 
 impl CliError {
     pub fn exit_code(&self) -> u8 {
         match self {
-            CliError::Problems(_) | CliError::UnknownTable(_) => 1,
+            // A container runtime reads 1 as unhealthy and reserves 2.
+            CliError::Problems(_) | CliError::UnknownTable(_) | CliError::Health(_) => 1,
             CliError::Read { .. } | CliError::Write(_) | CliError::App(_) | CliError::Serve(_) => 2,
             CliError::Service(e) if e.is_client_error() => 1,
             CliError::Service(_) => 2,
@@ -474,7 +492,19 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<ExitCode, CliError> {
         }
         Command::Serve(args) => serve(args),
         Command::Keys { action } => keys(action, out),
+        Command::Health(args) => health_command(&args, out),
     }
+}
+
+fn health_command(args: &HealthArgs, out: &mut dyn Write) -> Result<ExitCode, CliError> {
+    use crate::health::{self, Target};
+    let target = match &args.url {
+        Some(url) => Target::parse(url)?,
+        None => Target::of_listen(&std::env::var("FLUXBOUND_LISTEN").unwrap_or_else(|_| health::DEFAULT_ADDR.into()))?,
+    };
+    let report = health::check(&target, std::time::Duration::from_secs(args.timeout_s))?;
+    writeln!(out, "{report}").map_err(CliError::Write)?;
+    Ok(ExitCode::SUCCESS)
 }
 
 fn evaluate_command(input: &Path, compact: bool, out: &mut dyn Write) -> Result<ExitCode, CliError> {

@@ -9,6 +9,7 @@
 //!                      use cases directly (no database) or starts the service
 //! app.rs               wiring: store + service + router + listener; serve, shutdown
 //! config.rs            typed configuration (storage, bounds, connection limits)
+//! health.rs            `fluxbound health`: GET /healthz over plain TCP
 //! telemetry.rs         tracing subscriber (human or JSON)
 //! http/                axum routes (thin handlers), auth, problem+json, OpenAPI;
 //!                      server.rs + connections.rs: our accept loop over hyper
@@ -27,6 +28,7 @@
 pub mod app;
 pub mod cli;
 pub mod config;
+pub mod health;
 pub mod http;
 pub mod ids;
 pub mod service;
