@@ -16,7 +16,7 @@ use std::net::{SocketAddr, TcpStream};
 use std::sync::{Arc, Mutex};
 use std::time::{Duration, Instant};
 
-/// Limits small enough for tests; each test changes what it exercises.
+/// Generous limits; each test shortens the one it exercises.
 fn quick() -> ConnectionLimits {
     ConnectionLimits {
         header_read_timeout: Duration::from_secs(10),
