@@ -2,6 +2,7 @@
 //! serving until a shutdown signal, then draining in-flight requests.
 
 use crate::config::Config;
+use crate::http::server::{self, EdgeState};
 use crate::http::{AppState, router};
 use crate::service::{Role, Service};
 use crate::store::{Backend, Store, StoreError};
@@ -57,7 +58,8 @@ impl App {
             .map_err(|source| AppError::Bind { addr: config.listen.clone(), source })?;
         let addr = listener.local_addr().map_err(|source| AppError::Bind { addr: config.listen.clone(), source })?;
         tracing::info!(backend = service.store().backend().name(), "storage ready");
-        Ok(App { listener, addr, state: AppState::new(service), demo })
+        let state = AppState::new(service).with_connections(config.connections.clone());
+        Ok(App { listener, addr, state, demo })
     }
 
     /// The use cases behind the router (tests seed keys through it).
@@ -70,15 +72,23 @@ impl App {
         self.addr
     }
 
-    /// Serves until `shutdown` completes, then stops accepting, lets
-    /// in-flight requests finish and closes the database pool.
+    /// The edge's shared state: the draining flag (set once shutdown
+    /// begins) and the connection counters.
+    pub fn edge(&self) -> EdgeState {
+        self.state.edge.clone()
+    }
+
+    /// Serves until `shutdown` completes, then marks the server not ready,
+    /// stops accepting, lets requests in flight finish within the drain
+    /// timeout and closes the database pool (see `http::server`).
     pub async fn serve(self, shutdown: impl Future<Output = ()> + Send + 'static) -> std::io::Result<()> {
         tracing::info!("listening on http://{}", self.addr);
         let store = self.state.service.store().clone();
-        let result = axum::serve(self.listener, router(self.state)).with_graceful_shutdown(shutdown).await;
+        let edge = self.state.edge.clone();
+        server::serve(self.listener, router(self.state), edge, shutdown).await;
         store.close().await;
         tracing::info!("stopped");
-        result
+        Ok(())
     }
 }
 

@@ -4,9 +4,11 @@
 //!
 //! Exit codes: 0 success; 1 the input has problems (each printed where the
 //! user gave it: a JSON pointer into a file, or the flag, as in
-//! `--tables: unknown table 'nope'`); 2 usage or I/O error. Nothing here panics on user input, and
+//! `--tables: unknown table 'nope'`), or `health` found the server
+//! unhealthy or unreachable; 2 usage or I/O error. Nothing here panics on user input, and
 //! a panic anywhere prints one line instead of a backtrace.
 
+use crate::config::ConnectionLimits;
 use clap::{Parser, Subcommand, ValueEnum};
 use fluxbound_core::assess::{AssessError, LoadCase, LoadError, ReviewFraction};
 use fluxbound_core::evaluate::EvaluateRequest;
@@ -72,6 +74,20 @@ pub enum Command {
         #[command(subcommand)]
         action: KeysAction,
     },
+    /// Check a running server: GET /healthz; exit 0 on 200, 1 otherwise (for container health checks).
+    Health(HealthArgs),
+}
+
+#[derive(Debug, clap::Args)]
+pub struct HealthArgs {
+    /// Base URL of the server (http only); default: the address in
+    /// FLUXBOUND_LISTEN (an unspecified address probed on loopback), else
+    /// http://127.0.0.1:8080.
+    #[arg(long, value_name = "URL")]
+    pub url: Option<String>,
+    /// Seconds allowed to connect, and again for the answer.
+    #[arg(long, value_name = "S", default_value_t = 5, value_parser = clap::value_parser!(u64).range(1..=3600))]
+    pub timeout_s: u64,
 }
 
 #[derive(Debug, clap::Args)]
@@ -183,6 +199,71 @@ pub struct ServeArgs {
     /// Seconds before a request is answered 503.
     #[arg(long, env = "FLUXBOUND_REQUEST_TIMEOUT_S", default_value_t = 30)]
     pub request_timeout_s: u64,
+    #[command(flatten)]
+    pub connections: ConnectionArgs,
+}
+
+/// Client connection limits (`config::ConnectionLimits`; defaults and
+/// reasons there).
+#[derive(Debug, clap::Args)]
+pub struct ConnectionArgs {
+    /// Seconds to receive a whole request head (from when the server waits for one).
+    #[arg(
+        long,
+        env = "FLUXBOUND_HEADER_READ_TIMEOUT_S",
+        value_name = "S",
+        default_value_t = ConnectionLimits::DEFAULT_HEADER_READ_TIMEOUT.as_secs(),
+        value_parser = clap::value_parser!(u64).range(1..)
+    )]
+    pub header_read_timeout_s: u64,
+    /// Seconds a connection with no request in flight may receive nothing before it is closed.
+    #[arg(
+        long,
+        env = "FLUXBOUND_IDLE_TIMEOUT_S",
+        value_name = "S",
+        default_value_t = ConnectionLimits::DEFAULT_IDLE_TIMEOUT.as_secs(),
+        value_parser = clap::value_parser!(u64).range(1..)
+    )]
+    pub idle_timeout_s: u64,
+    /// Seconds for a request body to arrive in full after its head (then 408).
+    #[arg(
+        long,
+        env = "FLUXBOUND_BODY_READ_TIMEOUT_S",
+        value_name = "S",
+        default_value_t = ConnectionLimits::DEFAULT_BODY_READ_TIMEOUT.as_secs(),
+        value_parser = clap::value_parser!(u64).range(1..)
+    )]
+    pub body_read_timeout_s: u64,
+    /// Open client connections at most; at the cap the longest-idle one is closed to admit a new one.
+    #[arg(
+        long,
+        env = "FLUXBOUND_MAX_CONNECTIONS",
+        value_name = "N",
+        default_value_t = ConnectionLimits::DEFAULT_MAX_CONNECTIONS as u64,
+        value_parser = clap::value_parser!(u64).range(1..=1_000_000)
+    )]
+    pub max_connections: u64,
+    /// Seconds a shutdown waits for requests in flight before dropping their connections.
+    #[arg(
+        long,
+        env = "FLUXBOUND_DRAIN_TIMEOUT_S",
+        value_name = "S",
+        default_value_t = ConnectionLimits::DEFAULT_DRAIN_TIMEOUT.as_secs()
+    )]
+    pub drain_timeout_s: u64,
+}
+
+impl ConnectionArgs {
+    fn limits(&self) -> ConnectionLimits {
+        use std::time::Duration;
+        ConnectionLimits {
+            header_read_timeout: Duration::from_secs(self.header_read_timeout_s),
+            idle_timeout: Duration::from_secs(self.idle_timeout_s),
+            body_read_timeout: Duration::from_secs(self.body_read_timeout_s),
+            max_connections: usize::try_from(self.max_connections).unwrap_or(usize::MAX),
+            drain_timeout: Duration::from_secs(self.drain_timeout_s),
+        }
+    }
 }
 
 #[derive(Debug, Subcommand)]
@@ -298,12 +379,15 @@ pub enum CliError {
     Service(#[from] crate::service::ServiceError),
     #[error("server error: {0}")]
     Serve(std::io::Error),
+    #[error("{0}")]
+    Health(#[from] crate::health::HealthError),
 }
 
 impl CliError {
     pub fn exit_code(&self) -> u8 {
         match self {
-            CliError::Problems(_) | CliError::UnknownTable(_) => 1,
+            // A container runtime reads 1 as unhealthy and reserves 2.
+            CliError::Problems(_) | CliError::UnknownTable(_) | CliError::Health(_) => 1,
             CliError::Read { .. } | CliError::Write(_) | CliError::App(_) | CliError::Serve(_) => 2,
             CliError::Service(e) if e.is_client_error() => 1,
             CliError::Service(_) => 2,
@@ -408,7 +492,19 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<ExitCode, CliError> {
         }
         Command::Serve(args) => serve(args),
         Command::Keys { action } => keys(action, out),
+        Command::Health(args) => health_command(&args, out),
     }
+}
+
+fn health_command(args: &HealthArgs, out: &mut dyn Write) -> Result<ExitCode, CliError> {
+    use crate::health::{self, Target};
+    let target = match &args.url {
+        Some(url) => Target::parse(url)?,
+        None => Target::of_listen(&std::env::var("FLUXBOUND_LISTEN").unwrap_or_else(|_| health::DEFAULT_ADDR.into()))?,
+    };
+    let report = health::check(&target, std::time::Duration::from_secs(args.timeout_s))?;
+    writeln!(out, "{report}").map_err(CliError::Write)?;
+    Ok(ExitCode::SUCCESS)
 }
 
 fn evaluate_command(input: &Path, compact: bool, out: &mut dyn Write) -> Result<ExitCode, CliError> {
@@ -629,6 +725,7 @@ fn serve(args: ServeArgs) -> Result<ExitCode, CliError> {
     config.limits.max_points = args.max_points;
     config.limits.rate_per_key = args.rate_per_key;
     config.limits.request_timeout_s = args.request_timeout_s;
+    config.connections = args.connections.limits();
     runtime()?.block_on(async move {
         let app = crate::app::App::build(&config).await?;
         if let Some(demo) = &app.demo {

@@ -3,6 +3,7 @@
 
 use crate::service::Limits;
 use std::path::PathBuf;
+use std::time::Duration;
 
 /// Log line format.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -19,8 +20,11 @@ pub struct Config {
     pub data_dir: PathBuf,
     /// `postgres://…` selects PostgreSQL; `None` the embedded SQLite.
     pub database_url: Option<String>,
+    /// Size of the database connection pool.
     pub max_connections: u32,
     pub limits: Limits,
+    /// Timeouts and the cap of the client connections (the HTTP edge).
+    pub connections: ConnectionLimits,
     /// Seed a demo organisation with the example sites and print a key.
     pub demo: bool,
 }
@@ -34,6 +38,7 @@ impl Config {
             database_url: None,
             max_connections: 8,
             limits: Limits::default(),
+            connections: ConnectionLimits::default(),
             demo: false,
         }
     }
@@ -51,5 +56,65 @@ impl Config {
 impl Default for Config {
     fn default() -> Self {
         Self::new()
+    }
+}
+
+/// How long a client connection may take over each part of a request, how
+/// many may be open, and how long a shutdown waits for them. The defaults
+/// close a connection that sends nothing within 5 s and one that never
+/// completes its request within 30 s (header 10 s, then body 20 s).
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct ConnectionLimits {
+    /// Time to receive a complete request head, counted from when the
+    /// server starts waiting for it (the connection opened, or the previous
+    /// answer was sent). Cuts slow-header clients.
+    pub header_read_timeout: Duration,
+    /// A connection with no request in flight that receives nothing for
+    /// this long is closed (keep-alive idle).
+    pub idle_timeout: Duration,
+    /// Time for a request body to arrive in full, counted from its head;
+    /// past it the answer is 408.
+    pub body_read_timeout: Duration,
+    /// Open client connections at most. At the cap a new connection first
+    /// displaces the connection idle the longest; with none idle it is
+    /// closed unanswered.
+    pub max_connections: usize,
+    /// How long a shutdown waits for requests in flight before it drops
+    /// their connections.
+    pub drain_timeout: Duration,
+}
+
+impl ConnectionLimits {
+    /// 10 s: a whole request head is a few hundred bytes, so even a slow
+    /// mobile link sends it in well under a second; ten times that margin.
+    pub const DEFAULT_HEADER_READ_TIMEOUT: Duration = Duration::from_secs(10);
+    /// 5 s: the keep-alive timeout of Apache httpd and Node.js; reopening a
+    /// connection costs one round trip, holding an idle one a file
+    /// descriptor.
+    pub const DEFAULT_IDLE_TIMEOUT: Duration = Duration::from_secs(5);
+    /// 20 s: the largest body (4 MiB by default) at 2 Mbit/s, with room;
+    /// shorter than the 30 s request timeout, so a slow upload is told 408,
+    /// not 503.
+    pub const DEFAULT_BODY_READ_TIMEOUT: Duration = Duration::from_secs(20);
+    /// 200: fits the common default of 256 open files per process with room
+    /// for the database pool, the SQLite files, the listener and the logs.
+    pub const DEFAULT_MAX_CONNECTIONS: usize = 200;
+    /// 25 s: longer than the body-read timeout, so an upload under way at
+    /// shutdown is answered (or told 408) rather than cut, and inside the
+    /// 30 s Kubernetes grants between SIGTERM and SIGKILL by default (Docker
+    /// grants 10 s: raise it with `docker stop -t` or compose's
+    /// `stop_grace_period`).
+    pub const DEFAULT_DRAIN_TIMEOUT: Duration = Duration::from_secs(25);
+}
+
+impl Default for ConnectionLimits {
+    fn default() -> Self {
+        ConnectionLimits {
+            header_read_timeout: Self::DEFAULT_HEADER_READ_TIMEOUT,
+            idle_timeout: Self::DEFAULT_IDLE_TIMEOUT,
+            body_read_timeout: Self::DEFAULT_BODY_READ_TIMEOUT,
+            max_connections: Self::DEFAULT_MAX_CONNECTIONS,
+            drain_timeout: Self::DEFAULT_DRAIN_TIMEOUT,
+        }
     }
 }

@@ -8,9 +8,14 @@
 //! main.rs → cli.rs     argument parsing, exit codes, file I/O; calls the core's
 //!                      use cases directly (no database) or starts the service
 //! app.rs               wiring: store + service + router + listener; serve, shutdown
-//! config.rs            typed configuration
+//! config.rs            typed configuration (storage, bounds, connection limits)
+//! health.rs            `fluxbound health`: GET /healthz over plain TCP
 //! telemetry.rs         tracing subscriber (human or JSON)
-//! http/                axum routes (thin handlers), auth, problem+json, OpenAPI
+//! http/                axum routes (thin handlers), auth, problem+json, OpenAPI;
+//!                      server.rs + connections.rs: our accept loop over hyper
+//!                      (timeouts, the connection cap, the drain); body.rs: 413
+//!                      from Content-Length, 408 for slow bodies; access.rs: the
+//!                      access log
 //! service/             authorisation, transactions, budgets; calls the core's use cases
 //! store/               sqlx over the Any driver: SQLite (default) or PostgreSQL
 //! ```
@@ -23,6 +28,7 @@
 pub mod app;
 pub mod cli;
 pub mod config;
+pub mod health;
 pub mod http;
 pub mod ids;
 pub mod service;

@@ -1,6 +1,9 @@
 //! The HTTP edge: axum routes, authentication, problem+json, OpenAPI.
 //! `router(state)` is pure: it builds the service graph and touches nothing.
 
+pub mod access;
+pub mod body;
+pub mod connections;
 pub mod extract;
 pub mod metrics;
 pub mod openapi;
@@ -8,7 +11,9 @@ pub mod problem;
 pub mod rate;
 pub mod resources;
 pub mod routes;
+pub mod server;
 
+use crate::config::ConnectionLimits;
 use crate::service::Service;
 use axum::Router;
 use axum::extract::{DefaultBodyLimit, Request, State};
@@ -34,21 +39,32 @@ pub struct AppState {
     pub service: Service,
     pub metrics: metrics::Metrics,
     pub rate: Arc<rate::RateLimiter>,
+    /// Connection limits, counters and the draining flag, shared with the
+    /// accept loop (`server.rs`).
+    pub edge: server::EdgeState,
 }
 
 impl AppState {
+    /// With the default connection limits (see [`AppState::with_connections`]).
     pub fn new(service: Service) -> Self {
         let rate = Arc::new(rate::RateLimiter::new(service.limits().rate_per_key));
-        AppState { service, metrics: metrics::Metrics::default(), rate }
+        let edge = server::EdgeState::new(ConnectionLimits::default());
+        AppState { service, metrics: metrics::Metrics::default(), rate, edge }
+    }
+
+    pub fn with_connections(mut self, limits: ConnectionLimits) -> Self {
+        self.edge = server::EdgeState::new(limits);
+        self
     }
 }
 
-const REQUEST_ID: HeaderName = HeaderName::from_static("x-request-id");
+pub(crate) const REQUEST_ID: HeaderName = HeaderName::from_static("x-request-id");
 
 /// The whole API. One function on purpose (a little over our usual ~60
 /// lines): the route table reads best as one list.
 pub fn router(state: AppState) -> Router {
     let body_limit = state.service.limits().body_bytes;
+    let body_read_timeout = state.edge.limits.body_read_timeout;
     let timeout = Duration::from_secs(state.service.limits().request_timeout_s.max(1));
     let api = Router::new()
         .route("/v1/sites", post(sites::sites_create).get(sites::sites_list))
@@ -98,6 +114,9 @@ pub fn router(state: AppState) -> Router {
     Router::new()
         .merge(api)
         .merge(docs)
+        .layer(middleware::from_fn_with_state(body_read_timeout, body::body_deadline))
+        .layer(middleware::from_fn_with_state(body_limit, body::refuse_large))
+        .layer(middleware::from_fn(access::access_log))
         .layer(middleware::from_fn_with_state(state.metrics.clone(), metrics::track))
         .layer(CatchPanicLayer::custom(|_| ApiError::internal().into_response()))
         .layer(TraceLayer::new_for_http().make_span_with(|req: &Request| {

@@ -98,7 +98,13 @@ impl Shape {
             s.push((404, "Not found in your organisation"));
         }
         if self.body {
-            s.push((413, "The body is larger than the configured bound"));
+            s.push((408, "The body did not arrive in full within the body-read timeout"));
+        }
+        // Judged from `Content-Length` before any route runs (`body.rs`),
+        // so any operation answers it to a request that announces a body
+        // over the bound.
+        s.push((413, "The body is larger than the configured bound (judged from Content-Length when sent)"));
+        if self.body {
             s.push((415, "The body is not sent as JSON"));
             s.push((422, "Validation problems or size and compute bounds, each with a JSON pointer"));
         }

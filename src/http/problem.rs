@@ -112,6 +112,24 @@ impl ApiError {
             format!("no answer within {seconds} s"),
         )
     }
+    /// The body did not arrive in full within the body-read timeout.
+    pub fn body_timeout(timeout: std::time::Duration) -> Self {
+        Self::new(
+            StatusCode::REQUEST_TIMEOUT,
+            "body-timeout",
+            "The body arrived too slowly",
+            format!("the body must arrive in full within {} s of the request head", timeout.as_secs_f64()),
+        )
+    }
+    /// `/readyz` once shutdown has begun.
+    pub fn shutting_down() -> Self {
+        Self::new(
+            StatusCode::SERVICE_UNAVAILABLE,
+            "shutting-down",
+            "The server is shutting down",
+            "this instance is finishing its requests and takes no new work; use another",
+        )
+    }
     pub fn internal() -> Self {
         Self::new(
             StatusCode::INTERNAL_SERVER_ERROR,

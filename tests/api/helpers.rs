@@ -8,7 +8,7 @@
 
 use crate::contract::start_proxy;
 use fluxbound::app::App;
-use fluxbound::config::Config;
+use fluxbound::config::{Config, ConnectionLimits};
 use fluxbound::service::{Limits, Role, Service};
 use reqwest::{Client, Method, RequestBuilder, Response};
 use serde_json::Value;
@@ -89,6 +89,11 @@ pub struct TestApp {
     pub client: Client,
     pub service: Service,
     pub db: TestDb,
+    /// The server itself, behind the proxy: for raw TCP tests that the
+    /// proxy would get in the way of (it reads every body in full).
+    pub server: std::net::SocketAddr,
+    /// The draining flag and connection counters of the server.
+    pub edge: fluxbound::http::server::EdgeState,
     shutdown: Option<oneshot::Sender<()>>,
     handle: Option<JoinHandle<std::io::Result<()>>>,
     /// Departures from the OpenAPI document seen by the contract proxy.
@@ -101,6 +106,11 @@ pub async fn spawn_app() -> TestApp {
 }
 
 pub async fn spawn_app_with(db: TestDb, limits: Limits) -> TestApp {
+    spawn_app_configured(db, limits, ConnectionLimits::default()).await
+}
+
+/// As [`spawn_app_with`], with these client connection limits.
+pub async fn spawn_app_configured(db: TestDb, limits: Limits, connections: ConnectionLimits) -> TestApp {
     LOGS.call_once(|| {
         if std::env::var("TEST_LOG").is_ok() {
             fluxbound::telemetry::init(fluxbound::config::LogFormat::Human);
@@ -112,11 +122,14 @@ pub async fn spawn_app_with(db: TestDb, limits: Limits) -> TestApp {
         database_url: db.database_url.clone(),
         max_connections: 4,
         limits,
-        demo: false,
+        connections,
+        ..Config::new()
     };
     let app = App::build(&config).await.expect("app builds");
-    let base = format!("http://{}", app.local_addr());
+    let server = app.local_addr();
+    let base = format!("http://{server}");
     let service = app.service();
+    let edge = app.edge();
     let (tx, rx) = oneshot::channel::<()>();
     let handle = tokio::spawn(app.serve(async move {
         let _ = rx.await;
@@ -127,6 +140,8 @@ pub async fn spawn_app_with(db: TestDb, limits: Limits) -> TestApp {
         client: Client::new(),
         service,
         db,
+        server,
+        edge,
         shutdown: Some(tx),
         handle: Some(handle),
         violations: proxy.violations,
@@ -135,6 +150,13 @@ pub async fn spawn_app_with(db: TestDb, limits: Limits) -> TestApp {
 }
 
 impl TestApp {
+    /// Fires the server's shutdown signal without waiting for it to exit.
+    pub fn begin_stop(&mut self) {
+        if let Some(tx) = self.shutdown.take() {
+            let _ = tx.send(());
+        }
+    }
+
     /// Stops the server gracefully and waits until it has exited.
     pub async fn stop(mut self) -> TestDb {
         if let Some(tx) = self.shutdown.take() {

@@ -7,6 +7,8 @@ use std::path::{Path, PathBuf};
 use std::process::{Command, Output, Stdio};
 use std::sync::atomic::{AtomicUsize, Ordering};
 
+mod health;
+
 const EXAMPLE: &str = "examples/evaluate-busbar-walkway.json";
 
 fn manifest_dir() -> &'static Path {
