@@ -336,6 +336,8 @@ fn problem_lines(e: UseCaseError) -> Vec<String> {
         UseCaseError::Distance { arg, detail } | UseCaseError::DistanceOverBudget { arg, detail } => {
             vec![format!("--{}: {detail}", arg.name().replace('_', "-"))]
         }
+        // The command line's budget has a flag nobody sets.
+        UseCaseError::Cancelled => vec![e.to_string()],
     }
 }
 

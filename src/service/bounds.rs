@@ -2,6 +2,7 @@
 //! sized for two cores answering within a couple of seconds.
 
 use fluxbound_core::assess::{DEFAULT_MAX_GRID_CELLS, MAP_MAX_CELLS, check_grid_budget};
+use fluxbound_core::cancel::Cancel;
 use fluxbound_core::site::{Pointer, Problems, Site};
 use fluxbound_core::usecase::{Budget, DEFAULT_MAX_DISTANCE_PAIRS, DEFAULT_MAX_PAIRS, segment_count};
 use serde::{Deserialize, Serialize};
@@ -75,6 +76,7 @@ impl Limits {
             max_grid_cells: self.max_grid_cells,
             map_max_cells: MAP_MAX_CELLS,
             max_distance_pairs: self.max_distance_pairs,
+            cancel: Cancel::never(),
         }
     }
 }

@@ -149,6 +149,8 @@ impl From<UseCaseError> for ServiceError {
             U::DistanceOverBudget { arg, detail } => {
                 ServiceError::TooBig(one_problem(format!("/{}", arg.name()), detail))
             }
+            // The service does not set the flag yet.
+            U::Cancelled => ServiceError::Internal("a computation was cancelled".into()),
         }
     }
 }
