@@ -183,6 +183,30 @@ pub struct ServeArgs {
     /// Seconds before a request is answered 503.
     #[arg(long, env = "FLUXBOUND_REQUEST_TIMEOUT_S", default_value_t = 30)]
     pub request_timeout_s: u64,
+    #[command(flatten)]
+    pub compute: ComputeArgs,
+}
+
+/// How many field computations run at once, and how long one waits for a
+/// slot before its request is answered 503 `busy`.
+#[derive(Debug, clap::Args)]
+pub struct ComputeArgs {
+    /// Field computations running at once [default: the number of cores].
+    #[arg(long, env = "FLUXBOUND_MAX_COMPUTATIONS", value_name = "N",
+          value_parser = clap::value_parser!(u16).range(1..))]
+    pub max_computations: Option<u16>,
+    /// Milliseconds a computation waits for a free slot before its request is answered 503 with Retry-After.
+    #[arg(long, env = "FLUXBOUND_COMPUTE_QUEUE_MS", default_value_t = crate::service::DEFAULT_COMPUTE_QUEUE_MS, value_name = "MS")]
+    pub compute_queue_ms: u64,
+}
+
+impl ComputeArgs {
+    fn apply(&self, limits: &mut crate::service::Limits) {
+        if let Some(n) = self.max_computations {
+            limits.max_computations = usize::from(n);
+        }
+        limits.compute_queue_ms = self.compute_queue_ms;
+    }
 }
 
 #[derive(Debug, Subcommand)]
@@ -631,6 +655,7 @@ fn serve(args: ServeArgs) -> Result<ExitCode, CliError> {
     config.limits.max_points = args.max_points;
     config.limits.rate_per_key = args.rate_per_key;
     config.limits.request_timeout_s = args.request_timeout_s;
+    args.compute.apply(&mut config.limits);
     runtime()?.block_on(async move {
         let app = crate::app::App::build(&config).await?;
         if let Some(demo) = &app.demo {

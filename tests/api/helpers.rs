@@ -86,6 +86,9 @@ async fn create_pg_database(admin_url: &str) -> String {
 
 pub struct TestApp {
     pub base: String,
+    /// The server itself, without the contract proxy: for tests of what a
+    /// connection does (the proxy would hold its own to the server).
+    pub direct: std::net::SocketAddr,
     pub client: Client,
     pub service: Service,
     pub db: TestDb,
@@ -115,7 +118,8 @@ pub async fn spawn_app_with(db: TestDb, limits: Limits) -> TestApp {
         demo: false,
     };
     let app = App::build(&config).await.expect("app builds");
-    let base = format!("http://{}", app.local_addr());
+    let direct = app.local_addr();
+    let base = format!("http://{direct}");
     let service = app.service();
     let (tx, rx) = oneshot::channel::<()>();
     let handle = tokio::spawn(app.serve(async move {
@@ -124,6 +128,7 @@ pub async fn spawn_app_with(db: TestDb, limits: Limits) -> TestApp {
     let proxy = start_proxy(base).await;
     TestApp {
         base: proxy.base,
+        direct,
         client: Client::new(),
         service,
         db,

@@ -27,11 +27,11 @@ pub async fn readyz(State(s): State<AppState>) -> Response {
     }
 }
 
-/// Prometheus metrics: requests by route and status, latencies, pairs computed.
+/// Prometheus metrics: requests by route and status, latencies, pairs computed, computations.
 #[utoipa::path(get, path = "/metrics", tag = "operations",
     responses((status = 200, description = "Prometheus text format", body = String, content_type = "text/plain")))]
 pub async fn metrics(State(s): State<AppState>) -> Response {
-    let mut res = s.metrics.render(s.service.pairs_computed()).into_response();
+    let mut res = s.metrics.render(s.service.pairs_computed(), s.service.compute_counts()).into_response();
     res.headers_mut().insert(header::CONTENT_TYPE, HeaderValue::from_static("text/plain; version=0.0.4"));
     res
 }
