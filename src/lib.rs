@@ -12,6 +12,7 @@
 //! telemetry.rs         tracing subscriber (human or JSON)
 //! http/                axum routes (thin handlers), auth, problem+json, OpenAPI
 //! service/             authorisation, transactions, budgets; calls the core's use cases
+//!                      in computation slots, each with a flag its request's drop sets
 //! store/               sqlx over the Any driver: SQLite (default) or PostgreSQL
 //! ```
 //!
