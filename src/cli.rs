@@ -201,6 +201,8 @@ pub struct ServeArgs {
     pub request_timeout_s: u64,
     #[command(flatten)]
     pub connections: ConnectionArgs,
+    #[command(flatten)]
+    pub compute: ComputeArgs,
 }
 
 /// Client connection limits (`config::ConnectionLimits`; defaults and
@@ -263,6 +265,28 @@ impl ConnectionArgs {
             max_connections: usize::try_from(self.max_connections).unwrap_or(usize::MAX),
             drain_timeout: Duration::from_secs(self.drain_timeout_s),
         }
+    }
+}
+
+/// How many field computations run at once, and how long one waits for a
+/// slot before its request is answered 503 `busy`.
+#[derive(Debug, clap::Args)]
+pub struct ComputeArgs {
+    /// Field computations running at once [default: the number of cores].
+    #[arg(long, env = "FLUXBOUND_MAX_COMPUTATIONS", value_name = "N",
+          value_parser = clap::value_parser!(u16).range(1..))]
+    pub max_computations: Option<u16>,
+    /// Milliseconds a computation waits for a free slot before its request is answered 503 with Retry-After.
+    #[arg(long, env = "FLUXBOUND_COMPUTE_QUEUE_MS", default_value_t = crate::service::DEFAULT_COMPUTE_QUEUE_MS, value_name = "MS")]
+    pub compute_queue_ms: u64,
+}
+
+impl ComputeArgs {
+    fn apply(&self, limits: &mut crate::service::Limits) {
+        if let Some(n) = self.max_computations {
+            limits.max_computations = usize::from(n);
+        }
+        limits.compute_queue_ms = self.compute_queue_ms;
     }
 }
 
@@ -420,6 +444,8 @@ fn problem_lines(e: UseCaseError) -> Vec<String> {
         UseCaseError::Distance { arg, detail } | UseCaseError::DistanceOverBudget { arg, detail } => {
             vec![format!("--{}: {detail}", arg.name().replace('_', "-"))]
         }
+        // The command line's budget has a flag nobody sets.
+        UseCaseError::Cancelled => vec![e.to_string()],
     }
 }
 
@@ -726,6 +752,7 @@ fn serve(args: ServeArgs) -> Result<ExitCode, CliError> {
     config.limits.rate_per_key = args.rate_per_key;
     config.limits.request_timeout_s = args.request_timeout_s;
     config.connections = args.connections.limits();
+    args.compute.apply(&mut config.limits);
     runtime()?.block_on(async move {
         let app = crate::app::App::build(&config).await?;
         if let Some(demo) = &app.demo {

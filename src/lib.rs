@@ -17,6 +17,7 @@
 //!                      from Content-Length, 408 for slow bodies; access.rs: the
 //!                      access log
 //! service/             authorisation, transactions, budgets; calls the core's use cases
+//!                      in computation slots, each with a flag its request's drop sets
 //! store/               sqlx over the Any driver: SQLite (default) or PostgreSQL
 //! ```
 //!

@@ -1,5 +1,6 @@
 //! Request counts and latencies by route and status, in Prometheus text.
 
+use crate::service::ComputeCounts;
 use axum::extract::{MatchedPath, Request, State};
 use axum::middleware::Next;
 use axum::response::Response;
@@ -41,7 +42,7 @@ impl Metrics {
     }
 
     /// Prometheus text exposition (version 0.0.4).
-    pub fn render(&self, pairs_computed: u64) -> String {
+    pub fn render(&self, pairs_computed: u64, compute: ComputeCounts) -> String {
         let map = self.series.lock().unwrap_or_else(|p| p.into_inner()).clone();
         let mut s = String::new();
         let _ = writeln!(s, "# HELP fluxbound_http_requests_total HTTP requests answered, by route and status.");
@@ -68,7 +69,32 @@ impl Metrics {
             writeln!(s, "# HELP fluxbound_segment_point_pairs_total Segment-point pairs computed by the field engine.");
         let _ = writeln!(s, "# TYPE fluxbound_segment_point_pairs_total counter");
         let _ = writeln!(s, "fluxbound_segment_point_pairs_total {pairs_computed}");
+        render_compute(&mut s, compute);
         s
+    }
+}
+
+/// The computation gauge and counters (see `service::compute`).
+fn render_compute(s: &mut String, c: ComputeCounts) {
+    let lines = [
+        ("fluxbound_computations_running", "gauge", "Field computations running now.", c.running),
+        (
+            "fluxbound_computations_cancelled_total",
+            "counter",
+            "Field computations stopped because their request was gone.",
+            c.cancelled,
+        ),
+        (
+            "fluxbound_computations_refused_total",
+            "counter",
+            "Requests answered 503 busy: every computation slot stayed taken.",
+            c.refused,
+        ),
+    ];
+    for (name, kind, help, value) in lines {
+        let _ = writeln!(s, "# HELP {name} {help}");
+        let _ = writeln!(s, "# TYPE {name} {kind}");
+        let _ = writeln!(s, "{name} {value}");
     }
 }
 

@@ -129,8 +129,9 @@ pub fn router(state: AppState) -> Router {
         .layer(SetSensitiveRequestHeadersLayer::new([header::AUTHORIZATION]))
 }
 
-/// Answers 503 problem+json when a request runs past the timeout. CPU work
-/// already handed to the blocking pool finishes in the background.
+/// Answers 503 problem+json when a request runs past the timeout. Dropping
+/// the request's future sets its computation's cancellation flag, so field
+/// work on the blocking pool stops at its next chunk (`service::compute`).
 async fn timeout_problem(State(timeout): State<Duration>, req: Request, next: Next) -> Response {
     match tokio::time::timeout(timeout, next.run(req)).await {
         Ok(res) => res,

@@ -10,7 +10,10 @@
 //!   body, path ids, query parameters, authentication), mirroring the
 //!   extractors in [`crate::http::extract`] and the layers in
 //!   [`crate::http::router`]. Statuses that only some routes have (403, 409,
-//!   412, 428) are named on those routes, with a description only.
+//!   412, 428) are named on those routes, with a description only. A route
+//!   that runs the field engine says so with the extension
+//!   [`COMPUTES`]` = true`: it can also answer 422 over the compute budget
+//!   and 503 `busy` with `Retry-After` (`service::compute`).
 //! - [`PathIds`] puts the id patterns that the handlers check on the path
 //!   parameters.
 //!
@@ -55,6 +58,9 @@ fn description() -> String {
     d
 }
 
+/// The operation extension that marks a route running the field engine.
+pub const COMPUTES: &str = "x-computes";
+
 /// What an operation has, as far as its possible errors go.
 struct Shape {
     body: bool,
@@ -62,6 +68,8 @@ struct Shape {
     path_params: bool,
     /// A path parameter or query string the handler parses (400 if bad).
     parsed_params: bool,
+    /// Runs the field engine (extension [`COMPUTES`]).
+    computes: bool,
 }
 
 impl Shape {
@@ -82,6 +90,7 @@ impl Shape {
             parsed_params: params().any(|p| {
                 p.parameter_in == ParameterIn::Query || (p.parameter_in == ParameterIn::Path && p.name != "table_id")
             }),
+            computes: op.extensions.as_ref().is_some_and(|e| e.get(COMPUTES) == Some(&serde_json::Value::Bool(true))),
         }
     }
 
@@ -107,12 +116,18 @@ impl Shape {
         if self.body {
             s.push((415, "The body is not sent as JSON"));
             s.push((422, "Validation problems or size and compute bounds, each with a JSON pointer"));
+        } else if self.computes {
+            s.push((422, "The compute budget (segment-point pairs) is exceeded; a JSON pointer names what to change"));
         }
         if self.authenticated {
             s.push((429, "Rate limit of this API key; see `Retry-After`"));
         }
         s.push((500, "Internal error (logged with the request id; no detail leaks)"));
-        s.push((503, "The database is unreachable, or the request ran past the timeout"));
+        s.push(if self.computes {
+            (503, "Every computation slot is busy (`busy`, with `Retry-After`), the request ran past the timeout, or the database is unreachable")
+        } else {
+            (503, "The database is unreachable, or the request ran past the timeout")
+        });
         s
     }
 }
@@ -124,9 +139,10 @@ struct ErrorResponses;
 impl ErrorResponses {
     fn complete(op: &mut Operation) {
         let problem = ContentBuilder::new().schema(Some(Ref::from_schema_name(ProblemDoc::name()))).build();
-        for (status, description) in Shape::of(op).statuses() {
+        let shape = Shape::of(op);
+        for (status, description) in shape.statuses() {
             op.responses.responses.entry(status.to_string()).or_insert_with(|| {
-                Self::headers(status, ResponseBuilder::new().description(description)).build().into()
+                Self::headers(status, shape.computes, ResponseBuilder::new().description(description)).build().into()
             });
         }
         for (status, response) in op.responses.responses.iter_mut() {
@@ -140,13 +156,16 @@ impl ErrorResponses {
 
 impl ErrorResponses {
     /// The headers `ApiError` sets beside its body (see `problem.rs`).
-    fn headers(status: u16, r: ResponseBuilder) -> ResponseBuilder {
+    fn headers(status: u16, computes: bool, r: ResponseBuilder) -> ResponseBuilder {
         let header = |t: Type, d: &str| {
             HeaderBuilder::new().schema(Some(ObjectBuilder::new().schema_type(t))).description(Some(d)).build()
         };
         match status {
             401 => r.header("WWW-Authenticate", header(Type::String, "`Bearer`")),
             429 => r.header("Retry-After", header(Type::Integer, "Seconds to wait before retrying")),
+            503 if computes => {
+                r.header("Retry-After", header(Type::Integer, "Seconds to wait before retrying (sent with `busy`)"))
+            }
             _ => r,
         }
     }

@@ -36,7 +36,7 @@ pub struct ProblemDoc {
 /// An error answer: status, stable kind, words, and any pointers.
 #[derive(Debug, Clone)]
 pub struct ApiError {
-    /// Seconds for a `Retry-After` header (429).
+    /// Seconds for a `Retry-After` header (429, 503 busy).
     pub retry_after_s: Option<u64>,
     pub status: StatusCode,
     pub kind: &'static str,
@@ -130,6 +130,18 @@ impl ApiError {
             "this instance is finishing its requests and takes no new work; use another",
         )
     }
+    /// Every computation slot stayed taken for the queue wait.
+    pub fn busy(retry_after_s: u64) -> Self {
+        ApiError {
+            retry_after_s: Some(retry_after_s),
+            ..Self::new(
+                StatusCode::SERVICE_UNAVAILABLE,
+                "busy",
+                "The server is busy computing",
+                format!("every computation slot is taken: retry after {retry_after_s} s"),
+            )
+        }
+    }
     pub fn internal() -> Self {
         Self::new(
             StatusCode::INTERNAL_SERVER_ERROR,
@@ -222,6 +234,7 @@ impl From<ServiceError> for ApiError {
                 tracing::error!(error = %s, "storage error");
                 ApiError::internal()
             }
+            E::Busy { retry_after_s } => ApiError::busy(retry_after_s),
             E::Internal(msg) => {
                 tracing::error!(error = %msg, "internal error");
                 ApiError::internal()

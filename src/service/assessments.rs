@@ -86,15 +86,14 @@ impl Service {
         )
         .map_err(ServiceError::Validation)?;
         let (rev, doc, site) = self.site_doc_at_revision(caller, site_id, request.revision).await?;
-        let budget = self.limits().budget();
-        usecase::check_assessment_budget(&site, &budget)?;
+        usecase::check_assessment_budget(&site, &self.limits().budget())?;
         let choice = choose_tables(request.tables.as_deref().unwrap_or_default(), &[], site.tables());
         let (tables, pinned) = self.resolve_tables(caller, &choice).await?;
         let review_fraction = request.options.as_ref().map(|o| o.review_fraction).unwrap_or_default();
         let load = request.load.clone();
         let pairs = usecase::segment_count(site.conductors());
         let result =
-            self.compute(move || usecase::assess_site(&site, &load, &tables, review_fraction, &budget)).await??;
+            self.compute(move |budget| usecase::assess_site(&site, &load, &tables, review_fraction, budget)).await??;
         let result = result.with_provenance(super::provenance_now(&doc, Some(rev.revision), None));
         let result = if regimes.is_empty() { result } else { result.with_regimes(&regimes) };
         let points: u64 = result.positions.iter().map(|p| p.heights.len() as u64).sum::<u64>()

@@ -2,6 +2,7 @@
 //! sized for two cores answering within a couple of seconds.
 
 use fluxbound_core::assess::{DEFAULT_MAX_GRID_CELLS, MAP_MAX_CELLS, check_grid_budget};
+use fluxbound_core::cancel::Cancel;
 use fluxbound_core::site::{Pointer, Problems, Site};
 use fluxbound_core::usecase::{Budget, DEFAULT_MAX_DISTANCE_PAIRS, DEFAULT_MAX_PAIRS, segment_count};
 use serde::{Deserialize, Serialize};
@@ -27,7 +28,28 @@ pub struct Limits {
     /// Segment–point pairs per distance query (its probes go one point at a
     /// time: ≈ 1 s at the default, estimated).
     pub max_distance_pairs: u64,
+    // Concurrent computations (see `Service::compute`).
+    /// Field computations running at once; more wait for a slot.
+    pub max_computations: usize,
+    /// Milliseconds a computation waits for a slot before its request is
+    /// answered 503 `busy` with `Retry-After`.
+    pub compute_queue_ms: u64,
 }
+
+/// Default computations at once: one per core. The engine already spreads
+/// one computation over every core (rayon), so more at once only share the
+/// same cores and all finish later; as many as cores keeps each core busy
+/// while a computation is in one of its single-threaded steps (load fit,
+/// refinement, distance probes).
+pub fn default_max_computations() -> usize {
+    std::thread::available_parallelism().map_or(1, |n| n.get())
+}
+
+/// Default queue wait, ms: about one computation at the default pair
+/// budget (≈ 1 s on two cores), so a slot frees within it unless every
+/// slot holds a large computation; past it the server is overloaded, not
+/// briefly busy, and a quick answer serves the client better.
+pub const DEFAULT_COMPUTE_QUEUE_MS: u64 = 1_000;
 
 impl Default for Limits {
     fn default() -> Self {
@@ -42,6 +64,8 @@ impl Default for Limits {
             rate_per_key: 50,
             request_timeout_s: 30,
             max_distance_pairs: DEFAULT_MAX_DISTANCE_PAIRS,
+            max_computations: default_max_computations(),
+            compute_queue_ms: DEFAULT_COMPUTE_QUEUE_MS,
         }
     }
 }
@@ -68,13 +92,21 @@ impl Limits {
         p
     }
 
-    /// The compute budgets of the use cases.
+    /// The compute budgets of the use cases, with a flag nobody sets
+    /// (`Service::compute` gives each computation its own).
     pub fn budget(&self) -> Budget {
         Budget {
             max_pairs: self.max_pairs,
             max_grid_cells: self.max_grid_cells,
             map_max_cells: MAP_MAX_CELLS,
             max_distance_pairs: self.max_distance_pairs,
+            cancel: Cancel::never(),
         }
+    }
+
+    /// Seconds a client refused as busy is told to wait (`Retry-After`):
+    /// the queue wait, rounded up, at least 1.
+    pub fn busy_retry_after_s(&self) -> u64 {
+        self.compute_queue_ms.div_ceil(1000).max(1)
     }
 }

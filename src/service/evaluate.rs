@@ -21,8 +21,7 @@ impl Service {
         if !bounds.is_empty() {
             return Err(ServiceError::TooBig(bounds));
         }
-        let budget = limits.budget();
-        let response = self.compute(move || usecase::evaluate_points(&req, &budget)).await??;
+        let response = self.compute(move |budget| usecase::evaluate_points(&req, budget)).await??;
         self.count_pairs(response.segment_point_pairs);
         Ok(response)
     }

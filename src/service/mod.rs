@@ -9,6 +9,7 @@
 mod assessments;
 mod auth;
 mod bounds;
+mod compute;
 mod evaluate;
 mod reports;
 mod sites;
@@ -17,7 +18,8 @@ mod tables;
 
 pub use assessments::{AssessmentRequest, AssessmentView};
 pub use auth::{Caller, Role, hash_secret};
-pub use bounds::Limits;
+pub use bounds::{DEFAULT_COMPUTE_QUEUE_MS, Limits, default_max_computations};
+pub use compute::ComputeCounts;
 pub use sites::{IfMatch, SiteView};
 pub use surveys::SurveyView;
 pub use tables::{TableVersionInfo, TableView};
@@ -54,30 +56,35 @@ pub enum ServiceError {
     Unauthorized,
     #[error("storage: {0}")]
     Store(#[from] StoreError),
+    /// Every computation slot stayed taken for the queue wait.
+    #[error("every computation slot is busy: retry after {retry_after_s} s")]
+    Busy { retry_after_s: u64 },
     #[error("internal: {0}")]
     Internal(String),
 }
 
 impl ServiceError {
     pub fn is_client_error(&self) -> bool {
-        !matches!(self, ServiceError::Store(_) | ServiceError::Internal(_))
+        !matches!(self, ServiceError::Store(_) | ServiceError::Internal(_) | ServiceError::Busy { .. })
     }
 }
 
 pub type Result<T> = std::result::Result<T, ServiceError>;
 
-/// Shared state of the use cases. Cheap to clone; the counter is shared by
-/// all clones and only ever increases.
+/// Shared state of the use cases. Cheap to clone; the counters and the
+/// computation slots are shared by all clones.
 #[derive(Clone, Debug)]
 pub struct Service {
     store: Store,
     limits: Limits,
     pairs: Arc<AtomicU64>,
+    compute: compute::Slots,
 }
 
 impl Service {
     pub fn new(store: Store, limits: Limits) -> Self {
-        Service { store, limits, pairs: Arc::new(AtomicU64::new(0)) }
+        let compute = compute::Slots::new(limits.max_computations);
+        Service { store, limits, pairs: Arc::new(AtomicU64::new(0)), compute }
     }
     pub fn store(&self) -> &Store {
         &self.store
@@ -91,12 +98,6 @@ impl Service {
     }
     fn count_pairs(&self, n: u64) {
         self.pairs.fetch_add(n, Ordering::Relaxed);
-    }
-
-    /// Runs CPU-bound work on the blocking pool (the field engine itself
-    /// fans out over rayon).
-    async fn compute<T: Send + 'static>(&self, f: impl FnOnce() -> T + Send + 'static) -> Result<T> {
-        tokio::task::spawn_blocking(f).await.map_err(|e| ServiceError::Internal(format!("compute task failed: {e}")))
     }
 }
 
@@ -149,6 +150,9 @@ impl From<UseCaseError> for ServiceError {
             U::DistanceOverBudget { arg, detail } => {
                 ServiceError::TooBig(one_problem(format!("/{}", arg.name()), detail))
             }
+            // Only a dropped request sets the flag, and nobody awaits its
+            // answer: seen here, it is a bug.
+            U::Cancelled => ServiceError::Internal("a computation was cancelled while its request waited".into()),
         }
     }
 }

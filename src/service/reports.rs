@@ -53,10 +53,10 @@ impl Service {
         if !ctx.site.areas().iter().any(|a| a.id == area_id) {
             return Err(ServiceError::NotFound("area"));
         }
-        let (area_id, budget) = (area_id.to_string(), self.limits().budget());
+        let area_id = area_id.to_string();
         let svg = self
-            .compute(move || {
-                usecase::area_map_svg(&ctx.site, &ctx.result, &ctx.request.load, &ctx.tables, &area_id, &budget)
+            .compute(move |budget| {
+                usecase::area_map_svg(&ctx.site, &ctx.result, &ctx.request.load, &ctx.tables, &area_id, budget)
             })
             .await??;
         Ok(svg)
@@ -71,9 +71,10 @@ impl Service {
     #[tracing::instrument(name = "reports_geojson", skip_all, fields(org = %caller.org_id, assessment = %id))]
     pub async fn reports_geojson(&self, caller: &Caller, id: &AssessmentId) -> Result<serde_json::Value> {
         let ctx = self.report_context(caller, id).await?;
-        let budget = self.limits().budget();
         let doc = self
-            .compute(move || usecase::export_geojson(&ctx.site, &ctx.result, &ctx.request.load, &ctx.tables, &budget))
+            .compute(move |budget| {
+                usecase::export_geojson(&ctx.site, &ctx.result, &ctx.request.load, &ctx.tables, budget)
+            })
             .await??;
         Ok(doc)
     }
@@ -100,9 +101,8 @@ impl Service {
         {
             ctx.tables.push(stored_table(&v)?);
         }
-        let budget = self.limits().budget();
         let result = self
-            .compute(move || usecase::distance(&ctx.site, &ctx.request.load, &query, &ctx.tables, &budget))
+            .compute(move |budget| usecase::distance(&ctx.site, &ctx.request.load, &query, &ctx.tables, budget))
             .await??;
         self.count_pairs(result.pairs_used);
         Ok(result)

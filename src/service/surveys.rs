@@ -33,13 +33,12 @@ impl Service {
         caller.require(Role::Assessor)?;
         let (rev, site) = self.site_at_revision(caller, site_id, doc.revision).await?;
         let survey = usecase::check_survey(&site, &doc)?;
-        let budget = self.limits().budget();
-        usecase::check_survey_budget(&survey, &budget)?;
+        usecase::check_survey_budget(&survey, &self.limits().budget())?;
         let pairs = usecase::survey_pairs(&survey);
         let choice = choose_tables(&[], survey.tables(), site.tables());
         let (tables, _) = self.resolve_tables(caller, &choice).await?;
         let analysis =
-            self.compute(move || usecase::analyse_survey(&survey, &tables, review_fraction, &budget)).await??;
+            self.compute(move |budget| usecase::analyse_survey(&survey, &tables, review_fraction, budget)).await??;
         self.count_pairs(pairs);
         let row = self
             .store()

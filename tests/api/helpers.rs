@@ -86,6 +86,9 @@ async fn create_pg_database(admin_url: &str) -> String {
 
 pub struct TestApp {
     pub base: String,
+    /// The server itself, without the contract proxy: for tests of what a
+    /// connection does (the proxy would hold its own to the server).
+    pub direct: std::net::SocketAddr,
     pub client: Client,
     pub service: Service,
     pub db: TestDb,
@@ -128,6 +131,7 @@ pub async fn spawn_app_configured(db: TestDb, limits: Limits, connections: Conne
     let app = App::build(&config).await.expect("app builds");
     let server = app.local_addr();
     let base = format!("http://{server}");
+    let direct = server;
     let service = app.service();
     let edge = app.edge();
     let (tx, rx) = oneshot::channel::<()>();
@@ -137,6 +141,7 @@ pub async fn spawn_app_configured(db: TestDb, limits: Limits, connections: Conne
     let proxy = start_proxy(base).await;
     TestApp {
         base: proxy.base,
+        direct,
         client: Client::new(),
         service,
         db,

@@ -5,6 +5,7 @@ mod contract;
 mod helpers;
 
 mod assessments;
+mod compute;
 mod edges;
 mod errors;
 mod evaluate;

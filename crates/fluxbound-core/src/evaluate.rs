@@ -3,6 +3,7 @@
 //! The same JSON is read by `fluxbound evaluate` and (in the service) by
 //! `POST /v1/evaluate`, so its key names are a published interface.
 
+use crate::cancel::{Cancel, Cancelled};
 use crate::cautions::cautions;
 use crate::field::{self, FieldPhasor};
 use crate::site::warnings::{Probe, model_warnings};
@@ -154,10 +155,15 @@ pub fn validate_request(req: &EvaluateRequest) -> Result<Evaluation, Problems> {
 
 /// Computes the field at every point, in input order.
 pub fn evaluate(ev: &Evaluation) -> EvaluateResponse {
+    crate::cancel::uncancelled(try_evaluate(ev, &Cancel::never()))
+}
+
+/// [`evaluate`] that stops with [`Cancelled`] soon after `cancel` is set.
+pub fn try_evaluate(ev: &Evaluation, cancel: &Cancel) -> Result<EvaluateResponse, Cancelled> {
     let filaments = site::filaments(&ev.conductors);
     let drives: Vec<_> = ev.conductors.iter().map(|c| c.drive).collect();
     let excitation = excitation_of(ev.frequency_hz, &ev.circuits, &drives, &[]);
-    let set = field::evaluate(&filaments, &ev.points, &excitation);
+    let set = field::try_evaluate(&filaments, &ev.points, &excitation, cancel)?;
     let points = ev
         .points
         .iter()
@@ -191,13 +197,13 @@ pub fn evaluate(ev: &Evaluation) -> EvaluateResponse {
             }
         })
         .collect();
-    EvaluateResponse {
+    Ok(EvaluateResponse {
         frequency_hz: ev.frequency_hz,
         points,
         segment_point_pairs: ev.pair_count(),
         cautions: cautions(),
         warnings: evaluation_warnings(ev),
-    }
+    })
 }
 
 /// The model warnings of a checked request, pointers into the request.

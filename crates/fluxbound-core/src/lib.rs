@@ -29,6 +29,7 @@
 //! usecase     one function per thing a caller can do (CLI and service alike)
 //! evaluate    the stateless evaluation document
 //! cautions    the cautions every result carries
+//! cancel      the flag that stops a computation between chunks of work
 //! ```
 //!
 //! Every result is a computed pre-screen: compliance is decided under local
@@ -37,6 +38,7 @@
 #![deny(clippy::print_stdout, clippy::print_stderr)]
 
 pub mod assess;
+pub mod cancel;
 pub mod cautions;
 pub mod evaluate;
 pub mod field;

@@ -12,16 +12,19 @@ use crate::assess::{
     self, AreaMap, AssessError, Assessment, DEFAULT_MAX_GRID_CELLS, LoadCase, LoadError, MAP_MAX_CELLS, Options,
     ReviewFraction,
 };
+use crate::cancel::{Cancel, Cancelled};
 use crate::evaluate::{self, EvaluateRequest, EvaluateResponse};
 use crate::limits::{ReferenceTable, UnknownTable};
 use crate::mitigate::{self, DistanceResult, Origin};
 use crate::report::{csv, geojson, svg};
-use crate::site::{Conductor, Placement, Pointer, Problem, Problems, Site};
+use crate::site::{Area, Conductor, Placement, Pointer, Problem, Problems, Site};
 use crate::survey::{self, Survey, SurveyAnalysis, wire::SurveyDoc};
 
-/// Compute budgets of one request. The service reads them from its
-/// configuration; the CLI uses [`Budget::offline`].
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+/// Compute budgets of one request: how much work it may ask for, and how
+/// long it may run (until `cancel` is set). The service reads the numbers
+/// from its configuration and gives each request its own flag; the CLI
+/// uses [`Budget::offline`], whose flag nobody sets.
+#[derive(Debug, Clone)]
 pub struct Budget {
     /// Segment–point pairs per computation (≈ 1 s of the engine on two AVX2
     /// cores at the default).
@@ -31,8 +34,12 @@ pub struct Budget {
     /// Nodes of one area map (the map is coarsened to fit).
     pub map_max_cells: usize,
     /// Segment–point pairs of one distance query (its probes of the field
-    /// and of the bounds each count every segment once).
+    /// and of the bounds each count every segment once), within
+    /// `max_pairs` as well.
     pub max_distance_pairs: u64,
+    /// Set when the answer is no longer wanted: every use case looks at it
+    /// between chunks of work and stops with [`UseCaseError::Cancelled`].
+    pub cancel: Cancel,
 }
 
 /// Default segment–point pairs per computation.
@@ -55,6 +62,7 @@ impl Default for Budget {
             max_grid_cells: DEFAULT_MAX_GRID_CELLS,
             map_max_cells: MAP_MAX_CELLS,
             max_distance_pairs: DEFAULT_MAX_DISTANCE_PAIRS,
+            cancel: Cancel::never(),
         }
     }
 }
@@ -128,6 +136,16 @@ pub enum UseCaseError {
     /// size is to blame.
     #[error("the request exceeds a compute budget")]
     OverBudget(Problems),
+    /// The budget's `cancel` flag was set before the work ended: there is
+    /// no result, not even a partial one.
+    #[error("the computation was cancelled")]
+    Cancelled,
+}
+
+impl From<Cancelled> for UseCaseError {
+    fn from(_: Cancelled) -> Self {
+        UseCaseError::Cancelled
+    }
 }
 
 /// `problems` with every pointer put under `prefix` (an RFC 6901 pointer,
@@ -213,7 +231,7 @@ pub fn assess_site(
         max_grid_cells: budget.max_grid_cells,
         max_refine_pairs: budget.max_pairs.saturating_sub(assessment_pairs(site)),
     };
-    assess::assess(site, load, tables, &options).map_err(|e| {
+    assess::try_assess(site, load, tables, &options, &budget.cancel)?.map_err(|e| {
         if e.over_budget.is_empty() { UseCaseError::Assess(e) } else { UseCaseError::OverBudget(e.over_budget) }
     })
 }
@@ -253,7 +271,7 @@ pub fn analyse_survey(
     budget: &Budget,
 ) -> Result<SurveyAnalysis, UseCaseError> {
     check_survey_budget(survey, budget)?;
-    survey::analyse(survey, tables, review_fraction).map_err(UseCaseError::Survey)
+    Ok(survey::try_analyse(survey, tables, review_fraction, &budget.cancel)?)
 }
 
 /// The verdicts of a stored extrapolation judged again at another review
@@ -273,7 +291,35 @@ fn resolve_load(site: &Site, load: &LoadCase) -> Result<Vec<crate::site::Circuit
     load.resolve(site).map_err(UseCaseError::Load)
 }
 
-/// The field maps of every area of `site` at `load`.
+/// Segment–point pairs of the field map of `area` of `site`: the nodes of
+/// its grid, coarsened to `budget.map_max_cells`, times the segments.
+pub fn map_pairs(site: &Site, area: &Area, budget: &Budget) -> u64 {
+    let nodes = assess::GridSpec::covering(&area.polygon, area.spacing_m, budget.map_max_cells).len() as u64;
+    nodes.saturating_mul(segment_count(site.conductors()))
+}
+
+/// Checks the pair budget of the maps of the areas at `indices` of `site`
+/// together (pointer into the site: the one area's spacing, else its areas).
+pub fn check_map_budget(site: &Site, indices: &[usize], budget: &Budget) -> Result<(), UseCaseError> {
+    let pairs = indices.iter().map(|&k| map_pairs(site, &site.areas()[k], budget)).fold(0, u64::saturating_add);
+    if pairs <= budget.max_pairs {
+        return Ok(());
+    }
+    let at = match indices {
+        [k] => Pointer::root().key("areas").index(*k).key("spacing_m"),
+        _ => Pointer::root().key("areas"),
+    };
+    Err(over_budget(
+        &at.to_string(),
+        format!(
+            "the field map needs {pairs} segment-point pairs, over the budget of {}: assess a revision of the site with a coarser spacing_m or fewer conductor segments",
+            budget.max_pairs
+        ),
+    ))
+}
+
+/// The field maps of every area of `site` at `load`, within the pair
+/// budget for all of them together.
 pub fn area_maps(
     site: &Site,
     load: &LoadCase,
@@ -281,10 +327,13 @@ pub fn area_maps(
     budget: &Budget,
 ) -> Result<Vec<AreaMap>, UseCaseError> {
     let loads = resolve_load(site, load)?;
-    Ok(site.areas().iter().map(|a| assess::area_map(site, &loads, tables, a, budget.map_max_cells)).collect())
+    check_map_budget(site, &(0..site.areas().len()).collect::<Vec<_>>(), budget)?;
+    let map = |a| assess::try_area_map(site, &loads, tables, a, budget.map_max_cells, &budget.cancel);
+    Ok(site.areas().iter().map(map).collect::<Result<_, Cancelled>>()?)
 }
 
-/// The field map of the area `area_id` of an assessed site as SVG.
+/// The field map of the area `area_id` of an assessed site as SVG, within
+/// the pair budget.
 pub fn area_map_svg(
     site: &Site,
     assessment: &Assessment,
@@ -293,10 +342,14 @@ pub fn area_map_svg(
     area_id: &str,
     budget: &Budget,
 ) -> Result<String, UseCaseError> {
-    let area =
-        site.areas().iter().find(|a| a.id == area_id).ok_or_else(|| UseCaseError::UnknownArea(area_id.to_string()))?;
+    let k = site
+        .areas()
+        .iter()
+        .position(|a| a.id == area_id)
+        .ok_or_else(|| UseCaseError::UnknownArea(area_id.to_string()))?;
     let loads = resolve_load(site, load)?;
-    let map = assess::area_map(site, &loads, tables, area, budget.map_max_cells);
+    check_map_budget(site, &[k], budget)?;
+    let map = assess::try_area_map(site, &loads, tables, &site.areas()[k], budget.map_max_cells, &budget.cancel)?;
     Ok(svg::area_map_svg(site, assessment, &map))
 }
 
@@ -392,7 +445,8 @@ pub fn distance_to_level(site: &Site, load: &LoadCase, query: &DistanceQuery) ->
 /// The first crossing and the clearance from the query's origin along its
 /// direction (or the shortest clearance), to its level or to its table
 /// (looked up in `tables`, then among the built-in ones), within
-/// `budget.max_distance_pairs`.
+/// `budget.max_distance_pairs` (and `budget.max_pairs`, the ceiling of
+/// every computation).
 pub fn distance(
     site: &Site,
     load: &LoadCase,
@@ -405,15 +459,18 @@ pub fn distance(
         DistanceTo::LevelUt(l) => mitigate::Target::LevelUt(*l),
         DistanceTo::Table(id) => mitigate::Target::Table(distance_table(id, tables)?),
     };
-    let meter = mitigate::Meter::new(site, &loads, &target).map_err(|e| distance_failure(e, query, site))?;
+    let meter = mitigate::Meter::new(site, &loads, &target)
+        .map_err(|e| distance_failure(e, query, site))?
+        .stopped_by(&budget.cancel);
     let at = query.origin.locate(site, &meter).map_err(distance_error(DistanceArg::From))?;
-    mitigate::distance_with(&meter, site, at, query.direction, budget.max_distance_pairs)
-        .map_err(|e| distance_failure(e, query, site))
+    let pairs = budget.max_distance_pairs.min(budget.max_pairs);
+    mitigate::distance_with(&meter, site, at, query.direction, pairs).map_err(|e| distance_failure(e, query, site))
 }
 
 /// A distance search's failure, addressed to what the caller can change.
 fn distance_failure(e: mitigate::DistanceError, query: &DistanceQuery, site: &Site) -> UseCaseError {
     match e {
+        mitigate::DistanceError::Cancelled => UseCaseError::Cancelled,
         mitigate::DistanceError::NotCovered(hz) => {
             let list: Vec<String> = hz.iter().map(|f| format!("{f} Hz")).collect();
             distance_error(DistanceArg::Table)(format!(
@@ -455,5 +512,5 @@ pub fn evaluate_points(req: &EvaluateRequest, budget: &Budget) -> Result<Evaluat
             ),
         ));
     }
-    Ok(evaluate::evaluate(&ev))
+    Ok(evaluate::try_evaluate(&ev, &budget.cancel)?)
 }

@@ -21,6 +21,7 @@ use axum::response::Response;
         (status = 409, description = "A custom table changed while assessing; retry"),
         (status = 422, description = "Problems (unknown tables, load case, options) or compute budget exceeded"),
     ),
+    extensions(("x-computes" = json!(true))),
     security(("bearer" = [])))]
 pub async fn assessments_create(
     State(s): State<AppState>,

@@ -15,6 +15,7 @@ use fluxbound_core::evaluate::{EvaluateRequest, EvaluateResponse};
         (status = 200, description = "Field at every point, in input order, with the cautions", body = EvaluateResponse),
         (status = 422, description = "Validation problems, or the compute budget (segment-point pairs) is exceeded"),
     ),
+    extensions(("x-computes" = json!(true))),
     security(("bearer" = [])))]
 pub async fn evaluate(
     State(s): State<AppState>,

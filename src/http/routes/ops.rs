@@ -31,11 +31,11 @@ pub async fn readyz(State(s): State<AppState>) -> Response {
 }
 
 /// Prometheus metrics: requests by route and status, latencies, pairs
-/// computed, client connections (open, shed, refused, timed out).
+/// computed, computations, client connections (open, shed, refused, timed out).
 #[utoipa::path(get, path = "/metrics", tag = "operations",
     responses((status = 200, description = "Prometheus text format", body = String, content_type = "text/plain")))]
 pub async fn metrics(State(s): State<AppState>) -> Response {
-    let mut text = s.metrics.render(s.service.pairs_computed());
+    let mut text = s.metrics.render(s.service.pairs_computed(), s.service.compute_counts());
     text.push_str(&s.edge.stats.render());
     let mut res = text.into_response();
     res.headers_mut().insert(header::CONTENT_TYPE, HeaderValue::from_static("text/plain; version=0.0.4"));

@@ -23,7 +23,9 @@ fn typed(body: String, content_type: &'static str) -> Response {
     responses(
         (status = 200, description = "SVG image", body = String, content_type = "image/svg+xml"),
         (status = 404, description = "No such assessment or area"),
+        (status = 422, description = "The map exceeds the compute budget (`budget-exceeded` at the area's `spacing_m` in the assessed site)"),
     ),
+    extensions(("x-computes" = json!(true))),
     security(("bearer" = [])))]
 pub async fn reports_map(
     State(s): State<AppState>,
@@ -61,7 +63,9 @@ pub async fn reports_csv(
     responses(
         (status = 200, description = "GeoJSON FeatureCollection", body = Object, content_type = "application/geo+json"),
         (status = 404, description = "No such assessment"),
+        (status = 422, description = "The maps of the areas exceed the compute budget (`budget-exceeded`, pointing at the areas of the assessed site)"),
     ),
+    extensions(("x-computes" = json!(true))),
     security(("bearer" = [])))]
 pub async fn reports_geojson(
     State(s): State<AppState>,
@@ -109,6 +113,7 @@ pub struct DistanceQuery {
         (status = 400, description = "Neither level_ut nor table given, or a malformed query"),
         (status = 422, description = "Unknown position, conductor or table, bad level or direction, a table that does not cover the site's frequencies, or over the distance budget (`budget-exceeded`)"),
     ),
+    extensions(("x-computes" = json!(true))),
     security(("bearer" = [])))]
 pub async fn reports_distance(
     State(s): State<AppState>,

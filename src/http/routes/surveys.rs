@@ -51,6 +51,7 @@ impl ReviewQuery {
         (status = 404, description = "No such site or revision"),
         (status = 422, description = "Validation problems (including CSV rows) or compute budget"),
     ),
+    extensions(("x-computes" = json!(true))),
     security(("bearer" = [])))]
 pub async fn surveys_create(
     State(s): State<AppState>,

@@ -3,6 +3,7 @@
 //! boundary polygons are drawn from.
 
 use super::{GridSpec, applies, exposure_ratio, line_levels};
+use crate::cancel::{Cancel, Cancelled, uncancelled};
 use crate::field;
 use crate::limits::ReferenceTable;
 use crate::site::wire::{BodyRegion, Group};
@@ -49,11 +50,23 @@ pub fn area_map(
     area: &Area,
     max_cells: usize,
 ) -> AreaMap {
+    uncancelled(try_area_map(site, loads, tables, area, max_cells, &Cancel::never()))
+}
+
+/// [`area_map`] that stops with [`Cancelled`] soon after `cancel` is set.
+pub fn try_area_map(
+    site: &Site,
+    loads: &[CircuitLoad],
+    tables: &[ReferenceTable],
+    area: &Area,
+    max_cells: usize,
+    cancel: &Cancel,
+) -> Result<AreaMap, Cancelled> {
     let grid = GridSpec::covering(&area.polygon, area.spacing_m, max_cells);
     let points: Vec<Point3<f64>> = grid.nodes_at(area.height_m).collect();
     let filaments = crate::site::filaments(site.conductors());
     let excitation = site.excitation_at(loads);
-    let set = field::evaluate(&filaments, &points, &excitation);
+    let set = field::try_evaluate(&filaments, &points, &excitation, cancel)?;
     let mut inside_conductor = vec![false; points.len()];
     for h in &set.inside {
         inside_conductor[h.point] = true;
@@ -72,7 +85,7 @@ pub fn area_map(
             TableRatios { table_id: t.id().to_string(), level_ut: t.level_ut(site.frequency_hz()).ok(), ratio }
         })
         .collect();
-    AreaMap {
+    Ok(AreaMap {
         area_id: area.id.clone(),
         height_m: area.height_m,
         polygon: area.polygon.clone(),
@@ -81,5 +94,5 @@ pub fn area_map(
         inside_conductor,
         in_area,
         tables,
-    }
+    })
 }

@@ -18,13 +18,14 @@ mod weighted_peak;
 
 pub use grid::{DEFAULT_MAX_GRID_CELLS, GridSpec, area_grid, bounding_cells, check_grid_budget, contains};
 pub use load::{CircuitLoadReport, LoadCase, LoadCaseReport, LoadError, PhaseLoadReport};
-pub use map::{AreaMap, MAP_MAX_CELLS, TableRatios, area_map};
+pub use map::{AreaMap, MAP_MAX_CELLS, TableRatios, area_map, try_area_map};
 pub use peak::CERTAINTY;
 pub use regime::{RegimeResult, read_regimes};
 pub use review::{ReviewFraction, ReviewFractionError};
 pub use verdict::{FrequencyRatio, Ratio, Verdict, exposure_ratio, line_levels, ratio_of};
 pub use weighted_peak::{LineInfo, NotComputed, Term, Weighting, filter_phase_deg, peak_magnitude};
 
+use crate::cancel::{Cancel, Cancelled, uncancelled};
 use crate::cautions::cautions;
 use crate::field;
 use crate::limits::{
@@ -577,25 +578,43 @@ pub fn assess(
     tables: &[ReferenceTable],
     options: &Options,
 ) -> Result<Assessment, AssessError> {
-    let loads = check_inputs(site, load, tables, options)?;
+    uncancelled(try_assess(site, load, tables, options, &Cancel::never()))
+}
+
+/// [`assess`] that stops with the outer [`Cancelled`] soon after `cancel`
+/// is set; the inner result is the assessment or its problems.
+pub fn try_assess(
+    site: &Site,
+    load: &LoadCase,
+    tables: &[ReferenceTable],
+    options: &Options,
+    cancel: &Cancel,
+) -> Result<Result<Assessment, AssessError>, Cancelled> {
+    let loads = match check_inputs(site, load, tables, options) {
+        Ok(loads) => loads,
+        Err(e) => return Ok(Err(e)),
+    };
     let tables = with_implant_table(site, dedup_tables(tables));
     let plan = PointPlan::of(site);
     let excitation = site.excitation_at(&loads);
     let filaments = crate::site::filaments(site.conductors());
     let sampler = Sampler {
         site,
-        set: field::evaluate(&filaments, &plan.points, &excitation),
+        set: field::try_evaluate(&filaments, &plan.points, &excitation, cancel)?,
         line_hz: excitation.lines.iter().map(|l| l.frequency_hz).collect(),
         lines: line_infos(site, &excitation),
     };
     let bounds = field::bound::SegmentBounds::new(&filaments, &excitation);
-    let engine = peak::Engine { filaments: &filaments, excitation: &excitation, bounds: &bounds };
+    let engine = peak::Engine { filaments: &filaments, excitation: &excitation, bounds: &bounds, cancel };
     let rf = options.review_fraction;
     let mut positions = assess_positions(site, &plan, &sampler, &tables, rf);
-    let mut areas = assess_areas(site, &plan, &sampler, &engine, &tables, rf, options.max_refine_pairs)?;
+    let mut areas = match assess_areas(site, &plan, &sampler, &engine, &tables, rf, options.max_refine_pairs)? {
+        Ok(areas) => areas,
+        Err(e) => return Ok(Err(e)),
+    };
     read_builtin_regimes(&tables, &mut positions, &mut areas);
     let summary = summarise(&positions, &areas);
-    Ok(Assessment {
+    Ok(Ok(Assessment {
         site_name: site.name().map(str::to_string),
         frequency_hz: site.frequency_hz(),
         load_case: load::report(load, site, &loads),
@@ -609,7 +628,7 @@ pub fn assess(
         cautions: cautions(),
         provenance: None,
         warnings: crate::site::site_warnings(site),
-    })
+    }))
 }
 
 /// Fills each position's and area's `regimes` from its verdicts, against
@@ -732,7 +751,7 @@ fn assess_areas(
     tables: &[ReferenceTable],
     rf: ReviewFraction,
     max_refine_pairs: u64,
-) -> Result<Vec<AreaResult>, AssessError> {
+) -> Result<Result<Vec<AreaResult>, AssessError>, Cancelled> {
     let area_tables: Vec<&ReferenceTable> =
         tables.iter().filter(|t| applies(t, BodyRegion::WholeBody, Group::General)).collect();
     let measures = AreaMeasures::of(&area_tables, &sampler.line_hz);
@@ -741,7 +760,11 @@ fn assess_areas(
     for (k, (a, span)) in site.areas().iter().zip(&plan.areas).enumerate() {
         let samples: Vec<CellSample> =
             span.clone().map(|i| CellSample { at: plan.points[i], field: sampler.sample(i) }).collect();
-        let peak = area_peak(engine, a, &samples, &measures.list, left).map_err(|e| refine_over_budget(k, e))?;
+        let peak = match area_peak(engine, a, &samples, &measures.list, left) {
+            Ok(peak) => peak,
+            Err(peak::Unfinished::OverBudget(e)) => return Ok(Err(refine_over_budget(k, e))),
+            Err(peak::Unfinished::Cancelled) => return Err(Cancelled),
+        };
         left = left.saturating_sub(peak.pairs);
         let worst_phasors = worst_point_phasors(engine, &peak, &measures);
         out.push(assess_area(
@@ -755,7 +778,7 @@ fn assess_areas(
             &worst_phasors,
         ));
     }
-    Ok(out)
+    Ok(Ok(out))
 }
 
 /// What an area's maximum is taken of: the resultant first, then the ratio
@@ -813,7 +836,7 @@ fn area_peak(
     samples: &[CellSample],
     measures: &[peak::Measure],
     budget_pairs: u64,
-) -> Result<peak::AreaPeak, peak::OverBudget> {
+) -> Result<peak::AreaPeak, peak::Unfinished> {
     let cells: Vec<(Point3<f64>, Option<Vec<f64>>)> = samples
         .iter()
         .map(|s| (s.at, s.field.computed().then(|| s.field.spectrum.iter().map(|(_, b)| *b).collect())))

@@ -13,6 +13,7 @@
 //! points of the closed polygon outside every conductor.
 
 use super::grid::{GridSpec, contains};
+use crate::cancel::{Cancel, Cancelled};
 use crate::field::{self, Excitation, Filaments, bound::SegmentBounds};
 use nalgebra::{Point2, Point3};
 
@@ -48,20 +49,22 @@ impl Measure {
     }
 }
 
-/// The field engine's view of a site at one load: what sampling needs.
+/// The field engine's view of a site at one load: what sampling needs,
+/// and the flag that stops it.
 pub struct Engine<'a> {
     pub filaments: &'a Filaments,
     pub excitation: &'a Excitation,
     pub bounds: &'a SegmentBounds,
+    pub cancel: &'a Cancel,
 }
 
 impl Engine<'_> {
     /// Line resultants at each point, µT (`None` inside a conductor).
-    fn sample(&self, points: &[Point3<f64>]) -> Vec<Option<Vec<f64>>> {
-        let set = field::evaluate(self.filaments, points, self.excitation);
-        (0..points.len())
+    fn sample(&self, points: &[Point3<f64>]) -> Result<Vec<Option<Vec<f64>>>, Cancelled> {
+        let set = field::try_evaluate(self.filaments, points, self.excitation, self.cancel)?;
+        Ok((0..points.len())
             .map(|i| set.inside_of(i).next().is_none().then(|| set.at(i).iter().map(field::resultant_ut).collect()))
-            .collect()
+            .collect())
     }
     fn pairs(&self, points: usize) -> u64 {
         (points as u64).saturating_mul(self.filaments.segment_count() as u64)
@@ -97,6 +100,25 @@ pub struct AreaPeak {
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct OverBudget {
     pub needed_pairs: u64,
+}
+
+/// Why a refinement stopped without a maximum.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Unfinished {
+    OverBudget(OverBudget),
+    Cancelled,
+}
+
+impl From<OverBudget> for Unfinished {
+    fn from(e: OverBudget) -> Self {
+        Unfinished::OverBudget(e)
+    }
+}
+
+impl From<Cancelled> for Unfinished {
+    fn from(_: Cancelled) -> Self {
+        Unfinished::Cancelled
+    }
 }
 
 #[derive(Debug, Clone)]
@@ -136,14 +158,16 @@ pub struct AreaShape<'a> {
 
 /// Samples the boundary and refines. `cells` are the grid's cell centres
 /// inside the polygon with their line resultants (`None` inside a
-/// conductor); `budget_pairs` the pairs this area may still spend.
+/// conductor); `budget_pairs` the pairs this area may still spend. The
+/// engine's flag is looked at before each batch of samples and each
+/// region's bound.
 pub fn area_peak(
     engine: &Engine<'_>,
     area: &AreaShape<'_>,
     measures: &[Measure],
     cells: &[(Point3<f64>, Option<Vec<f64>>)],
     budget_pairs: u64,
-) -> Result<AreaPeak, OverBudget> {
+) -> Result<AreaPeak, Unfinished> {
     let mut state = State::new(measures, budget_pairs);
     for (p, lines) in cells {
         state.record(*p, lines.as_deref());
@@ -166,6 +190,7 @@ pub fn area_peak(
     while !regions.is_empty() {
         let mut next = Vec::new();
         for r in &regions {
+            engine.cancel.check()?;
             if !state.settle(engine, area, r, floor_m) {
                 next.extend(r.children(area.polygon));
             }
@@ -219,13 +244,13 @@ impl<'m> State<'m> {
         engine: &Engine<'_>,
         area: &AreaShape<'_>,
         at: &[Point2<f64>],
-    ) -> Result<Vec<Option<Vec<f64>>>, OverBudget> {
+    ) -> Result<Vec<Option<Vec<f64>>>, Unfinished> {
         self.pairs = self.pairs.saturating_add(engine.pairs(at.len()));
         if self.pairs > self.budget_pairs {
-            return Err(OverBudget { needed_pairs: self.pairs });
+            return Err(OverBudget { needed_pairs: self.pairs }.into());
         }
         let points: Vec<Point3<f64>> = at.iter().map(|p| Point3::new(p.x, p.y, area.height_m)).collect();
-        Ok(engine.sample(&points))
+        Ok(engine.sample(&points)?)
     }
 
     /// Samples every region's centre; centres on the closed polygon count
@@ -235,7 +260,7 @@ impl<'m> State<'m> {
         engine: &Engine<'_>,
         area: &AreaShape<'_>,
         regions: &mut [Region],
-    ) -> Result<(), OverBudget> {
+    ) -> Result<(), Unfinished> {
         let centres: Vec<Point2<f64>> = regions.iter().map(|r| r.centre).collect();
         let lines = self.sample(engine, area, &centres)?;
         for (r, l) in regions.iter_mut().zip(lines) {

@@ -6,6 +6,11 @@
 //! `G_k(p)` so load cases, phase arrangements and survey fits reuse the
 //! geometry; [`evaluate`] streams the same kernel straight into phasors
 //! without storing `G`, which is what a large map needs.
+//!
+//! Each has a `try_` twin that takes a [`Cancel`] and checks it before each
+//! conductor of each chunk of points: 64 points times one
+//! conductor's segments, a few milliseconds at most for the largest site
+//! the service accepts (DEVELOPERS.md, "Why cooperative cancellation").
 
 pub mod bound;
 mod geometry;
@@ -16,6 +21,7 @@ pub use geometry::{Filament, Filaments};
 pub use kernel::{MU0_OVER_4PI_UT_M_PER_A, Variant};
 pub use phasor::{FieldPhasor, maximum_ut, resultant_ut, total_maximum_ut, total_resultant_ut};
 
+use crate::cancel::{Cancel, Cancelled, uncancelled};
 use kernel::{CHUNK, ChunkPoints, UnitField};
 use nalgebra::{Point3, Vector3};
 use num_complex::Complex64;
@@ -79,6 +85,16 @@ pub fn evaluate(filaments: &Filaments, points: &[Point3<f64>], excitation: &Exci
     evaluate_using(Variant::detect(), filaments, points, excitation)
 }
 
+/// [`evaluate`] that stops with [`Cancelled`] soon after `cancel` is set.
+pub fn try_evaluate(
+    filaments: &Filaments,
+    points: &[Point3<f64>],
+    excitation: &Excitation,
+    cancel: &Cancel,
+) -> Result<FieldSet, Cancelled> {
+    evaluate_with(Variant::detect(), filaments, points, excitation, cancel)
+}
+
 /// [`evaluate`] with a chosen kernel variant (benchmarks and the test that
 /// all variants agree bit for bit). An unsupported variant runs the baseline.
 pub fn evaluate_using(
@@ -87,15 +103,25 @@ pub fn evaluate_using(
     points: &[Point3<f64>],
     excitation: &Excitation,
 ) -> FieldSet {
+    uncancelled(evaluate_with(variant, filaments, points, excitation, &Cancel::never()))
+}
+
+fn evaluate_with(
+    variant: Variant,
+    filaments: &Filaments,
+    points: &[Point3<f64>],
+    excitation: &Excitation,
+    cancel: &Cancel,
+) -> Result<FieldSet, Cancelled> {
     let lines = &excitation.lines;
     let nf = lines.len();
     let kcount = filaments.conductor_count();
     debug_assert!(lines.iter().all(|l| l.currents_a.len() == kcount));
     let mut b_ut = vec![FieldPhasor::zeros(); points.len() * nf];
     if nf == 0 {
-        return FieldSet { line_count: 0, b_ut, inside: Vec::new() };
+        return Ok(FieldSet { line_count: 0, b_ut, inside: Vec::new() });
     }
-    let inside = drive(variant, filaments, points, &mut b_ut, nf, |k, g, n, out| {
+    let inside = drive(variant, filaments, points, &mut b_ut, nf, cancel, |k, g, n, out| {
         for (f, line) in lines.iter().enumerate() {
             let cur = line.currents_a[k];
             if cur == Complex64::new(0.0, 0.0) {
@@ -108,8 +134,8 @@ pub fn evaluate_using(
                 b.z += cur * g.gz[i];
             }
         }
-    });
-    FieldSet { line_count: nf, b_ut, inside }
+    })?;
+    Ok(FieldSet { line_count: nf, b_ut, inside })
 }
 
 /// Runs the kernel for every conductor over chunks of points across the
@@ -117,15 +143,19 @@ pub fn evaluate_using(
 /// folds conductor k's unit-current field into the chunk's slice of `out`.
 /// The values of points inside a conductor are reset to the default (zero)
 /// afterwards: the thin-wire field is meaningless there. Returns the inside
-/// hits sorted by point, then conductor.
+/// hits sorted by point, then conductor, or [`Cancelled`] (with `out` half
+/// written) once `cancel` is seen: before each conductor of each chunk, so
+/// the work between two looks is `CHUNK` points times one conductor's
+/// segments. Collecting into a `Result` stops rayon handing out chunks.
 fn drive<T, S>(
     variant: Variant,
     filaments: &Filaments,
     points: &[Point3<f64>],
     out: &mut [T],
     width: usize,
+    cancel: &Cancel,
     sink: S,
-) -> Vec<InsideHit>
+) -> Result<Vec<InsideHit>, Cancelled>
 where
     T: Send + Default,
     S: Fn(usize, &UnitField, usize, &mut [T]) + Sync,
@@ -141,22 +171,23 @@ where
             let mut g = UnitField::default();
             let mut hits = Vec::new();
             for k in 0..kcount {
+                cancel.check()?;
                 // SAFETY: `Variant::kernel` only returns variants this CPU supports.
                 unsafe { kernel(filaments, k, &chunk, &mut g) };
                 sink(k, &g, pts.len(), out);
                 collect_hits(&g, c, pts.len(), k, &mut hits);
             }
             hits.sort_unstable();
-            hits
+            Ok(hits)
         })
-        .collect();
+        .collect::<Result<_, Cancelled>>()?;
     let inside: Vec<InsideHit> = hits.into_iter().flatten().collect();
     for h in &inside {
         for v in &mut out[h.point * width..(h.point + 1) * width] {
             *v = T::default();
         }
     }
-    inside
+    Ok(inside)
 }
 
 fn collect_hits(g: &UnitField, chunk: usize, n: usize, k: usize, hits: &mut Vec<InsideHit>) {
@@ -202,17 +233,27 @@ impl InfluenceMatrix {
 
 /// Computes the influence matrix (3 reals per point per conductor).
 pub fn influence_matrix(filaments: &Filaments, points: &[Point3<f64>]) -> InfluenceMatrix {
+    uncancelled(try_influence_matrix(filaments, points, &Cancel::never()))
+}
+
+/// [`influence_matrix`] that stops with [`Cancelled`] soon after `cancel`
+/// is set.
+pub fn try_influence_matrix(
+    filaments: &Filaments,
+    points: &[Point3<f64>],
+    cancel: &Cancel,
+) -> Result<InfluenceMatrix, Cancelled> {
     let kcount = filaments.conductor_count();
     let mut g = vec![Vector3::zeros(); points.len() * kcount];
     if kcount == 0 {
-        return InfluenceMatrix { conductor_count: 0, g, inside: Vec::new() };
+        return Ok(InfluenceMatrix { conductor_count: 0, g, inside: Vec::new() });
     }
-    let inside = drive(Variant::detect(), filaments, points, &mut g, kcount, |k, u, n, out| {
+    let inside = drive(Variant::detect(), filaments, points, &mut g, kcount, cancel, |k, u, n, out| {
         for i in 0..n {
             out[i * kcount + k] = Vector3::new(u.gx[i], u.gy[i], u.gz[i]);
         }
-    });
-    InfluenceMatrix { conductor_count: kcount, g, inside }
+    })?;
+    Ok(InfluenceMatrix { conductor_count: kcount, g, inside })
 }
 
 /// Field of one straight segment at one point for a unit current (µT per A),

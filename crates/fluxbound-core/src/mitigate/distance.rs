@@ -8,8 +8,9 @@
 //! ray passes a null (between conductors) and the field rises again.
 //! Points inside a conductor count as above every threshold.
 
-use super::ray::{self, Nearness, OutOfBudget, Ray, RayOutcome, Segment};
+use super::ray::{self, Nearness, Ray, RayOutcome, Segment, Stopped};
 use crate::assess::{exposure_ratio, line_levels};
+use crate::cancel::Cancel;
 use crate::field::{self, Excitation, FieldPhasor, Filaments};
 use crate::limits::ReferenceTable;
 use crate::site::{CircuitLoad, Site};
@@ -150,6 +151,9 @@ pub enum DistanceError {
     /// The site has current at frequencies the table does not cover.
     #[error("the table does not cover {0:?} Hz")]
     NotCovered(Vec<f64>),
+    /// The meter's cancellation flag was set: no result.
+    #[error("the search was cancelled")]
+    Cancelled,
 }
 
 /// The field of a site at a load, and the quantity searched: samples it at
@@ -163,6 +167,8 @@ pub struct Meter<'a> {
     target: &'a Target,
     /// The table's level per spectral line (tables only).
     levels_ut: Vec<Option<f64>>,
+    /// Looked at before every probe ([`Meter::stopped_by`]).
+    cancel: Cancel,
 }
 
 /// The field at one point.
@@ -206,7 +212,13 @@ impl<'a> Meter<'a> {
             })
             .collect();
         let filaments = crate::site::filaments(site.conductors());
-        Ok(Meter { filaments, excitation, segments, currents_a, target, levels_ut })
+        Ok(Meter { filaments, excitation, segments, currents_a, target, levels_ut, cancel: Cancel::never() })
+    }
+
+    /// This meter, stopping every search with [`DistanceError::Cancelled`]
+    /// at its next probe once `cancel` is set.
+    pub fn stopped_by(self, cancel: &Cancel) -> Meter<'a> {
+        Meter { cancel: cancel.clone(), ..self }
     }
 
     /// The threshold the quantity is compared with: the level in µT, or 1.
@@ -243,19 +255,23 @@ impl<'a> Meter<'a> {
         set.inside_of(0).next().is_none().then(|| set.at(0).to_vec())
     }
 
-    fn charge(&self, spent: &mut u64, budget: u64) -> Result<(), OutOfBudget> {
+    /// Counts one probe against the budget; looks at the flag first.
+    fn charge(&self, spent: &mut u64, budget: u64) -> Result<(), Stopped> {
+        if self.cancel.is_cancelled() {
+            return Err(Stopped::Cancelled);
+        }
         *spent = spent.saturating_add(PAIRS_PER_PROBE_PER_SEGMENT * self.segments.len() as u64);
-        if *spent > budget { Err(OutOfBudget) } else { Ok(()) }
+        if *spent > budget { Err(Stopped::OutOfBudget) } else { Ok(()) }
     }
 
-    pub(super) fn sample(&self, p: &Point3<f64>, spent: &mut u64, budget: u64) -> Result<Sample, OutOfBudget> {
+    pub(super) fn sample(&self, p: &Point3<f64>, spent: &mut u64, budget: u64) -> Result<Sample, Stopped> {
         self.charge(spent, budget)?;
         let per_line_ut = self.per_line_ut(p);
         let below = per_line_ut.as_ref().is_some_and(|l| self.quantity(l) < self.threshold());
         Ok(Sample { per_line_ut, below })
     }
 
-    pub(super) fn below_at(&self, p: &Point3<f64>, spent: &mut u64, budget: u64) -> Result<bool, OutOfBudget> {
+    pub(super) fn below_at(&self, p: &Point3<f64>, spent: &mut u64, budget: u64) -> Result<bool, Stopped> {
         Ok(self.sample(p, spent, budget)?.below)
     }
 
@@ -386,9 +402,10 @@ pub fn distance_with(
     let mut searched = Vec::with_capacity(dirs.len());
     for dir in dirs {
         let ray = Ray { meter, from, dir, range_m: MAX_RANGE_M };
-        let outcome = ray
-            .search(&mut spent, budget_pairs)
-            .map_err(|_| DistanceError::OverBudget { budget: budget_pairs, started: true })?;
+        let outcome = ray.search(&mut spent, budget_pairs).map_err(|e| match e {
+            Stopped::OutOfBudget => DistanceError::OverBudget { budget: budget_pairs, started: true },
+            Stopped::Cancelled => DistanceError::Cancelled,
+        })?;
         searched.push(Searched { dir, outcome });
     }
     let shortest = matches!(direction, Direction::Shortest);

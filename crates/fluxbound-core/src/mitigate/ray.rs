@@ -39,9 +39,14 @@ pub struct RayOutcome {
     pub above_m: Option<f64>,
 }
 
-/// The search stopped: its budget of segment–point pairs is spent.
+/// Why a search stopped before its answer.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub struct OutOfBudget;
+pub enum Stopped {
+    /// Its budget of segment–point pairs is spent.
+    OutOfBudget,
+    /// Its meter's cancellation flag was set.
+    Cancelled,
+}
 
 #[derive(Debug, Clone, Copy, PartialEq)]
 enum Class {
@@ -69,7 +74,7 @@ impl Ray<'_> {
     }
 
     /// Both distances along this ray.
-    pub fn search(&self, spent: &mut u64, budget: u64) -> Result<RayOutcome, OutOfBudget> {
+    pub fn search(&self, spent: &mut u64, budget: u64) -> Result<RayOutcome, Stopped> {
         let first_below_m = self.first_below(spent, budget)?;
         let (clearance_m, above_m) = self.clearance(spent, budget)?;
         Ok(RayOutcome { first_below_m, clearance_m, above_m })
@@ -77,7 +82,7 @@ impl Ray<'_> {
 
     /// Depth-first from the origin: the first interval not certified above
     /// holds the first crossing.
-    fn first_below(&self, spent: &mut u64, budget: u64) -> Result<Option<f64>, OutOfBudget> {
+    fn first_below(&self, spent: &mut u64, budget: u64) -> Result<Option<f64>, Stopped> {
         if self.meter.below_at(&self.from, spent, budget)? {
             return Ok(Some(0.0));
         }
@@ -101,7 +106,7 @@ impl Ray<'_> {
     /// below ends at the clearance. Also the farthest point seen at or above
     /// the threshold on the way (a sampled midpoint, or the end of an
     /// interval certified above).
-    fn clearance(&self, spent: &mut u64, budget: u64) -> Result<(Option<f64>, Option<f64>), OutOfBudget> {
+    fn clearance(&self, spent: &mut u64, budget: u64) -> Result<(Option<f64>, Option<f64>), Stopped> {
         let mut stack = vec![(0.0, self.range_m)];
         let mut above: Option<f64> = None;
         while let Some((a, b)) = stack.pop() {
@@ -130,12 +135,12 @@ impl Ray<'_> {
 
     /// The interval's class, and whether its midpoint was sampled at or
     /// above the threshold (inside a conductor included).
-    fn classify(&self, a: f64, b: f64, spent: &mut u64, budget: u64) -> Result<(Class, bool), OutOfBudget> {
+    fn classify(&self, a: f64, b: f64, spent: &mut u64, budget: u64) -> Result<(Class, bool), Stopped> {
         let (class, sample) = self.settle(a, b, spent, budget)?;
         Ok((class, !sample.below))
     }
 
-    fn settle(&self, a: f64, b: f64, spent: &mut u64, budget: u64) -> Result<(Class, Sample), OutOfBudget> {
+    fn settle(&self, a: f64, b: f64, spent: &mut u64, budget: u64) -> Result<(Class, Sample), Stopped> {
         let (pa, pb) = (self.point(a), self.point(b));
         let mid = self.point(0.5 * (a + b));
         let sample = self.meter.sample(&mid, spent, budget)?;

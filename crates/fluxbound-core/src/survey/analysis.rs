@@ -8,8 +8,9 @@
 use super::wire::MeterQuantity;
 use super::{Survey, lm};
 use crate::assess::{Verdict, ratio_of};
+use crate::cancel::{Cancel, Cancelled, uncancelled};
 use crate::cautions::cautions;
-use crate::field::{self, FieldPhasor, influence_matrix};
+use crate::field::{self, FieldPhasor, try_influence_matrix};
 use crate::limits::ReferenceTable;
 use crate::site::{CircuitLoad, Drive, Problems, Site, excitation_of};
 use nalgebra::DMatrix;
@@ -31,9 +32,10 @@ fn group_fields(
     points: &[nalgebra::Point3<f64>],
     loads: &[CircuitLoad],
     quantity: MeterQuantity,
-) -> GroupFields {
+    cancel: &Cancel,
+) -> Result<GroupFields, Cancelled> {
     let filaments = crate::site::filaments(site.conductors());
-    let g = influence_matrix(&filaments, points);
+    let g = try_influence_matrix(&filaments, points, cancel)?;
     let drives: Vec<Drive> = site.conductors().iter().map(|c| c.drive).collect();
     let exc = excitation_of(site.frequency_hz(), site.circuits(), &drives, loads);
     let groups = site.circuits().len() + 1;
@@ -53,12 +55,12 @@ fn group_fields(
             per
         })
         .collect();
-    GroupFields {
+    Ok(GroupFields {
         b,
         line_hz: exc.lines.iter().map(|l| l.frequency_hz).collect(),
         inside: (0..points.len()).map(|i| g.is_inside(i)).collect(),
         quantity,
-    }
+    })
 }
 
 /// Per-frequency phasors of point `i` with group scales `s` (the last
@@ -685,21 +687,25 @@ fn extrapolate(
     flagged: &[bool],
     tables: &[ReferenceTable],
     review_fraction: crate::assess::ReviewFraction,
-) -> Option<Extrapolation> {
+    cancel: &Cancel,
+) -> Result<Option<Extrapolation>, Cancelled> {
     let site = survey.site();
     let rated: Option<Vec<CircuitLoad>> =
         site.circuits().iter().map(|c| c.rated_current_a.map(CircuitLoad::CurrentA)).collect();
-    let rated = rated?;
+    let Some(rated) = rated else { return Ok(None) };
     let points: Vec<nalgebra::Point3<f64>> = survey.points.iter().map(|m| m.at).collect();
     let at = RatedFields {
         survey: gf,
-        rated: group_fields(site, &points, &rated, gf.quantity),
+        rated: group_fields(site, &points, &rated, gf.quantity, cancel)?,
         ones: vec![1.0; site.circuits().len() + 1],
         whole_body: whole_body_tables(tables),
         review_fraction,
     };
     let out = survey.points.iter().enumerate().map(|(i, m)| extrapolated_point(&at, i, m, flagged[i])).collect();
-    Some(Extrapolation { points: out, assumptions: EXTRAPOLATION_ASSUMPTIONS.iter().map(|s| s.to_string()).collect() })
+    Ok(Some(Extrapolation {
+        points: out,
+        assumptions: EXTRAPOLATION_ASSUMPTIONS.iter().map(|s| s.to_string()).collect(),
+    }))
 }
 
 /// The tables the extrapolation compares with: whole-body tables, not those
@@ -796,13 +802,33 @@ pub fn analyse_with(
     review_fraction: crate::assess::ReviewFraction,
     settings: &FitSettings,
 ) -> Result<SurveyAnalysis, Problems> {
+    Ok(uncancelled(analysis(survey, tables, review_fraction, settings, &Cancel::never())))
+}
+
+/// [`analyse`] that stops with [`Cancelled`] soon after `cancel` is set.
+pub fn try_analyse(
+    survey: &Survey,
+    tables: &[ReferenceTable],
+    review_fraction: crate::assess::ReviewFraction,
+    cancel: &Cancel,
+) -> Result<SurveyAnalysis, Cancelled> {
+    analysis(survey, tables, review_fraction, &FitSettings::default(), cancel)
+}
+
+fn analysis(
+    survey: &Survey,
+    tables: &[ReferenceTable],
+    review_fraction: crate::assess::ReviewFraction,
+    settings: &FitSettings,
+    cancel: &Cancel,
+) -> Result<SurveyAnalysis, Cancelled> {
     let site = survey.site();
     let points: Vec<nalgebra::Point3<f64>> = survey.points.iter().map(|m| m.at).collect();
-    let gf = group_fields(site, &points, &survey.loads, survey.quantity);
+    let gf = group_fields(site, &points, &survey.loads, survey.quantity, cancel)?;
     let reconciliation = reconcile(survey, &gf);
     let load_fit = fit(survey, &gf, settings);
     let flagged: Vec<bool> = reconciliation.points.iter().map(|p| p.flagged).collect();
-    let extrapolation = extrapolate(survey, &gf, &flagged, tables, review_fraction);
+    let extrapolation = extrapolate(survey, &gf, &flagged, tables, review_fraction, cancel)?;
     let mut notes = Vec::new();
     if extrapolation.is_none() {
         let missing: Vec<&str> =

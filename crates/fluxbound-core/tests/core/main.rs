@@ -9,9 +9,11 @@
 //! - `mitigate`: distances to a level or a table, against closed forms;
 //! - `report`: contours, distances, pictures, exports, geodesy;
 //! - `survey`: synthetic surveys, fit, extrapolation, CSV rows;
+//! - `cancel`: a set flag stops every use case, an unset one changes nothing;
 //! - `layering`: the core's dependency graph is pure (from `cargo metadata`).
 
 mod assess;
+mod cancel;
 mod engine;
 mod layering;
 mod limits;
