@@ -15,4 +15,5 @@ mod sites;
 mod strict;
 mod surveys;
 mod tables;
+mod tls;
 mod warnings;
