@@ -9,10 +9,13 @@
 //! - `mitigate`: distances to a level or a table, against closed forms;
 //! - `report`: contours, distances, pictures, exports, geodesy;
 //! - `survey`: synthetic surveys, fit, extrapolation, CSV rows;
+//! - `fuzz`: property tests with large case counts over the site, survey,
+//!   CSV, table and regime parsers (no panic, every problem located);
 //! - `layering`: the core's dependency graph is pure (from `cargo metadata`).
 
 mod assess;
 mod engine;
+mod fuzz;
 mod layering;
 mod limits;
 mod mitigate;
