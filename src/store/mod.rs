@@ -16,7 +16,7 @@ mod surveys;
 mod tables;
 
 pub use assessments::{AssessmentRow, NewAssessment, PinnedVersion};
-pub use migrate::{MIGRATIONS_POSTGRES, MIGRATIONS_SQLITE};
+pub use migrate::{MIGRATIONS_POSTGRES, MIGRATIONS_SQLITE, migrator};
 pub use orgs::{KeyRow, OrgRow};
 pub use sites::{RevisionRow, SiteRow, UpdateOutcome};
 pub use surveys::SurveyRow;
@@ -59,6 +59,8 @@ pub enum StoreError {
     UnsupportedUrl,
     #[error("stored data is unreadable: {0}")]
     Corrupt(String),
+    #[error("migration failed: {0}")]
+    Migration(#[from] sqlx::migrate::MigrateError),
 }
 
 impl StoreError {

@@ -1,6 +1,8 @@
 //! The `fluxbound` binary, run as a user would run it: arguments, standard
 //! input, files, exit codes, standard output and standard error.
 
+mod container;
+
 use serde_json::{Value, json};
 use std::io::Write;
 use std::path::{Path, PathBuf};

@@ -10,11 +10,14 @@
 //! - `report`: contours, distances, pictures, exports, geodesy;
 //! - `survey`: synthetic surveys, fit, extrapolation, CSV rows;
 //! - `cancel`: a set flag stops every use case, an unset one changes nothing;
+//! - `fuzz`: property tests with large case counts over the site, survey,
+//!   CSV, table and regime parsers (no panic, every problem located);
 //! - `layering`: the core's dependency graph is pure (from `cargo metadata`).
 
 mod assess;
 mod cancel;
 mod engine;
+mod fuzz;
 mod layering;
 mod limits;
 mod mitigate;
