@@ -29,6 +29,7 @@
 //! usecase     one function per thing a caller can do (CLI and service alike)
 //! evaluate    the stateless evaluation document
 //! cautions    the cautions every result carries
+//! text        the one rule for given text: no control characters
 //! ```
 //!
 //! Every result is a computed pre-screen: compliance is decided under local
@@ -46,4 +47,5 @@ pub mod provenance;
 pub mod report;
 pub mod site;
 pub mod survey;
+pub mod text;
 pub mod usecase;

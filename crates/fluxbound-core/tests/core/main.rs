@@ -20,3 +20,4 @@ mod provenance;
 mod report;
 mod site;
 mod survey;
+mod text;
