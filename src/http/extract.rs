@@ -4,10 +4,15 @@ use super::AppState;
 use super::problem::ApiError;
 use crate::service::{Caller, IfMatch};
 use axum::body::Bytes;
-use axum::extract::{FromRequest, FromRequestParts, Request};
+use axum::extract::rejection::RawPathParamsRejection;
+use axum::extract::{FromRequest, FromRequestParts, RawPathParams, Request};
 use axum::http::{StatusCode, header, request::Parts};
-use fluxbound_core::site::{Problems, json_syntax_error, parse_json};
+use axum::middleware::Next;
+use axum::response::{IntoResponse, Response};
+use fluxbound_core::site::{Pointer, Problems, json_syntax_error, parse_json};
+use fluxbound_core::text::single_line_problem;
 use serde::de::DeserializeOwned;
+use std::borrow::Cow;
 
 /// A JSON body parsed strictly: 415 without a JSON content type, 413 over
 /// the size bound, 400 for malformed JSON, 422 with a pointer for a shape
@@ -135,17 +140,11 @@ pub struct PageQuery {
 impl PageQuery {
     /// Reads the query string (unknown parameters are a 400).
     pub fn from_uri(uri: &axum::http::Uri) -> Result<PageQuery, ApiError> {
-        let q = axum::extract::Query::<PageQuery>::try_from_uri(uri)
+        // Control characters were refused before the handler ran
+        // ([`plain_params`]).
+        axum::extract::Query::<PageQuery>::try_from_uri(uri)
             .map(|q| q.0)
-            .map_err(|e| ApiError::bad_request(e.body_text(), Problems::default()))?;
-        // No stored name holds one, and PostgreSQL refuses a NUL in a query.
-        if q.name.as_deref().is_some_and(|n| n.chars().any(char::is_control)) {
-            return Err(ApiError::bad_request(
-                "the name filter contains a control character",
-                Problems::one("/name", "give the name without control characters"),
-            ));
-        }
-        Ok(q)
+            .map_err(|e| ApiError::bad_request(e.body_text(), Problems::default()))
     }
     /// The page size as given (a positive integer, 400 otherwise); its
     /// range is the service's rule ([`crate::service::page_limit`]).
@@ -164,4 +163,31 @@ impl PageQuery {
             None => Ok(None),
         }
     }
+}
+
+/// Refuses a control character in any path parameter or query string value
+/// (or name), after percent-decoding, with a 400 whose pointer names the
+/// parameter (`/name` for `?name=`). It runs on every route before the
+/// handler, so no handler and no query can see such a value: the rule of
+/// [`fluxbound_core::text`], in one place for the whole API. (A value that
+/// is not UTF-8 is left to the handler's own parsing.)
+pub async fn plain_params(path: Result<RawPathParams, RawPathParamsRejection>, req: Request, next: Next) -> Response {
+    match control_in_params(path.ok().as_ref(), req.uri().query()) {
+        Some(problem) => problem.into_response(),
+        None => next.run(req).await,
+    }
+}
+
+/// The first path or query parameter holding a control character, as the
+/// answer to give.
+fn control_in_params(path: Option<&RawPathParams>, query: Option<&str>) -> Option<ApiError> {
+    let path = path.into_iter().flatten().map(|(k, v)| ("path", Cow::Borrowed(k), Cow::Borrowed(v)));
+    let query = query.into_iter().flat_map(|q| form_urlencoded::parse(q.as_bytes())).map(|(k, v)| ("query", k, v));
+    path.chain(query).find_map(|(place, name, value)| {
+        let why = single_line_problem(&name).or_else(|| single_line_problem(&value))?;
+        Some(ApiError::bad_request(
+            format!("a {place} parameter holds a control character"),
+            Problems::one(Pointer::root().key(&name).to_string(), why),
+        ))
+    })
 }

@@ -80,6 +80,7 @@ pub fn router(state: AppState) -> Router {
         .route("/healthz", get(ops::healthz))
         .route("/readyz", get(ops::readyz))
         .route("/metrics", get(ops::metrics))
+        .route_layer(middleware::from_fn(extract::plain_params))
         .fallback(|| async { ApiError::not_found("route") })
         .method_not_allowed_fallback(|| async {
             ApiError::new(
