@@ -8,12 +8,14 @@ use sqlx::Executor;
 pub const MIGRATIONS_SQLITE: &[(i64, &str, &str)] = &[
     (1, "init", include_str!("../../migrations/sqlite/0001_init.sql")),
     (2, "surveys", include_str!("../../migrations/sqlite/0002_surveys.sql")),
+    (3, "name_folded", include_str!("../../migrations/sqlite/0003_name_folded.sql")),
 ];
 
 /// `(version, name, sql)` for PostgreSQL.
 pub const MIGRATIONS_POSTGRES: &[(i64, &str, &str)] = &[
     (1, "init", include_str!("../../migrations/postgres/0001_init.sql")),
     (2, "surveys", include_str!("../../migrations/postgres/0002_surveys.sql")),
+    (3, "name_folded", include_str!("../../migrations/postgres/0003_name_folded.sql")),
 ];
 
 /// Key of the PostgreSQL advisory lock held while migrating.

@@ -9,6 +9,7 @@
 //! request leaves nothing half-written.
 
 mod assessments;
+pub mod fold;
 mod migrate;
 mod orgs;
 mod sites;
@@ -137,6 +138,10 @@ impl Store {
         let pool = options.connect(url).await?;
         let store = Store { pool, backend, sqlite_writer: Default::default() };
         migrate::apply(&store).await?;
+        let filled = store.backfill_name_folded().await?;
+        if filled > 0 {
+            tracing::info!(sites = filled, "search keys of site names filled in");
+        }
         Ok(store)
     }
 

@@ -11,6 +11,7 @@ mod isolation;
 mod openapi;
 mod persistence;
 mod reports;
+mod search;
 mod sites;
 mod strict;
 mod surveys;
