@@ -75,8 +75,10 @@ impl FromRequestParts<AppState> for Auth {
 }
 
 /// The `If-Match` precondition (RFC 9110 §13.1.1): absent, `*`, or a list
-/// of entity tags such as `"3", "4"` (weak tags `W/"3"` are read too; a tag
-/// that is not a revision number never matches).
+/// of entity tags such as `"3", "4"`. `If-Match` uses the strong comparison
+/// (§8.8.3.2): a weak tag (`W/"3"`) never matches, and an opaque tag
+/// matches only if it is character for character the one this API gives
+/// out ([`etag`]), so `"03"` or an unquoted `3` do not name revision 3.
 pub fn if_match(headers: &axum::http::HeaderMap) -> IfMatch {
     let values: Vec<&str> = headers.get_all(header::IF_MATCH).iter().filter_map(|v| v.to_str().ok()).collect();
     if values.is_empty() {
@@ -86,9 +88,15 @@ pub fn if_match(headers: &axum::http::HeaderMap) -> IfMatch {
     if tags.contains(&"*") {
         return IfMatch::Any;
     }
-    IfMatch::OneOf(
-        tags.iter().filter_map(|t| t.strip_prefix("W/").unwrap_or(t).trim_matches('"').parse::<i64>().ok()).collect(),
-    )
+    IfMatch::OneOf(tags.into_iter().filter_map(strong_revision).collect())
+}
+
+/// The revision a strong entity tag names, if it is one of ours; `None`
+/// for a weak tag or any other text.
+fn strong_revision(tag: &str) -> Option<i64> {
+    let opaque = tag.strip_prefix('"')?.strip_suffix('"')?;
+    let revision = opaque.parse::<i64>().ok()?;
+    (etag(revision) == tag).then_some(revision)
 }
 
 /// The ETag of a revision.
