@@ -4,7 +4,7 @@
 
 use super::{Result, Service, ServiceError};
 use crate::ids::{KeyId, OrgId};
-use crate::store::KeyRow;
+use crate::store::{KeyRow, Revoke};
 use fluxbound_core::text::single_line_problem;
 use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
@@ -152,9 +152,11 @@ impl Service {
         Ok(self.store().keys_list(&caller.org_id).await?)
     }
 
+    /// Revokes a key of the caller's organisation (admin only); the last
+    /// active admin key of an organisation is kept (409).
     pub async fn keys_revoke(&self, caller: &Caller, key_id: &KeyId) -> Result<()> {
         caller.require(Role::Admin)?;
-        if self.store().key_revoke(&caller.org_id, key_id).await? { Ok(()) } else { Err(ServiceError::NotFound("key")) }
+        revoked(self.store().key_revoke(&caller.org_id, key_id).await?)
     }
 
     /// The organisation named `name` (CLI). No stored name holds a control
@@ -176,6 +178,19 @@ impl Service {
     /// Revokes a key by id in an organisation given by name (CLI).
     pub async fn keys_revoke_for_org(&self, org_name: &str, key_id: &KeyId) -> Result<()> {
         let org = self.org_named(org_name).await?;
-        if self.store().key_revoke(&org.id, key_id).await? { Ok(()) } else { Err(ServiceError::NotFound("key")) }
+        revoked(self.store().key_revoke(&org.id, key_id).await?)
+    }
+}
+
+/// The answer to a revocation, in one place for the API and the CLI.
+fn revoked(outcome: Revoke) -> Result<()> {
+    match outcome {
+        Revoke::Revoked => Ok(()),
+        Revoke::NotFound => Err(ServiceError::NotFound("key")),
+        Revoke::LastAdmin => Err(ServiceError::Conflict(
+            "this is the organisation's last admin key, and without one nobody could manage keys: \
+             create another admin key first, then revoke this one"
+                .into(),
+        )),
     }
 }

@@ -18,7 +18,7 @@ mod tables;
 
 pub use assessments::{AssessmentRow, NewAssessment, PinnedVersion};
 pub use migrate::{MIGRATIONS_POSTGRES, MIGRATIONS_SQLITE};
-pub use orgs::{KeyRow, OrgRow};
+pub use orgs::{KeyRow, OrgRow, Revoke};
 pub use sites::{RevisionRow, SiteRow, UpdateOutcome};
 pub use surveys::SurveyRow;
 pub use tables::{TableRow, TableVersionRow, VersionReplace};

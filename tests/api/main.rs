@@ -8,6 +8,7 @@ mod assessments;
 mod errors;
 mod evaluate;
 mod isolation;
+mod keys;
 mod openapi;
 mod persistence;
 mod reports;
