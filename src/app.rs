@@ -57,7 +57,7 @@ impl App {
             .map_err(|source| AppError::Bind { addr: config.listen.clone(), source })?;
         let addr = listener.local_addr().map_err(|source| AppError::Bind { addr: config.listen.clone(), source })?;
         tracing::info!(backend = service.store().backend().name(), "storage ready");
-        Ok(App { listener, addr, state: AppState::new(service), demo })
+        Ok(App { listener, addr, state: AppState::new(service, &config.clients), demo })
     }
 
     /// The use cases behind the router (tests seed keys through it).
@@ -75,7 +75,9 @@ impl App {
     pub async fn serve(self, shutdown: impl Future<Output = ()> + Send + 'static) -> std::io::Result<()> {
         tracing::info!("listening on http://{}", self.addr);
         let store = self.state.service.store().clone();
-        let result = axum::serve(self.listener, router(self.state)).with_graceful_shutdown(shutdown).await;
+        // The peer address reaches handlers as `ConnectInfo`, then `PeerAddr`.
+        let service = router(self.state).into_make_service_with_connect_info::<SocketAddr>();
+        let result = axum::serve(self.listener, service).with_graceful_shutdown(shutdown).await;
         store.close().await;
         tracing::info!("stopped");
         result

@@ -1,8 +1,10 @@
 //! Request extractors that answer problem+json on every failure.
 
 use super::AppState;
+use super::client::PeerAddr;
 use super::problem::ApiError;
-use crate::service::{Caller, IfMatch};
+use super::rate::ClientKey;
+use crate::service::{Caller, IfMatch, ServiceError};
 use axum::body::Bytes;
 use axum::extract::rejection::RawPathParamsRejection;
 use axum::extract::{FromRequest, FromRequestParts, RawPathParams, Request};
@@ -49,29 +51,50 @@ impl<T: DeserializeOwned> FromRequest<AppState> for ApiJson<T> {
     }
 }
 
-/// The authenticated caller, also rate-limited per key.
+/// The authenticated caller. Before the key is looked at, the client's
+/// address must not be at its limit of failed authentications (429); a key
+/// that is given and refused counts as one more failure (a request with no
+/// `Authorization` header is not a guess, so it does not count). A caller
+/// is then also rate-limited per key.
 pub struct Auth(pub Caller);
 
 impl FromRequestParts<AppState> for Auth {
     type Rejection = ApiError;
 
     async fn from_request_parts(parts: &mut Parts, state: &AppState) -> Result<Self, ApiError> {
-        let token = parts
-            .headers
-            .get(header::AUTHORIZATION)
-            .and_then(|v| v.to_str().ok())
-            .and_then(|v| {
-                // The scheme name is case-insensitive (RFC 9110 §11.1).
-                let (scheme, token) = v.trim().split_once(' ')?;
-                scheme.eq_ignore_ascii_case("bearer").then_some(token.trim())
-            })
-            .ok_or_else(ApiError::unauthorized)?;
-        let caller = state.service.authenticate(token).await.map_err(ApiError::from)?;
+        let client = client_key(parts, state);
+        if let Err(wait_s) = state.auth_failures.check(client) {
+            let (failures, window_s) = state.auth_failures.limit();
+            return Err(ApiError::auth_rate_limited(wait_s, failures, window_s));
+        }
+        let header = parts.headers.get(header::AUTHORIZATION).ok_or_else(ApiError::unauthorized)?;
+        let token = header.to_str().ok().and_then(|v| {
+            // The scheme name is case-insensitive (RFC 9110 §11.1).
+            let (scheme, token) = v.trim().split_once(' ')?;
+            scheme.eq_ignore_ascii_case("bearer").then_some(token.trim())
+        });
+        let authenticated = match token {
+            Some(token) => state.service.authenticate(token).await,
+            None => Err(ServiceError::Unauthorized),
+        };
+        let caller = authenticated.map_err(|e| {
+            if matches!(e, ServiceError::Unauthorized) {
+                state.auth_failures.record_failure(client);
+            }
+            ApiError::from(e)
+        })?;
         if let Err(wait_s) = state.rate.check(caller.key_id.as_str()) {
             return Err(ApiError::rate_limited(wait_s));
         }
         Ok(Auth(caller))
     }
+}
+
+/// Whose failed authentications a request counts with: its client address
+/// ([`crate::http::client`]), or the shared unknown bucket without a peer.
+fn client_key(parts: &Parts, state: &AppState) -> ClientKey {
+    let peer = parts.extensions.get::<PeerAddr>().map(|p| p.0.ip());
+    ClientKey::of(state.trusted_proxies.client_ip(peer, &parts.headers))
 }
 
 /// The `If-Match` precondition (RFC 9110 §13.1.1): absent, `*`, or a list

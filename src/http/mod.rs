@@ -1,6 +1,7 @@
 //! The HTTP edge: axum routes, authentication, problem+json, OpenAPI.
 //! `router(state)` is pure: it builds the service graph and touches nothing.
 
+pub mod client;
 pub mod extract;
 pub mod metrics;
 pub mod openapi;
@@ -9,6 +10,7 @@ pub mod rate;
 pub mod resources;
 pub mod routes;
 
+use crate::config::ClientPolicy;
 use crate::service::Service;
 use axum::Router;
 use axum::extract::{DefaultBodyLimit, Request, State};
@@ -34,12 +36,23 @@ pub struct AppState {
     pub service: Service,
     pub metrics: metrics::Metrics,
     pub rate: Arc<rate::RateLimiter>,
+    /// Failed authentications per client address.
+    pub auth_failures: Arc<rate::FailedAuthLimiter>,
+    /// Whose `X-Forwarded-For` names the client.
+    pub trusted_proxies: Arc<client::TrustedProxies>,
 }
 
 impl AppState {
-    pub fn new(service: Service) -> Self {
+    pub fn new(service: Service, clients: &ClientPolicy) -> Self {
         let rate = Arc::new(rate::RateLimiter::new(service.limits().rate_per_key));
-        AppState { service, metrics: metrics::Metrics::default(), rate }
+        let window = Duration::from_secs(clients.auth_failure_window_s.max(1));
+        AppState {
+            service,
+            metrics: metrics::Metrics::default(),
+            rate,
+            auth_failures: Arc::new(rate::FailedAuthLimiter::new(clients.auth_failures, window)),
+            trusted_proxies: Arc::new(client::TrustedProxies::new(clients.trusted_proxies.clone())),
+        }
     }
 }
 
@@ -101,6 +114,7 @@ pub fn router(state: AppState) -> Router {
         .merge(docs)
         .layer(middleware::from_fn_with_state(state.metrics.clone(), metrics::track))
         .layer(CatchPanicLayer::custom(|_| ApiError::internal().into_response()))
+        .layer(middleware::from_fn(client::peer_from_connect_info))
         .layer(TraceLayer::new_for_http().make_span_with(|req: &Request| {
             let id = req.headers().get(&REQUEST_ID).and_then(|v| v.to_str().ok()).unwrap_or("-");
             // Path only: no query strings, bodies or credentials in logs.

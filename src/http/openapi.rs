@@ -104,7 +104,10 @@ impl Shape {
             s.push((422, "Validation problems or size and compute bounds, each with a JSON pointer"));
         }
         if self.authenticated {
-            s.push((429, "Rate limit of this API key; see `Retry-After`"));
+            s.push((
+                429,
+                "Rate limit of this API key, or too many failed authentications from this client address; see `Retry-After`",
+            ));
         }
         s.push((500, "Internal error (logged with the request id; no detail leaks)"));
         s.push((503, "The database is unreachable, or the request ran past the timeout"));

@@ -5,6 +5,7 @@ mod contract;
 mod helpers;
 
 mod assessments;
+mod clients;
 mod errors;
 mod evaluate;
 mod isolation;
