@@ -164,7 +164,8 @@ pub struct PageQuery {
     /// Page size, 1–200 (default 50).
     #[param(value_type = Option<i64>, minimum = 1, maximum = 200)]
     pub limit: Option<String>,
-    /// Only sites whose name contains this text (any case); sites only.
+    /// Only sites whose name contains this text, in any letter case and
+    /// Unicode normal form (NFC and full case folding); sites only.
     pub name: Option<String>,
 }
 
