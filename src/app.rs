@@ -58,7 +58,7 @@ impl App {
             .map_err(|source| AppError::Bind { addr: config.listen.clone(), source })?;
         let addr = listener.local_addr().map_err(|source| AppError::Bind { addr: config.listen.clone(), source })?;
         tracing::info!(backend = service.store().backend().name(), "storage ready");
-        let state = AppState::new(service).with_connections(config.connections.clone());
+        let state = AppState::new(service, &config.clients).with_connections(config.connections.clone());
         Ok(App { listener, addr, state, demo })
     }
 

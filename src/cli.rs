@@ -8,7 +8,7 @@
 //! unhealthy or unreachable; 2 usage or I/O error. Nothing here panics on user input, and
 //! a panic anywhere prints one line instead of a backtrace.
 
-use crate::config::ConnectionLimits;
+use crate::config::{ClientPolicy, ConnectionLimits, parse_trusted_proxy};
 use clap::{Parser, Subcommand, ValueEnum};
 use fluxbound_core::assess::{AssessError, LoadCase, LoadError, ReviewFraction};
 use fluxbound_core::evaluate::EvaluateRequest;
@@ -203,6 +203,8 @@ pub struct ServeArgs {
     pub connections: ConnectionArgs,
     #[command(flatten)]
     pub compute: ComputeArgs,
+    #[command(flatten)]
+    pub clients: ClientArgs,
 }
 
 /// Client connection limits (`config::ConnectionLimits`; defaults and
@@ -287,6 +289,35 @@ impl ComputeArgs {
             limits.max_computations = usize::from(n);
         }
         limits.compute_queue_ms = self.compute_queue_ms;
+    }
+}
+
+/// How clients are told apart, and their failed authentications.
+#[derive(Debug, clap::Args)]
+pub struct ClientArgs {
+    /// Failed authentications allowed per client address within the window;
+    /// past them the address is answered 429 (0 = no limit).
+    #[arg(long, env = "FLUXBOUND_AUTH_FAILURES", default_value_t = ClientPolicy::DEFAULT_AUTH_FAILURES)]
+    pub auth_failures: u32,
+    /// The window of --auth-failures, seconds.
+    #[arg(long, env = "FLUXBOUND_AUTH_FAILURE_WINDOW_S", default_value_t = ClientPolicy::DEFAULT_AUTH_FAILURE_WINDOW_S,
+          value_parser = clap::value_parser!(u64).range(1..))]
+    pub auth_failure_window_s: u64,
+    /// A proxy (address or CIDR network) whose X-Forwarded-For names the
+    /// client; may be repeated (comma-separated in the variable). Without
+    /// one, the TCP peer is the client and X-Forwarded-For is ignored.
+    #[arg(long = "trusted-proxy", env = "FLUXBOUND_TRUSTED_PROXIES", value_delimiter = ',',
+          value_parser = parse_trusted_proxy, value_name = "ADDR|CIDR")]
+    pub trusted_proxies: Vec<ipnet::IpNet>,
+}
+
+impl ClientArgs {
+    fn into_policy(self) -> ClientPolicy {
+        ClientPolicy {
+            auth_failures: self.auth_failures,
+            auth_failure_window_s: self.auth_failure_window_s,
+            trusted_proxies: self.trusted_proxies,
+        }
     }
 }
 
@@ -753,6 +784,7 @@ fn serve(args: ServeArgs) -> Result<ExitCode, CliError> {
     config.limits.request_timeout_s = args.request_timeout_s;
     config.connections = args.connections.limits();
     args.compute.apply(&mut config.limits);
+    config.clients = args.clients.into_policy();
     runtime()?.block_on(async move {
         let app = crate::app::App::build(&config).await?;
         if let Some(demo) = &app.demo {

@@ -3,6 +3,7 @@
 
 pub mod access;
 pub mod body;
+pub mod client;
 pub mod connections;
 pub mod extract;
 pub mod metrics;
@@ -13,6 +14,7 @@ pub mod resources;
 pub mod routes;
 pub mod server;
 
+use crate::config::ClientPolicy;
 use crate::config::ConnectionLimits;
 use crate::service::Service;
 use axum::Router;
@@ -42,14 +44,25 @@ pub struct AppState {
     /// Connection limits, counters and the draining flag, shared with the
     /// accept loop (`server.rs`).
     pub edge: server::EdgeState,
+    /// Failed authentications per client address.
+    pub auth_failures: Arc<rate::FailedAuthLimiter>,
+    /// Whose `X-Forwarded-For` names the client.
+    pub trusted_proxies: Arc<client::TrustedProxies>,
 }
 
 impl AppState {
     /// With the default connection limits (see [`AppState::with_connections`]).
-    pub fn new(service: Service) -> Self {
+    pub fn new(service: Service, clients: &ClientPolicy) -> Self {
         let rate = Arc::new(rate::RateLimiter::new(service.limits().rate_per_key));
-        let edge = server::EdgeState::new(ConnectionLimits::default());
-        AppState { service, metrics: metrics::Metrics::default(), rate, edge }
+        let window = Duration::from_secs(clients.auth_failure_window_s.max(1));
+        AppState {
+            service,
+            metrics: metrics::Metrics::default(),
+            rate,
+            edge: server::EdgeState::new(ConnectionLimits::default()),
+            auth_failures: Arc::new(rate::FailedAuthLimiter::new(clients.auth_failures, window)),
+            trusted_proxies: Arc::new(client::TrustedProxies::new(clients.trusted_proxies.clone())),
+        }
     }
 
     pub fn with_connections(mut self, limits: ConnectionLimits) -> Self {
@@ -96,6 +109,7 @@ pub fn router(state: AppState) -> Router {
         .route("/healthz", get(ops::healthz))
         .route("/readyz", get(ops::readyz))
         .route("/metrics", get(ops::metrics))
+        .route_layer(middleware::from_fn(extract::plain_params))
         .fallback(|| async { ApiError::not_found("route") })
         .method_not_allowed_fallback(|| async {
             ApiError::new(
@@ -119,6 +133,7 @@ pub fn router(state: AppState) -> Router {
         .layer(middleware::from_fn(access::access_log))
         .layer(middleware::from_fn_with_state(state.metrics.clone(), metrics::track))
         .layer(CatchPanicLayer::custom(|_| ApiError::internal().into_response()))
+        .layer(middleware::from_fn(client::peer_from_connect_info))
         .layer(TraceLayer::new_for_http().make_span_with(|req: &Request| {
             let id = req.headers().get(&REQUEST_ID).and_then(|v| v.to_str().ok()).unwrap_or("-");
             // Path only: no query strings, bodies or credentials in logs.

@@ -84,12 +84,10 @@ impl Shape {
             body: op.request_body.is_some(),
             authenticated: op.security.as_ref().is_some_and(|s| !s.is_empty()),
             path_params: params().any(|p| p.parameter_in == ParameterIn::Path),
-            // Every path parameter but a table id is parsed by the handler
-            // (ids by `check_id`, numbers by `parse_positive`); an unknown
-            // table id is simply not found.
-            parsed_params: params().any(|p| {
-                p.parameter_in == ParameterIn::Query || (p.parameter_in == ParameterIn::Path && p.name != "table_id")
-            }),
+            // Every path and query value is checked for control characters
+            // (`extract::plain_params`); ids are parsed by `parse_id`,
+            // numbers by `parse_positive`.
+            parsed_params: params().any(|p| matches!(p.parameter_in, ParameterIn::Query | ParameterIn::Path)),
             computes: op.extensions.as_ref().is_some_and(|e| e.get(COMPUTES) == Some(&serde_json::Value::Bool(true))),
         }
     }
@@ -98,7 +96,10 @@ impl Shape {
     fn statuses(&self) -> Vec<(u16, &'static str)> {
         let mut s = Vec::new();
         if self.body || self.parsed_params {
-            s.push((400, "Malformed JSON, a malformed id or a bad query parameter (see `errors`)"));
+            s.push((
+                400,
+                "Malformed JSON, a malformed id, a bad query parameter, or a control character in a path or query value (see `errors`)",
+            ));
         }
         if self.authenticated {
             s.push((401, "Missing, unknown or revoked API key"));
@@ -120,7 +121,10 @@ impl Shape {
             s.push((422, "The compute budget (segment-point pairs) is exceeded; a JSON pointer names what to change"));
         }
         if self.authenticated {
-            s.push((429, "Rate limit of this API key; see `Retry-After`"));
+            s.push((
+                429,
+                "Rate limit of this API key, or too many failed authentications from this client address; see `Retry-After`",
+            ));
         }
         s.push((500, "Internal error (logged with the request id; no detail leaks)"));
         s.push(if self.computes {

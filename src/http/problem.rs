@@ -104,6 +104,16 @@ impl ApiError {
             ..Self::new(StatusCode::TOO_MANY_REQUESTS, "rate-limited", "Too many requests", detail)
         }
     }
+    /// Too many failed authentications from the client's address.
+    pub fn auth_rate_limited(retry_after_s: u64, failures: usize, window_s: u64) -> Self {
+        let detail = format!(
+            "{failures} failed authentications from your address within {window_s} s: retry after {retry_after_s} s with a valid key"
+        );
+        ApiError {
+            retry_after_s: Some(retry_after_s),
+            ..Self::new(StatusCode::TOO_MANY_REQUESTS, "auth-rate-limited", "Too many failed authentications", detail)
+        }
+    }
     pub fn timeout(seconds: u64) -> Self {
         Self::new(
             StatusCode::SERVICE_UNAVAILABLE,

@@ -4,7 +4,8 @@
 
 use super::{Result, Service, ServiceError};
 use crate::ids::{KeyId, OrgId};
-use crate::store::KeyRow;
+use crate::store::{KeyRow, Revoke};
+use fluxbound_core::text::single_line_problem;
 use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
 
@@ -120,6 +121,9 @@ impl Service {
                 "organisation name must be 1–100 characters",
             )));
         }
+        if let Some(why) = single_line_problem(name) {
+            return Err(ServiceError::Validation(super::one_problem("/org", why)));
+        }
         let org = self.store().org_ensure(name).await?;
         self.key_new(&org.id, role, label).await
     }
@@ -128,12 +132,8 @@ impl Service {
         if label.is_some_and(|l| l.chars().count() > 100) {
             return Err(ServiceError::Validation(super::one_problem("/label", "label must be at most 100 characters")));
         }
-        // Printouts and logs show labels, and PostgreSQL cannot store NUL.
-        if label.is_some_and(|l| l.chars().any(char::is_control)) {
-            return Err(ServiceError::Validation(super::one_problem(
-                "/label",
-                "label must not contain control characters (such as NUL, tab or a line break)",
-            )));
+        if let Some(why) = label.and_then(single_line_problem) {
+            return Err(ServiceError::Validation(super::one_problem("/label", why)));
         }
         let secret = new_secret();
         let row = self.store().key_insert(org_id, role.as_str(), &hash_secret(&secret), label).await?;
@@ -152,20 +152,45 @@ impl Service {
         Ok(self.store().keys_list(&caller.org_id).await?)
     }
 
+    /// Revokes a key of the caller's organisation (admin only); the last
+    /// active admin key of an organisation is kept (409).
     pub async fn keys_revoke(&self, caller: &Caller, key_id: &KeyId) -> Result<()> {
         caller.require(Role::Admin)?;
-        if self.store().key_revoke(&caller.org_id, key_id).await? { Ok(()) } else { Err(ServiceError::NotFound("key")) }
+        revoked(self.store().key_revoke(&caller.org_id, key_id).await?)
+    }
+
+    /// The organisation named `name` (CLI). No stored name holds a control
+    /// character, so such a name is not looked up (PostgreSQL refuses NUL).
+    async fn org_named(&self, name: &str) -> Result<crate::store::OrgRow> {
+        let found = match single_line_problem(name) {
+            Some(_) => None,
+            None => self.store().org_by_name(name).await?,
+        };
+        found.ok_or(ServiceError::NotFound("organisation"))
     }
 
     /// Lists keys of an organisation by name (CLI; no caller).
     pub async fn keys_list_for_org(&self, org_name: &str) -> Result<Vec<KeyRow>> {
-        let org = self.store().org_by_name(org_name).await?.ok_or(ServiceError::NotFound("organisation"))?;
+        let org = self.org_named(org_name).await?;
         Ok(self.store().keys_list(&org.id).await?)
     }
 
     /// Revokes a key by id in an organisation given by name (CLI).
     pub async fn keys_revoke_for_org(&self, org_name: &str, key_id: &KeyId) -> Result<()> {
-        let org = self.store().org_by_name(org_name).await?.ok_or(ServiceError::NotFound("organisation"))?;
-        if self.store().key_revoke(&org.id, key_id).await? { Ok(()) } else { Err(ServiceError::NotFound("key")) }
+        let org = self.org_named(org_name).await?;
+        revoked(self.store().key_revoke(&org.id, key_id).await?)
+    }
+}
+
+/// The answer to a revocation, in one place for the API and the CLI.
+fn revoked(outcome: Revoke) -> Result<()> {
+    match outcome {
+        Revoke::Revoked => Ok(()),
+        Revoke::NotFound => Err(ServiceError::NotFound("key")),
+        Revoke::LastAdmin => Err(ServiceError::Conflict(
+            "this is the organisation's last admin key, and without one nobody could manage keys: \
+             create another admin key first, then revoke this one"
+                .into(),
+        )),
     }
 }

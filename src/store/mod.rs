@@ -9,6 +9,7 @@
 //! request leaves nothing half-written.
 
 mod assessments;
+pub mod fold;
 mod migrate;
 mod orgs;
 mod sites;
@@ -17,7 +18,7 @@ mod tables;
 
 pub use assessments::{AssessmentRow, NewAssessment, PinnedVersion};
 pub use migrate::{MIGRATIONS_POSTGRES, MIGRATIONS_SQLITE, migrator};
-pub use orgs::{KeyRow, OrgRow};
+pub use orgs::{KeyRow, OrgRow, Revoke};
 pub use sites::{RevisionRow, SiteRow, UpdateOutcome};
 pub use surveys::SurveyRow;
 pub use tables::{TableRow, TableVersionRow, VersionReplace};
@@ -139,6 +140,10 @@ impl Store {
         let pool = options.connect(url).await?;
         let store = Store { pool, backend, sqlite_writer: Default::default() };
         migrate::apply(&store).await?;
+        let filled = store.backfill_name_folded().await?;
+        if filled > 0 {
+            tracing::info!(sites = filled, "search keys of site names filled in");
+        }
         Ok(store)
     }
 

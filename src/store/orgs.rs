@@ -1,7 +1,7 @@
 //! Organisations and API keys. Keys are stored as the SHA-256 of their
 //! secret part only; the secret itself is never stored or logged.
 
-use super::{Result, Store, col, now};
+use super::{Backend, Result, Store, WriteTx, col, now};
 use crate::ids::{KeyId, OrgId, Timestamp};
 use sqlx::any::AnyRow;
 
@@ -110,24 +110,67 @@ impl Store {
         sqlx::query(sqlx::AssertSqlSafe(sql)).bind(org_id).fetch_all(self.pool()).await?.iter().map(key_row).collect()
     }
 
-    /// Revokes a key of the organisation; false if there is no such key.
-    pub async fn key_revoke(&self, org_id: &OrgId, key_id: &KeyId) -> Result<bool> {
-        let _writer = self.writer().await;
-        let done =
-            sqlx::query("UPDATE api_keys SET revoked_at = $1 WHERE id = $2 AND org_id = $3 AND revoked_at IS NULL")
-                .bind(now())
+    /// Revokes a key of the organisation, unless it is the organisation's
+    /// last active admin key (someone must be able to manage keys).
+    ///
+    /// The check and the revocation are one write transaction that other
+    /// revocations in the organisation wait for: on SQLite `BEGIN
+    /// IMMEDIATE` (and the writer lock) serialises all writers; on
+    /// PostgreSQL the organisation's row is locked `FOR UPDATE` first, so
+    /// of two admins revoking each other at the same moment the second
+    /// counts after the first has committed and is refused.
+    pub async fn key_revoke(&self, org_id: &OrgId, key_id: &KeyId) -> Result<Revoke> {
+        let mut tx = self.begin_write().await?;
+        if self.backend() == Backend::Postgres {
+            sqlx::query("SELECT id FROM organisations WHERE id = $1 FOR UPDATE")
+                .bind(org_id)
+                .fetch_optional(tx.conn())
+                .await?;
+        }
+        let target: Option<(String, Option<String>)> =
+            sqlx::query_as("SELECT role, revoked_at FROM api_keys WHERE id = $1 AND org_id = $2")
                 .bind(key_id)
                 .bind(org_id)
-                .execute(self.pool())
+                .fetch_optional(tx.conn())
                 .await?;
-        if done.rows_affected() > 0 {
-            return Ok(true);
-        }
-        let exists: Option<String> = sqlx::query_scalar("SELECT id FROM api_keys WHERE id = $1 AND org_id = $2")
-            .bind(key_id)
-            .bind(org_id)
-            .fetch_optional(self.pool())
-            .await?;
-        Ok(exists.is_some())
+        let outcome = match target {
+            None => Revoke::NotFound,
+            // Revoking twice is not an error: the key is revoked.
+            Some((_, Some(_))) => Revoke::Revoked,
+            Some((role, None)) if role == ADMIN && self.active_admins(&mut tx, org_id).await? <= 1 => Revoke::LastAdmin,
+            Some((_, None)) => {
+                sqlx::query("UPDATE api_keys SET revoked_at = $1 WHERE id = $2 AND org_id = $3")
+                    .bind(now())
+                    .bind(key_id)
+                    .bind(org_id)
+                    .execute(tx.conn())
+                    .await?;
+                Revoke::Revoked
+            }
+        };
+        tx.commit().await?;
+        Ok(outcome)
     }
+
+    async fn active_admins(&self, tx: &mut WriteTx, org_id: &OrgId) -> Result<i64> {
+        Ok(sqlx::query_scalar("SELECT COUNT(*) FROM api_keys WHERE org_id = $1 AND role = $2 AND revoked_at IS NULL")
+            .bind(org_id)
+            .bind(ADMIN)
+            .fetch_one(tx.conn())
+            .await?)
+    }
+}
+
+/// The stored name of the role that manages keys.
+const ADMIN: &str = "admin";
+
+/// What [`Store::key_revoke`] did.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Revoke {
+    /// The key is revoked (now, or it already was).
+    Revoked,
+    /// No such key in the organisation.
+    NotFound,
+    /// The key is the organisation's last active admin key: kept.
+    LastAdmin,
 }

@@ -1,5 +1,6 @@
 //! Sites and their immutable revisions.
 
+use super::fold::{contains_pattern, search_key};
 use super::{Result, Store, col, now};
 use crate::ids::{OrgId, SiteId, Timestamp};
 use sqlx::any::AnyRow;
@@ -62,11 +63,13 @@ impl Store {
         let (id, at) = (SiteId::generate(), now());
         let mut tx = self.begin_write().await?;
         sqlx::query(
-            "INSERT INTO sites (id, org_id, name, latest_revision, created_at, updated_at) VALUES ($1, $2, $3, 1, $4, $4)",
+            "INSERT INTO sites (id, org_id, name, name_folded, latest_revision, created_at, updated_at) \
+             VALUES ($1, $2, $3, $4, 1, $5, $5)",
         )
         .bind(&id)
         .bind(org_id)
         .bind(name)
+        .bind(search_key(name))
         .bind(at)
         .execute(tx.conn())
         .await?;
@@ -144,10 +147,11 @@ impl Store {
         let at = now();
         let mut tx = self.begin_write().await?;
         let done = sqlx::query(
-            "UPDATE sites SET latest_revision = latest_revision + 1, name = $1, updated_at = $2 \
-             WHERE id = $3 AND org_id = $4 AND deleted_at IS NULL AND latest_revision = $5",
+            "UPDATE sites SET latest_revision = latest_revision + 1, name = $1, name_folded = $2, updated_at = $3 \
+             WHERE id = $4 AND org_id = $5 AND deleted_at IS NULL AND latest_revision = $6",
         )
         .bind(name)
+        .bind(search_key(name))
         .bind(at)
         .bind(id)
         .bind(org_id)
@@ -190,7 +194,9 @@ impl Store {
     }
 
     /// Live sites of the organisation in id (= creation) order after
-    /// `cursor`, optionally those whose name contains `name` (any case).
+    /// `cursor`, optionally those whose name contains `name` in any case and
+    /// any Unicode normal form: a plain substring match of search keys
+    /// ([`search_key`]), the same on both databases.
     pub async fn sites_list(
         &self,
         org_id: &OrgId,
@@ -198,12 +204,11 @@ impl Store {
         limit: i64,
         name: Option<&str>,
     ) -> Result<Vec<SiteRow>> {
-        let pattern = name
-            .map(|n| format!("%{}%", n.to_lowercase().replace('\\', "\\\\").replace('%', "\\%").replace('_', "\\_")));
+        let pattern = name.map(contains_pattern);
         let rows = sqlx::query(
             "SELECT id, name, latest_revision, created_at, updated_at FROM sites \
              WHERE org_id = $1 AND deleted_at IS NULL AND id > $2 \
-             AND ($3 = '' OR LOWER(name) LIKE $4 ESCAPE '\\') ORDER BY id LIMIT $5",
+             AND ($3 = '' OR name_folded LIKE $4 ESCAPE '\\') ORDER BY id LIMIT $5",
         )
         .bind(org_id)
         .bind(cursor.unwrap_or(""))
@@ -213,6 +218,25 @@ impl Store {
         .fetch_all(self.pool())
         .await?;
         rows.iter().map(site_row).collect()
+    }
+
+    /// Writes the search key of every site that has none (rows from before
+    /// migration 3: SQL cannot compute the key), in one write transaction.
+    /// Idempotent, so replicas that start together may both run it.
+    /// Returns how many rows it filled in.
+    pub(crate) async fn backfill_name_folded(&self) -> Result<usize> {
+        let mut tx = self.begin_write().await?;
+        let rows: Vec<(String, String)> =
+            sqlx::query_as("SELECT id, name FROM sites WHERE name_folded IS NULL").fetch_all(tx.conn()).await?;
+        for (id, name) in &rows {
+            sqlx::query("UPDATE sites SET name_folded = $1 WHERE id = $2")
+                .bind(search_key(name))
+                .bind(id)
+                .execute(tx.conn())
+                .await?;
+        }
+        tx.commit().await?;
+        Ok(rows.len())
     }
 
     /// Soft-deletes a live site; its revisions stay for the assessments

@@ -9,7 +9,7 @@
 
 use crate::helpers::*;
 use fluxbound::config::ConnectionLimits;
-use fluxbound::service::{Limits, Role};
+use fluxbound::service::Role;
 use serde_json::Value;
 use std::io::{ErrorKind, Read, Write};
 use std::net::{SocketAddr, TcpStream};
@@ -28,7 +28,7 @@ fn quick() -> ConnectionLimits {
 }
 
 async fn spawn_edge(connections: ConnectionLimits) -> TestApp {
-    spawn_app_configured(TestDb::fresh().await, Limits { rate_per_key: 0, ..Limits::default() }, connections).await
+    spawn_app_configured(TestDb::fresh().await, |c| c.connections = connections).await
 }
 
 /// What a raw connection saw: the bytes that arrived, and whether (and

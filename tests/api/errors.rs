@@ -412,6 +412,24 @@ async fn a_stale_or_unreadable_if_match_returns_412_and_leaves_the_site_unchange
 }
 
 #[tokio::test]
+async fn if_match_compares_strongly_so_a_weak_or_reworded_tag_of_the_latest_revision_returns_412() {
+    // RFC 9110 §13.1.1: If-Match uses the strong comparison (§8.8.3.2).
+    let app = spawn_app().await;
+    let key = app.key("acme", Role::Assessor).await;
+    let site = app.site(&key, &small_site("v1")).await;
+    for not_ours in ["W/\"1\"", "w/\"1\"", "\"01\"", "\"+1\"", "1", "\"1", "W/\"1\", \"7\""] {
+        let res = app.put(&format!("/v1/sites/{site}"), &key, &small_site("v2"), Some(not_ours)).await;
+        assert_problem(res, 412, "precondition-failed", None).await;
+    }
+    assert_eq!(latest_revision(&app, &key, &site).await, 1);
+    // A strong tag among weak ones still matches.
+    let res = app.put(&format!("/v1/sites/{site}"), &key, &small_site("v2"), Some("W/\"1\", \"1\"")).await;
+    assert_eq!(body(res, 200).await["latest_revision"], 2);
+    let res = app.put(&format!("/v1/sites/{site}"), &key, &small_site("v3"), Some("*")).await;
+    assert_eq!(body(res, 200).await["latest_revision"], 3);
+}
+
+#[tokio::test]
 async fn a_put_with_an_invalid_site_returns_422_and_adds_no_revision() {
     let app = spawn_app().await;
     let key = app.key("acme", Role::Assessor).await;

@@ -8,7 +8,7 @@
 
 use crate::contract::start_proxy;
 use fluxbound::app::App;
-use fluxbound::config::{Config, ConnectionLimits};
+use fluxbound::config::Config;
 use fluxbound::service::{Limits, Role, Service};
 use reqwest::{Client, Method, RequestBuilder, Response};
 use serde_json::Value;
@@ -109,25 +109,25 @@ pub async fn spawn_app() -> TestApp {
 }
 
 pub async fn spawn_app_with(db: TestDb, limits: Limits) -> TestApp {
-    spawn_app_configured(db, limits, ConnectionLimits::default()).await
+    spawn_app_configured(db, |c| c.limits = limits).await
 }
 
-/// As [`spawn_app_with`], with these client connection limits.
-pub async fn spawn_app_configured(db: TestDb, limits: Limits, connections: ConnectionLimits) -> TestApp {
+/// A server on `db` with the test defaults changed by `adjust`.
+pub async fn spawn_app_configured(db: TestDb, adjust: impl FnOnce(&mut Config)) -> TestApp {
     LOGS.call_once(|| {
         if std::env::var("TEST_LOG").is_ok() {
             fluxbound::telemetry::init(fluxbound::config::LogFormat::Human);
         }
     });
-    let config = Config {
+    let mut config = Config {
         listen: "127.0.0.1:0".into(),
         data_dir: db.data_dir.clone(),
         database_url: db.database_url.clone(),
         max_connections: 4,
-        limits,
-        connections,
+        limits: Limits { rate_per_key: 0, ..Limits::default() },
         ..Config::new()
     };
+    adjust(&mut config);
     let app = App::build(&config).await.expect("app builds");
     let server = app.local_addr();
     let base = format!("http://{server}");

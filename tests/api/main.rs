@@ -5,15 +5,18 @@ mod contract;
 mod helpers;
 
 mod assessments;
+mod clients;
 mod compute;
 mod edges;
 mod errors;
 mod evaluate;
 mod isolation;
+mod keys;
 mod migrations;
 mod openapi;
 mod persistence;
 mod reports;
+mod search;
 mod sites;
 mod strict;
 mod surveys;

@@ -30,6 +30,7 @@
 //! evaluate    the stateless evaluation document
 //! cautions    the cautions every result carries
 //! cancel      the flag that stops a computation between chunks of work
+//! text        the one rule for given text: no control characters
 //! ```
 //!
 //! Every result is a computed pre-screen: compliance is decided under local
@@ -48,4 +49,5 @@ pub mod provenance;
 pub mod report;
 pub mod site;
 pub mod survey;
+pub mod text;
 pub mod usecase;

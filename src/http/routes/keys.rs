@@ -40,11 +40,13 @@ pub async fn keys_create(
     Ok(json_response(StatusCode::CREATED, &body, None, None))
 }
 
-/// Revoke a key.
+/// Revoke a key. The organisation's last active admin key is kept, so that
+/// someone can still manage keys.
 #[utoipa::path(delete, path = "/v1/keys/{key_id}", tag = "keys", params(("key_id" = String, Path, description = "Key id")),
-    responses((status = 204, description = "Revoked"),
+    responses((status = 204, description = "Revoked (or it already was)"),
               (status = 403, description = "Needs the admin role"),
-              (status = 404, description = "No such key")),
+              (status = 404, description = "No such key"),
+              (status = 409, description = "The organisation's last active admin key cannot be revoked: create another admin key first")),
     security(("bearer" = [])))]
 pub async fn keys_revoke(
     State(s): State<AppState>,

@@ -175,8 +175,8 @@ fn check_tier(tier: &Tier, at: &Pointer, p: &mut Problems) {
 fn check_text(text: &str, at: &Pointer, blank: &str, p: &mut Problems) {
     if text.trim().is_empty() {
         p.push(at, blank);
-    } else if text.chars().any(char::is_control) {
-        p.push(at, "must not contain control characters (such as NUL, tab or a line break)");
+    } else if let Some(why) = crate::text::single_line_problem(text) {
+        p.push(at, why);
     }
 }
 

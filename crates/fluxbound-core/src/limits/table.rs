@@ -253,18 +253,32 @@ pub fn validate_table_at(mut doc: TableDoc, at: &Pointer) -> Result<ReferenceTab
     Ok(ReferenceTable { doc, version: 1 })
 }
 
-/// The id, title and citation.
+/// The id, title, citation and the texts of notes and gaps.
 fn check_header(doc: &TableDoc, at: &Pointer, p: &mut Problems) {
     if !is_data_id(&doc.id) {
         p.push(&at.key("id"), "table id must be 1–64 characters of letters, digits, '.', '-' or '_'");
     }
     if doc.title.trim().is_empty() {
         p.push(&at.key("title"), "title must not be empty");
-    } else if doc.title.chars().any(char::is_control) {
-        p.push(&at.key("title"), "title must not contain control characters (such as NUL, tab or a line break)");
+    } else if let Some(why) = crate::text::single_line_problem(&doc.title) {
+        p.push(&at.key("title"), why);
     }
     if doc.source.trim().is_empty() {
         p.push(&at.key("source"), "give the full citation of the source");
+    } else if let Some(why) = crate::text::single_line_problem(&doc.source) {
+        p.push(&at.key("source"), why);
+    }
+    // Each note is one line: a list of notes is how to give several.
+    let notes = doc.notes.iter().enumerate().map(|(i, n)| (at.key("notes").index(i), n.as_str()));
+    let reasons = doc
+        .gaps
+        .iter()
+        .enumerate()
+        .filter_map(|(i, g)| Some((at.key("gaps").index(i).key("reason"), g.reason.as_deref()?)));
+    for (pointer, text) in notes.chain(reasons) {
+        if let Some(why) = crate::text::single_line_problem(text) {
+            p.push(&pointer, why);
+        }
     }
     if doc.version == Some(0) {
         p.push(&at.key("version"), "versions count from 1");

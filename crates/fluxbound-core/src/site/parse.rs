@@ -5,8 +5,10 @@
 //! deserialisation at the first one; value errors are all collected later by
 //! the validator. Before the typed parse, one pass over the document rejects
 //! what serde would accept silently: a key given twice in one object (serde
-//! keeps the last, so `100` could become `100000` unseen) and a NUL character
-//! in any text (no document needs one, and PostgreSQL cannot store it).
+//! keeps the last, so `100` could become `100000` unseen) and a control
+//! character in any key or text (the rule of [`crate::text`]: every text is
+//! one line, except those under [`MULTI_LINE_KEYS`]). Each control character
+//! is reported with its pointer; a repeated key stops the pass.
 //!
 //! Serde's messages name Rust types ("expected f64", "internally tagged
 //! enum"); [`plain_words`] rewrites each message shape serde and serde_json
@@ -14,6 +16,7 @@
 
 use super::problem::{Pointer, Problems};
 use super::strict::Strict;
+use crate::text::{multi_line_problem, single_line_problem};
 use serde::de::{self, DeserializeOwned, DeserializeSeed, MapAccess, SeqAccess, Visitor};
 use std::cell::RefCell;
 use std::collections::HashSet;
@@ -132,7 +135,7 @@ fn syntax_words(raw: &str) -> Option<&'static str> {
         "number out of range" => "number out of range (not a finite 64-bit value)",
         "invalid escape" => "a backslash escape in a text is not valid JSON",
         "control character (\\u0000-\\u001F) found while parsing a string" => {
-            "a text contains a raw control character (such as a line break): remove it or write it escaped"
+            "a text contains a raw control character (such as a line break): remove it (only points_csv may hold line breaks and tabs, written as \\n and \\t)"
         }
         "recursion limit exceeded" => "the document is nested too deeply",
         "lone leading surrogate in hex escape" | "unexpected end of hex escape" | "invalid unicode code point" => {
@@ -227,30 +230,44 @@ fn without_jargon(text: &str) -> String {
     out
 }
 
-/// The first problem the typed parse would not see: a key repeated within
-/// one object, or a NUL character in a key or a text. A syntax error is left
-/// to the typed parse, which reports it with its pointer.
+/// Keys whose text values are files by nature and may hold tabs and line
+/// breaks ([`crate::text::multi_line_problem`]): a survey's measurements as
+/// CSV, and its delimiter (which may be a tab). Every other text is one line.
+pub const MULTI_LINE_KEYS: [&str; 2] = ["points_csv", "csv_delimiter"];
+
+/// What the typed parse would not see: every control character in a key or
+/// a text, and the first key repeated within one object (which stops the
+/// pass). A syntax error is left to the typed parse, which reports it with
+/// its pointer.
 fn scan_document(text: &str) -> Option<Problems> {
-    let found = RefCell::new(None);
+    let found = RefCell::new(Problems::default());
     let mut de = serde_json::Deserializer::from_str(text);
-    let _ = Scan { at: Pointer::root(), found: &found }.deserialize(&mut de);
-    found.into_inner()
+    let _ = Scan { at: Pointer::root(), multi_line: false, found: &found }.deserialize(&mut de);
+    let found = found.into_inner();
+    (!found.is_empty()).then_some(found)
 }
 
-/// A walk over any JSON value that records the first repeated key or NUL.
+/// A walk over any JSON value that records control characters and stops at
+/// the first repeated key.
 struct Scan<'a> {
     at: Pointer,
-    found: &'a RefCell<Option<Problems>>,
+    /// The value sits under one of [`MULTI_LINE_KEYS`].
+    multi_line: bool,
+    found: &'a RefCell<Problems>,
 }
 
 impl Scan<'_> {
     fn stop<E: de::Error>(&self, at: &Pointer, detail: &str) -> E {
-        *self.found.borrow_mut() = Some(Problems::one(at.to_string(), detail));
+        self.found.borrow_mut().push(at, detail);
         E::custom("stopped")
     }
+    fn check_text(&self, at: &Pointer, text: &str, multi_line: bool) {
+        let problem = if multi_line { multi_line_problem(text) } else { single_line_problem(text) };
+        if let Some(why) = problem {
+            self.found.borrow_mut().push(at, why);
+        }
+    }
 }
-
-const NUL_DETAIL: &str = "text must not contain a NUL character (U+0000)";
 
 impl<'de> DeserializeSeed<'de> for Scan<'_> {
     type Value = ();
@@ -280,11 +297,13 @@ impl<'de> Visitor<'de> for Scan<'_> {
         Ok(())
     }
     fn visit_str<E: de::Error>(self, v: &str) -> Result<(), E> {
-        if v.contains('\0') { Err(self.stop(&self.at, NUL_DETAIL)) } else { Ok(()) }
+        self.check_text(&self.at, v, self.multi_line);
+        Ok(())
     }
     fn visit_seq<A: SeqAccess<'de>>(self, mut seq: A) -> Result<(), A::Error> {
         let mut i = 0;
-        while seq.next_element_seed(Scan { at: self.at.index(i), found: self.found })?.is_some() {
+        let item = |i| Scan { at: self.at.index(i), multi_line: self.multi_line, found: self.found };
+        while seq.next_element_seed(item(i))?.is_some() {
             i += 1;
         }
         Ok(())
@@ -293,16 +312,15 @@ impl<'de> Visitor<'de> for Scan<'_> {
         let mut seen = HashSet::new();
         while let Some(key) = map.next_key::<String>()? {
             let at = self.at.key(&key);
-            if key.contains('\0') {
-                return Err(self.stop(&at, NUL_DETAIL));
-            }
+            self.check_text(&at, &key, false);
             if !seen.insert(key.clone()) {
                 let detail = format!(
                     "the key '{key}' is given twice in this object: give it once (programs differ on which value wins)"
                 );
                 return Err(self.stop(&at, &detail));
             }
-            map.next_value_seed(Scan { at, found: self.found })?;
+            let multi_line = MULTI_LINE_KEYS.contains(&key.as_str());
+            map.next_value_seed(Scan { at, multi_line, found: self.found })?;
         }
         Ok(())
     }

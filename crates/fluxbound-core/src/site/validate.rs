@@ -6,6 +6,7 @@
 use super::model::*;
 use super::problem::{Pointer, Problems};
 use super::wire::*;
+use crate::text::single_line_problem;
 use nalgebra::{Point2, Point3};
 use num_complex::Complex64;
 use std::collections::{HashMap, HashSet};
@@ -73,15 +74,14 @@ pub fn validate_site(doc: &SiteDoc) -> Result<Site, Problems> {
     }))
 }
 
-/// A name or label: at most [`MAX_NAME_CHARS`] characters, none of them a
-/// control character (NUL, line breaks, escapes: they corrupt printouts
-/// and logs, and PostgreSQL cannot store NUL).
+/// A name or label: at most [`MAX_NAME_CHARS`] characters on one line (the
+/// rule of [`crate::text`]).
 pub(crate) fn check_name(name: &str, at: &Pointer, p: &mut Problems) {
     if name.chars().count() > MAX_NAME_CHARS {
         p.push(at, format!("name is longer than {MAX_NAME_CHARS} characters"));
     }
-    if name.chars().any(char::is_control) {
-        p.push(at, "name must not contain control characters (such as NUL, tab or a line break)");
+    if let Some(why) = single_line_problem(name) {
+        p.push(at, why);
     }
 }
 
@@ -144,8 +144,8 @@ fn check_ids<'a>(ids: impl Iterator<Item = &'a str>, list: &Pointer, what: &str,
             p.push(&at, "id must not be empty");
         } else if id.chars().count() > MAX_ID_CHARS {
             p.push(&at, format!("id is longer than {MAX_ID_CHARS} characters"));
-        } else if id.chars().any(char::is_control) {
-            p.push(&at, "id must not contain control characters (such as NUL, tab or a line break)");
+        } else if let Some(why) = single_line_problem(id) {
+            p.push(&at, why);
         }
         if let Some(first) = seen.insert(id, i) {
             p.push(&at, format!("duplicate {what} id '{id}' (first used at {})", list.index(first)));

@@ -294,8 +294,8 @@ fn check_points(doc: &SurveyDoc, quantity: MeterQuantity, p: &mut Problems) -> V
         let row = |field: &str| if from_csv { at.clone() } else { at.key(field) };
         if m.id.trim().is_empty() || m.id.chars().count() > 64 {
             p.push(&row("id"), format!("measurement {}: id must be 1–64 characters", i + 1));
-        } else if m.id.chars().any(char::is_control) {
-            p.push(&row("id"), format!("measurement {}: id must not contain control characters", i + 1));
+        } else if let Some(why) = crate::text::single_line_problem(&m.id) {
+            p.push(&row("id"), format!("measurement {}: {why}", i + 1));
         } else if !seen.insert(m.id.clone()) {
             p.push(&row("id"), format!("duplicate measurement id '{}'", m.id));
         }

@@ -25,3 +25,4 @@ mod provenance;
 mod report;
 mod site;
 mod survey;
+mod text;

@@ -451,7 +451,7 @@ fn an_id_with_a_control_character_is_rejected() {
     assert_only_problem(
         base_with("/areas/0/id", json!("floor\n2")),
         "/areas/0/id",
-        "id must not contain control characters",
+        "text must not contain control characters (found U+000A, a line feed, at character 6)",
     );
 }
 
