@@ -174,8 +174,8 @@ def extra_serve_flags(binary):
     limit on failed authentications (the fuzzer sends bad keys on purpose)."""
     help_text = subprocess.run([binary, "serve", "--help"], capture_output=True, text=True).stdout
     flags = []
-    if "--auth-failures-per-minute" in help_text:
-        flags += ["--auth-failures-per-minute", "0"]
+    if "--auth-failures" in help_text:
+        flags += ["--auth-failures", "0"]
     return flags
 
 
