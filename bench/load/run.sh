@@ -9,16 +9,8 @@
 set -euo pipefail
 cd "$(dirname "$0")/../.."
 SECONDS_PER_RUN="${1:-10}"
-cargo build --release --locked --bin fluxbound >/dev/null
-BIN=target/release/fluxbound
-WORK="$(mktemp -d)"
-trap 'kill "$SERVER" 2>/dev/null || true; rm -rf "$WORK"' EXIT
-export FLUXBOUND_RATE_PER_KEY=0
-KEY="$("$BIN" keys create --org load --role assessor --data-dir "$WORK/data")"
-"$BIN" serve --listen 127.0.0.1:0 --data-dir "$WORK/data" >"$WORK/server.log" 2>&1 &
-SERVER=$!
-for _ in $(seq 1 50); do grep -q "listening on" "$WORK/server.log" && break; sleep 0.1; done
-ADDR="$(grep -o 'listening on http://[0-9.:]*' "$WORK/server.log" | sed 's/listening on //')"
+source bench/server.sh
+start_bench_server load assessor
 python3 bench/load/make_bodies.py "$WORK"
 export FLUXBOUND_KEY="$KEY"
 echo "== POST /v1/evaluate (10 conductors x 100 points), ${SECONDS_PER_RUN}s"
