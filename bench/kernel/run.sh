@@ -12,7 +12,9 @@
 # other `rounds` times (default 7), each `runs-per-round` timed runs (default
 # 3) after a warm-up, all on 2 threads. The case: 10 conductors × 100
 # segments × 100,000 points, one frequency (1e8 pairs per run). Prints the
-# median and range of pairs/s for each and the ratios of the medians.
+# median and range of pairs/s (wall clock, 2 threads) for each and the ratios
+# of the medians; then the same per CPU-second (user + system time of each
+# whole process, warm-up included), which a loaded machine disturbs less.
 set -euo pipefail
 cd "$(dirname "$0")/../.."
 rounds=${1:-7}
@@ -31,10 +33,19 @@ echo "# $(date -u +%FT%TZ) $(uname -m), $(grep -m1 'model name' /proc/cpuinfo | 
     "$(nproc) cores; gcc $(gcc -dumpfullversion); $(rustc --version)"
 echo "# load before: $(cut -d' ' -f1-3 /proc/loadavg)"
 export RAYON_NUM_THREADS=$threads OMP_NUM_THREADS=$threads
+TIMEFORMAT='%U %S'
+# timed NAME PAIRS-PER-PROCESS COMMAND...: wall-clock pairs/s per run into
+# NAME.txt, pairs per CPU-second of the whole process into NAME-cpu.txt.
+timed() {
+    local name=$1 pairs=$2
+    shift 2
+    { time "$@" 2>/dev/null | awk '{print $2}' >>"$work/$name.txt"; } 2>"$work/time"
+    awk -v p="$pairs" '{print p / ($1 + $2)}' "$work/time" >>"$work/$name-cpu.txt"
+}
 for ((r = 0; r < rounds; r++)); do
-    "$rust" "$runs" 2>/dev/null | awk '{print $2}' >>"$work/rust.txt"
-    "$work/ref" "$runs" 2>/dev/null | awk '{print $2}' >>"$work/c.txt"
-    "$work/probe" "$runs" 2>/dev/null | awk '{print $2}' >>"$work/probe.txt"
+    timed rust "$(((runs + 1) * 100000000))" "$rust" "$runs"
+    timed c "$(((runs + 1) * 100000000))" "$work/ref" "$runs"
+    timed probe "$(((runs + 1) * 800000 * 64 * threads))" "$work/probe" "$runs"
 done
 echo "# load after: $(cut -d' ' -f1-3 /proc/loadavg)"
 
@@ -43,8 +54,16 @@ summary() {
     printf '%-28s median %.3e pairs/s  range %.3e – %.3e  (n = %d)\n' "$1" "$(median "$2")" \
         "$(sort -g "$2" | head -1)" "$(sort -g "$2" | tail -1)" "$(wc -l <"$2")"
 }
-summary "rust kernel ($("$rust" 0 2>&1 >/dev/null | sed 's/kernel variant: //; s/,.*//'))" "$work/rust.txt"
+summary "rust kernel ($("$rust" 0 2>&1 >/dev/null | head -1 | sed 's/kernel variant: //; s/,.*//'))" "$work/rust.txt"
 summary "C reference" "$work/c.txt"
 summary "sqrt+div ceiling (probe)" "$work/probe.txt"
-awk -v r="$(median "$work/rust.txt")" -v c="$(median "$work/c.txt")" -v p="$(median "$work/probe.txt")" \
-    'BEGIN {printf "rust / C = %.2f   rust / ceiling = %.2f   C / ceiling = %.2f\n", r / c, r / p, c / p}'
+ratios() {
+    awk -v r="$(median "$work/rust$1.txt")" -v c="$(median "$work/c$1.txt")" -v p="$(median "$work/probe$1.txt")" \
+        'BEGIN {printf "rust / C = %.2f   rust / ceiling = %.2f   C / ceiling = %.2f\n", r / c, r / p, c / p}'
+}
+ratios ""
+echo "# per CPU-second (pairs per core-second), one value per process"
+summary "rust kernel" "$work/rust-cpu.txt"
+summary "C reference" "$work/c-cpu.txt"
+summary "sqrt+div ceiling (probe)" "$work/probe-cpu.txt"
+ratios -cpu
