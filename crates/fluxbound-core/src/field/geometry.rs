@@ -31,6 +31,10 @@ pub struct Filaments {
     /// the entry of a conductor's first vertex is unused (0).
     pub(crate) seg_len2: Vec<f64>,
     pub(crate) starts: Vec<usize>,
+    /// Radius (m) and its square per conductor: the square serves the
+    /// inside test, the radius itself the chunk-far proof (no rounding
+    /// through a square root, so that proof stays conservative).
+    pub(crate) radius: Vec<f64>,
     pub(crate) radius2: Vec<f64>,
 }
 
@@ -45,10 +49,12 @@ impl Filaments {
             vz: Vec::with_capacity(vertex_count),
             seg_len2: Vec::with_capacity(vertex_count),
             starts: Vec::with_capacity(filaments.len() + 1),
+            radius: Vec::with_capacity(filaments.len()),
             radius2: Vec::with_capacity(filaments.len()),
         };
         for f in filaments {
             out.starts.push(out.vx.len());
+            out.radius.push(f.radius_m.abs());
             out.radius2.push(f.radius_m * f.radius_m);
             for (j, v) in f.path.iter().enumerate() {
                 let len2 = if j == 0 { 0.0 } else { (v - f.path[j - 1]).norm_squared() };

@@ -5,6 +5,7 @@
 mod bounds;
 mod closed_forms;
 mod conformance;
+mod inside_flags;
 mod invariants;
 mod segment_bounds;
 mod variants;
