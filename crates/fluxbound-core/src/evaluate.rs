@@ -6,10 +6,10 @@
 use crate::cancel::{Cancel, Cancelled};
 use crate::cautions::cautions;
 use crate::field::{self, FieldPhasor};
-use crate::site::warnings::{Probe, model_warnings};
+use crate::site::warnings::{Probe, ProbeSource, model_warnings};
 use crate::site::wire::{CircuitDoc, ConductorDoc};
 use crate::site::{
-    self, Conductor, Pointer, Problems, check_circuits, check_conductors, check_coordinate, check_frequency,
+    self, Conductor, Pointer, Problems, check_circuits, check_conductors, check_coordinate_at, check_frequency,
     excitation_of,
 };
 use nalgebra::Point3;
@@ -146,7 +146,7 @@ pub fn validate_request(req: &EvaluateRequest) -> Result<Evaluation, Problems> {
     }
     for (i, pt) in req.points.iter().enumerate() {
         for (d, x) in pt.iter().enumerate() {
-            check_coordinate(*x, &pp.index(i).index(d), &mut p);
+            check_coordinate_at(*x, || pp.index(i).index(d), &mut p);
         }
     }
     let points = req.points.iter().map(|v| Point3::new(v[0], v[1], v[2])).collect();
@@ -208,12 +208,11 @@ pub fn try_evaluate(ev: &Evaluation, cancel: &Cancel) -> Result<EvaluateResponse
 
 /// The model warnings of a checked request, pointers into the request.
 pub fn evaluation_warnings(ev: &Evaluation) -> Vec<site::Warning> {
-    let points = Pointer::root().key("points");
     let probes: Vec<Probe> = ev
         .points
         .iter()
         .enumerate()
-        .map(|(i, at)| Probe { at: *at, pointer: points.index(i).to_string(), group: i })
+        .map(|(i, at)| Probe { at: *at, source: ProbeSource::Point(i), group: i })
         .collect();
     model_warnings(ev.frequency_hz, &ev.circuits, &ev.conductors, &probes, Vec::new())
 }

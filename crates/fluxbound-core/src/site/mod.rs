@@ -19,7 +19,9 @@ pub use validate::{
     COORDINATE_LIMIT_M, CURRENT_LIMIT_A, FREQUENCY_RANGE_HZ, HARMONIC_ORDERS, MAX_VERTICES, MIN_SEGMENT_M,
     RADIUS_RANGE_M, validate_site,
 };
-pub(crate) use validate::{check_circuits, check_conductors, check_coordinate, check_frequency, check_name};
+pub(crate) use validate::{
+    check_circuits, check_conductors, check_coordinate, check_coordinate_at, check_frequency, check_name,
+};
 pub use warnings::{Warning, WarningCode, site_warnings};
 
 /// Parses and validates a site document in one step.
