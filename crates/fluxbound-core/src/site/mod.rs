@@ -11,7 +11,7 @@ pub mod warnings;
 pub mod wire;
 
 pub use currents::CircuitLoad;
-pub(crate) use currents::excitation_of;
+pub(crate) use currents::{excitation_of, orders_of};
 pub use model::*;
 pub use parse::{json_syntax_error, parse_json, plain_words};
 pub use problem::{Pointer, Problem, Problems};
