@@ -4,7 +4,7 @@
 //! `POST /v1/evaluate`, so its key names are a published interface.
 //!
 //! Layout: this file holds the wire types and the check of a request;
-//! [`output`] the answer's two forms (per point, or columns) and their
+//! `evaluate/output.rs` the answer's two forms (per point, or columns) and their
 //! streaming serialisation.
 
 mod output;
