@@ -153,7 +153,7 @@ pub struct EvaluateResponse {
 
 /// The column form of the answer (`output.columns` given): one array per
 /// column, in point order. Described for the contract; the service writes
-/// it from [`Evaluated`] without building this value.
+/// it straight from the computed field, without building this value.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct EvaluateColumnsResponse {
