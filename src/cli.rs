@@ -11,7 +11,7 @@
 use crate::config::{ClientPolicy, ConnectionLimits, parse_trusted_proxy};
 use clap::{Parser, Subcommand, ValueEnum};
 use fluxbound_core::assess::{AssessError, LoadCase, LoadError, ReviewFraction};
-use fluxbound_core::evaluate::EvaluateRequest;
+use fluxbound_core::evaluate::{self, EvaluateRequest};
 use fluxbound_core::limits::{self, ReferenceTable, TableSource, UnknownTable};
 use fluxbound_core::mitigate;
 use fluxbound_core::report::text;
@@ -46,6 +46,12 @@ pub enum Command {
         /// Print the result on one line instead of indented.
         #[arg(long)]
         compact: bool,
+        /// Answer with these columns (comma-separated), one array per column
+        /// in point order, instead of one object per point: x_m, y_m, z_m,
+        /// resultant_ut, maximum_ut, resultant_ut@<order>, maximum_ut@<order>,
+        /// inside_conductors. Overrides the document's `output`.
+        #[arg(long, value_name = "NAMES", value_delimiter = ',')]
+        columns: Option<Vec<String>>,
     },
     /// Validate a site model and list every problem with its JSON pointer.
     Check {
@@ -539,7 +545,7 @@ pub fn main() -> ExitCode {
 /// Runs one command, writing its result to `out`.
 pub fn run(cli: Cli, out: &mut dyn Write) -> Result<ExitCode, CliError> {
     match cli.command {
-        Command::Evaluate { input, compact } => evaluate_command(&input, compact, out),
+        Command::Evaluate { input, compact, columns } => evaluate_command(&input, compact, columns.as_deref(), out),
         Command::Check { file } => check_command(&file, out),
         Command::Assess(args) => assess_command(&args, out),
         Command::Tables { action } => tables_command(action, out),
@@ -564,12 +570,31 @@ fn health_command(args: &HealthArgs, out: &mut dyn Write) -> Result<ExitCode, Cl
     Ok(ExitCode::SUCCESS)
 }
 
-fn evaluate_command(input: &Path, compact: bool, out: &mut dyn Write) -> Result<ExitCode, CliError> {
-    let req: EvaluateRequest = site::parse_json(&read_input(input)?).map_err(CliError::in_file)?;
-    let response = usecase::evaluate_points(&req, &Budget::offline())?;
-    let json = if compact { serde_json::to_string(&response) } else { serde_json::to_string_pretty(&response) }
-        .expect("serialising plain data cannot fail");
-    writeln!(out, "{json}").map_err(CliError::Write)?;
+/// `--columns` wins over the document's `output` (which is still checked):
+/// the flag is the later, more specific choice of the person running it.
+/// The answer is written as it is computed point by point, through a buffer,
+/// never held as one text.
+fn evaluate_command(
+    input: &Path,
+    compact: bool,
+    columns: Option<&[String]>,
+    out: &mut dyn Write,
+) -> Result<ExitCode, CliError> {
+    let text = read_input(input)?;
+    let req: EvaluateRequest = site::parse_json(&text).map_err(CliError::in_file)?;
+    drop(text);
+    let mut ev = evaluate::validate_request(&req).map_err(CliError::in_file)?;
+    drop(req);
+    if let Some(names) = columns {
+        let cols = evaluate::parse_columns(names, &ev.orders()).map_err(|problems| {
+            CliError::Problems(problems.into_iter().map(|(_, why)| format!("--columns: {why}")).collect())
+        })?;
+        ev.set_output(evaluate::Output::Columns(cols));
+    }
+    let answer = usecase::evaluate_checked(ev, &Budget::offline())?;
+    let mut buffered = std::io::BufWriter::with_capacity(1 << 16, out);
+    evaluate::write_evaluated(&mut buffered, &answer, compact).map_err(CliError::Write)?;
+    buffered.flush().map_err(CliError::Write)?;
     Ok(ExitCode::SUCCESS)
 }
 

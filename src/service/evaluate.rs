@@ -1,13 +1,15 @@
 //! The stateless evaluation: same document as `fluxbound evaluate`.
 
 use super::{Caller, Result, Role, Service, ServiceError};
-use fluxbound_core::evaluate::{EvaluateRequest, EvaluateResponse};
+use fluxbound_core::evaluate::{EvaluateRequest, Evaluated};
 use fluxbound_core::site::{Pointer, Problems};
 use fluxbound_core::usecase;
 
 impl Service {
     #[tracing::instrument(name = "evaluate", skip_all, fields(org = %caller.org_id, conductors = req.conductors.len(), points = req.points.len()))]
-    pub async fn evaluate(&self, caller: &Caller, req: EvaluateRequest) -> Result<EvaluateResponse> {
+    /// The answer is kept as computed phasors; the HTTP layer writes it in
+    /// the form the document's `output` asks for.
+    pub async fn evaluate(&self, caller: &Caller, req: EvaluateRequest) -> Result<Evaluated> {
         caller.require(Role::Viewer)?;
         let limits = self.limits();
         let root = Pointer::root();
@@ -21,8 +23,8 @@ impl Service {
         if !bounds.is_empty() {
             return Err(ServiceError::TooBig(bounds));
         }
-        let response = self.compute(move |budget| usecase::evaluate_points(&req, budget)).await??;
-        self.count_pairs(response.segment_point_pairs);
+        let response = self.compute(move |budget| usecase::evaluate_output(&req, budget)).await??;
+        self.count_pairs(response.pair_count());
         Ok(response)
     }
 }

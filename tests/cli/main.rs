@@ -154,6 +154,31 @@ fn evaluating_the_busbar_example_prints_exactly_the_documented_keys() {
 }
 
 #[test]
+fn evaluate_with_columns_prints_the_per_point_numbers_as_columns_in_point_order() {
+    let full = fluxbound(&["evaluate", "--input", EXAMPLE], None);
+    let cols =
+        fluxbound(&["evaluate", "--input", EXAMPLE, "--columns", "resultant_ut,maximum_ut,inside_conductors"], None);
+    assert_eq!(cols.status.code(), Some(0), "stderr: {}", stderr_of(&cols));
+    let full: Value = serde_json::from_slice(&full.stdout).unwrap();
+    let v: Value = serde_json::from_slice(&cols.stdout).expect("stdout is one JSON document");
+    assert_eq!(keys(&v), sorted(vec!["frequency_hz", "columns", "segment_point_pairs", "cautions", "warnings"]));
+    assert_eq!(keys(&v["columns"]), sorted(vec!["resultant_ut", "maximum_ut", "inside_conductors"]));
+    for (i, p) in full["points"].as_array().unwrap().iter().enumerate() {
+        // The same numbers, not merely close; null inside a conductor.
+        assert_eq!(v["columns"]["resultant_ut"][i], p["resultant_ut"], "point {i}");
+        assert_eq!(v["columns"]["maximum_ut"][i], p["maximum_ut"], "point {i}");
+        assert_eq!(v["columns"]["inside_conductors"][i], p["inside_conductors"], "point {i}");
+    }
+    assert!(v["columns"]["resultant_ut"][4].is_null());
+}
+
+#[test]
+fn an_unknown_column_is_rejected_naming_the_columns_flag() {
+    let out = fluxbound(&["evaluate", "--input", EXAMPLE, "--columns", "resultant_ut,peak_ut"], None);
+    assert_rejected_with(&out, &["--columns: unknown column 'peak_ut'"]);
+}
+
+#[test]
 fn evaluating_the_busbar_example_returns_one_result_per_input_point_in_input_order() {
     let input: Value = serde_json::from_str(&std::fs::read_to_string(manifest_dir().join(EXAMPLE)).unwrap()).unwrap();
     let out = fluxbound(&["evaluate", "--input", EXAMPLE], None);

@@ -501,7 +501,18 @@ fn distance_failure(e: mitigate::DistanceError, query: &DistanceQuery, site: &Si
 
 /// Evaluates a stateless evaluation document within the pairs budget.
 pub fn evaluate_points(req: &EvaluateRequest, budget: &Budget) -> Result<EvaluateResponse, UseCaseError> {
+    Ok(evaluate_output(req, budget)?.to_response())
+}
+
+/// [`evaluate_points`] kept in the form the document's `output` asks for,
+/// for writing without building the answer in memory.
+pub fn evaluate_output(req: &EvaluateRequest, budget: &Budget) -> Result<evaluate::Evaluated, UseCaseError> {
     let ev = evaluate::validate_request(req).map_err(UseCaseError::Evaluate)?;
+    evaluate_checked(ev, budget)
+}
+
+/// Computes a checked evaluation within the pairs budget.
+pub fn evaluate_checked(ev: evaluate::Evaluation, budget: &Budget) -> Result<evaluate::Evaluated, UseCaseError> {
     let pairs = ev.pair_count();
     if pairs > budget.max_pairs {
         return Err(over_budget(
@@ -512,5 +523,5 @@ pub fn evaluate_points(req: &EvaluateRequest, budget: &Budget) -> Result<Evaluat
             ),
         ));
     }
-    Ok(evaluate::try_evaluate(&ev, &budget.cancel)?)
+    Ok(evaluate::try_compute(ev, &budget.cancel)?)
 }

@@ -7,13 +7,17 @@ use crate::http::problem::ApiError;
 use axum::extract::State;
 use axum::http::StatusCode;
 use axum::response::Response;
-use fluxbound_core::evaluate::{EvaluateRequest, EvaluateResponse};
+use fluxbound_core::evaluate::{EvaluateAnswer, EvaluateRequest};
 
 /// Field of conductors at points (same JSON as the CLI's `evaluate`).
+///
+/// One object per point by default; with `output.columns`, one array per
+/// column. The answer is serialised once, straight from the computed
+/// phasors into the response's bytes (no intermediate value per point).
 #[utoipa::path(post, path = "/v1/evaluate", tag = "evaluate", request_body = EvaluateRequest,
     responses(
-        (status = 200, description = "Field at every point, in input order, with the cautions", body = EvaluateResponse),
-        (status = 422, description = "Validation problems, or the compute budget (segment-point pairs) is exceeded"),
+        (status = 200, description = "Field at every point, in input order, with the cautions: one object per point (`EvaluateResponse`), or one array per column when `output.columns` is given (`EvaluateColumnsResponse`)", body = EvaluateAnswer),
+        (status = 422, description = "Validation problems (an unknown column at `/output/columns/<i>`), or the compute budget (segment-point pairs) is exceeded"),
     ),
     extensions(("x-computes" = json!(true))),
     security(("bearer" = [])))]

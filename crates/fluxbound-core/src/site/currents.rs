@@ -186,7 +186,9 @@ pub(crate) fn excitation_of(
     Excitation { lines }
 }
 
-fn orders_of(circuits: &[Circuit]) -> Vec<u32> {
+/// Harmonic orders present: the fundamental and every circuit's harmonics,
+/// ascending, each once (the order of [`excitation_of`]'s lines).
+pub(crate) fn orders_of(circuits: &[Circuit]) -> Vec<u32> {
     let mut orders: Vec<u32> =
         std::iter::once(1).chain(circuits.iter().flat_map(|c| c.harmonics.iter().map(|h| h.order))).collect();
     orders.sort_unstable();

@@ -11,7 +11,7 @@ pub mod warnings;
 pub mod wire;
 
 pub use currents::CircuitLoad;
-pub(crate) use currents::excitation_of;
+pub(crate) use currents::{excitation_of, orders_of};
 pub use model::*;
 pub use parse::{json_syntax_error, parse_json, plain_words};
 pub use problem::{Pointer, Problem, Problems};
@@ -19,7 +19,9 @@ pub use validate::{
     COORDINATE_LIMIT_M, CURRENT_LIMIT_A, FREQUENCY_RANGE_HZ, HARMONIC_ORDERS, MAX_VERTICES, MIN_SEGMENT_M,
     RADIUS_RANGE_M, validate_site,
 };
-pub(crate) use validate::{check_circuits, check_conductors, check_coordinate, check_frequency, check_name};
+pub(crate) use validate::{
+    check_circuits, check_conductors, check_coordinate, check_coordinate_at, check_frequency, check_name,
+};
 pub use warnings::{Warning, WarningCode, site_warnings};
 
 /// Parses and validates a site document in one step.

@@ -122,10 +122,16 @@ fn check_angle(v: f64, at: &Pointer, p: &mut Problems) {
 }
 
 pub(crate) fn check_coordinate(v: f64, at: &Pointer, p: &mut Problems) {
+    check_coordinate_at(v, || at.clone(), p);
+}
+
+/// [`check_coordinate`] for long lists: the pointer is built only when the
+/// value has a problem, so a valid list costs no allocation per element.
+pub(crate) fn check_coordinate_at(v: f64, at: impl FnOnce() -> Pointer, p: &mut Problems) {
     if !v.is_finite() {
-        p.push(at, "must be a finite number");
+        p.push(&at(), "must be a finite number");
     } else if v.abs() > COORDINATE_LIMIT_M {
-        p.push(at, format!("coordinate is beyond ±{COORDINATE_LIMIT_M} m of the site origin"));
+        p.push(&at(), format!("coordinate is beyond ±{COORDINATE_LIMIT_M} m of the site origin"));
     }
 }
 
@@ -139,16 +145,17 @@ fn check_occupancy(v: Option<f64>, at: &Pointer, p: &mut Problems) {
 fn check_ids<'a>(ids: impl Iterator<Item = &'a str>, list: &Pointer, what: &str, p: &mut Problems) {
     let mut seen: HashMap<&str, usize> = HashMap::new();
     for (i, id) in ids.enumerate() {
-        let at = list.index(i).key("id");
+        // Built only for a problem: a valid list allocates no pointer.
+        let at = || list.index(i).key("id");
         if id.trim().is_empty() {
-            p.push(&at, "id must not be empty");
+            p.push(&at(), "id must not be empty");
         } else if id.chars().count() > MAX_ID_CHARS {
-            p.push(&at, format!("id is longer than {MAX_ID_CHARS} characters"));
+            p.push(&at(), format!("id is longer than {MAX_ID_CHARS} characters"));
         } else if let Some(why) = single_line_problem(id) {
-            p.push(&at, why);
+            p.push(&at(), why);
         }
         if let Some(first) = seen.insert(id, i) {
-            p.push(&at, format!("duplicate {what} id '{id}' (first used at {})", list.index(first)));
+            p.push(&at(), format!("duplicate {what} id '{id}' (first used at {})", list.index(first)));
         }
     }
 }
@@ -267,7 +274,7 @@ fn check_path(path: &[[f64; 3]], at: &Pointer, p: &mut Problems) -> Vec<Point3<f
     }
     for (j, v) in path.iter().enumerate() {
         for (d, x) in v.iter().enumerate() {
-            check_coordinate(*x, &at.index(j).index(d), p);
+            check_coordinate_at(*x, || at.index(j).index(d), p);
         }
     }
     let pts: Vec<Point3<f64>> = path.iter().map(|v| Point3::new(v[0], v[1], v[2])).collect();
@@ -339,7 +346,7 @@ fn check_positions(docs: &[PositionDoc], at: &Pointer, p: &mut Problems) -> Vec<
         .map(|(i, d)| {
             let pp = at.index(i);
             for (j, x) in d.at.iter().enumerate() {
-                check_coordinate(*x, &pp.key("at").index(j), p);
+                check_coordinate_at(*x, || pp.key("at").index(j), p);
             }
             let placement = match *d.at.as_slice() {
                 [x, y] => {
@@ -418,7 +425,7 @@ fn check_polygon(poly: &[[f64; 2]], at: &Pointer, p: &mut Problems) -> Vec<Point
     for (j, v) in poly.iter().enumerate() {
         for (d, x) in v.iter().enumerate() {
             let before = p.len();
-            check_coordinate(*x, &at.index(j).index(d), p);
+            check_coordinate_at(*x, || at.index(j).index(d), p);
             ok &= p.len() == before;
         }
     }

@@ -109,9 +109,30 @@ pub fn overlap_tolerance_m(radius_sum_m: f64) -> f64 {
 #[derive(Debug, Clone)]
 pub(crate) struct Probe {
     pub at: Point3<f64>,
-    pub pointer: String,
+    pub source: ProbeSource,
     /// Probes of one group (a position's heights) give one warning at most.
     pub group: usize,
+}
+
+/// Where a probe comes from in the submitted document. Kept as an index and
+/// rendered as a pointer only when a warning is emitted, so checking many
+/// points allocates nothing per point.
+#[derive(Debug, Clone, Copy)]
+pub(crate) enum ProbeSource {
+    /// `/positions/<i>/at` of a site.
+    Position(usize),
+    /// `/points/<i>` of an evaluation document.
+    Point(usize),
+}
+
+impl Probe {
+    /// The RFC 6901 pointer to this probe's point.
+    pub fn pointer(&self) -> String {
+        match self.source {
+            ProbeSource::Position(i) => Pointer::root().key("positions").index(i).key("at").to_string(),
+            ProbeSource::Point(i) => Pointer::root().key("points").index(i).to_string(),
+        }
+    }
 }
 
 /// Every warning about a checked site.
@@ -130,15 +151,14 @@ pub fn site_warnings(site: &Site) -> Vec<Warning> {
 fn position_probes(site: &Site) -> Vec<Probe> {
     let mut probes = Vec::new();
     for (i, q) in site.positions().iter().enumerate() {
-        let at = Pointer::root().key("positions").index(i);
+        let source = ProbeSource::Position(i);
         match &q.placement {
             Placement::Standing { x_m, y_m, heights_m } => {
                 for h in heights_m {
-                    let pointer = at.key("at").to_string();
-                    probes.push(Probe { at: Point3::new(*x_m, *y_m, *h), pointer, group: i });
+                    probes.push(Probe { at: Point3::new(*x_m, *y_m, *h), source, group: i });
                 }
             }
-            Placement::Point(p) => probes.push(Probe { at: *p, pointer: at.key("at").to_string(), group: i }),
+            Placement::Point(p) => probes.push(Probe { at: *p, source, group: i }),
         }
     }
     probes
@@ -315,7 +335,7 @@ fn insides(conductors: &[Conductor], probes: &[Probe], inside: &[Option<usize>])
         }
         out.push(Warning {
             code: WarningCode::InsideConductor,
-            pointer: probes[i].pointer.clone(),
+            pointer: probes[i].pointer(),
             detail: format!(
                 "the point {} m lies inside or touches conductor '{}' (radius {} m): the thin-wire field is not computed there; move the point out of the conductor",
                 xyz(&probes[i].at),
@@ -361,7 +381,7 @@ fn probes_below_ground(probes: &[Probe]) -> Vec<Warning> {
     probes
         .iter()
         .filter(|p| p.at.z < 0.0 && seen.insert(p.group))
-        .map(|p| below_ground(&p.pointer, &format!("the point {} m lies", xyz(&p.at))))
+        .map(|p| below_ground(&p.pointer(), &format!("the point {} m lies", xyz(&p.at))))
         .collect()
 }
 

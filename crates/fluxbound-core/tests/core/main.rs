@@ -17,6 +17,7 @@
 mod assess;
 mod cancel;
 mod engine;
+mod evaluate;
 mod fuzz;
 mod layering;
 mod limits;
