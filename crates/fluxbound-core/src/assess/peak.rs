@@ -184,17 +184,8 @@ pub fn area_peak(
     fresh.extend(pieces);
     state.sample_regions(engine, area, &mut fresh)?;
     let floor_m = area.spacing_m * FLOOR_FRACTION;
-    let mut next = Vec::new();
+    let mut next = state.settle_cells(engine, area, cells, floor_m)?;
     let mut scratch = BoundScratch::default();
-    for c in 0..cells.len() {
-        if c % CELLS_PER_CANCEL_CHECK == 0 {
-            engine.cancel.check()?;
-        }
-        let r = Region { centre: cells.at(c).xy(), half_m: area.spacing_m / 2.0, along: None, lines: None };
-        if !state.settle(engine, area, &r, cells.lines(c), floor_m, &mut scratch) {
-            next.extend(r.children(area.polygon));
-        }
-    }
     // The first round is the cells (above) and the fresh regions.
     let mut round_has_regions = cells.len() > 0 || !fresh.is_empty();
     let mut regions = fresh;
@@ -295,6 +286,49 @@ impl<'m> State<'m> {
 
     /// Whether `r` is settled (its bound is recorded); a region at the
     /// floor is recorded as it stands and leaves the maximum unsettled.
+    /// Settles every cell as a region of the first round, spread over the
+    /// pool in runs of [`CELLS_PER_CANCEL_CHECK`]; the children of those
+    /// that do not settle, in cell order. The maxima are not changed by
+    /// settling, and bounds combine by `max`, so the result is the one of
+    /// settling the cells one by one.
+    fn settle_cells(
+        &mut self,
+        engine: &Engine<'_>,
+        area: &AreaShape<'_>,
+        cells: &AreaCells,
+        floor_m: f64,
+    ) -> Result<Vec<Region>, Cancelled> {
+        use rayon::prelude::*;
+        let runs = cells.len().div_ceil(CELLS_PER_CANCEL_CHECK);
+        let this = &*self;
+        let parts: Vec<Result<(State<'m>, Vec<Region>), Cancelled>> = (0..runs)
+            .into_par_iter()
+            .map(|k| {
+                engine.cancel.check()?;
+                let mut run = State { max: this.max.clone(), ..State::new(this.measures, this.budget_pairs) };
+                let (mut children, mut scratch) = (Vec::new(), BoundScratch::default());
+                let end = ((k + 1) * CELLS_PER_CANCEL_CHECK).min(cells.len());
+                for c in k * CELLS_PER_CANCEL_CHECK..end {
+                    let r = Region { centre: cells.at(c).xy(), half_m: area.spacing_m / 2.0, along: None, lines: None };
+                    if !run.settle(engine, area, &r, cells.lines(c), floor_m, &mut scratch) {
+                        children.extend(r.children(area.polygon));
+                    }
+                }
+                Ok((run, children))
+            })
+            .collect();
+        let mut next = Vec::new();
+        for part in parts {
+            let (run, children) = part?;
+            for (b, r) in self.bound.iter_mut().zip(&run.bound) {
+                *b = b.max(*r);
+            }
+            self.settled &= run.settled;
+            next.extend(children);
+        }
+        Ok(next)
+    }
+
     /// `lines` are the line resultants sampled at its centre (`None`:
     /// inside a conductor).
     fn settle(
