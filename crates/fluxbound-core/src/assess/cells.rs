@@ -91,24 +91,28 @@ impl CellIndex<'_> {
         lines: impl Fn(usize) -> Option<&'a [f64]>,
         phasors: impl Fn(usize) -> &'a [field::FieldPhasor],
     ) {
-        let Ok(best) = self.highest else { return };
-        for l in (0..count).filter_map(&lines) {
+        let Ok(mut best) = self.highest else { return };
+        // Each cell's summation ratio (`None` inside a conductor), read
+        // once; every present line is covered once the check passed.
+        let mut summation = Vec::with_capacity(count);
+        for c in 0..count {
+            let Some(l) = lines(c) else {
+                summation.push(None);
+                continue;
+            };
             if let Err(why) = self.weighting.check_lines(l) {
                 self.highest = Err(why);
                 return;
             }
+            summation.push(exposure_ratio(l.iter().copied(), &self.levels).ok());
         }
-        // Every present line is covered, so each summation is a number.
-        let summation = |c: usize| lines(c).and_then(|l| exposure_ratio(l.iter().copied(), &self.levels).ok());
-        let index = |c: usize| self.weighting.index(phasors(c));
         // The cell of the highest summation first: its index is near the
         // chunk's highest, so most other cells are passed over unread.
-        let top = (0..count).filter_map(|c| summation(c).map(|s| (c, s))).max_by(|a, b| a.1.total_cmp(&b.1));
-        let mut best = best;
+        let top = (0..count).filter_map(|c| summation[c].map(|s| (c, s))).max_by(|a, b| a.1.total_cmp(&b.1));
         let top = top.map(|(c, _)| c);
         for c in top.into_iter().chain((0..count).filter(|c| Some(*c) != top)) {
-            match summation(c) {
-                Some(s) if s * INDEX_ROUNDING_MARGIN >= best => match index(c) {
+            match summation[c] {
+                Some(s) if s * INDEX_ROUNDING_MARGIN >= best => match self.weighting.index(phasors(c)) {
                     Ok(i) => best = best.max(i),
                     Err(why) => {
                         self.highest = Err(why);
