@@ -7,6 +7,7 @@
 //! that of its worst height; exposure ratios over several frequencies are
 //! summed as `Σ_f B_f / B_RL(f)`; time-weighted averages are information only.
 
+mod cells;
 mod grid;
 mod load;
 mod map;
@@ -509,18 +510,12 @@ struct HeightSample {
     field: Sample,
 }
 
-/// One evaluated cell centre of an area.
-struct CellSample {
-    at: Point3<f64>,
-    field: Sample,
-}
-
-/// Every point of every position and area, in one list so the field is
-/// evaluated in one pass; the spans say whose points are where.
+/// Every point of every position, in one list so the field is evaluated
+/// in one pass; the spans say whose points are where. (Areas are sampled
+/// cell chunk by cell chunk: [`cells::sample_area`].)
 struct PointPlan {
     points: Vec<Point3<f64>>,
     positions: Vec<std::ops::Range<usize>>,
-    areas: Vec<std::ops::Range<usize>>,
 }
 
 impl PointPlan {
@@ -537,18 +532,11 @@ impl PointPlan {
             }
             positions.push(start..points.len());
         }
-        let mut areas = Vec::with_capacity(site.areas().len());
-        for a in site.areas() {
-            let start = points.len();
-            points.extend(area_grid(&a.polygon, a.height_m, a.spacing_m));
-            areas.push(start..points.len());
-        }
-        PointPlan { points, positions, areas }
+        PointPlan { points, positions }
     }
 }
 
-/// The evaluated field of a [`PointPlan`], read one point at a time so that
-/// only one area's samples are held at once.
+/// The evaluated field of a [`PointPlan`], read one point at a time.
 struct Sampler<'a> {
     site: &'a Site,
     set: field::FieldSet,
@@ -608,7 +596,7 @@ pub fn try_assess(
     let engine = peak::Engine { filaments: &filaments, excitation: &excitation, bounds: &bounds, cancel };
     let rf = options.review_fraction;
     let mut positions = assess_positions(site, &plan, &sampler, &tables, rf);
-    let mut areas = match assess_areas(site, &plan, &sampler, &engine, &tables, rf, options.max_refine_pairs)? {
+    let mut areas = match assess_areas(site, &sampler, &engine, &tables, rf, options.max_refine_pairs)? {
         Ok(areas) => areas,
         Err(e) => return Ok(Err(e)),
     };
@@ -745,7 +733,6 @@ fn assess_positions(
 
 fn assess_areas(
     site: &Site,
-    plan: &PointPlan,
     sampler: &Sampler<'_>,
     engine: &peak::Engine<'_>,
     tables: &[ReferenceTable],
@@ -755,26 +742,36 @@ fn assess_areas(
     let area_tables: Vec<&ReferenceTable> =
         tables.iter().filter(|t| applies(t, BodyRegion::WholeBody, Group::General)).collect();
     let measures = AreaMeasures::of(&area_tables, &sampler.line_hz);
+    let weightings: Vec<Weighting> = area_tables.iter().map(|t| Weighting::of(t, &sampler.lines)).collect();
     let mut left = max_refine_pairs;
     let mut out = Vec::with_capacity(site.areas().len());
-    for (k, (a, span)) in site.areas().iter().zip(&plan.areas).enumerate() {
-        let samples: Vec<CellSample> =
-            span.clone().map(|i| CellSample { at: plan.points[i], field: sampler.sample(i) }).collect();
-        let peak = match area_peak(engine, a, &samples, &measures.list, left) {
+    for (k, a) in site.areas().iter().enumerate() {
+        let mut indices: Vec<cells::CellIndex<'_>> = area_tables
+            .iter()
+            .zip(&weightings)
+            .map(|(t, weighting)| cells::CellIndex {
+                weighting,
+                levels: line_levels(t, &sampler.line_hz),
+                highest: Ok(0.0),
+            })
+            .collect();
+        let cells = cells::sample_area(engine, a, &mut indices)?;
+        let peak = match area_peak(engine, a, &cells, &measures.list, left) {
             Ok(peak) => peak,
             Err(peak::Unfinished::OverBudget(e)) => return Ok(Err(refine_over_budget(k, e))),
             Err(peak::Unfinished::Cancelled) => return Err(Cancelled),
         };
         left = left.saturating_sub(peak.pairs);
         let worst_phasors = worst_point_phasors(engine, &peak, &measures);
+        let cell_index: Vec<Result<f64, NotComputed>> = indices.into_iter().map(|i| i.highest).collect();
         out.push(assess_area(
             a,
-            &samples,
+            &cells,
             &area_tables,
-            rf,
-            site.frequency_hz(),
+            (rf, site.frequency_hz()),
+            &sampler.line_hz,
             &AreaPeakView { peak: &peak, measures: &measures },
-            &sampler.lines,
+            (&weightings, &cell_index),
             &worst_phasors,
         ));
     }
@@ -833,16 +830,12 @@ struct AreaPeakView<'a> {
 fn area_peak(
     engine: &peak::Engine<'_>,
     a: &crate::site::Area,
-    samples: &[CellSample],
+    cells: &cells::AreaCells,
     measures: &[peak::Measure],
     budget_pairs: u64,
 ) -> Result<peak::AreaPeak, peak::Unfinished> {
-    let cells: Vec<(Point3<f64>, Option<Vec<f64>>)> = samples
-        .iter()
-        .map(|s| (s.at, s.field.computed().then(|| s.field.spectrum.iter().map(|(_, b)| *b).collect())))
-        .collect();
     let shape = peak::AreaShape { polygon: &a.polygon, height_m: a.height_m, spacing_m: a.spacing_m };
-    peak::area_peak(engine, &shape, measures, &cells, budget_pairs)
+    peak::area_peak(engine, &shape, measures, cells, budget_pairs)
 }
 
 fn refine_over_budget(area_index: usize, e: peak::OverBudget) -> AssessError {
@@ -1082,38 +1075,40 @@ fn time_weighted(occupancy_h: Option<f64>, b_ut: Option<f64>) -> Option<TimeWeig
 
 fn assess_area(
     a: &crate::site::Area,
-    samples: &[CellSample],
+    cells: &cells::AreaCells,
     tables: &[&ReferenceTable],
-    rf: ReviewFraction,
-    f0_hz: f64,
+    (rf, f0_hz): (ReviewFraction, f64),
+    line_hz: &[f64],
     pv: &AreaPeakView<'_>,
-    lines: &[LineInfo],
+    (weightings, cell_index): (&[Weighting], &[Result<f64, NotComputed>]),
     worst_phasors: &[Option<Vec<field::FieldPhasor>>],
 ) -> AreaResult {
-    let computed: Vec<&CellSample> = samples.iter().filter(|s| s.field.computed()).collect();
+    let computed = cells.computed_count();
     let comparisons: Vec<AreaComparison> = tables
         .iter()
         .zip(&pv.measures.of_table)
+        .zip(weightings.iter().zip(cell_index))
         .zip(worst_phasors)
-        .map(|((t, m), worst)| {
-            let weighting = Weighting::of(t, lines);
+        .map(|(((t, m), (weighting, cell_index)), worst)| {
             let peak = m.map(|m| (pv.peak, m));
-            compare_area(t, &computed, rf, f0_hz, peak, (&weighting, worst.as_deref()))
+            let index = (weighting, cell_index.clone(), worst.as_deref());
+            compare_area(t, cells, (rf, f0_hz), line_hz, peak, index)
         })
         .collect();
     let resultant = pv.peak.max[0];
     let max_resultant_ut = resultant.at.map(|_| resultant.value);
     let bounded = pv.peak.settled && resultant.at.is_some();
     let max_bound_ut = bounded.then_some(pv.peak.bound[0]);
+    let resultants = cells.computed_lines().map(cells::total_ut);
     AreaResult {
         id: a.id.clone(),
         height_m: a.height_m,
         spacing_m: a.spacing_m,
-        cells: samples.len(),
-        cells_inside_conductors: samples.len() - computed.len(),
+        cells: cells.len(),
+        cells_inside_conductors: cells.len() - computed,
         max_resultant_ut,
         max_at: resultant.at.map(|p| [p.x, p.y, p.z]),
-        mean_resultant_ut: mean_of(computed.iter().map(|s| s.field.resultant_ut)),
+        mean_resultant_ut: (computed > 0).then(|| resultants.sum::<f64>() / computed as f64),
         verdict: worst_of(comparisons.iter().map(|c| c.verdict)).unwrap_or(Verdict::NotCovered),
         comparisons,
         time_weighted: time_weighted(a.occupancy_h, max_resultant_ut),
@@ -1147,28 +1142,38 @@ fn certainty_words(max_ut: Option<f64>, bound_ut: Option<f64>, raw_bound_ut: f64
     }
 }
 
-/// Each computed cell's exposure ratio against `t`, and the frequencies
-/// `t` does not cover (each once).
-fn cell_ratios(t: &ReferenceTable, computed: &[&CellSample]) -> (Vec<f64>, Vec<f64>) {
-    // Levels per spectral line, computed once per table.
-    let line_hz: Vec<f64> =
-        computed.first().map(|s| s.field.spectrum.iter().map(|(f, _)| *f).collect()).unwrap_or_default();
-    let levels = line_levels(t, &line_hz);
-    let mut uncovered: Vec<f64> = Vec::new();
-    let mut ratios = Vec::with_capacity(computed.len());
-    for s in computed {
-        match exposure_ratio(s.field.spectrum.iter().map(|(_, b)| *b), &levels) {
-            Ok(r) => ratios.push(r),
+/// What the computed cells say against one table: the highest ratio, the
+/// cells at or above each threshold, and the frequencies the table does
+/// not cover (each once, in the order the cells meet them).
+struct CellRatios {
+    max: f64,
+    at_or_above: [usize; 2],
+    uncovered: Vec<f64>,
+}
+
+/// The computed cells' exposure ratios against `t`, reduced as they are
+/// formed (no list of ratios), counting those at or above `thresholds`.
+fn cell_ratios(t: &ReferenceTable, cells: &cells::AreaCells, line_hz: &[f64], thresholds: [f64; 2]) -> CellRatios {
+    let levels = line_levels(t, line_hz);
+    let mut out = CellRatios { max: 0.0, at_or_above: [0, 0], uncovered: Vec::new() };
+    for lines in cells.computed_lines() {
+        match exposure_ratio(lines.iter().copied(), &levels) {
+            Ok(r) => {
+                out.max = out.max.max(r);
+                for (count, threshold) in out.at_or_above.iter_mut().zip(thresholds) {
+                    *count += usize::from(r >= threshold);
+                }
+            }
             Err(lines) => {
                 for f in lines.iter().map(|k| line_hz[*k]) {
-                    if !uncovered.contains(&f) {
-                        uncovered.push(f);
+                    if !out.uncovered.contains(&f) {
+                        out.uncovered.push(f);
                     }
                 }
             }
         }
     }
-    (ratios, uncovered)
+    out
 }
 
 /// An area `t` cannot judge: no computed cell (`n == 0`), or frequencies
@@ -1193,19 +1198,19 @@ fn unjudged_area(t: &ReferenceTable, n: usize, level_ut: Option<f64>, uncovered:
 /// shares of cells at or above the level and the review fraction.
 fn compare_area(
     t: &ReferenceTable,
-    computed: &[&CellSample],
-    rf: ReviewFraction,
-    f0_hz: f64,
+    cells: &cells::AreaCells,
+    (rf, f0_hz): (ReviewFraction, f64),
+    line_hz: &[f64],
     peak: Option<(&peak::AreaPeak, usize)>,
-    (weighting, worst_phasors): (&Weighting, Option<&[field::FieldPhasor]>),
+    (weighting, cell_index, worst_phasors): (&Weighting, Result<f64, NotComputed>, Option<&[field::FieldPhasor]>),
 ) -> AreaComparison {
-    let n = computed.len();
-    let (ratios, uncovered) = cell_ratios(t, computed);
+    let n = cells.computed_count();
+    let r = cell_ratios(t, cells, line_hz, [1.0, rf.get()]);
     let level_ut = level_at_fundamental(t, f0_hz);
-    if !uncovered.is_empty() || n == 0 {
-        return unjudged_area(t, n, level_ut, uncovered);
+    if !r.uncovered.is_empty() || n == 0 {
+        return unjudged_area(t, n, level_ut, r.uncovered);
     }
-    let cell_max = ratios.iter().cloned().fold(0.0, f64::max);
+    let cell_max = r.max;
     let (max_ratio, max_ratio_bound, verdict_ratio) = match peak {
         Some((p, m)) => {
             let max = cell_max.max(p.max[m].value);
@@ -1214,11 +1219,14 @@ fn compare_area(
         }
         None => (cell_max, None, cell_max),
     };
-    let share = |threshold: f64| ratios.iter().filter(|r| **r >= threshold).count() as f64 / n as f64;
-    // Over the cells and at the summation's worst point.
-    let index = highest_index(
-        computed.iter().map(|s| s.field.phasors.as_slice()).chain(worst_phasors).map(|b| weighting.index(b)),
-    );
+    let share = |count: usize| count as f64 / n as f64;
+    // Over the cells (taken as they were sampled) and at the summation's
+    // worst point.
+    let index = cell_index.and_then(|best| match worst_phasors.map(|b| weighting.index(b)) {
+        Some(Ok(i)) => Ok(best.max(i)),
+        Some(Err(why)) => Err(why),
+        None => Ok(best),
+    });
     let d = weighted_peak::decide(t.decision_rule(), Some(verdict_ratio), index);
     let deciding = match d.decided_by {
         DecisionRule::WeightedPeak => d.deciding.map(|i| area_index_for_verdict(i, cell_max, verdict_ratio)),
@@ -1229,8 +1237,8 @@ fn compare_area(
         max_ratio: Some(max_ratio),
         verdict: verdict_of(deciding, rf),
         level_ut,
-        share_at_or_above_level: Some(share(1.0)),
-        share_at_or_above_review: Some(share(rf.get())),
+        share_at_or_above_level: Some(share(r.at_or_above[0])),
+        share_at_or_above_review: Some(share(r.at_or_above[1])),
         uncovered_hz: Vec::new(),
         max_ratio_bound,
         weighted_peak: d.into(),

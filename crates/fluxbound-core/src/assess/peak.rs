@@ -12,6 +12,7 @@
 //! and the children are sampled. Samples count towards the maximum only at
 //! points of the closed polygon outside every conductor.
 
+use super::cells::AreaCells;
 use super::grid::{GridSpec, contains};
 use crate::cancel::{Cancel, Cancelled};
 use crate::field::{self, Excitation, Filaments, bound::SegmentBounds};
@@ -160,22 +161,19 @@ pub struct AreaShape<'a> {
 /// inside the polygon with their line resultants (`None` inside a
 /// conductor); `budget_pairs` the pairs this area may still spend. The
 /// engine's flag is looked at before each batch of samples and each
-/// region's bound.
+/// region's bound. The cells are regions of the first round without being
+/// copied into one: only those that do not settle are split.
 pub fn area_peak(
     engine: &Engine<'_>,
     area: &AreaShape<'_>,
     measures: &[Measure],
-    cells: &[(Point3<f64>, Option<Vec<f64>>)],
+    cells: &AreaCells,
     budget_pairs: u64,
 ) -> Result<AreaPeak, Unfinished> {
     let mut state = State::new(measures, budget_pairs);
-    for (p, lines) in cells {
-        state.record(*p, lines.as_deref());
+    for c in 0..cells.len() {
+        state.record(cells.at(c), cells.lines(c));
     }
-    let mut regions: Vec<Region> = cells
-        .iter()
-        .map(|(p, lines)| Region { centre: p.xy(), half_m: area.spacing_m / 2.0, along: None, lines: lines.clone() })
-        .collect();
     let mut fresh = edge_cells(area);
     let (ends, pieces) = boundary_pieces(area);
     state.boundary_samples = ends.len() + pieces.len();
@@ -185,21 +183,35 @@ pub fn area_peak(
     }
     fresh.extend(pieces);
     state.sample_regions(engine, area, &mut fresh)?;
-    regions.extend(fresh);
     let floor_m = area.spacing_m * FLOOR_FRACTION;
-    while !regions.is_empty() {
-        let mut next = Vec::new();
+    let mut next = state.settle_cells(engine, area, cells, floor_m)?;
+    let mut scratch = BoundScratch::default();
+    // The first round is the cells (above) and the fresh regions.
+    let mut round_has_regions = cells.len() > 0 || !fresh.is_empty();
+    let mut regions = fresh;
+    while round_has_regions {
         for r in &regions {
             engine.cancel.check()?;
-            if !state.settle(engine, area, r, floor_m) {
+            if !state.settle(engine, area, r, r.lines.as_deref(), floor_m, &mut scratch) {
                 next.extend(r.children(area.polygon));
             }
         }
         state.refinement_samples += next.len();
         state.sample_regions(engine, area, &mut next)?;
-        regions = next;
+        regions = std::mem::take(&mut next);
+        round_has_regions = !regions.is_empty();
     }
     Ok(state.finish())
+}
+
+/// Cells settled between two looks at the cancel flag.
+const CELLS_PER_CANCEL_CHECK: usize = 4096;
+
+/// Buffers of one region's bound, reused from region to region.
+#[derive(Default)]
+struct BoundScratch {
+    lines: Vec<f64>,
+    measures: Vec<f64>,
 }
 
 /// Running maximum and bound of one area's refinement.
@@ -274,15 +286,70 @@ impl<'m> State<'m> {
 
     /// Whether `r` is settled (its bound is recorded); a region at the
     /// floor is recorded as it stands and leaves the maximum unsettled.
-    fn settle(&mut self, engine: &Engine<'_>, area: &AreaShape<'_>, r: &Region, floor_m: f64) -> bool {
+    /// Settles every cell as a region of the first round, spread over the
+    /// pool in runs of [`CELLS_PER_CANCEL_CHECK`]; the children of those
+    /// that do not settle, in cell order. The maxima are not changed by
+    /// settling, and bounds combine by `max`, so the result is the one of
+    /// settling the cells one by one.
+    fn settle_cells(
+        &mut self,
+        engine: &Engine<'_>,
+        area: &AreaShape<'_>,
+        cells: &AreaCells,
+        floor_m: f64,
+    ) -> Result<Vec<Region>, Cancelled> {
+        use rayon::prelude::*;
+        let runs = cells.len().div_ceil(CELLS_PER_CANCEL_CHECK);
+        let this = &*self;
+        let parts: Vec<Result<(State<'m>, Vec<Region>), Cancelled>> = (0..runs)
+            .into_par_iter()
+            .map(|k| {
+                engine.cancel.check()?;
+                let mut run = State { max: this.max.clone(), ..State::new(this.measures, this.budget_pairs) };
+                let (mut children, mut scratch) = (Vec::new(), BoundScratch::default());
+                let end = ((k + 1) * CELLS_PER_CANCEL_CHECK).min(cells.len());
+                for c in k * CELLS_PER_CANCEL_CHECK..end {
+                    let r = Region { centre: cells.at(c).xy(), half_m: area.spacing_m / 2.0, along: None, lines: None };
+                    if !run.settle(engine, area, &r, cells.lines(c), floor_m, &mut scratch) {
+                        children.extend(r.children(area.polygon));
+                    }
+                }
+                Ok((run, children))
+            })
+            .collect();
+        let mut next = Vec::new();
+        for part in parts {
+            let (run, children) = part?;
+            for (b, r) in self.bound.iter_mut().zip(&run.bound) {
+                *b = b.max(*r);
+            }
+            self.settled &= run.settled;
+            next.extend(children);
+        }
+        Ok(next)
+    }
+
+    /// `lines` are the line resultants sampled at its centre (`None`:
+    /// inside a conductor).
+    fn settle(
+        &mut self,
+        engine: &Engine<'_>,
+        area: &AreaShape<'_>,
+        r: &Region,
+        lines: Option<&[f64]>,
+        floor_m: f64,
+        scratch: &mut BoundScratch,
+    ) -> bool {
         let centre = Point3::new(r.centre.x, r.centre.y, area.height_m);
-        let lines = engine.bounds.line_bounds(&centre, r.rho_m(), r.lines.as_deref());
-        let u: Vec<f64> = self.measures.iter().map(|q| q.of(&lines)).collect();
+        engine.bounds.line_bounds_into(&centre, r.rho_m(), lines, &mut scratch.lines);
+        let u = &mut scratch.measures;
+        u.clear();
+        u.extend(self.measures.iter().map(|q| q.of(&scratch.lines)));
         let within = u.iter().zip(&self.max).all(|(u, m)| *u <= m.value / CERTAINTY);
         let at_floor = r.half_m <= floor_m;
         if within || at_floor {
-            for (b, u) in self.bound.iter_mut().zip(u) {
-                *b = b.max(u);
+            for (b, u) in self.bound.iter_mut().zip(u.iter()) {
+                *b = b.max(*u);
             }
             self.settled &= within;
             return true;

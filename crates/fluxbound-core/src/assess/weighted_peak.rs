@@ -146,23 +146,25 @@ impl Weighting {
         Weighting { weights }
     }
 
+    /// Whether [`Weighting::index`] refuses a point whose line resultants
+    /// are `lines_ut` (µT), without computing the index: a line is present
+    /// when its resultant is above zero, exactly when one of its phasor's
+    /// components is. Allocates nothing unless it refuses.
+    pub fn check_lines(&self, lines_ut: &[f64]) -> Result<(), NotComputed> {
+        let present = self.weights.iter().zip(lines_ut).filter(|(_, b)| **b > 0.0).map(|(w, _)| w);
+        refusal(present).map_or(Ok(()), Err)
+    }
+
     /// The weighted peak index at a point with these RMS field phasors (one
     /// per line, µT). Lines with no field are left out, as in the
     /// summation. On a band edge the larger index of both phases is taken.
     pub fn index(&self, phasors: &[FieldPhasor]) -> Result<f64, NotComputed> {
         let present: Vec<(&Weight, &FieldPhasor)> =
             self.weights.iter().zip(phasors).filter(|(_, b)| b.iter().any(|c| c.norm_sqr() > 0.0)).collect();
-        let unknown: Vec<f64> = present.iter().filter(|(w, _)| !w.phase_known).map(|(w, _)| w.frequency_hz).collect();
-        if present.iter().any(|(w, _)| w.inverse_level.is_none() || w.phases_rad.is_empty()) {
-            return Err(NotComputed::NotCovered);
-        }
-        if !unknown.is_empty() {
-            return Err(NotComputed::UnknownPhase { frequencies_hz: unknown });
+        if let Some(why) = refusal(present.iter().map(|(w, _)| *w)) {
+            return Err(why);
         }
         let combinations: usize = present.iter().map(|(w, _)| w.phases_rad.len()).product();
-        if combinations > MAX_EDGE_COMBINATIONS {
-            return Err(NotComputed::TooManyEdges);
-        }
         let mut best = 0.0f64;
         for k in 0..combinations {
             let terms = weighted_terms(&present, k);
@@ -170,6 +172,21 @@ impl Weighting {
         }
         Ok(best)
     }
+}
+
+/// Why no index can be computed with these lines present, if so: a line
+/// the table does not cover, a harmonic without a stated phase, or too
+/// many band-edge combinations (checked in this order).
+fn refusal<'w>(present: impl Iterator<Item = &'w Weight> + Clone) -> Option<NotComputed> {
+    if present.clone().any(|w| w.inverse_level.is_none() || w.phases_rad.is_empty()) {
+        return Some(NotComputed::NotCovered);
+    }
+    let unknown: Vec<f64> = present.clone().filter(|w| !w.phase_known).map(|w| w.frequency_hz).collect();
+    if !unknown.is_empty() {
+        return Some(NotComputed::UnknownPhase { frequencies_hz: unknown });
+    }
+    let combinations: usize = present.map(|w| w.phases_rad.len()).product();
+    (combinations > MAX_EDGE_COMBINATIONS).then_some(NotComputed::TooManyEdges)
 }
 
 /// The weighted terms `(h_i, w_i)` with `w_i = b_i / B_RL(f_i) · e^{jφ_i}`

@@ -198,8 +198,18 @@ impl SegmentBounds {
     /// resultants `sampled_ut` at `centre` (`None` when the centre lies
     /// inside a conductor: the value bound alone applies).
     pub fn line_bounds(&self, centre: &Point3<f64>, rho_m: f64, sampled_ut: Option<&[f64]>) -> Vec<f64> {
-        let mut value = vec![0.0; self.lines];
-        let mut slope = vec![0.0; self.lines];
+        let mut out = Vec::new();
+        self.line_bounds_into(centre, rho_m, sampled_ut, &mut out);
+        out
+    }
+
+    /// [`SegmentBounds::line_bounds`] written into `out` (cleared first),
+    /// so a caller bounding many regions allocates once.
+    pub fn line_bounds_into(&self, centre: &Point3<f64>, rho_m: f64, sampled_ut: Option<&[f64]>, out: &mut Vec<f64>) {
+        // `out` holds the value bounds, the slopes follow it until the end.
+        let n = self.lines;
+        out.clear();
+        out.resize(2 * n, 0.0);
         let mut slope_valid = sampled_ut.is_some();
         for s in &self.segments {
             let free = point_segment_distance_m(centre, &s.a, &s.b) - rho_m;
@@ -209,17 +219,22 @@ impl SegmentBounds {
             let d = free.max(s.radius_m);
             if d <= 0.0 {
                 // A zero-radius filament within reach: no finite bound.
-                return vec![f64::INFINITY; self.lines];
+                out.clear();
+                out.resize(n, f64::INFINITY);
+                return;
             }
+            let (value, slope) = out.split_at_mut(n);
             for (f, i) in s.current_a.iter().enumerate() {
                 value[f] += FIELD_BOUND_UT_M_PER_A * i / d;
                 slope[f] += SLOPE_BOUND_UT_PER_M_M2_PER_A * i / (d * d);
             }
         }
-        match sampled_ut {
-            Some(b) if slope_valid => (0..self.lines).map(|f| value[f].min(b[f] + rho_m * slope[f])).collect(),
-            _ => value,
+        if let Some(b) = sampled_ut.filter(|_| slope_valid) {
+            for f in 0..n {
+                out[f] = out[f].min(b[f] + rho_m * out[n + f]);
+            }
         }
+        out.truncate(n);
     }
 
     /// Number of segments with current (the cost of one bound or sample).

@@ -454,3 +454,55 @@ fn an_implant_wearer_position_says_that_passing_the_screen_does_not_clear_the_we
     assert_eq!(a.positions[0].verdict, Verdict::Within);
     assert!(a.positions[0].notes.iter().any(|n| n.contains("does not clear a device wearer")));
 }
+
+#[test]
+fn an_area_s_cells_count_mean_and_shares_match_a_cell_by_cell_count_from_the_long_wire_law() {
+    // A vertical long wire of 2100 A at (0.25, -0.25) through an L-shaped
+    // floor (the square [-1, 1]² less its x > 0, y > 0 quarter) on a 0.1 m
+    // grid. Each cell centre c = (-0.95 + 0.1 i, -0.95 + 0.1 j) lies at
+    // r = 0.1·√(a² + b²) from the wire, a and b whole numbers, and sees
+    // B = 0.2 · 2100 / r = 420 / r µT (OpenStax, module docs). The level of
+    // ICNIRP 2010 occupational at 50 Hz is 1000 µT, so the ratio is at least
+    // 1 for a² + b² ≤ 17.64 and at least 0.5 for a² + b² ≤ 70.56: no centre
+    // lies within 3 % of either threshold (sums of two squares are whole),
+    // far beyond the 5e-9 finite-length error. The centre on the axis lies
+    // inside the 0.02 m conductor. Everything is counted here cell by cell.
+    let doc = json!({
+        "frequency_hz": 50,
+        "circuits": [{"id": "v", "kind": "single_phase", "current_a": 2100}],
+        "conductors": [{"id": "v-A", "circuit": "v", "phase": "A", "radius_m": 0.02, "path": [[0.25, -0.25, -L], [0.25, -0.25, L]]}],
+        "areas": [{"id": "ell", "polygon": [[-1, -1], [1, -1], [1, 0], [0, 0], [0, 1], [-1, 1]], "height_m": 0.0, "spacing_m": 0.1}]
+    });
+    let a = run(doc, LoadCase::Present, &["icnirp-2010-occupational"], Options::default());
+    let (mut cells, mut inside, mut sum_ut, mut at_level, mut at_review) = (0usize, 0usize, 0.0f64, 0usize, 0usize);
+    for j in 0..20 {
+        for i in 0..20 {
+            let (x, y) = (-0.95 + 0.1 * i as f64, -0.95 + 0.1 * j as f64);
+            if x > 0.0 && y > 0.0 {
+                continue;
+            }
+            cells += 1;
+            let r = (x - 0.25).hypot(y + 0.25);
+            if r < 0.02 {
+                inside += 1;
+                continue;
+            }
+            let b = 420.0 / r;
+            sum_ut += b;
+            at_level += usize::from(b >= 1000.0);
+            at_review += usize::from(b >= 500.0);
+        }
+    }
+    let computed = cells - inside;
+    let area = &a.areas[0];
+    assert_eq!((area.cells, area.cells_inside_conductors), (cells, inside));
+    assert_eq!((cells, inside), (300, 1));
+    assert!(rel(area.mean_resultant_ut.unwrap(), sum_ut / computed as f64) < 1e-8);
+    let c = &area.comparisons[0];
+    // Shares are counts over the computed cells: compare the counts.
+    let count = |share: Option<f64>| (share.unwrap() * computed as f64).round() as usize;
+    assert_eq!(count(c.share_at_or_above_level), at_level);
+    assert_eq!(count(c.share_at_or_above_review), at_review);
+    assert!(at_level > 0 && at_review > at_level);
+    assert_eq!(c.verdict, Verdict::Exceeds);
+}
