@@ -48,7 +48,7 @@ pub enum Command {
         compact: bool,
         /// Answer with these columns (comma-separated), one array per column
         /// in point order, instead of one object per point: x_m, y_m, z_m,
-        /// resultant_ut, maximum_ut, resultant_ut@<order>, maximum_ut@<order>,
+        /// resultant_ut, maximum_ut, resultant_ut@N, maximum_ut@N (N a harmonic order),
         /// inside_conductors. Overrides the document's `output`.
         #[arg(long, value_name = "NAMES", value_delimiter = ',')]
         columns: Option<Vec<String>>,
