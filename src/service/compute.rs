@@ -19,6 +19,12 @@ use std::sync::atomic::{AtomicU64, Ordering};
 use std::time::Duration;
 use tokio::sync::{OwnedSemaphorePermit, Semaphore};
 
+/// Largest computation (segment–point pairs) run on the request's own task
+/// rather than the blocking pool: ≈ 0.1 ms on one core at the kernel's
+/// 5 × 10⁸ pairs per core-second (tuning number; `bash bench/load/run.sh`
+/// shows its effect on the evaluate request of 10,000 pairs).
+pub const INLINE_PAIRS: u64 = 50_000;
+
 /// The computation slots and their counters, shared by all clones of the
 /// service.
 #[derive(Debug, Clone)]
@@ -108,6 +114,26 @@ impl Service {
             out
         };
         tokio::task::spawn_blocking(work).await.map_err(|e| ServiceError::Internal(format!("compute task failed: {e}")))
+    }
+
+    /// [`Service::compute`] for work of at most `pairs` segment–point pairs:
+    /// at or below [`INLINE_PAIRS`] it runs on the calling task, still
+    /// holding a slot and the budget, since a hand-off to the blocking pool
+    /// and back costs more than the work (a request of that size takes
+    /// well under a millisecond, so it cannot hold up the async workers
+    /// noticeably, and it cannot be dropped half-way: the flag stays unset).
+    pub(super) async fn compute_sized<T: Send + 'static>(
+        &self,
+        pairs: u64,
+        f: impl FnOnce(&Budget) -> T + Send + 'static,
+    ) -> Result<T> {
+        if pairs > INLINE_PAIRS {
+            return self.compute(f).await;
+        }
+        let _slot = self.slot().await?;
+        let budget = Budget { cancel: Cancel::new(), ..self.limits().budget() };
+        let _running = Running::start(&self.compute.counters);
+        Ok(f(&budget))
     }
 
     /// A computation slot, waiting at most the configured queue wait.

@@ -23,8 +23,16 @@ impl Service {
         if !bounds.is_empty() {
             return Err(ServiceError::TooBig(bounds));
         }
-        let response = self.compute(move |budget| usecase::evaluate_output(&req, budget)).await??;
+        let pairs = segment_point_pairs(&req);
+        let response = self.compute_sized(pairs, move |budget| usecase::evaluate_output(&req, budget)).await??;
         self.count_pairs(response.pair_count());
         Ok(response)
     }
+}
+
+/// Segment–point pairs the request asks for, read off the document before
+/// it is checked (an upper bound on the work: invalid documents do less).
+fn segment_point_pairs(req: &EvaluateRequest) -> u64 {
+    let segments: u64 = req.conductors.iter().map(|c| c.path.len().saturating_sub(1) as u64).sum();
+    segments.saturating_mul(req.points.len() as u64)
 }

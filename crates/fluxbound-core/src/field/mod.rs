@@ -138,6 +138,14 @@ fn evaluate_with(
     Ok(FieldSet { line_count: nf, b_ut, inside })
 }
 
+/// Work (segment–point pairs) below which `drive` stays on the calling
+/// thread: handing a job to the rayon pool and waiting for it costs tens of
+/// microseconds of wake-ups, more than ~200,000 pairs take on one core
+/// (≈ 0.4 ms at the kernel's 5 × 10⁸ pairs per core-second; tuning number,
+/// measured with `bash bench/load/run.sh`, where the evaluate request has
+/// 10,000 segment–point pairs).
+const SEQUENTIAL_PAIRS: u64 = 200_000;
+
 /// Runs the kernel for every conductor over chunks of points across the
 /// rayon pool. `out` holds `width` values per point; `sink(k, unit, n, out)`
 /// folds conductor k's unit-current field into the chunk's slice of `out`.
@@ -162,25 +170,36 @@ where
 {
     let kernel = variant.kernel();
     let kcount = filaments.conductor_count();
-    let hits: Vec<Vec<InsideHit>> = points
-        .par_chunks(CHUNK)
-        .zip(out.par_chunks_mut(CHUNK * width))
-        .enumerate()
-        .map(|(c, (pts, out))| {
-            let chunk = ChunkPoints::load(pts);
-            let mut g = UnitField::default();
-            let mut hits = Vec::new();
-            for k in 0..kcount {
-                cancel.check()?;
-                // SAFETY: `Variant::kernel` only returns variants this CPU supports.
-                unsafe { kernel(filaments, k, &chunk, &mut g) };
-                sink(k, &g, pts.len(), out);
-                collect_hits(&g, c, pts.len(), k, &mut hits);
-            }
-            hits.sort_unstable();
-            Ok(hits)
-        })
-        .collect::<Result<_, Cancelled>>()?;
+    let one_chunk = |(c, (pts, out)): (usize, (&[Point3<f64>], &mut [T]))| {
+        let chunk = ChunkPoints::load(pts);
+        let mut g = UnitField::default();
+        let mut hits = Vec::new();
+        for k in 0..kcount {
+            cancel.check()?;
+            // SAFETY: `Variant::kernel` only returns variants this CPU supports.
+            unsafe { kernel(filaments, k, &chunk, &mut g) };
+            sink(k, &g, pts.len(), out);
+            collect_hits(&g, c, pts.len(), k, &mut hits);
+        }
+        hits.sort_unstable();
+        Ok(hits)
+    };
+    let pairs = (filaments.segment_count() as u64).saturating_mul(points.len() as u64);
+    let hits: Vec<Vec<InsideHit>> = if pairs <= SEQUENTIAL_PAIRS {
+        points
+            .chunks(CHUNK)
+            .zip(out.chunks_mut(CHUNK * width))
+            .enumerate()
+            .map(one_chunk)
+            .collect::<Result<_, Cancelled>>()?
+    } else {
+        points
+            .par_chunks(CHUNK)
+            .zip(out.par_chunks_mut(CHUNK * width))
+            .enumerate()
+            .map(one_chunk)
+            .collect::<Result<_, Cancelled>>()?
+    };
     let inside: Vec<InsideHit> = hits.into_iter().flatten().collect();
     for h in &inside {
         for v in &mut out[h.point * width..(h.point + 1) * width] {
