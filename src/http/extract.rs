@@ -11,7 +11,7 @@ use axum::extract::{FromRequest, FromRequestParts, RawPathParams, Request};
 use axum::http::{StatusCode, header, request::Parts};
 use axum::middleware::Next;
 use axum::response::{IntoResponse, Response};
-use fluxbound_core::site::{Pointer, Problems, json_syntax_error, parse_json};
+use fluxbound_core::site::{Pointer, Problems, Unreadable, read_json};
 use fluxbound_core::text::single_line_problem;
 use serde::de::DeserializeOwned;
 use std::borrow::Cow;
@@ -44,10 +44,10 @@ impl<T: DeserializeOwned> FromRequest<AppState> for ApiJson<T> {
             }
         })?;
         let text = std::str::from_utf8(&bytes).map_err(|_| ApiError::malformed_json("the body is not UTF-8"))?;
-        if let Some(why) = json_syntax_error(text) {
-            return Err(ApiError::malformed_json(why));
-        }
-        parse_json(text).map(ApiJson).map_err(ApiError::validation)
+        read_json(text).map(ApiJson).map_err(|e| match e {
+            Unreadable::Malformed(why) => ApiError::malformed_json(why),
+            Unreadable::Invalid(problems) => ApiError::validation(problems),
+        })
     }
 }
 

@@ -23,6 +23,12 @@
 /// line feed and carriage return (CSV files use all three).
 pub const LAYOUT_CHARACTERS: [char; 3] = ['\t', '\n', '\r'];
 
+/// True if `text` holds any control character, layout ones included: the
+/// cheap test a caller runs first, before asking which rule applies.
+pub fn has_control(text: &str) -> bool {
+    text.bytes().any(|b| b < 0x20 || b == 0x7f) || (!text.is_ascii() && text.chars().any(char::is_control))
+}
+
 /// Why `text` cannot be a one-line text (a name, label, id, title,
 /// sentence or query value), in plain words, or `None` if it can.
 ///

@@ -13,7 +13,7 @@ pub mod wire;
 pub use currents::CircuitLoad;
 pub(crate) use currents::{excitation_of, orders_of};
 pub use model::*;
-pub use parse::{json_syntax_error, parse_json, plain_words};
+pub use parse::{Unreadable, json_syntax_error, parse_json, plain_words, read_json};
 pub use problem::{Pointer, Problem, Problems};
 pub use validate::{
     COORDINATE_LIMIT_M, CURRENT_LIMIT_A, FREQUENCY_RANGE_HZ, HARMONIC_ORDERS, MAX_VERTICES, MIN_SEGMENT_M,

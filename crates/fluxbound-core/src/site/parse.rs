@@ -10,27 +10,79 @@
 //! one line, except those under [`MULTI_LINE_KEYS`]). Each control character
 //! is reported with its pointer; a repeated key stops the pass.
 //!
+//! A document is read once on the way that succeeds: the typed read through
+//! the [`Strict`] adapter, which watches every key and text. Only when that
+//! read fails, or its watch is raised (some text holds a control
+//! character, or a map key repeats), is the document walked again, by the
+//! scan and then by a typed read that tracks the pointer — so pointers are
+//! built only for problems, and the answer is the same as if every
+//! document took the long way.
+//!
 //! Serde's messages name Rust types ("expected f64", "internally tagged
 //! enum"); [`plain_words`] rewrites each message shape serde and serde_json
 //! produce into the JSON words a user wrote ("a number", "an object").
 
 use super::problem::{Pointer, Problems};
-use super::strict::Strict;
+use super::strict::{Strict, Watch};
 use crate::text::{multi_line_problem, single_line_problem};
 use serde::de::{self, DeserializeOwned, DeserializeSeed, MapAccess, SeqAccess, Visitor};
 use std::cell::RefCell;
 use std::collections::HashSet;
 use std::fmt;
 
+/// Why a JSON text cannot be used: it is not JSON at all (HTTP answers 400),
+/// or it is JSON of the wrong shape or with a forbidden text (422).
+#[derive(Debug)]
+pub enum Unreadable {
+    /// A syntax error, in plain words with its line and column.
+    Malformed(String),
+    /// Shape problems with their pointers.
+    Invalid(Problems),
+}
+
 /// Parses a JSON document into `T`, reporting the first shape error with its
 /// pointer. Trailing content after the document is an error, and so is a
 /// key repeated within one object.
 pub fn parse_json<T: DeserializeOwned>(text: &str) -> Result<T, Problems> {
+    match read_once(text) {
+        Some(value) => Ok(value),
+        None => read_with_pointers(text),
+    }
+}
+
+/// [`parse_json`] for callers that answer malformed JSON differently from a
+/// shape error (HTTP's 400 against 422): a syntax error anywhere in the
+/// text wins over a shape error before it.
+pub fn read_json<T: DeserializeOwned>(text: &str) -> Result<T, Unreadable> {
+    if let Some(value) = read_once(text) {
+        return Ok(value);
+    }
+    if let Some(why) = json_syntax_error(text) {
+        return Err(Unreadable::Malformed(why));
+    }
+    read_with_pointers(text).map_err(Unreadable::Invalid)
+}
+
+/// The one read of a well-formed document: `None` if it fails or if its
+/// watch is raised, so that [`read_with_pointers`] finds and describes the
+/// problems.
+fn read_once<T: DeserializeOwned>(text: &str) -> Option<T> {
+    let watch = Watch::default();
+    let mut de = serde_json::Deserializer::from_str(text);
+    let value = T::deserialize(Strict(&mut de, &watch)).ok()?;
+    de.end().ok()?;
+    (!watch.raised()).then_some(value)
+}
+
+/// The long way: the scan for what the typed read does not see, then the
+/// typed read with the pointer of its first error.
+fn read_with_pointers<T: DeserializeOwned>(text: &str) -> Result<T, Problems> {
     if let Some(problem) = scan_document(text) {
         return Err(problem);
     }
+    let watch = Watch::default();
     let mut de = serde_json::Deserializer::from_str(text);
-    let value: T = serde_path_to_error::deserialize(Strict(&mut de)).map_err(|e| {
+    let value: T = serde_path_to_error::deserialize(Strict(&mut de, &watch)).map_err(|e| {
         let pointer = pointer_of(e.path());
         let detail = describe(e.inner());
         Problems::one(pointer, detail)

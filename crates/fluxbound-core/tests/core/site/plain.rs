@@ -204,3 +204,28 @@ fn a_site_document_parses_into_the_wire_type_unchanged_by_the_scan() {
     let doc: SiteDoc = parse_json(&ring_site(json!([[0, 0], [2, 0], [2, 2]])).to_string()).unwrap();
     assert_eq!(doc.areas.len(), 1);
 }
+
+#[test]
+fn a_control_character_in_a_load_case_map_key_is_rejected_at_that_key() {
+    // A map accepts any key, so only the watch over keys sees this one: the
+    // typed read alone would succeed.
+    let text = r#"{"kind": "currents", "currents_a": {"LV\u0007main": 100}}"#;
+    let problems = parse_json::<LoadCase>(text).unwrap_err();
+    let (pointer, detail) = only(&problems);
+    assert_eq!(pointer, "/currents_a/LV\u{7}main");
+    assert!(detail.contains("U+0007"), "{detail}");
+}
+
+#[test]
+fn keys_and_texts_written_with_escapes_read_as_their_plain_form() {
+    // RFC 8259 §7: "\u0061" is the letter a; a key spelt with escapes is the
+    // same key (so it is also caught when it repeats the plain one).
+    let plain = r#"{"kind": "currents", "currents_a": {"LV-main": 100}}"#;
+    let escaped = r#"{"k\u0069nd": "currents", "currents_\u0061": {"LV\u002dmain": 100}}"#;
+    assert_eq!(
+        format!("{:?}", parse_json::<LoadCase>(escaped).unwrap()),
+        format!("{:?}", parse_json::<LoadCase>(plain).unwrap())
+    );
+    let twice = r#"{"kind": "currents", "currents_a": {"LV-main": 100, "LV\u002dmain": 100000}}"#;
+    assert!(only(&parse_json::<LoadCase>(twice).unwrap_err()).1.contains("given twice"));
+}
