@@ -36,6 +36,11 @@ pub struct Filaments {
     /// through a square root, so that proof stays conservative).
     pub(crate) radius: Vec<f64>,
     pub(crate) radius2: Vec<f64>,
+    /// Bounding box of each conductor's vertices, `[lo, hi]` per axis
+    /// (all NaN if any vertex coordinate is NaN, so it proves nothing).
+    /// Lets the kernel prove a whole conductor far from a chunk of points
+    /// once instead of segment by segment.
+    pub(crate) bbox: Vec<[[f64; 3]; 2]>,
 }
 
 impl Filaments {
@@ -51,11 +56,13 @@ impl Filaments {
             starts: Vec::with_capacity(filaments.len() + 1),
             radius: Vec::with_capacity(filaments.len()),
             radius2: Vec::with_capacity(filaments.len()),
+            bbox: Vec::with_capacity(filaments.len()),
         };
         for f in filaments {
             out.starts.push(out.vx.len());
             out.radius.push(f.radius_m.abs());
             out.radius2.push(f.radius_m * f.radius_m);
+            out.bbox.push(bounding_box(&f.path));
             for (j, v) in f.path.iter().enumerate() {
                 let len2 = if j == 0 { 0.0 } else { (v - f.path[j - 1]).norm_squared() };
                 out.vx.push(v.x);
@@ -80,5 +87,36 @@ impl Filaments {
 
     pub(crate) fn vertex_range(&self, k: usize) -> std::ops::Range<usize> {
         self.starts[k]..self.starts[k + 1]
+    }
+}
+
+/// `[lo, hi]` of the vertices on each axis; NaN throughout if any
+/// coordinate is NaN (`f64::min`/`max` would skip it), and inverted
+/// (lo = +inf, hi = −inf) for an empty path.
+fn bounding_box(path: &[nalgebra::Point3<f64>]) -> [[f64; 3]; 2] {
+    let mut b = [[f64::INFINITY; 3], [f64::NEG_INFINITY; 3]];
+    for v in path {
+        for d in 0..3 {
+            if v[d].is_nan() {
+                return [[f64::NAN; 3]; 2];
+            }
+            b[0][d] = b[0][d].min(v[d]);
+            b[1][d] = b[1][d].max(v[d]);
+        }
+    }
+    b
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use nalgebra::Point3;
+
+    #[test]
+    fn conductor_box_spans_the_vertices_and_a_nan_proves_nothing() {
+        let path = [Point3::new(1.0, -2.0, 3.0), Point3::new(-4.0, 5.0, 0.5), Point3::new(0.0, 0.0, 7.0)];
+        assert_eq!(bounding_box(&path), [[-4.0, -2.0, 0.5], [1.0, 5.0, 7.0]]);
+        let with_nan = [path[0], Point3::new(f64::NAN, 0.0, 0.0), path[2]];
+        assert!(bounding_box(&with_nan).iter().flatten().all(|v| v.is_nan()));
     }
 }

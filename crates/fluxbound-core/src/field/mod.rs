@@ -127,11 +127,18 @@ fn evaluate_with(
             if cur == Complex64::new(0.0, 0.0) {
                 continue;
             }
-            for i in 0..n {
-                let b = &mut out[i * nf + f];
-                b.x += cur * g.gx[i];
-                b.y += cur * g.gy[i];
-                b.z += cur * g.gz[i];
+            // Iterators rather than `out[i * nf + f]`: no bounds checks or
+            // index arithmetic per point; the same operations in the same order.
+            let unit = g.gx[..n].iter().zip(&g.gy[..n]).zip(&g.gz[..n]);
+            let add = |(b, ((x, y), z)): (&mut FieldPhasor, ((&f64, &f64), &f64))| {
+                b.x += cur * x;
+                b.y += cur * y;
+                b.z += cur * z;
+            };
+            if nf == 1 {
+                out.iter_mut().zip(unit).for_each(add);
+            } else {
+                out[f..].iter_mut().step_by(nf).zip(unit).for_each(add);
             }
         }
     })?;
@@ -210,6 +217,10 @@ where
 }
 
 fn collect_hits(g: &UnitField, chunk: usize, n: usize, k: usize, hits: &mut Vec<InsideHit>) {
+    // Usually no flag is set: one OR over the flags (vectorised) says so.
+    if g.inside.iter().fold(0, |acc, &f| acc | f) == 0 {
+        return;
+    }
     for i in 0..n {
         if g.inside[i] != 0 {
             hits.push(InsideHit { point: chunk * CHUNK + i, conductor: k });
