@@ -160,9 +160,10 @@ pub struct AreaShape<'a> {
 /// Samples the boundary and refines. `cells` are the grid's cell centres
 /// inside the polygon with their line resultants (`None` inside a
 /// conductor); `budget_pairs` the pairs this area may still spend. The
-/// engine's flag is looked at before each batch of samples and each
-/// region's bound. The cells are regions of the first round without being
-/// copied into one: only those that do not settle are split.
+/// engine's flag is looked at before each batch of samples and each run
+/// of [`CELLS_PER_CANCEL_CHECK`] regions' bounds. The cells are regions of
+/// the first round without being copied into one: only those that do not
+/// settle are split.
 pub fn area_peak(
     engine: &Engine<'_>,
     area: &AreaShape<'_>,
@@ -217,7 +218,8 @@ pub fn area_peak_with(
     Ok(state.finish())
 }
 
-/// Cells settled between two looks at the cancel flag.
+/// Cells or regions settled between two looks at the cancel flag (and per
+/// task when they are spread over the pool).
 const CELLS_PER_CANCEL_CHECK: usize = 4096;
 
 /// Grid nodes of one row spanned by a block of cells bounded at once in
