@@ -72,6 +72,10 @@ impl AreaCells {
     pub fn nodes(&self) -> &[usize] {
         &self.node
     }
+    /// Line resultants of every cell outside the conductors, in order.
+    pub fn computed_lines(&self) -> impl Iterator<Item = &[f64]> + '_ {
+        (0..self.len()).filter_map(|c| self.lines(c))
+    }
     pub fn computed_count(&self) -> usize {
         self.computed.iter().filter(|c| **c).count()
     }
@@ -99,35 +103,23 @@ impl CellIndex<'_> {
     fn take_chunk<'a>(
         &mut self,
         count: usize,
-        lines: impl Fn(usize) -> Option<&'a [f64]> + Sync,
+        lines: impl Fn(usize) -> Option<&'a [f64]>,
         phasors: impl Fn(usize) -> &'a [field::FieldPhasor],
     ) {
-        use rayon::prelude::*;
         let Ok(mut best) = self.highest else { return };
         // Each cell's summation ratio (`None` inside a conductor), read
-        // once, over the pool; every present line is covered once the
-        // check passed. The first cell (in order) that fails it decides.
-        let this = &*self;
-        let checked: Vec<Result<Option<f64>, NotComputed>> = (0..count)
-            .into_par_iter()
-            .with_min_len(CELLS_PER_TASK)
-            .map(|c| match lines(c) {
-                None => Ok(None),
-                Some(l) => {
-                    this.weighting.check_lines(l)?;
-                    Ok(exposure_ratio(l.iter().copied(), &this.levels).ok())
-                }
-            })
-            .collect();
+        // once; every present line is covered once the check passed.
         let mut summation = Vec::with_capacity(count);
-        for s in checked {
-            match s {
-                Ok(s) => summation.push(s),
-                Err(why) => {
-                    self.highest = Err(why);
-                    return;
-                }
+        for c in 0..count {
+            let Some(l) = lines(c) else {
+                summation.push(None);
+                continue;
+            };
+            if let Err(why) = self.weighting.check_lines(l) {
+                self.highest = Err(why);
+                return;
             }
+            summation.push(exposure_ratio(l.iter().copied(), &self.levels).ok());
         }
         // The cell of the highest summation first: its index is near the
         // chunk's highest, so most other cells are passed over unread.
@@ -147,26 +139,6 @@ impl CellIndex<'_> {
         }
         self.highest = Ok(best);
     }
-}
-
-/// Cells per task when per-cell work is spread over the pool: enough that
-/// a task outweighs its scheduling.
-pub(super) const CELLS_PER_TASK: usize = 4096;
-
-/// Appends each point's resultant per spectral line to `lines_ut`, over
-/// the pool (each cell on its own, so the values are those of one thread).
-fn reduce_to_lines(set: &field::FieldSet, lines_ut: &mut Vec<f64>, line_count: usize) {
-    use rayon::prelude::*;
-    if line_count == 0 {
-        return;
-    }
-    let from = lines_ut.len();
-    lines_ut.resize(from + set.point_count() * line_count, 0.0);
-    lines_ut[from..].par_chunks_mut(line_count).with_min_len(CELLS_PER_TASK).enumerate().for_each(|(i, out)| {
-        for (o, b) in out.iter_mut().zip(set.at(i)) {
-            *o = field::resultant_ut(b);
-        }
-    });
 }
 
 /// Samples every cell of `area` (centres inside the polygon, on the grid
@@ -201,7 +173,7 @@ pub(super) fn sample_area(
         points.clear();
         points.extend((start..end).map(|c| cells.at(c)));
         let set = field::try_evaluate(engine.filaments, &points, engine.excitation, engine.cancel)?;
-        reduce_to_lines(&set, &mut cells.lines_ut, line_count);
+        cells.lines_ut.extend((0..points.len()).flat_map(|i| set.at(i).iter().map(field::resultant_ut)));
         cells.computed.resize(end, true);
         for h in &set.inside {
             cells.computed[start + h.point] = false;

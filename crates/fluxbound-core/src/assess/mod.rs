@@ -1163,6 +1163,7 @@ fn assess_area(
     let max_resultant_ut = resultant.at.map(|_| resultant.value);
     let bounded = pv.peak.settled && resultant.at.is_some();
     let max_bound_ut = bounded.then_some(pv.peak.bound[0]);
+    let resultants = cells.computed_lines().map(cells::total_ut);
     AreaResult {
         id: a.id.clone(),
         height_m: a.height_m,
@@ -1171,7 +1172,7 @@ fn assess_area(
         cells_inside_conductors: cells.len() - computed,
         max_resultant_ut,
         max_at: resultant.at.map(|p| [p.x, p.y, p.z]),
-        mean_resultant_ut: (computed > 0).then(|| resultant_sum(cells) / computed as f64),
+        mean_resultant_ut: (computed > 0).then(|| resultants.sum::<f64>() / computed as f64),
         verdict: worst_of(comparisons.iter().map(|c| c.verdict)).unwrap_or(Verdict::NotCovered),
         comparisons,
         time_weighted: time_weighted(a.occupancy_h, max_resultant_ut),
@@ -1183,29 +1184,6 @@ fn assess_area(
         share_basis: SHARE_BASIS.to_string(),
         regimes: Vec::new(),
     }
-}
-
-/// The sum of every computed cell's total resultant, µT, added in cell
-/// order as one pass would (the resultants are formed over the pool, a
-/// window of cells at a time so they are never all held).
-fn resultant_sum(cells: &cells::AreaCells) -> f64 {
-    use rayon::prelude::*;
-    const WINDOW_CELLS: usize = 64 * cells::CELLS_PER_TASK;
-    let (mut sum, mut window) = (0.0, Vec::with_capacity(WINDOW_CELLS.min(cells.len())));
-    for start in (0..cells.len()).step_by(WINDOW_CELLS) {
-        let end = (start + WINDOW_CELLS).min(cells.len());
-        window.clear();
-        window.par_extend(
-            (start..end)
-                .into_par_iter()
-                .with_min_len(cells::CELLS_PER_TASK)
-                .filter_map(|c| cells.lines(c).map(cells::total_ut)),
-        );
-        for r in &window {
-            sum += r;
-        }
-    }
-    sum
 }
 
 /// The area maximum's certainty in words.
@@ -1239,51 +1217,27 @@ struct CellRatios {
 
 /// The computed cells' exposure ratios against `t`, reduced as they are
 /// formed (no list of ratios), counting those at or above `thresholds`.
-/// Runs of cells are reduced over the pool and combined in order (the
-/// highest, the counts, and the uncovered frequencies in the order met).
 fn cell_ratios(t: &ReferenceTable, cells: &cells::AreaCells, line_hz: &[f64], thresholds: [f64; 2]) -> CellRatios {
-    use rayon::prelude::*;
     let levels = line_levels(t, line_hz);
-    let run = |range: std::ops::Range<usize>| {
-        let mut out = CellRatios { max: 0.0, at_or_above: [0, 0], uncovered: Vec::new() };
-        for lines in range.filter_map(|c| cells.lines(c)) {
-            match exposure_ratio(lines.iter().copied(), &levels) {
-                Ok(r) => {
-                    out.max = out.max.max(r);
-                    for (count, threshold) in out.at_or_above.iter_mut().zip(thresholds) {
-                        *count += usize::from(r >= threshold);
+    let mut out = CellRatios { max: 0.0, at_or_above: [0, 0], uncovered: Vec::new() };
+    for lines in cells.computed_lines() {
+        match exposure_ratio(lines.iter().copied(), &levels) {
+            Ok(r) => {
+                out.max = out.max.max(r);
+                for (count, threshold) in out.at_or_above.iter_mut().zip(thresholds) {
+                    *count += usize::from(r >= threshold);
+                }
+            }
+            Err(lines) => {
+                for f in lines.iter().map(|k| line_hz[*k]) {
+                    if !out.uncovered.contains(&f) {
+                        out.uncovered.push(f);
                     }
                 }
-                Err(lines) => out.meet_uncovered(lines.iter().map(|k| line_hz[*k])),
             }
         }
-        out
-    };
-    let size = cells::CELLS_PER_TASK;
-    let runs: Vec<CellRatios> = (0..cells.len().div_ceil(size))
-        .into_par_iter()
-        .map(|k| run(k * size..((k + 1) * size).min(cells.len())))
-        .collect();
-    let mut out = CellRatios { max: 0.0, at_or_above: [0, 0], uncovered: Vec::new() };
-    for r in runs {
-        out.max = out.max.max(r.max);
-        for (count, more) in out.at_or_above.iter_mut().zip(r.at_or_above) {
-            *count += more;
-        }
-        out.meet_uncovered(r.uncovered.into_iter());
     }
     out
-}
-
-impl CellRatios {
-    /// Adds the frequencies not met before, in order.
-    fn meet_uncovered(&mut self, hz: impl Iterator<Item = f64>) {
-        for f in hz {
-            if !self.uncovered.contains(&f) {
-                self.uncovered.push(f);
-            }
-        }
-    }
 }
 
 /// An area `t` cannot judge: no computed cell (`n == 0`), or frequencies

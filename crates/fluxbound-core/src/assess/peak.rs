@@ -160,10 +160,9 @@ pub struct AreaShape<'a> {
 /// Samples the boundary and refines. `cells` are the grid's cell centres
 /// inside the polygon with their line resultants (`None` inside a
 /// conductor); `budget_pairs` the pairs this area may still spend. The
-/// engine's flag is looked at before each batch of samples and each run
-/// of [`CELLS_PER_CANCEL_CHECK`] regions' bounds. The cells are regions of
-/// the first round without being copied into one: only those that do not
-/// settle are split.
+/// engine's flag is looked at before each batch of samples and each
+/// region's bound. The cells are regions of the first round without being
+/// copied into one: only those that do not settle are split.
 pub fn area_peak(
     engine: &Engine<'_>,
     area: &AreaShape<'_>,
@@ -193,7 +192,9 @@ pub fn area_peak_with(
     blocks: CellBlocks,
 ) -> Result<AreaPeak, Unfinished> {
     let mut state = State::new(measures, budget_pairs);
-    state.record_cells(cells);
+    for c in 0..cells.len() {
+        state.record(cells.at(c), cells.lines(c));
+    }
     let mut fresh = edge_cells(area, cells);
     let (ends, pieces) = boundary_pieces(area);
     state.boundary_samples = ends.len() + pieces.len();
@@ -205,11 +206,17 @@ pub fn area_peak_with(
     state.sample_regions(engine, area, &mut fresh)?;
     let floor_m = area.spacing_m * FLOOR_FRACTION;
     let mut next = state.settle_cells(engine, area, cells, floor_m, blocks)?;
+    let mut scratch = BoundScratch::default();
     // The first round is the cells (above) and the fresh regions.
     let mut round_has_regions = cells.len() > 0 || !fresh.is_empty();
     let mut regions = fresh;
     while round_has_regions {
-        next.extend(state.settle_regions(engine, area, &regions, floor_m)?);
+        for r in &regions {
+            engine.cancel.check()?;
+            if !state.settle(engine, area, r, r.lines.as_deref(), floor_m, &mut scratch) {
+                next.extend(r.children(area.polygon));
+            }
+        }
         state.refinement_samples += next.len();
         state.sample_regions(engine, area, &mut next)?;
         regions = std::mem::take(&mut next);
@@ -218,8 +225,7 @@ pub fn area_peak_with(
     Ok(state.finish())
 }
 
-/// Cells or regions settled between two looks at the cancel flag (and per
-/// task when they are spread over the pool).
+/// Cells settled between two looks at the cancel flag.
 const CELLS_PER_CANCEL_CHECK: usize = 4096;
 
 /// Grid nodes of one row spanned by a block of cells bounded at once in
@@ -272,42 +278,6 @@ impl<'m> State<'m> {
             let v = q.of(lines);
             if v > m.value || m.at.is_none() {
                 *m = Peak { value: v, at: Some(at) };
-            }
-        }
-    }
-
-    /// [`State::record`] of every cell in order, over the pool: each run
-    /// of cells gives its highest value per measure and the first cell
-    /// that has it (the first computed cell sets it, a later one must be
-    /// higher, as `record` does); the runs are then recorded in order, so
-    /// the maxima and where they are come out as from one pass.
-    fn record_cells(&mut self, cells: &AreaCells) {
-        use rayon::prelude::*;
-        let measures = self.measures;
-        let runs: Vec<Vec<Option<(f64, usize)>>> = (0..cells.len().div_ceil(CELLS_PER_CANCEL_CHECK))
-            .into_par_iter()
-            .map(|k| {
-                let mut best: Vec<Option<(f64, usize)>> = vec![None; measures.len()];
-                let end = ((k + 1) * CELLS_PER_CANCEL_CHECK).min(cells.len());
-                for c in k * CELLS_PER_CANCEL_CHECK..end {
-                    let Some(lines) = cells.lines(c) else { continue };
-                    for (q, b) in measures.iter().zip(best.iter_mut()) {
-                        let v = q.of(lines);
-                        if b.is_none_or(|(high, _)| v > high) {
-                            *b = Some((v, c));
-                        }
-                    }
-                }
-                best
-            })
-            .collect();
-        for run in runs {
-            for (m, b) in self.max.iter_mut().zip(run) {
-                if let Some((v, c)) = b
-                    && (v > m.value || m.at.is_none())
-                {
-                    *m = Peak { value: v, at: Some(cells.at(c)) };
-                }
             }
         }
     }
@@ -391,12 +361,6 @@ impl<'m> State<'m> {
                 Ok((run, children))
             })
             .collect();
-        self.combine(parts)
-    }
-
-    /// Bounds and settledness of runs settled apart, in order; their
-    /// children, in order.
-    fn combine(&mut self, parts: Vec<Result<(State<'m>, Vec<Region>), Cancelled>>) -> Result<Vec<Region>, Cancelled> {
         let mut next = Vec::new();
         for part in parts {
             let (run, children) = part?;
@@ -407,36 +371,6 @@ impl<'m> State<'m> {
             next.extend(children);
         }
         Ok(next)
-    }
-
-    /// Settles the regions of a later round as [`State::settle_cells`]
-    /// settles the cells (runs over the pool, the same result as one by
-    /// one: settling changes no maximum); the children of those that do
-    /// not settle, in order.
-    fn settle_regions(
-        &mut self,
-        engine: &Engine<'_>,
-        area: &AreaShape<'_>,
-        regions: &[Region],
-        floor_m: f64,
-    ) -> Result<Vec<Region>, Cancelled> {
-        use rayon::prelude::*;
-        let this = &*self;
-        let parts: Vec<Result<(State<'m>, Vec<Region>), Cancelled>> = regions
-            .par_chunks(CELLS_PER_CANCEL_CHECK)
-            .map(|run_regions| {
-                engine.cancel.check()?;
-                let mut run = State { max: this.max.clone(), ..State::new(this.measures, this.budget_pairs) };
-                let (mut children, mut scratch) = (Vec::new(), BoundScratch::default());
-                for r in run_regions {
-                    if !run.settle(engine, area, r, r.lines.as_deref(), floor_m, &mut scratch) {
-                        children.extend(r.children(area.polygon));
-                    }
-                }
-                Ok((run, children))
-            })
-            .collect();
-        self.combine(parts)
     }
 
     /// Whether every cell of `block` (cells of one grid row) has, for every
