@@ -8,14 +8,14 @@
 //! line) are never held for the whole area; the weighted peak index of each
 //! table is taken over the chunk while its phasors are at hand.
 
-use super::grid::{GridSpec, contains};
+use super::grid::{GridSpec, nodes_inside};
 use super::peak::Engine;
 use super::verdict::exposure_ratio;
 use super::weighted_peak::{NotComputed, Weighting};
 use crate::cancel::Cancelled;
 use crate::field;
 use crate::site::Area;
-use nalgebra::{Point2, Point3};
+use nalgebra::Point3;
 
 /// Cells per field evaluation: the phasors of one chunk (3 MiB per
 /// spectral line) and its points (1.5 MiB) are all that is held beside the
@@ -56,6 +56,21 @@ impl AreaCells {
     /// Line resultants of cell `c`, µT; `None` inside a conductor.
     pub fn lines(&self, c: usize) -> Option<&[f64]> {
         self.computed[c].then(|| &self.lines_ut[c * self.line_count..(c + 1) * self.line_count])
+    }
+    /// End of the block of cells from `start` (before `end`) that lie in
+    /// `start`'s grid row within `nodes` nodes of it: cells are in grid
+    /// order, so a block is a run of them.
+    pub fn row_block_end(&self, start: usize, end: usize, nodes: usize) -> usize {
+        let first = self.node[start];
+        let row_end = (first / self.grid.nx + 1) * self.grid.nx;
+        let limit = row_end.min(first + nodes);
+        // Nodes ascend, so the block has at most `nodes` cells.
+        let end = end.min(start + nodes);
+        start + self.node[start..end].partition_point(|n| *n < limit)
+    }
+    /// Grid nodes of the cells (`j · nx + i`), ascending.
+    pub fn nodes(&self) -> &[usize] {
+        &self.node
     }
     /// Line resultants of every cell outside the conductors, in order.
     pub fn computed_lines(&self) -> impl Iterator<Item = &[f64]> + '_ {
@@ -142,12 +157,7 @@ pub(super) fn sample_area(
         nx: 0,
         ny: 0,
     });
-    let node: Vec<usize> = (0..grid.len())
-        .filter(|n| {
-            let (x, y) = grid.node(n % grid.nx, n / grid.nx);
-            contains(&area.polygon, Point2::new(x, y))
-        })
-        .collect();
+    let node = nodes_inside(&area.polygon, &grid);
     let mut cells = AreaCells {
         grid,
         height_m: area.height_m,

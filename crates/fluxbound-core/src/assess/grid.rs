@@ -111,6 +111,46 @@ pub fn check_grid_budget(site: &Site, max_cells: u64) -> Problems {
     p
 }
 
+/// The nodes of `grid` inside `polygon` (`j · nx + i`, ascending): for
+/// each node, what [`contains`] says. Each row's crossings are computed
+/// once, with `contains`'s own expression, so the answers are the same
+/// node by node; a node is inside when an odd number of crossings lies to
+/// its right (`x < crossing`, as `contains` counts them).
+pub(crate) fn nodes_inside(polygon: &[Point2<f64>], grid: &GridSpec) -> Vec<usize> {
+    let n = polygon.len();
+    let mut out = Vec::new();
+    let mut crossings = Vec::with_capacity(n);
+    for row in 0..grid.ny {
+        let (_, y) = grid.node(0, row);
+        crossings.clear();
+        let mut j = n.wrapping_sub(1);
+        for i in 0..n {
+            let (a, b) = (polygon[i], polygon[j]);
+            if (a.y > y) != (b.y > y) {
+                let x = (b.x - a.x) * (y - a.y) / (b.y - a.y) + a.x;
+                // A NaN crossing never toggles `contains`.
+                if !x.is_nan() {
+                    crossings.push(x);
+                }
+            }
+            j = i;
+        }
+        crossings.sort_by(f64::total_cmp);
+        // Crossings at or left of the node so far (`x ≥ crossing`).
+        let mut passed = 0;
+        for col in 0..grid.nx {
+            let (x, _) = grid.node(col, row);
+            while passed < crossings.len() && crossings[passed] <= x {
+                passed += 1;
+            }
+            if (crossings.len() - passed) % 2 == 1 {
+                out.push(row * grid.nx + col);
+            }
+        }
+    }
+    out
+}
+
 /// Even–odd point-in-polygon test.
 pub fn contains(polygon: &[Point2<f64>], p: Point2<f64>) -> bool {
     let n = polygon.len();

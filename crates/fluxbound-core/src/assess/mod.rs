@@ -838,6 +838,70 @@ fn area_peak(
     peak::area_peak(engine, &shape, measures, cells, budget_pairs)
 }
 
+/// An area's refined maximum as [`area_maxima_with_and_without_pruning`]
+/// gives it: per measure (the resultant, then each covered table's ratio)
+/// the highest sample, where it is and the proven bound.
+#[doc(hidden)]
+#[derive(Debug, Clone, PartialEq)]
+pub struct RefinedMaximum {
+    pub max: Vec<f64>,
+    pub at: Vec<Option<[f64; 3]>>,
+    pub bound: Vec<f64>,
+    pub settled: bool,
+    pub refinement_samples: usize,
+    pub pairs: u64,
+}
+
+/// For the tests of the first refinement round's pruning, not for use:
+/// every area's refined maximum `[pruned, unpruned]` at `load`, with no
+/// budget (`None`: the load does not resolve).
+#[doc(hidden)]
+pub fn area_maxima_with_and_without_pruning(
+    site: &Site,
+    load: &LoadCase,
+    tables: &[ReferenceTable],
+) -> Option<Vec<[RefinedMaximum; 2]>> {
+    let loads = load.resolve(site).ok()?;
+    let excitation = site.excitation_at(&loads);
+    let filaments = crate::site::filaments(site.conductors());
+    let bounds = field::bound::SegmentBounds::new(&filaments, &excitation);
+    let cancel = Cancel::never();
+    let engine = peak::Engine { filaments: &filaments, excitation: &excitation, bounds: &bounds, cancel: &cancel };
+    let line_hz: Vec<f64> = excitation.lines.iter().map(|l| l.frequency_hz).collect();
+    let area_tables: Vec<&ReferenceTable> =
+        tables.iter().filter(|t| applies(t, BodyRegion::WholeBody, Group::General)).collect();
+    let measures = AreaMeasures::of(&area_tables, &line_hz);
+    let refined = |a: &crate::site::Area, cells: &cells::AreaCells, blocks| {
+        let shape = peak::AreaShape { polygon: &a.polygon, height_m: a.height_m, spacing_m: a.spacing_m };
+        let p = uncancelled_peak(peak::area_peak_with(&engine, &shape, &measures.list, cells, u64::MAX, blocks));
+        RefinedMaximum {
+            max: p.max.iter().map(|m| m.value).collect(),
+            at: p.max.iter().map(|m| m.at.map(|q| [q.x, q.y, q.z])).collect(),
+            bound: p.bound,
+            settled: p.settled,
+            refinement_samples: p.refinement_samples,
+            pairs: p.pairs,
+        }
+    };
+    let out = site
+        .areas()
+        .iter()
+        .map(|a| {
+            let cells = uncancelled(cells::sample_area(&engine, a, &mut []));
+            [refined(a, &cells, peak::CellBlocks::Pruned), refined(a, &cells, peak::CellBlocks::Unpruned)]
+        })
+        .collect();
+    Some(out)
+}
+
+/// A refinement that cannot stop: no budget and a flag never set.
+fn uncancelled_peak(r: Result<peak::AreaPeak, peak::Unfinished>) -> peak::AreaPeak {
+    match r {
+        Ok(p) => p,
+        Err(e) => unreachable!("an unlimited, uncancelled refinement stopped: {e:?}"),
+    }
+}
+
 fn refine_over_budget(area_index: usize, e: peak::OverBudget) -> AssessError {
     let at = crate::site::Pointer::root().key("areas").index(area_index).key("spacing_m");
     let mut p = Problems::default();

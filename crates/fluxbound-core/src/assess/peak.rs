@@ -170,11 +170,32 @@ pub fn area_peak(
     cells: &AreaCells,
     budget_pairs: u64,
 ) -> Result<AreaPeak, Unfinished> {
+    area_peak_with(engine, area, measures, cells, budget_pairs, CellBlocks::Pruned)
+}
+
+/// Whether the first round skips blocks of cells whose bound is below the
+/// maximum ([`State::block_below_max`]); `Unpruned` bounds every cell on its
+/// own, so tests can compare both.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum CellBlocks {
+    Pruned,
+    Unpruned,
+}
+
+/// [`area_peak`] with the first round's pruning chosen.
+pub fn area_peak_with(
+    engine: &Engine<'_>,
+    area: &AreaShape<'_>,
+    measures: &[Measure],
+    cells: &AreaCells,
+    budget_pairs: u64,
+    blocks: CellBlocks,
+) -> Result<AreaPeak, Unfinished> {
     let mut state = State::new(measures, budget_pairs);
     for c in 0..cells.len() {
         state.record(cells.at(c), cells.lines(c));
     }
-    let mut fresh = edge_cells(area);
+    let mut fresh = edge_cells(area, cells);
     let (ends, pieces) = boundary_pieces(area);
     state.boundary_samples = ends.len() + pieces.len();
     let end_lines = state.sample(engine, area, &ends)?;
@@ -184,7 +205,7 @@ pub fn area_peak(
     fresh.extend(pieces);
     state.sample_regions(engine, area, &mut fresh)?;
     let floor_m = area.spacing_m * FLOOR_FRACTION;
-    let mut next = state.settle_cells(engine, area, cells, floor_m)?;
+    let mut next = state.settle_cells(engine, area, cells, floor_m, blocks)?;
     let mut scratch = BoundScratch::default();
     // The first round is the cells (above) and the fresh regions.
     let mut round_has_regions = cells.len() > 0 || !fresh.is_empty();
@@ -207,11 +228,21 @@ pub fn area_peak(
 /// Cells settled between two looks at the cancel flag.
 const CELLS_PER_CANCEL_CHECK: usize = 4096;
 
+/// Grid nodes of one row spanned by a block of cells bounded at once in
+/// the first round: 32 cells reach 16 spacings either side of the block's
+/// centre, a few per cent of the distance at which a conductor's slope
+/// bound lets a cell settle, so far from the maximum most blocks settle
+/// whole and near it few cells are bounded twice (measured on
+/// `benches/area.rs`: 16 and 64 were no faster).
+const BLOCK_NODES: usize = 32;
+
 /// Buffers of one region's bound, reused from region to region.
 #[derive(Default)]
 struct BoundScratch {
     lines: Vec<f64>,
     measures: Vec<f64>,
+    value: Vec<f64>,
+    slope: Vec<f64>,
 }
 
 /// Running maximum and bound of one area's refinement.
@@ -284,19 +315,21 @@ impl<'m> State<'m> {
         Ok(())
     }
 
-    /// Whether `r` is settled (its bound is recorded); a region at the
-    /// floor is recorded as it stands and leaves the maximum unsettled.
     /// Settles every cell as a region of the first round, spread over the
     /// pool in runs of [`CELLS_PER_CANCEL_CHECK`]; the children of those
     /// that do not settle, in cell order. The maxima are not changed by
     /// settling, and bounds combine by `max`, so the result is the one of
-    /// settling the cells one by one.
+    /// settling the cells one by one. With `CellBlocks::Pruned` a block of
+    /// cells whose bound is below the maximum ([`State::block_below_max`])
+    /// is passed over: each of its cells would settle, and its bound could
+    /// not raise [`AreaPeak::bound`], which is never below the maximum.
     fn settle_cells(
         &mut self,
         engine: &Engine<'_>,
         area: &AreaShape<'_>,
         cells: &AreaCells,
         floor_m: f64,
+        blocks: CellBlocks,
     ) -> Result<Vec<Region>, Cancelled> {
         use rayon::prelude::*;
         let runs = cells.len().div_ceil(CELLS_PER_CANCEL_CHECK);
@@ -308,10 +341,21 @@ impl<'m> State<'m> {
                 let mut run = State { max: this.max.clone(), ..State::new(this.measures, this.budget_pairs) };
                 let (mut children, mut scratch) = (Vec::new(), BoundScratch::default());
                 let end = ((k + 1) * CELLS_PER_CANCEL_CHECK).min(cells.len());
-                for c in k * CELLS_PER_CANCEL_CHECK..end {
-                    let r = Region { centre: cells.at(c).xy(), half_m: area.spacing_m / 2.0, along: None, lines: None };
-                    if !run.settle(engine, area, &r, cells.lines(c), floor_m, &mut scratch) {
-                        children.extend(r.children(area.polygon));
+                let mut start = k * CELLS_PER_CANCEL_CHECK;
+                while start < end {
+                    let block = start..cells.row_block_end(start, end, BLOCK_NODES);
+                    start = block.end;
+                    if blocks == CellBlocks::Pruned
+                        && run.block_below_max(engine, area, cells, block.clone(), &mut scratch)
+                    {
+                        continue;
+                    }
+                    for c in block {
+                        let r =
+                            Region { centre: cells.at(c).xy(), half_m: area.spacing_m / 2.0, along: None, lines: None };
+                        if !run.settle(engine, area, &r, cells.lines(c), floor_m, &mut scratch) {
+                            children.extend(r.children(area.polygon));
+                        }
                     }
                 }
                 Ok((run, children))
@@ -329,6 +373,49 @@ impl<'m> State<'m> {
         Ok(next)
     }
 
+    /// Whether every cell of `block` (cells of one grid row) has, for every
+    /// measure, a bound ([`State::settle`]) at most the maximum so far: such a
+    /// cell settles and leaves the final bound as it is. Checked on one
+    /// bound that is at least each cell's, line by line: the ball around
+    /// the block's middle that holds every cell's ball gives value and slope
+    /// sums at least each cell's ([`SegmentBounds::ball_bounds_into`]), the
+    /// block's highest sample per line is at least each cell's, and a cell
+    /// inside a conductor has the value bound alone. Both measures grow with
+    /// every line, and rounding keeps larger inputs larger.
+    fn block_below_max(
+        &self,
+        engine: &Engine<'_>,
+        area: &AreaShape<'_>,
+        cells: &AreaCells,
+        block: std::ops::Range<usize>,
+        scratch: &mut BoundScratch,
+    ) -> bool {
+        let (first, last) = (cells.at(block.start), cells.at(block.end - 1));
+        // The same radius as a cell's region (`Region::rho_m` of a square).
+        let rho_m = area.spacing_m / 2.0 * std::f64::consts::SQRT_2;
+        let centre = Point3::new((first.x + last.x) / 2.0, first.y, first.z);
+        let reach_m = (last.x - first.x) / 2.0 + rho_m;
+        if !engine.bounds.ball_bounds_into(&centre, reach_m, &mut scratch.value, &mut scratch.slope) {
+            return false;
+        }
+        let highest = &mut scratch.lines;
+        highest.clear();
+        highest.resize(scratch.value.len(), 0.0);
+        let mut any_inside = false;
+        for c in block {
+            match cells.lines(c) {
+                Some(l) => highest.iter_mut().zip(l).for_each(|(h, b)| *h = h.max(*b)),
+                None => any_inside = true,
+            }
+        }
+        for ((h, v), s) in highest.iter_mut().zip(&scratch.value).zip(&scratch.slope) {
+            *h = if any_inside { *v } else { v.min(*h + rho_m * s) };
+        }
+        self.measures.iter().zip(&self.max).all(|(q, m)| q.of(highest) <= m.value)
+    }
+
+    /// Whether `r` is settled (its bound is recorded); a region at the
+    /// floor is recorded as it stands and leaves the maximum unsettled.
     /// `lines` are the line resultants sampled at its centre (`None`:
     /// inside a conductor).
     fn settle(
@@ -371,14 +458,21 @@ impl<'m> State<'m> {
 }
 
 /// Squares of the bounding grid whose centre lies outside the polygon but
-/// which still meet it: together with the inside cells they cover it.
-fn edge_cells(area: &AreaShape<'_>) -> Vec<Region> {
+/// which still meet it: together with the inside cells they cover it. The
+/// cells are the nodes inside (the same grid), so only the others are
+/// tested.
+fn edge_cells(area: &AreaShape<'_>, cells: &AreaCells) -> Vec<Region> {
     let Some(g) = GridSpec::bounding(area.polygon, area.spacing_m) else { return Vec::new() };
     let h = area.spacing_m / 2.0;
-    (0..g.ny)
-        .flat_map(|j| (0..g.nx).map(move |i| g.node(i, j)))
+    let mut inside = cells.nodes().iter().copied().peekable();
+    (0..g.len())
+        .filter(|n| {
+            let is_cell = inside.next_if_eq(n).is_some();
+            !is_cell
+        })
+        .map(|n| g.node(n % g.nx, n / g.nx))
         .map(|(x, y)| Point2::new(x, y))
-        .filter(|c| !contains(area.polygon, *c) && square_meets_polygon(*c, h, area.polygon))
+        .filter(|c| square_meets_polygon(*c, h, area.polygon))
         .map(|c| Region { centre: c, half_m: h, along: None, lines: None })
         .collect()
 }

@@ -237,6 +237,54 @@ impl SegmentBounds {
         out.truncate(n);
     }
 
+    /// Per spectral line, upper bounds of the two sums that
+    /// [`SegmentBounds::line_bounds_into`] forms for *any* ball that lies
+    /// inside the ball of radius `reach_m` around `centre`: the value sum
+    /// `Σ 0.2·|I|/d` into `value` and the slope sum `Σ 0.4·|I|/d²` into
+    /// `slope` (both cleared first), so one call bounds a whole block of
+    /// regions at once.
+    ///
+    /// Why it bounds them: a ball of radius `ρ` around `c` inside the big
+    /// ball has `|c − centre| + ρ ≤ reach`, so its free distance to each
+    /// segment is `d(c) − ρ ≥ d(centre) − reach` (distance changes at most
+    /// by the distance moved). The big ball's free distance is lowered
+    /// further by [`DISTANCE_MARGIN`] relative and by 1e-12 of the
+    /// coordinates' size, far above the rounding of either computation, so
+    /// each term here is at least the one the smaller ball computes, and
+    /// rounding keeps sums of larger terms larger.
+    ///
+    /// `false` (the sums are then meaningless) when the reach comes within
+    /// a conductor's radius of a segment: a ball inside may then have no
+    /// slope bound, and each must be bounded on its own.
+    pub fn ball_bounds_into(
+        &self,
+        centre: &Point3<f64>,
+        reach_m: f64,
+        value: &mut Vec<f64>,
+        slope: &mut Vec<f64>,
+    ) -> bool {
+        let n = self.lines;
+        value.clear();
+        value.resize(n, 0.0);
+        slope.clear();
+        slope.resize(n, 0.0);
+        let centre_size = centre.coords.norm();
+        for s in &self.segments {
+            let d = point_segment_distance_m(centre, &s.a, &s.b);
+            let slack = DISTANCE_MARGIN * (d + reach_m) + 1e-12 * (centre_size + s.a.coords.norm() + s.b.coords.norm());
+            let free = d - reach_m - slack;
+            // A NaN also refuses.
+            if free.is_nan() || free <= s.radius_m {
+                return false;
+            }
+            for (f, i) in s.current_a.iter().enumerate() {
+                value[f] += FIELD_BOUND_UT_M_PER_A * i / free;
+                slope[f] += SLOPE_BOUND_UT_PER_M_M2_PER_A * i / (free * free);
+            }
+        }
+        true
+    }
+
     /// Number of segments with current (the cost of one bound or sample).
     pub fn len(&self) -> usize {
         self.segments.len()

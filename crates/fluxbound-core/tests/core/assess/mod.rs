@@ -4,6 +4,7 @@
 //! published table values (docs/REFERENCES.md).
 
 mod boundary;
+mod pruning;
 mod regime;
 mod usecase;
 mod weighted_peak;

@@ -170,3 +170,61 @@ fn the_bound_over_a_ball_holds_at_every_point_sampled_inside_it() {
         }
     }
 }
+
+#[test]
+fn the_sums_over_a_big_ball_are_at_least_those_of_every_ball_inside_it() {
+    // What lets the area refinement bound a block of cells at once: for any
+    // ball inside the big one and any sampled centre value, the per-line
+    // bound built from the big ball's sums, `min(value, sampled + ρ·slope)`,
+    // is at least `line_bounds` of the small ball. Balls are placed up to
+    // touching the big ball's surface; no tolerance, since the big ball's
+    // sums carry their own margin for rounding.
+    let mut rng = Rng(0x5EED_0004);
+    let (mut compared, mut refused) = (0, 0);
+    for _ in 0..300 {
+        let segs: Vec<(Point3<f64>, Point3<f64>)> = (0..3)
+            .map(|_| {
+                let a = rng.point(3.0);
+                (a, a + rng.unit() * rng.range(0.1, 6.0))
+            })
+            .collect();
+        let radius_m = rng.range(1e-3, 0.05);
+        let filaments =
+            Filaments::new(&segs.iter().map(|(a, b)| Filament { path: vec![*a, *b], radius_m }).collect::<Vec<_>>());
+        let excitation = Excitation {
+            lines: (0..2)
+                .map(|f| SpectralLine {
+                    order: [1, 5][f],
+                    frequency_hz: [50.0, 250.0][f],
+                    currents_a: (0..3)
+                        .map(|_| Complex64::from_polar(rng.range(0.0, [3000.0, 300.0][f]), rng.range(0.0, 6.3)))
+                        .collect(),
+                })
+                .collect(),
+        };
+        let bounds = SegmentBounds::new(&filaments, &excitation);
+        let centre = rng.point(6.0);
+        let reach = rng.range(0.01, 2.0);
+        let (mut value, mut slope) = (Vec::new(), Vec::new());
+        if !bounds.ball_bounds_into(&centre, reach, &mut value, &mut slope) {
+            refused += 1;
+            continue;
+        }
+        for _ in 0..50 {
+            let rho = reach * rng.next();
+            // On the surface half the time: the tightest case.
+            let off = if rng.next() < 0.5 { reach - rho } else { (reach - rho) * rng.next() };
+            let c = centre + rng.unit() * off;
+            let sampled = [rng.range(0.0, 100.0), rng.range(0.0, 10.0)];
+            let small = bounds.line_bounds(&c, rho, Some(&sampled));
+            let inside = bounds.line_bounds(&c, rho, None);
+            for f in 0..2 {
+                let big = value[f].min(sampled[f] + rho * slope[f]);
+                assert!(small[f] <= big, "line {f}: ball bound {} above the big ball's {big}", small[f]);
+                assert!(inside[f] <= value[f], "line {f}: value bound {} above the big ball's {}", inside[f], value[f]);
+                compared += 1;
+            }
+        }
+    }
+    assert!(compared > 10_000 && refused > 0, "compared {compared}, refused {refused}");
+}
