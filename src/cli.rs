@@ -315,6 +315,10 @@ pub struct ClientArgs {
     #[arg(long = "trusted-proxy", env = "FLUXBOUND_TRUSTED_PROXIES", value_delimiter = ',',
           value_parser = parse_trusted_proxy, value_name = "ADDR|CIDR")]
     pub trusted_proxies: Vec<ipnet::IpNet>,
+    /// Seconds a key found valid is trusted without reading its row again; a key revoked through another replica or the CLI stops working within this time, one revoked through this server at once (0 = read the row on every request).
+    #[arg(long, env = "FLUXBOUND_KEY_CACHE_S", default_value_t = crate::service::DEFAULT_KEY_CACHE_S, value_name = "S",
+          value_parser = clap::value_parser!(u64).range(0..=300))]
+    pub key_cache_s: u64,
 }
 
 impl ClientArgs {
@@ -809,6 +813,7 @@ fn serve(args: ServeArgs) -> Result<ExitCode, CliError> {
     config.limits.request_timeout_s = args.request_timeout_s;
     config.connections = args.connections.limits();
     args.compute.apply(&mut config.limits);
+    config.limits.key_cache_s = args.clients.key_cache_s;
     config.clients = args.clients.into_policy();
     runtime()?.block_on(async move {
         let app = crate::app::App::build(&config).await?;

@@ -96,14 +96,24 @@ impl Service {
     pub async fn authenticate(&self, token: &str) -> Result<Caller> {
         let (id, secret) = split_token(token).ok_or(ServiceError::Unauthorized)?;
         let id = KeyId::parse(id).ok_or(ServiceError::Unauthorized)?;
+        let hash = hash_secret(secret);
+        if let Some((stored, caller)) = self.keys.get(&id) {
+            // A key's secret never changes, so a remembered hash decides
+            // as the row would.
+            return constant_time_eq(hash.as_bytes(), stored.as_bytes())
+                .then_some(caller)
+                .ok_or(ServiceError::Unauthorized);
+        }
         let row = self.store().key_find(&id).await?.ok_or(ServiceError::Unauthorized)?;
-        let ok = constant_time_eq(hash_secret(secret).as_bytes(), row.secret_sha256.as_bytes());
+        let ok = constant_time_eq(hash.as_bytes(), row.secret_sha256.as_bytes());
         if !ok || row.revoked_at.is_some() {
             return Err(ServiceError::Unauthorized);
         }
         let role =
             Role::parse(&row.role).ok_or_else(|| ServiceError::Internal("stored key has an unknown role".into()))?;
-        Ok(Caller { org_id: row.org_id, key_id: row.id, role })
+        let caller = Caller { org_id: row.org_id, key_id: row.id, role };
+        self.keys.remember(row.secret_sha256, caller.clone());
+        Ok(caller)
     }
 
     /// Creates a key in organisation `org_name` (created if needed); returns
@@ -156,7 +166,9 @@ impl Service {
     /// active admin key of an organisation is kept (409).
     pub async fn keys_revoke(&self, caller: &Caller, key_id: &KeyId) -> Result<()> {
         caller.require(Role::Admin)?;
-        revoked(self.store().key_revoke(&caller.org_id, key_id).await?)
+        let outcome = revoked(self.store().key_revoke(&caller.org_id, key_id).await?);
+        self.keys.forget(key_id);
+        outcome
     }
 
     /// The organisation named `name` (CLI). No stored name holds a control
@@ -178,7 +190,53 @@ impl Service {
     /// Revokes a key by id in an organisation given by name (CLI).
     pub async fn keys_revoke_for_org(&self, org_name: &str, key_id: &KeyId) -> Result<()> {
         let org = self.org_named(org_name).await?;
-        revoked(self.store().key_revoke(&org.id, key_id).await?)
+        let outcome = revoked(self.store().key_revoke(&org.id, key_id).await?);
+        self.keys.forget(key_id);
+        outcome
+    }
+}
+
+/// Keys this process has recently found valid, so that a burst of
+/// requests does not look up the same row for each one.
+///
+/// An entry lives `ttl` (`--key-cache-s`, default 2 s; 0 turns the cache
+/// off). A key revoked through this process is forgotten at once; one
+/// revoked through another replica or the CLI stops working here within
+/// `ttl`. At most [`KeyCache::MAX_ENTRIES`] keys are kept; past them the
+/// cache starts afresh (every key is then looked up once more).
+#[derive(Debug)]
+pub(crate) struct KeyCache {
+    ttl: std::time::Duration,
+    entries: std::sync::Mutex<std::collections::HashMap<KeyId, (String, Caller, std::time::Instant)>>,
+}
+
+impl KeyCache {
+    pub const MAX_ENTRIES: usize = 10_000;
+
+    pub fn new(ttl_s: u64) -> Self {
+        KeyCache { ttl: std::time::Duration::from_secs(ttl_s), entries: Default::default() }
+    }
+
+    /// The stored secret hash and caller of a key found valid within `ttl`.
+    fn get(&self, id: &KeyId) -> Option<(String, Caller)> {
+        let entries = self.entries.lock().unwrap_or_else(|e| e.into_inner());
+        let (hash, caller, at) = entries.get(id)?;
+        (at.elapsed() < self.ttl).then(|| (hash.clone(), caller.clone()))
+    }
+
+    fn remember(&self, hash: String, caller: Caller) {
+        if self.ttl.is_zero() {
+            return;
+        }
+        let mut entries = self.entries.lock().unwrap_or_else(|e| e.into_inner());
+        if entries.len() >= Self::MAX_ENTRIES {
+            entries.clear();
+        }
+        entries.insert(caller.key_id.clone(), (hash, caller, std::time::Instant::now()));
+    }
+
+    fn forget(&self, id: &KeyId) {
+        self.entries.lock().unwrap_or_else(|e| e.into_inner()).remove(id);
     }
 }
 

@@ -34,7 +34,15 @@ pub struct Limits {
     /// Milliseconds a computation waits for a slot before its request is
     /// answered 503 `busy` with `Retry-After`.
     pub compute_queue_ms: u64,
+    /// Seconds a key found valid is trusted without looking up its row
+    /// again (0 = every request looks it up); see `auth::KeyCache`.
+    pub key_cache_s: u64,
 }
+
+/// Default seconds a key found valid is trusted before its row is read
+/// again: a key revoked through another replica or the CLI stops working
+/// within this time (through this process, at once).
+pub const DEFAULT_KEY_CACHE_S: u64 = 2;
 
 /// Default computations at once: one per core. The engine already spreads
 /// one computation over every core (rayon), so more at once only share the
@@ -66,6 +74,7 @@ impl Default for Limits {
             max_distance_pairs: DEFAULT_MAX_DISTANCE_PAIRS,
             max_computations: default_max_computations(),
             compute_queue_ms: DEFAULT_COMPUTE_QUEUE_MS,
+            key_cache_s: DEFAULT_KEY_CACHE_S,
         }
     }
 }

@@ -18,7 +18,7 @@ mod tables;
 
 pub use assessments::{AssessmentRequest, AssessmentView};
 pub use auth::{Caller, Role, hash_secret};
-pub use bounds::{DEFAULT_COMPUTE_QUEUE_MS, Limits, default_max_computations};
+pub use bounds::{DEFAULT_COMPUTE_QUEUE_MS, DEFAULT_KEY_CACHE_S, Limits, default_max_computations};
 pub use compute::ComputeCounts;
 pub use sites::{IfMatch, SiteView};
 pub use surveys::SurveyView;
@@ -79,12 +79,14 @@ pub struct Service {
     limits: Limits,
     pairs: Arc<AtomicU64>,
     compute: compute::Slots,
+    keys: Arc<auth::KeyCache>,
 }
 
 impl Service {
     pub fn new(store: Store, limits: Limits) -> Self {
         let compute = compute::Slots::new(limits.max_computations);
-        Service { store, limits, pairs: Arc::new(AtomicU64::new(0)), compute }
+        let keys = Arc::new(auth::KeyCache::new(limits.key_cache_s));
+        Service { store, limits, pairs: Arc::new(AtomicU64::new(0)), compute, keys }
     }
     pub fn store(&self) -> &Store {
         &self.store

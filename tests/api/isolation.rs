@@ -478,3 +478,23 @@ async fn the_bearer_scheme_is_accepted_in_any_letter_case() {
         assert_eq!(res.send().await.expect("request").status(), 200, "{scheme}");
     }
 }
+
+/// A key revoked by another replica (here: straight in the store, which
+/// this process's key cache does not see) stops working within
+/// `key_cache_s`; with the cache off, at once.
+#[tokio::test]
+async fn a_key_revoked_by_another_replica_stops_working_within_the_key_cache_time() {
+    for ttl_s in [0, 1] {
+        let limits = fluxbound::service::Limits { rate_per_key: 0, key_cache_s: ttl_s, ..Default::default() };
+        let app = crate::helpers::spawn_app_with(crate::helpers::TestDb::fresh().await, limits).await;
+        let key = app.key("acme", Role::Assessor).await;
+        assert_eq!(app.get("/v1/sites", &key).await.status(), 200, "ttl {ttl_s}");
+        let caller = app.service.authenticate(&key).await.expect("valid key");
+        let id = fluxbound::ids::KeyId::parse(&key_id(&key)).unwrap();
+        app.service.store().key_revoke(&caller.org_id, &id).await.expect("revoke in the store");
+        if ttl_s > 0 {
+            tokio::time::sleep(std::time::Duration::from_millis(1000 * ttl_s + 200)).await;
+        }
+        assert_problem(app.get("/v1/sites", &key).await, 401, "unauthorized", None).await;
+    }
+}
