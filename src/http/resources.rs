@@ -128,6 +128,8 @@ pub struct TableList {
     pub items: Vec<TableResource>,
 }
 
+// The schema of the text `assessment_json` writes; never built as a value
+// (the result is put in as the text stored).
 /// A stored assessment: the request, the pinned site revision and the result.
 #[derive(Debug, Serialize, ToSchema)]
 pub struct AssessmentResource {
@@ -139,19 +141,50 @@ pub struct AssessmentResource {
     pub result: Assessment,
 }
 
-impl From<AssessmentView> for AssessmentResource {
-    fn from(v: AssessmentView) -> Self {
-        AssessmentResource {
-            id: v.row.id,
-            site_id: v.row.site_id,
-            site_revision: v.row.site_revision,
-            created_at: v.row.created_at,
-            request: v.request,
-            result: v.result,
-        }
+/// The JSON text of an [`AssessmentResource`]: its fields written by serde,
+/// the result put in as the text stored (no parse, no second writing).
+pub fn assessment_json(v: &AssessmentView) -> String {
+    #[derive(Serialize)]
+    struct Head<'a> {
+        id: &'a AssessmentId,
+        site_id: &'a SiteId,
+        site_revision: i64,
+        created_at: &'a Timestamp,
+        request: &'a AssessmentRequest,
     }
+    let row = &v.row;
+    let head = Head {
+        id: &row.id,
+        site_id: &row.site_id,
+        site_revision: row.site_revision,
+        created_at: &row.created_at,
+        request: &v.request,
+    };
+    let mut out = serde_json::to_string(&head).expect("serialising plain data cannot fail");
+    out.pop(); // the closing brace
+    out.reserve(row.result.len() + 12);
+    out.push_str(",\"result\":");
+    out.push_str(&row.result);
+    out.push('}');
+    out
 }
 
+/// The JSON text of an [`AssessmentPage`], each item by [`assessment_json`].
+pub fn assessment_page_json(items: &[AssessmentView], next_cursor: Option<&str>) -> String {
+    let mut out = String::from("{\"items\":[");
+    for (i, v) in items.iter().enumerate() {
+        if i > 0 {
+            out.push(',');
+        }
+        out.push_str(&assessment_json(v));
+    }
+    out.push_str("],\"next_cursor\":");
+    out.push_str(&serde_json::to_string(&next_cursor).expect("serialising plain data cannot fail"));
+    out.push('}');
+    out
+}
+
+// The schema of the text `assessment_page_json` writes.
 #[derive(Debug, Serialize, ToSchema)]
 pub struct AssessmentPage {
     pub items: Vec<AssessmentResource>,

@@ -41,15 +41,17 @@ pub struct AssessmentOptions {
     pub review_fraction: ReviewFraction,
 }
 
+/// A stored assessment. Its result stays the JSON text it was stored as
+/// (`row.result`, in the current form: `Store::open` rewrites older ones),
+/// served without being parsed and written again.
 #[derive(Debug, Clone, PartialEq)]
 pub struct AssessmentView {
     pub row: AssessmentRow,
     pub request: AssessmentRequest,
-    pub result: Assessment,
 }
 
 fn view(row: AssessmentRow) -> Result<AssessmentView> {
-    Ok(AssessmentView { request: stored(&row.request)?, result: stored(&row.result)?, row })
+    Ok(AssessmentView { request: stored(&row.request)?, row })
 }
 
 impl Service {
@@ -100,7 +102,7 @@ impl Service {
             + result.areas.iter().map(|a| a.cells as u64).sum::<u64>();
         self.count_pairs(pairs * points);
         let row = self.store_assessment(caller, &rev, &request, &result, &pinned).await?;
-        Ok(AssessmentView { row, request, result })
+        Ok(AssessmentView { row, request })
     }
 
     async fn store_assessment(

@@ -4,6 +4,13 @@ use super::{Result, Store, col, now};
 use crate::ids::{AssessmentId, OrgId, SiteId, TableRecordId, Timestamp};
 use sqlx::any::AnyRow;
 
+/// The form stored results are written in (the `result_form` column).
+/// Results are served as the text stored, so a change to the JSON shape of
+/// an assessment's result bumps this number, and [`Store::open`] rewrites
+/// older rows at start (`tests/api/stored_results.rs` fails until it is
+/// bumped).
+pub const RESULT_FORM: i64 = 1;
+
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct AssessmentRow {
     pub id: AssessmentId,
@@ -52,6 +59,32 @@ fn assessment_row(r: &AnyRow) -> Result<AssessmentRow> {
 const COLUMNS: &str = "id, site_id, site_revision, request, result, worst_verdict, created_at";
 
 impl Store {
+    /// Rewrites every stored result of an older form in the current one
+    /// (`rewrite` parses a stored text and writes it again), in one write
+    /// transaction; idempotent, so replicas starting together may both run
+    /// it. Returns how many rows it rewrote.
+    pub(crate) async fn refresh_stored_results(
+        &self,
+        rewrite: impl Fn(&str) -> std::result::Result<String, String>,
+    ) -> Result<usize> {
+        let mut tx = self.begin_write().await?;
+        let rows: Vec<(String, String)> = sqlx::query_as("SELECT id, result FROM assessments WHERE result_form < $1")
+            .bind(RESULT_FORM)
+            .fetch_all(tx.conn())
+            .await?;
+        for (id, result) in &rows {
+            let text = rewrite(result).map_err(|why| super::StoreError::Corrupt(format!("assessment {id}: {why}")))?;
+            sqlx::query("UPDATE assessments SET result = $1, result_form = $2 WHERE id = $3")
+                .bind(text)
+                .bind(RESULT_FORM)
+                .bind(id)
+                .execute(tx.conn())
+                .await?;
+        }
+        tx.commit().await?;
+        Ok(rows.len())
+    }
+
     /// Stores an assessment and freezes the table versions it used, in one
     /// transaction. `Ok(None)` if a pinned version changed meanwhile.
     pub async fn assessment_insert(&self, a: NewAssessment<'_>) -> Result<Option<AssessmentRow>> {
@@ -72,8 +105,8 @@ impl Store {
             }
         }
         sqlx::query(
-            "INSERT INTO assessments (id, org_id, site_id, site_revision, request, result, worst_verdict, created_at) \
-             VALUES ($1, $2, $3, $4, $5, $6, $7, $8)",
+            "INSERT INTO assessments (id, org_id, site_id, site_revision, request, result, worst_verdict, created_at, \
+             result_form) VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9)",
         )
         .bind(&id)
         .bind(a.org_id)
@@ -83,6 +116,7 @@ impl Store {
         .bind(a.result)
         .bind(a.worst_verdict)
         .bind(at)
+        .bind(RESULT_FORM)
         .execute(tx.conn())
         .await?;
         tx.commit().await?;
@@ -131,4 +165,11 @@ impl Store {
             .map(assessment_row)
             .collect()
     }
+}
+
+/// A stored result read with the current type (fields added since it was
+/// written take their defaults) and written again in the current form.
+pub(crate) fn rewrite_result(text: &str) -> std::result::Result<String, String> {
+    let result: fluxbound_core::assess::Assessment = serde_json::from_str(text).map_err(|e| e.to_string())?;
+    serde_json::to_string(&result).map_err(|e| e.to_string())
 }

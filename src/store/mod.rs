@@ -16,7 +16,7 @@ mod sites;
 mod surveys;
 mod tables;
 
-pub use assessments::{AssessmentRow, NewAssessment, PinnedVersion};
+pub use assessments::{AssessmentRow, NewAssessment, PinnedVersion, RESULT_FORM};
 pub use migrate::{MIGRATIONS_POSTGRES, MIGRATIONS_SQLITE, migrator};
 pub use orgs::{KeyRow, OrgRow, Revoke};
 pub use sites::{RevisionRow, SiteRow, UpdateOutcome};
@@ -143,6 +143,10 @@ impl Store {
         let filled = store.backfill_name_folded().await?;
         if filled > 0 {
             tracing::info!(sites = filled, "search keys of site names filled in");
+        }
+        let rewritten = store.refresh_stored_results(assessments::rewrite_result).await?;
+        if rewritten > 0 {
+            tracing::info!(assessments = rewritten, "stored results rewritten in the current form");
         }
         Ok(store)
     }

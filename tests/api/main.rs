@@ -18,6 +18,7 @@ mod persistence;
 mod reports;
 mod search;
 mod sites;
+mod stored_results;
 mod strict;
 mod surveys;
 mod tables;

@@ -1,10 +1,10 @@
 //! Assessments of a site revision.
 
-use super::json_response;
+use super::json_text_response;
 use crate::http::AppState;
 use crate::http::extract::{ApiJson, Auth, PageQuery, parse_id};
 use crate::http::problem::ApiError;
-use crate::http::resources::{AssessmentPage, AssessmentResource};
+use crate::http::resources::{AssessmentPage, AssessmentResource, assessment_json, assessment_page_json};
 use crate::ids::{AssessmentId, SiteId};
 use crate::service::AssessmentRequest;
 use axum::extract::{Path, State};
@@ -32,7 +32,7 @@ pub async fn assessments_create(
     let site_id: SiteId = parse_id(&site_id, "site")?;
     let v = s.service.assessments_create(&caller, &site_id, req).await?;
     let location = format!("/v1/assessments/{}", v.row.id);
-    Ok(json_response(StatusCode::CREATED, &AssessmentResource::from(v), Some(location), None))
+    Ok(json_text_response(StatusCode::CREATED, assessment_json(&v), Some(location), None))
 }
 
 /// List a site's assessments, oldest first.
@@ -52,8 +52,7 @@ pub async fn assessments_list(
     let site_id: SiteId = parse_id(&site_id, "site")?;
     let q = PageQuery::from_uri(&uri)?;
     let (items, next) = s.service.assessments_list(&caller, &site_id, q.cursor()?, q.limit()?).await?;
-    let page = AssessmentPage { items: items.into_iter().map(AssessmentResource::from).collect(), next_cursor: next };
-    Ok(json_response(StatusCode::OK, &page, None, None))
+    Ok(json_text_response(StatusCode::OK, assessment_page_json(&items, next.as_deref()), None, None))
 }
 
 /// Read a stored assessment.
@@ -71,5 +70,5 @@ pub async fn assessments_show(
 ) -> Result<Response, ApiError> {
     let id: AssessmentId = parse_id(&id, "assessment")?;
     let v = s.service.assessments_show(&caller, &id).await?;
-    Ok(json_response(StatusCode::OK, &AssessmentResource::from(v), None, None))
+    Ok(json_text_response(StatusCode::OK, assessment_json(&v), None, None))
 }

@@ -20,7 +20,25 @@ pub(crate) fn json_response<T: Serialize>(
     location: Option<String>,
     etag: Option<String>,
 ) -> Response {
-    let mut res = (status, axum::Json(body)).into_response();
+    // Serialised straight into a buffer sized for a typical answer, so a
+    // large one grows a few times instead of from axum's 128 bytes.
+    let mut buf = Vec::with_capacity(16 * 1024);
+    match serde_json::to_writer(&mut buf, body) {
+        Ok(()) => json_text_response(status, buf, location, etag),
+        Err(e) => super::problem::ApiError::from(crate::service::ServiceError::Internal(e.to_string())).into_response(),
+    }
+}
+
+/// A response of JSON text already written (such as a result served as
+/// stored), with the same headers as [`json_response`].
+pub(crate) fn json_text_response(
+    status: StatusCode,
+    body: impl Into<axum::body::Body>,
+    location: Option<String>,
+    etag: Option<String>,
+) -> Response {
+    let mut res =
+        (status, [(header::CONTENT_TYPE, HeaderValue::from_static("application/json"))], body.into()).into_response();
     let h = res.headers_mut();
     if let Some(l) = location.and_then(|l| HeaderValue::from_str(&l).ok()) {
         h.insert(header::LOCATION, l);
