@@ -45,15 +45,24 @@ before="$(server_ticks)"
 BODY_FILE="$WORK/evaluate.json" run_wrk "POST /v1/evaluate (10 conductors x 10 segments x 100 points)" \
   "$WORK/evaluate.txt" -s bench/load/post.lua "$ADDR/v1/evaluate"
 after="$(server_ticks)"
+BODY_FILE="$WORK/evaluate-columns.json" run_wrk "POST /v1/evaluate, output.columns resultant_ut,maximum_ut" \
+  "$WORK/columns.txt" -s bench/load/post.lua "$ADDR/v1/evaluate"
+after_columns="$(server_ticks)"
 BODY_FILE="examples/site-switch-room.json" run_wrk "POST /v1/sites (examples/site-switch-room.json)" \
   "$WORK/sites.txt" -s bench/load/post.lua "$ADDR/v1/sites"
 
 echo "== summary (load average: $(cut -d' ' -f1-3 /proc/loadavg))"
-printf '%-16s %12s %10s\n' route "requests/s" p99
-for r in healthz evaluate sites; do
+printf "%-16s %12s %10s\n" route "requests/s" p99
+for r in healthz evaluate columns sites; do
   printf '%-16s %12s %10s\n' "$r" "$(rps "$WORK/$r.txt")" "$(p99 "$WORK/$r.txt")"
 done
 awk -v e="$(rps "$WORK/evaluate.txt")" -v h="$(rps "$WORK/healthz.txt")" \
   'BEGIN { printf "evaluate / healthz: %.1f %%\n", 100 * e / h }'
-awk -v t="$((after - before))" -v hz="$TICKS_PER_S" -v n="$(requests "$WORK/evaluate.txt")" \
-  'BEGIN { printf "server CPU per evaluate request: %.3f ms (%d requests, %.2f s CPU)\n", 1000 * t / hz / n, n, t / hz }'
+awk -v e="$(rps "$WORK/columns.txt")" -v h="$(rps "$WORK/healthz.txt")" \
+  'BEGIN { printf "evaluate (columns) / healthz: %.1f %%\n", 100 * e / h }'
+cpu_per_request() {
+  awk -v t="$2" -v hz="$TICKS_PER_S" -v n="$(requests "$WORK/$1.txt")" -v what="$1" \
+    'BEGIN { printf "server CPU per %s request: %.3f ms (%d requests, %.2f s CPU)\n", what, 1000 * t / hz / n, n, t / hz }'
+}
+cpu_per_request evaluate "$((after - before))"
+cpu_per_request columns "$((after_columns - after))"

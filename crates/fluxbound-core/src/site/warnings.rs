@@ -35,8 +35,9 @@
 //!   are counted, not listed.
 //!
 //! Cost: the pairwise checks use sort-and-sweep on axis-aligned boxes
-//! (sorted along the axis of widest spread), so a site of n segments costs
-//! O(n log n) plus the pairs whose boxes overlap, capped at
+//! (sorted along the axis where the boxes are thinnest against their
+//! spread, so the fewest pairs overlap on it), so a site of n segments
+//! costs O(n log n) plus the pairs whose boxes overlap on that axis, capped at
 //! [`MAX_CANDIDATE_PAIRS`].
 
 use super::model::{Conductor, Drive, Placement, Site};
@@ -449,16 +450,22 @@ fn boxes(conductors: &[Conductor], probes: &[Probe]) -> Vec<Boxed> {
     out
 }
 
-/// The axis along which the boxes' centres spread the most.
+/// The axis on which the sweep meets the fewest pairs: where the boxes'
+/// mean width is smallest against the spread of their centres (a sweep
+/// visits about n² · width / spread pairs). Parallel runs laid along one
+/// axis, the common case, are swept across it. Any axis gives the same
+/// contacts; only the work differs.
 fn sweep_axis(boxes: &[Boxed]) -> usize {
-    let spread = |d: usize| {
-        let (lo, hi) = boxes.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), b| {
+    let crowding = |d: usize| {
+        let (lo, hi, width) = boxes.iter().fold((f64::INFINITY, f64::NEG_INFINITY, 0.0), |(lo, hi, w), b| {
             let c = 0.5 * (b.lo[d] + b.hi[d]);
-            (lo.min(c), hi.max(c))
+            (lo.min(c), hi.max(c), w + (b.hi[d] - b.lo[d]))
         });
-        hi - lo
+        let spread = hi - lo;
+        // No spread: every box overlaps every other on this axis.
+        if spread > 0.0 { width / spread } else { f64::INFINITY }
     };
-    (0..3).max_by(|a, b| spread(*a).total_cmp(&spread(*b))).unwrap_or(0)
+    (0..3).min_by(|a, b| crowding(*a).total_cmp(&crowding(*b))).unwrap_or(0)
 }
 
 fn contacts(conductors: &[Conductor], probes: &[Probe]) -> Contacts {

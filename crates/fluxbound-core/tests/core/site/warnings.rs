@@ -368,3 +368,26 @@ fn the_text_report_has_no_warnings_block_for_a_clean_site() {
     assert!(a.warnings.is_empty());
     assert!(!fluxbound_core::report::text::assessment_text(&a).contains("WARNINGS"));
 }
+
+#[test]
+fn contacts_among_parallel_runs_are_found_when_the_sweep_goes_across_them() {
+    // Six runs laid along x, 0.15 m apart in y: the sweep goes along y
+    // (the boxes are thin there). A seventh conductor rises from the floor
+    // to meet run 2 mid-span, so its top end is met and its foot is open;
+    // every run has two open ends.
+    let runs: Vec<Value> = (0..6)
+        .map(|k| {
+            json!({ "id": format!("r{k}"), "path": [[0, 0.15 * k as f64, 2], [10, 0.15 * k as f64, 2]],
+                         "radius_m": 0.01, "current": { "rms_a": 10 } })
+        })
+        .chain([json!({ "id": "riser", "path": [[5, 0.3, 0], [5, 0.3, 2]], "radius_m": 0.01,
+                        "current": { "rms_a": 10 } })])
+        .collect();
+    let doc = json!({ "frequency_hz": 50, "conductors": runs });
+    let open: Vec<String> =
+        codes(&doc).into_iter().filter(|(c, _)| *c == WarningCode::OpenEnd).map(|(_, p)| p).collect();
+    let mut want: Vec<String> =
+        (0..6).flat_map(|k| [format!("/conductors/{k}/path/0"), format!("/conductors/{k}/path/1")]).collect();
+    want.push("/conductors/6/path/0".to_string());
+    assert_eq!(open, want);
+}
