@@ -109,6 +109,16 @@ fn one_segments_field_changes_no_faster_than_point_four_i_over_d_squared() {
     assert!(beyond_infinite_wire > 0, "no sample showed a finite segment passing the infinite-wire slope");
 }
 
+/// `n` segments from random starts within 3 m, 0.1–6 m long.
+fn random_segments(rng: &mut Rng, n: usize) -> Vec<(Point3<f64>, Point3<f64>)> {
+    (0..n)
+        .map(|_| {
+            let a = rng.point(3.0);
+            (a, a + rng.unit() * rng.range(0.1, 6.0))
+        })
+        .collect()
+}
+
 #[test]
 fn the_bound_over_a_ball_holds_at_every_point_sampled_inside_it() {
     // Three segments with complex currents at two spectral lines; balls of
@@ -117,12 +127,7 @@ fn the_bound_over_a_ball_holds_at_every_point_sampled_inside_it() {
     // centre (1e-12 relative: rounding only).
     let mut rng = Rng(0x5EED_0003);
     for _ in 0..300 {
-        let segs: Vec<(Point3<f64>, Point3<f64>)> = (0..3)
-            .map(|_| {
-                let a = rng.point(3.0);
-                (a, a + rng.unit() * rng.range(0.1, 6.0))
-            })
-            .collect();
+        let segs = random_segments(&mut rng, 3);
         let currents: Vec<[Complex64; 2]> = (0..3)
             .map(|_| {
                 [
@@ -182,12 +187,7 @@ fn the_sums_over_a_big_ball_are_at_least_those_of_every_ball_inside_it() {
     let mut rng = Rng(0x5EED_0004);
     let (mut compared, mut refused) = (0, 0);
     for _ in 0..300 {
-        let segs: Vec<(Point3<f64>, Point3<f64>)> = (0..3)
-            .map(|_| {
-                let a = rng.point(3.0);
-                (a, a + rng.unit() * rng.range(0.1, 6.0))
-            })
-            .collect();
+        let segs = random_segments(&mut rng, 3);
         let radius_m = rng.range(1e-3, 0.05);
         let filaments =
             Filaments::new(&segs.iter().map(|(a, b)| Filament { path: vec![*a, *b], radius_m }).collect::<Vec<_>>());
