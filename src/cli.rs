@@ -377,7 +377,7 @@ pub enum KeysAction {
         #[command(flatten)]
         storage: StorageArgs,
     },
-    /// Revoke a key by id.
+    /// Revoke a key by id (running servers refuse it within their --key-cache-s, 2 s by default).
     Revoke {
         #[arg(long)]
         org: String,
