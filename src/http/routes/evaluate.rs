@@ -1,6 +1,6 @@
 //! `POST /v1/evaluate`: the stateless document of `fluxbound evaluate`.
 
-use super::json_response;
+use super::json_response_sized;
 use crate::http::AppState;
 use crate::http::extract::{ApiJson, Auth};
 use crate::http::problem::ApiError;
@@ -26,6 +26,15 @@ pub async fn evaluate(
     Auth(caller): Auth,
     ApiJson(req): ApiJson<EvaluateRequest>,
 ) -> Result<Response, ApiError> {
+    // About 400 bytes per point in the per-point form (one frequency), 24
+    // per value in a column, plus the cautions and warnings: sized so that
+    // a usual answer is written without regrowing; never more than 8 MiB
+    // up front.
+    let per_point = match req.output.as_ref().and_then(|o| o.columns.as_ref()) {
+        Some(columns) => 24 * columns.len(),
+        None => 512,
+    };
+    let capacity = (16 * 1024 + per_point * req.points.len()).min(8 << 20);
     let out = s.service.evaluate(&caller, req).await?;
-    Ok(json_response(StatusCode::OK, &out, None, None))
+    Ok(json_response_sized(StatusCode::OK, &out, None, None, capacity))
 }

@@ -20,9 +20,19 @@ pub(crate) fn json_response<T: Serialize>(
     location: Option<String>,
     etag: Option<String>,
 ) -> Response {
-    // Serialised straight into a buffer sized for a typical answer, so a
-    // large one grows a few times instead of from axum's 128 bytes.
-    let mut buf = Vec::with_capacity(16 * 1024);
+    json_response_sized(status, body, location, etag, 16 * 1024)
+}
+
+/// [`json_response`] written into a buffer of `capacity` bytes to start
+/// with (a large answer that knows its size grows no more).
+pub(crate) fn json_response_sized<T: Serialize>(
+    status: StatusCode,
+    body: &T,
+    location: Option<String>,
+    etag: Option<String>,
+    capacity: usize,
+) -> Response {
+    let mut buf = Vec::with_capacity(capacity);
     match serde_json::to_writer(&mut buf, body) {
         Ok(()) => json_text_response(status, buf, location, etag),
         Err(e) => super::problem::ApiError::from(crate::service::ServiceError::Internal(e.to_string())).into_response(),
