@@ -248,7 +248,10 @@ impl<'de, T: DeserializeSeed<'de>> DeserializeSeed<'de> for KeySeed<'_, '_, T> {
     type Value = T::Value;
     /// A JSON key is always text: it is read as text, watched, and handed
     /// to the seed through a plain text deserializer (borrowed where the
-    /// JSON has no escapes, so a key costs no allocation).
+    /// JSON has no escapes, so a key costs no allocation). So every map of
+    /// a document type must be keyed by text (`BTreeMap<String, _>`): a key
+    /// type that serde_json would parse from the text, such as `u32`, would
+    /// be refused here.
     fn deserialize<D: Deserializer<'de>>(self, d: D) -> Result<T::Value, D::Error> {
         d.deserialize_str(self)
     }
