@@ -100,10 +100,8 @@ impl Service {
     /// the work ends. Waits at most `compute_queue_ms` for a slot, else
     /// [`ServiceError::Busy`].
     pub(super) async fn compute<T: Send + 'static>(&self, f: impl FnOnce(&Budget) -> T + Send + 'static) -> Result<T> {
-        let slot = self.slot().await?;
-        let budget = Budget { cancel: Cancel::new(), ..self.limits().budget() };
+        let (slot, budget, running) = self.begin_computation().await?;
         let _cancel_on_drop = CancelOnDrop(budget.cancel.clone());
-        let running = Running::start(&self.compute.counters);
         let work = move || {
             let _slot: OwnedSemaphorePermit = slot;
             let out = f(&budget);
@@ -130,10 +128,17 @@ impl Service {
         if pairs > INLINE_PAIRS {
             return self.compute(f).await;
         }
-        let _slot = self.slot().await?;
-        let budget = Budget { cancel: Cancel::new(), ..self.limits().budget() };
-        let _running = Running::start(&self.compute.counters);
+        let (_slot, budget, _running) = self.begin_computation().await?;
         Ok(f(&budget))
+    }
+
+    /// What every computation holds while it runs: a slot (waiting at most
+    /// the configured queue wait), the budget with a fresh flag, and its
+    /// place in the running count.
+    async fn begin_computation(&self) -> Result<(OwnedSemaphorePermit, Budget, Running)> {
+        let slot = self.slot().await?;
+        let budget = Budget { cancel: Cancel::new(), ..self.limits().budget() };
+        Ok((slot, budget, Running::start(&self.compute.counters)))
     }
 
     /// A computation slot, waiting at most the configured queue wait.
