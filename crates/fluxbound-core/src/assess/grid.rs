@@ -113,7 +113,7 @@ pub fn check_grid_budget(site: &Site, max_cells: u64) -> Problems {
 
 /// The nodes of `grid` inside `polygon` (`j · nx + i`, ascending): for
 /// each node, what [`contains`] says. Each row's crossings are computed
-/// once, with `contains`'s own expression, so the answers are the same
+/// once, by the same [`crossing_x`] as `contains`, so the answers are the same
 /// node by node; a node is inside when an odd number of crossings lies to
 /// its right (`x < crossing`, as `contains` counts them).
 pub(crate) fn nodes_inside(polygon: &[Point2<f64>], grid: &GridSpec) -> Vec<usize> {
@@ -125,13 +125,9 @@ pub(crate) fn nodes_inside(polygon: &[Point2<f64>], grid: &GridSpec) -> Vec<usiz
         crossings.clear();
         let mut j = n.wrapping_sub(1);
         for i in 0..n {
-            let (a, b) = (polygon[i], polygon[j]);
-            if (a.y > y) != (b.y > y) {
-                let x = (b.x - a.x) * (y - a.y) / (b.y - a.y) + a.x;
-                // A NaN crossing never toggles `contains`.
-                if !x.is_nan() {
-                    crossings.push(x);
-                }
+            // A NaN crossing never toggles `contains`.
+            if let Some(x) = crossing_x(polygon[i], polygon[j], y).filter(|x| !x.is_nan()) {
+                crossings.push(x);
             }
             j = i;
         }
@@ -151,14 +147,19 @@ pub(crate) fn nodes_inside(polygon: &[Point2<f64>], grid: &GridSpec) -> Vec<usiz
     out
 }
 
+/// Where the edge from `a` to `b` crosses the line at height `y`, if it
+/// straddles it (one end above `y`, the other at or below).
+fn crossing_x(a: Point2<f64>, b: Point2<f64>, y: f64) -> Option<f64> {
+    ((a.y > y) != (b.y > y)).then(|| (b.x - a.x) * (y - a.y) / (b.y - a.y) + a.x)
+}
+
 /// Even–odd point-in-polygon test.
 pub fn contains(polygon: &[Point2<f64>], p: Point2<f64>) -> bool {
     let n = polygon.len();
     let mut inside = false;
     let mut j = n.wrapping_sub(1);
     for i in 0..n {
-        let (a, b) = (polygon[i], polygon[j]);
-        if (a.y > p.y) != (b.y > p.y) && p.x < (b.x - a.x) * (p.y - a.y) / (b.y - a.y) + a.x {
+        if crossing_x(polygon[i], polygon[j], p.y).is_some_and(|x| p.x < x) {
             inside = !inside;
         }
         j = i;

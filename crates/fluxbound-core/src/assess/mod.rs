@@ -834,8 +834,7 @@ fn area_peak(
     measures: &[peak::Measure],
     budget_pairs: u64,
 ) -> Result<peak::AreaPeak, peak::Unfinished> {
-    let shape = peak::AreaShape { polygon: &a.polygon, height_m: a.height_m, spacing_m: a.spacing_m };
-    peak::area_peak(engine, &shape, measures, cells, budget_pairs)
+    peak::area_peak(engine, &peak::AreaShape::of(a), measures, cells, budget_pairs)
 }
 
 /// An area's refined maximum as [`area_maxima_with_and_without_pruning`]
@@ -872,7 +871,7 @@ pub fn area_maxima_with_and_without_pruning(
         tables.iter().filter(|t| applies(t, BodyRegion::WholeBody, Group::General)).collect();
     let measures = AreaMeasures::of(&area_tables, &line_hz);
     let refined = |a: &crate::site::Area, cells: &cells::AreaCells, blocks| {
-        let shape = peak::AreaShape { polygon: &a.polygon, height_m: a.height_m, spacing_m: a.spacing_m };
+        let shape = peak::AreaShape::of(a);
         let p = uncancelled_peak(peak::area_peak_with(&engine, &shape, &measures.list, cells, u64::MAX, blocks));
         RefinedMaximum {
             max: p.max.iter().map(|m| m.value).collect(),

@@ -157,6 +157,12 @@ pub struct AreaShape<'a> {
     pub spacing_m: f64,
 }
 
+impl<'a> AreaShape<'a> {
+    pub fn of(a: &'a crate::site::Area) -> Self {
+        AreaShape { polygon: &a.polygon, height_m: a.height_m, spacing_m: a.spacing_m }
+    }
+}
+
 /// Samples the boundary and refines. `cells` are the grid's cell centres
 /// inside the polygon with their line resultants (`None` inside a
 /// conductor); `budget_pairs` the pairs this area may still spend. The
@@ -466,10 +472,7 @@ fn edge_cells(area: &AreaShape<'_>, cells: &AreaCells) -> Vec<Region> {
     let h = area.spacing_m / 2.0;
     let mut inside = cells.nodes().iter().copied().peekable();
     (0..g.len())
-        .filter(|n| {
-            let is_cell = inside.next_if_eq(n).is_some();
-            !is_cell
-        })
+        .filter(|n| inside.next_if_eq(n).is_none())
         .map(|n| g.node(n % g.nx, n / g.nx))
         .map(|(x, y)| Point2::new(x, y))
         .filter(|c| square_meets_polygon(*c, h, area.polygon))
