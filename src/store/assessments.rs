@@ -60,20 +60,18 @@ const COLUMNS: &str = "id, site_id, site_revision, request, result, worst_verdic
 
 impl Store {
     /// Rewrites every stored result of an older form in the current one
-    /// (`rewrite` parses a stored text and writes it again), in one write
-    /// transaction; idempotent, so replicas starting together may both run
-    /// it. Returns how many rows it rewrote.
-    pub(crate) async fn refresh_stored_results(
-        &self,
-        rewrite: impl Fn(&str) -> std::result::Result<String, String>,
-    ) -> Result<usize> {
+    /// ([`rewrite_result`]), in one write transaction; idempotent, so
+    /// replicas starting together may both run it. Returns how many rows it
+    /// rewrote.
+    pub(crate) async fn refresh_stored_results(&self) -> Result<usize> {
         let mut tx = self.begin_write().await?;
         let rows: Vec<(String, String)> = sqlx::query_as("SELECT id, result FROM assessments WHERE result_form < $1")
             .bind(RESULT_FORM)
             .fetch_all(tx.conn())
             .await?;
         for (id, result) in &rows {
-            let text = rewrite(result).map_err(|why| super::StoreError::Corrupt(format!("assessment {id}: {why}")))?;
+            let text =
+                rewrite_result(result).map_err(|why| super::StoreError::Corrupt(format!("assessment {id}: {why}")))?;
             sqlx::query("UPDATE assessments SET result = $1, result_form = $2 WHERE id = $3")
                 .bind(text)
                 .bind(RESULT_FORM)
@@ -169,7 +167,7 @@ impl Store {
 
 /// A stored result read with the current type (fields added since it was
 /// written take their defaults) and written again in the current form.
-pub(crate) fn rewrite_result(text: &str) -> std::result::Result<String, String> {
+fn rewrite_result(text: &str) -> std::result::Result<String, String> {
     let result: fluxbound_core::assess::Assessment = serde_json::from_str(text).map_err(|e| e.to_string())?;
     serde_json::to_string(&result).map_err(|e| e.to_string())
 }

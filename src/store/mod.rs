@@ -144,7 +144,7 @@ impl Store {
         if filled > 0 {
             tracing::info!(sites = filled, "search keys of site names filled in");
         }
-        let rewritten = store.refresh_stored_results(assessments::rewrite_result).await?;
+        let rewritten = store.refresh_stored_results().await?;
         if rewritten > 0 {
             tracing::info!(assessments = rewritten, "stored results rewritten in the current form");
         }
