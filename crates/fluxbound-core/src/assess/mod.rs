@@ -126,6 +126,13 @@ pub struct TableRef {
     pub source: String,
 }
 
+impl TableRef {
+    /// How `t` is cited in a result.
+    pub fn of(t: &ReferenceTable) -> TableRef {
+        table_ref(t)
+    }
+}
+
 /// Verdict of one point against one table.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]

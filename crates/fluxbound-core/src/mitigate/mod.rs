@@ -1,7 +1,9 @@
 //! What-if answers: how far away the field falls below a level or a
-//! table's exposure ratio below 1, proven by bounds.
+//! table's exposure ratio below 1, proven by bounds; which phase
+//! arrangement of chosen circuits gives the lowest exposure.
 
 mod distance;
+pub mod phases;
 mod ray;
 mod text;
 

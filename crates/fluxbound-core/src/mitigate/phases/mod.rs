@@ -1,0 +1,748 @@
+//! Phase arrangements: which assignment of the phases to each chosen
+//! circuit's conductor positions brings the exposure down most.
+//!
+//! The influence matrix of every conductor at the targets' points is
+//! computed once ([`crate::field::try_influence_matrix`]); each
+//! arrangement is then a sum of per-circuit blocks ([`search`]). Only
+//! arrangements with distinct RMS fields are searched ([`symmetry`]: 6^(N−1)
+//! for N circuits of one source, 2·6^(N−1) with angle offsets, 6^N
+//! unbalanced). Up to [`EXHAUSTIVE_LIMIT`] arrangements every one is
+//! evaluated; beyond, an exact branch and bound keeps the `top` best, with
+//! the optimality gap reported if the work budget stops it.
+//!
+//! Targets are positions (every height; a position counts with its worst
+//! height, as in an assessment) and areas sampled at the nodes of their
+//! grid (`spacing_m`). Between nodes an area's field can be higher: the
+//! ranking is a screening that an assessment of the chosen revision must
+//! confirm (the assessment bounds the area maximum); the result says so.
+
+mod search;
+mod symmetry;
+
+pub use symmetry::PERMUTATIONS;
+
+use crate::assess::{LoadCase, TableRef, line_levels};
+use crate::cancel::Cancel;
+use crate::field::{InfluenceMatrix, try_influence_matrix};
+use crate::limits::ReferenceTable;
+use crate::site::wire::{CircuitKind, Phase, SiteDoc};
+use crate::site::{CircuitLoad, Drive, Placement, Pointer, Problems, Site};
+use num_complex::Complex64;
+use search::{Blocks, Found, Leaf};
+use serde::{Deserialize, Serialize};
+use std::collections::BTreeMap;
+use symmetry::LineCurrents;
+
+/// Most distinct arrangements evaluated one by one (7 circuits of one
+/// source); beyond, branch and bound.
+pub const EXHAUSTIVE_LIMIT: u64 = 46_656;
+
+/// Most circuits in one search.
+pub const MAX_CIRCUITS: usize = 12;
+
+/// Most ranked arrangements returned.
+pub const MAX_TOP: usize = 100;
+
+/// Most `arrangements × targets` kept in memory by the exhaustive mode.
+const EXHAUSTIVE_CELLS: u64 = 20_000_000;
+
+/// What is minimised.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
+#[serde(rename_all = "snake_case")]
+pub enum Measure {
+    /// Exposure ratio `Σ_f B_f / B_RL(f)` against one table.
+    #[default]
+    Ratio,
+    /// Resultant RMS flux density over all frequencies, µT.
+    BUt,
+}
+
+/// How the targets' values combine into one objective.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
+#[serde(rename_all = "snake_case")]
+pub enum Over {
+    /// The highest value over all targets (the worst-off person).
+    #[default]
+    Max,
+    /// The mean over targets of each target's highest value.
+    Mean,
+}
+
+fn default_top() -> usize {
+    10
+}
+
+/// A phase-arrangement search request.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
+#[serde(deny_unknown_fields)]
+pub struct PhaseSearchDoc {
+    /// Ids of the three-phase circuits whose phase order may change (1–12).
+    #[cfg_attr(feature = "schema", schema(min_items = 1, max_items = 12))]
+    pub circuits: Vec<String>,
+    /// The load the arrangements are compared at (default present).
+    #[serde(default)]
+    pub load: LoadCase,
+    /// What is minimised (default `ratio`).
+    #[serde(default)]
+    pub measure: Measure,
+    /// How targets combine (default `max`).
+    #[serde(default)]
+    pub over: Over,
+    /// Table of the ratio (default: the site's first table).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub table: Option<String>,
+    /// Position ids judged (default: all; `[]` for none).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub positions: Option<Vec<String>>,
+    /// Area ids judged on their grid nodes (default: all; `[]` for none).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub areas: Option<Vec<String>>,
+    /// How many of the best arrangements to list (1–100, default 10).
+    #[serde(default = "default_top")]
+    #[cfg_attr(feature = "schema", schema(minimum = 1, maximum = 100))]
+    pub top: usize,
+}
+
+impl PhaseSearchDoc {
+    /// A request for `circuits` with every default.
+    pub fn for_circuits(circuits: Vec<String>) -> PhaseSearchDoc {
+        PhaseSearchDoc {
+            circuits,
+            load: LoadCase::Present,
+            measure: Measure::Ratio,
+            over: Over::Max,
+            table: None,
+            positions: None,
+            areas: None,
+            top: default_top(),
+        }
+    }
+}
+
+/// How the arrangements were counted.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
+pub struct Counting {
+    /// 6^N: every assignment of phases to every chosen circuit.
+    pub all: u64,
+    /// Relabellings of all phases at once that leave every RMS field
+    /// unchanged (1, 2, 3 or 6).
+    pub invariant_relabellings: u32,
+    /// Arrangements with distinct fields: `all / invariant_relabellings`.
+    pub distinct: u64,
+    /// Why, in words.
+    pub reason: String,
+}
+
+/// How the search ended.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
+#[serde(rename_all = "snake_case")]
+pub enum Method {
+    /// Every distinct arrangement evaluated.
+    Exhaustive,
+    /// Branch and bound: subtrees that cannot enter the ranking skipped.
+    BranchAndBound,
+}
+
+/// One conductor whose phase changes.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
+pub struct PhaseChange {
+    pub conductor: String,
+    pub from: Phase,
+    pub to: Phase,
+}
+
+/// Where an arrangement's objective is worst.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
+pub struct Worst {
+    /// `position` or `area`.
+    pub kind: String,
+    pub id: String,
+    /// Its value (ratio, or µT for `b_ut`).
+    pub value: f64,
+}
+
+/// One arrangement.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
+pub struct Arrangement {
+    /// 1 = best; the as-built one has its own rank among all.
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub rank: Option<u64>,
+    /// Per circuit id: the phases fed to the conductors drawn as A, B and
+    /// C (`["A","B","C"]` is as built). Of the arrangements with the same
+    /// field, the one changing fewest conductors.
+    pub phases: BTreeMap<String, [Phase; 3]>,
+    /// Conductors whose phase changes against the as-built site.
+    pub changes: Vec<PhaseChange>,
+    /// The objective (ratio, or µT for `b_ut`).
+    pub objective: f64,
+    /// How much lower than as built, percent (negative: higher).
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub improvement_percent: Option<f64>,
+    pub worst: Worst,
+}
+
+/// A target left out of the search, and why.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
+pub struct LeftOut {
+    pub kind: String,
+    pub id: String,
+    pub reason: String,
+}
+
+/// The answer of a phase-arrangement search.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
+pub struct PhaseSearch {
+    pub circuits: Vec<String>,
+    pub load: LoadCase,
+    pub measure: Measure,
+    pub over: Over,
+    /// The table of the ratio (`null` for `b_ut`).
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub table: Option<TableRef>,
+    pub counting: Counting,
+    pub method: Method,
+    /// Arrangements evaluated to the end.
+    pub evaluated: u64,
+    /// Whether the ranking is proven (false: the work budget stopped it).
+    pub complete: bool,
+    /// When not complete: how much lower than the best listed an
+    /// unexplored arrangement could still be (`null` when complete).
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub optimality_gap: Option<f64>,
+    /// Points (position heights and area nodes) the objective covers.
+    pub points: u64,
+    pub as_built: Arrangement,
+    /// Best first.
+    pub ranked: Vec<Arrangement>,
+    /// The site document with the best arrangement applied: a draft
+    /// revision to review, then save and assess.
+    pub revision: SiteDoc,
+    pub left_out: Vec<LeftOut>,
+    /// What the numbers mean and what to do next.
+    pub notes: Vec<String>,
+    pub cautions: Vec<String>,
+}
+
+/// Why a search could not run: problems with pointers into the request
+/// (`/circuits/1`, `/table`) or the site, and work over the budget.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct SearchError {
+    pub in_request: Problems,
+    pub over_budget: Problems,
+}
+
+/// Work limits of one search.
+#[derive(Debug, Clone)]
+pub struct SearchBudget {
+    /// Segment–point pairs of the influence matrix.
+    pub max_pairs: u64,
+    /// Grid cells over the chosen areas.
+    pub max_grid_cells: u64,
+    /// Arrangement × point evaluations of the search.
+    pub max_work: u64,
+    pub cancel: Cancel,
+}
+
+/// A target: its kind, id and points.
+struct TargetPoints {
+    kind: &'static str,
+    id: String,
+    points: Vec<nalgebra::Point3<f64>>,
+}
+
+/// Checks the request against the site: the chosen circuits (indices into
+/// the site's circuits, in request order) and the targets.
+fn check_request(site: &Site, req: &PhaseSearchDoc) -> Result<Vec<usize>, Problems> {
+    let mut p = Problems::default();
+    let at = Pointer::root().key("circuits");
+    if req.circuits.is_empty() || req.circuits.len() > MAX_CIRCUITS {
+        p.push(&at, format!("name between 1 and {MAX_CIRCUITS} three-phase circuits whose phase order may change"));
+    }
+    let mut chosen = Vec::new();
+    for (i, id) in req.circuits.iter().enumerate() {
+        let here = at.index(i);
+        match site.circuits().iter().position(|c| &c.id == id) {
+            None => p.push(&here, format!("the site has no circuit '{id}'")),
+            Some(_) if req.circuits[..i].contains(id) => p.push(&here, format!("circuit '{id}' is named twice")),
+            Some(c) if site.circuits()[c].kind != CircuitKind::ThreePhase => {
+                p.push(&here, format!("circuit '{id}' is single-phase: only three-phase circuits have a phase order to change"))
+            }
+            Some(c) if !site.conductors().iter().any(|k| line_slot(&k.drive, c).is_some()) => {
+                p.push(&here, format!("no conductor carries a line phase of circuit '{id}'"))
+            }
+            Some(c) => chosen.push(c),
+        }
+    }
+    if !(1..=MAX_TOP).contains(&req.top) {
+        p.push(&Pointer::root().key("top"), format!("top must be between 1 and {MAX_TOP}"));
+    }
+    for (key, ids, known) in [
+        ("positions", &req.positions, site.positions().iter().map(|q| q.id.as_str()).collect::<Vec<_>>()),
+        ("areas", &req.areas, site.areas().iter().map(|a| a.id.as_str()).collect::<Vec<_>>()),
+    ] {
+        for (i, id) in ids.iter().flatten().enumerate() {
+            if !known.contains(&id.as_str()) {
+                p.push(&Pointer::root().key(key).index(i), format!("the site has no {} '{id}'", &key[..key.len() - 1]));
+            }
+        }
+    }
+    p.into_result(chosen)
+}
+
+/// The line phase (0, 1, 2) a conductor carries of circuit `c`, if any.
+fn line_slot(drive: &Drive, c: usize) -> Option<usize> {
+    match *drive {
+        Drive::Phase { circuit, phase, .. } if circuit == c => match phase {
+            Phase::A => Some(0),
+            Phase::B => Some(1),
+            Phase::C => Some(2),
+            Phase::N => None,
+        },
+        _ => None,
+    }
+}
+
+fn targets(site: &Site, req: &PhaseSearchDoc) -> Vec<TargetPoints> {
+    let wanted = |ids: &Option<Vec<String>>, id: &str| ids.as_ref().is_none_or(|l| l.iter().any(|x| x == id));
+    let positions = site.positions().iter().filter(|q| wanted(&req.positions, &q.id)).map(|q| TargetPoints {
+        kind: "position",
+        id: q.id.clone(),
+        points: match &q.placement {
+            Placement::Standing { x_m, y_m, heights_m } => {
+                heights_m.iter().map(|h| nalgebra::Point3::new(*x_m, *y_m, *h)).collect()
+            }
+            Placement::Point(p) => vec![*p],
+        },
+    });
+    let areas = site.areas().iter().filter(|a| wanted(&req.areas, &a.id)).map(|a| TargetPoints {
+        kind: "area",
+        id: a.id.clone(),
+        points: crate::assess::area_grid(&a.polygon, a.height_m, a.spacing_m),
+    });
+    positions.chain(areas).collect()
+}
+
+/// The table of the ratio, its levels at the site's lines, or the problem.
+fn ratio_weights(
+    req: &PhaseSearchDoc,
+    table: Option<&ReferenceTable>,
+    line_hz: &[f64],
+    present: &[bool],
+) -> Result<Vec<f64>, Problems> {
+    let at = Pointer::root().key("table");
+    match (req.measure, table) {
+        (Measure::BUt, _) => Ok(vec![1.0; line_hz.len()]),
+        (Measure::Ratio, None) => Err(Problems::one(
+            at.to_string(),
+            "name a reference-level table for the ratio (the site names none), or set measure to b_ut",
+        )),
+        (Measure::Ratio, Some(t)) => {
+            let levels = line_levels(t, line_hz);
+            let mut p = Problems::default();
+            for ((f, level), here) in line_hz.iter().zip(&levels).zip(present) {
+                if level.is_none() && *here {
+                    p.push(&at, format!("table '{}' gives no level at {f} Hz, which the site's currents contain: the ratio cannot be judged; choose a table that covers it or set measure to b_ut", t.id()));
+                }
+            }
+            p.into_result(levels.iter().map(|l| l.map_or(0.0, |l| 1.0 / l)).collect())
+        }
+    }
+}
+
+/// Searches the phase arrangements of `req.circuits` in `site` (checked
+/// from `doc`), with the ratio against `table` (resolved by the caller).
+pub fn search_phases(
+    site: &Site,
+    doc: &SiteDoc,
+    req: &PhaseSearchDoc,
+    table: Option<&ReferenceTable>,
+    budget: &SearchBudget,
+) -> Result<PhaseSearch, SearchErrorOr> {
+    let chosen = check_request(site, req).map_err(SearchErrorOr::request)?;
+    let loads = req.load.resolve(site).map_err(SearchErrorOr::Load)?;
+    let mut all_targets = targets(site, req);
+    if all_targets.is_empty() {
+        return Err(SearchErrorOr::request(Problems::one(
+            "/positions",
+            "nothing to judge the arrangements by: the site (or the request) has no positions or areas",
+        )));
+    }
+    let points_total: u64 = all_targets.iter().map(|t| t.points.len() as u64).sum();
+    let cells: u64 = site
+        .areas()
+        .iter()
+        .filter(|a| all_targets.iter().any(|t| t.kind == "area" && t.id == a.id))
+        .map(|a| crate::assess::bounding_cells(&a.polygon, a.spacing_m))
+        .sum();
+    if cells > budget.max_grid_cells {
+        return Err(SearchErrorOr::budget(
+            "/areas",
+            format!("the chosen areas need {cells} grid cells, over the budget of {}: choose fewer areas or coarsen their spacing_m", budget.max_grid_cells),
+        ));
+    }
+    let segments = crate::usecase::segment_count(site.conductors());
+    let pairs = points_total.saturating_mul(segments);
+    if pairs > budget.max_pairs {
+        return Err(SearchErrorOr::budget(
+            "/areas",
+            format!("the search needs {pairs} segment-point pairs for its influence matrix, over the budget of {}: choose fewer areas or coarsen their spacing_m", budget.max_pairs),
+        ));
+    }
+    let excitation = site.excitation_at(&loads);
+    let line_hz: Vec<f64> = excitation.lines.iter().map(|l| l.frequency_hz).collect();
+    let present: Vec<bool> = excitation.lines.iter().map(|l| l.currents_a.iter().any(|c| c.norm() > 0.0)).collect();
+    let weights = ratio_weights(req, table, &line_hz, &present).map_err(SearchErrorOr::request)?;
+
+    // Influence matrix at every target point, once.
+    let flat: Vec<nalgebra::Point3<f64>> = all_targets.iter().flat_map(|t| t.points.iter().copied()).collect();
+    let g = try_influence_matrix(&crate::site::filaments(site.conductors()), &flat, &budget.cancel)
+        .map_err(|_| SearchErrorOr::Cancelled)?;
+    let left_out = drop_inside(&mut all_targets, &g, site);
+    if all_targets.is_empty() {
+        return Err(SearchErrorOr::request(Problems::one(
+            "/positions",
+            "every chosen position and area node lies inside a conductor: nothing to judge the arrangements by",
+        )));
+    }
+    let kept: Vec<usize> = kept_points(&g, flat.len());
+    let lines = line_currents(site, &chosen, &loads, &excitation);
+    let group = symmetry::invariant_relabellings(&lines);
+    let first = symmetry::first_circuit_choices(&group);
+    let n = chosen.len();
+    let all = 6u64.saturating_pow(n as u32);
+    let counting = Counting {
+        all,
+        invariant_relabellings: group.len() as u32,
+        distinct: search::leaf_count(first.len(), n),
+        reason: symmetry::symmetry_words(group.len(), n),
+    };
+    let blocks = build_blocks(site, &chosen, &excitation, &lines, &g, &kept, &all_targets, weights, req);
+    let work = counting.distinct.saturating_mul(blocks.points as u64);
+    let exhaustive = counting.distinct <= EXHAUSTIVE_LIMIT
+        && work <= budget.max_work
+        && counting.distinct.saturating_mul(blocks.targets as u64) <= EXHAUSTIVE_CELLS;
+    let found = if exhaustive {
+        search::exhaustive(&blocks, &first, &budget.cancel)
+    } else {
+        search::branch_and_bound(&blocks, &first, req.top, budget.max_work, &budget.cancel)
+    }
+    .map_err(|_| SearchErrorOr::Cancelled)?;
+    let as_built_leaf = blocks.evaluate(&vec![0; n]);
+    let shape = Shape { site, chosen: &chosen, group: &group, targets: &all_targets };
+    let as_built = shape.arrangement(&as_built_leaf, &[0; MAX_CIRCUITS][..n], None, as_built_leaf.objective);
+    let as_built_rank = found
+        .complete
+        .then(|| found.ranked.iter().filter(|l| l.objective < as_built_leaf.objective).count() as u64 + 1);
+    let as_built = Arrangement { rank: as_built_rank, ..as_built };
+    let ranked: Vec<Arrangement> = found
+        .ranked
+        .iter()
+        .take(req.top)
+        .enumerate()
+        .map(|(r, leaf)| {
+            let perms = search::decode(leaf.index, &first, n);
+            shape.arrangement(leaf, &perms, Some(r as u64 + 1), as_built_leaf.objective)
+        })
+        .collect();
+    let best = found.ranked.first().map(|l| search::decode(l.index, &first, n)).unwrap_or_else(|| vec![0; n]);
+    let revision = apply(doc, site, &chosen, &shape.fewest_changes(&best));
+    let method = if exhaustive { Method::Exhaustive } else { Method::BranchAndBound };
+    let optimality_gap = found.open_bound.map(|lb| (found.ranked.first().map_or(lb, |l| l.objective) - lb).max(0.0));
+    Ok(PhaseSearch {
+        circuits: req.circuits.clone(),
+        load: req.load.clone(),
+        measure: req.measure,
+        over: req.over,
+        table: match req.measure {
+            Measure::Ratio => table.map(TableRef::of),
+            Measure::BUt => None,
+        },
+        counting,
+        method,
+        evaluated: found.evaluated,
+        complete: found.complete,
+        optimality_gap,
+        points: blocks.points as u64,
+        as_built,
+        ranked,
+        revision,
+        left_out,
+        notes: notes(&found, req, method),
+        cautions: crate::cautions::cautions(),
+    })
+}
+
+/// A search error, or one of the load case's, or cancellation.
+#[derive(Debug, Clone, PartialEq)]
+pub enum SearchErrorOr {
+    Search(SearchError),
+    Load(crate::assess::LoadError),
+    Cancelled,
+}
+
+impl SearchErrorOr {
+    fn request(p: Problems) -> Self {
+        SearchErrorOr::Search(SearchError { in_request: p, ..Default::default() })
+    }
+    fn budget(pointer: &str, detail: String) -> Self {
+        SearchErrorOr::Search(SearchError { over_budget: Problems::one(pointer, detail), ..Default::default() })
+    }
+}
+
+fn notes(found: &Found, req: &PhaseSearchDoc, method: Method) -> Vec<String> {
+    let mut n = vec![
+        "Areas are judged at the nodes of their grid; between nodes the field can be higher. Save the revision and \
+         assess it: the assessment bounds each area's maximum and gives the verdicts."
+            .to_string(),
+        "Re-phasing changes which phase each conductor carries, not the currents: check it with the circuits' \
+         protection, metering and the connected equipment's phase rotation before work is planned."
+            .to_string(),
+    ];
+    if req.over == Over::Mean {
+        n.push("The objective is the mean over targets: a listed arrangement can raise one target while lowering the mean; see each arrangement's worst target.".to_string());
+    }
+    if method == Method::BranchAndBound && found.complete {
+        n.push("Branch and bound: arrangements that provably could not enter the ranking were skipped; the ranking is exact.".to_string());
+    }
+    if !found.complete {
+        n.push("The work budget stopped the search before it was proven: an unexplored arrangement could be better by up to the optimality gap.".to_string());
+    }
+    n
+}
+
+/// Per spectral line: the chosen circuits' phase phasors and every other
+/// conductor current (which no arrangement changes).
+fn line_currents(
+    site: &Site,
+    chosen: &[usize],
+    loads: &[CircuitLoad],
+    excitation: &crate::field::Excitation,
+) -> Vec<LineCurrents> {
+    excitation
+        .lines
+        .iter()
+        .map(|line| LineCurrents {
+            circuits: chosen
+                .iter()
+                .map(|&c| {
+                    let load = loads.get(c).copied().unwrap_or(CircuitLoad::PRESENT);
+                    let circuit = &site.circuits()[c];
+                    [Phase::A, Phase::B, Phase::C].map(|p| circuit.phase_current_at(p, line.order, load))
+                })
+                .collect(),
+            fixed: site
+                .conductors()
+                .iter()
+                .zip(&line.currents_a)
+                .filter(|(k, _)| !chosen.iter().any(|&c| line_slot(&k.drive, c).is_some()))
+                .map(|(_, i)| *i)
+                .collect(),
+        })
+        .collect()
+}
+
+/// Points inside a conductor: removed from their target; a target with
+/// no point left is left out.
+fn drop_inside(targets: &mut Vec<TargetPoints>, g: &InfluenceMatrix, site: &Site) -> Vec<LeftOut> {
+    let mut left = Vec::new();
+    let mut next = 0;
+    for t in targets.iter_mut() {
+        let start = next;
+        next += t.points.len();
+        let inside: Vec<usize> = (start..next).filter(|&i| g.is_inside(i)).collect();
+        if inside.is_empty() {
+            continue;
+        }
+        let conductor = g
+            .inside
+            .iter()
+            .find(|h| h.point == inside[0])
+            .map_or(String::new(), |h| site.conductors()[h.conductor].id.clone());
+        let reason = if inside.len() == t.points.len() {
+            format!("every point lies inside conductor '{conductor}': the field there is not computed")
+        } else {
+            format!(
+                "{} of its {} points lie inside conductor '{conductor}' (or another): those are not judged",
+                inside.len(),
+                t.points.len()
+            )
+        };
+        left.push(LeftOut { kind: t.kind.to_string(), id: t.id.clone(), reason });
+        let mut k = start;
+        t.points.retain(|_| {
+            let keep = !inside.contains(&k);
+            k += 1;
+            keep
+        });
+    }
+    targets.retain(|t| !t.points.is_empty());
+    left
+}
+
+fn kept_points(g: &InfluenceMatrix, count: usize) -> Vec<usize> {
+    (0..count).filter(|&i| !g.is_inside(i)).collect()
+}
+
+#[allow(clippy::too_many_arguments)]
+fn build_blocks(
+    site: &Site,
+    chosen: &[usize],
+    excitation: &crate::field::Excitation,
+    lines: &[LineCurrents],
+    g: &InfluenceMatrix,
+    kept: &[usize],
+    targets: &[TargetPoints],
+    weights: Vec<f64>,
+    req: &PhaseSearchDoc,
+) -> Blocks {
+    let np = kept.len();
+    let nl = excitation.lines.len();
+    let stride = nl * 6 * np;
+    let mut fixed = vec![0.0; stride];
+    // F[i][s]: influence of circuit i's conductors drawn as phase s, times share.
+    let mut f = vec![[vec![[0.0f64; 3]; np], vec![[0.0f64; 3]; np], vec![[0.0f64; 3]; np]]; chosen.len()];
+    for (k, conductor) in site.conductors().iter().enumerate() {
+        let slot = chosen.iter().enumerate().find_map(|(i, &c)| line_slot(&conductor.drive, c).map(|s| (i, s)));
+        match slot {
+            Some((i, s)) => {
+                let share = match conductor.drive {
+                    Drive::Phase { share, .. } => share,
+                    Drive::Explicit { .. } => 1.0,
+                };
+                for (q, &pt) in kept.iter().enumerate() {
+                    let c = g.coefficient(pt, k);
+                    for d in 0..3 {
+                        f[i][s][q][d] += share * c[d];
+                    }
+                }
+            }
+            None => {
+                for (h, line) in excitation.lines.iter().enumerate() {
+                    let cur = line.currents_a[k];
+                    if cur.norm() == 0.0 {
+                        continue;
+                    }
+                    for (q, &pt) in kept.iter().enumerate() {
+                        let c = g.coefficient(pt, k);
+                        for d in 0..3 {
+                            fixed[(h * 6 + d) * np + q] += c[d] * cur.re;
+                            fixed[(h * 6 + 3 + d) * np + q] += c[d] * cur.im;
+                        }
+                    }
+                }
+            }
+        }
+    }
+    let circuit = (0..chosen.len())
+        .map(|i| {
+            std::array::from_fn(|perm| {
+                let sigma = PERMUTATIONS[perm];
+                let mut b = vec![0.0; stride];
+                for (h, line) in lines.iter().enumerate() {
+                    for s in 0..3 {
+                        let cur: Complex64 = line.circuits[i][sigma[s] as usize];
+                        for q in 0..np {
+                            for d in 0..3 {
+                                b[(h * 6 + d) * np + q] += f[i][s][q][d] * cur.re;
+                                b[(h * 6 + 3 + d) * np + q] += f[i][s][q][d] * cur.im;
+                            }
+                        }
+                    }
+                }
+                b
+            })
+        })
+        .collect();
+    let target_of = targets.iter().enumerate().flat_map(|(t, tp)| std::iter::repeat_n(t as u32, tp.points.len())).collect();
+    Blocks {
+        points: np,
+        lines: nl,
+        fixed,
+        circuit,
+        weights,
+        measure: req.measure,
+        over: req.over,
+        target_of,
+        targets: targets.len(),
+    }
+}
+
+/// What turns leaves into arrangements.
+struct Shape<'a> {
+    site: &'a Site,
+    chosen: &'a [usize],
+    group: &'a [usize],
+    targets: &'a [TargetPoints],
+}
+
+impl Shape<'_> {
+    /// Changes of the arrangement `perms` against the as-built site.
+    fn changes(&self, perms: &[usize]) -> Vec<PhaseChange> {
+        let phase = [Phase::A, Phase::B, Phase::C];
+        self.site
+            .conductors()
+            .iter()
+            .filter_map(|k| {
+                self.chosen.iter().zip(perms).find_map(|(&c, &p)| {
+                    line_slot(&k.drive, c).and_then(|s| {
+                        let to = PERMUTATIONS[p][s] as usize;
+                        (to != s).then(|| PhaseChange { conductor: k.id.clone(), from: phase[s], to: phase[to] })
+                    })
+                })
+            })
+            .collect()
+    }
+
+    /// Of the arrangements with the same field as `perms`, the one that
+    /// changes fewest conductors (ties: the first relabelling).
+    fn fewest_changes(&self, perms: &[usize]) -> Vec<usize> {
+        self.group
+            .iter()
+            .map(|&tau| perms.iter().map(|&s| symmetry::compose(tau, s)).collect::<Vec<usize>>())
+            .min_by_key(|p| self.changes(p).len())
+            .unwrap_or_else(|| perms.to_vec())
+    }
+
+    fn arrangement(&self, leaf: &Leaf, perms: &[usize], rank: Option<u64>, as_built: f64) -> Arrangement {
+        let perms = self.fewest_changes(perms);
+        let phase = [Phase::A, Phase::B, Phase::C];
+        let phases = self
+            .chosen
+            .iter()
+            .zip(&perms)
+            .map(|(&c, &p)| (self.site.circuits()[c].id.clone(), PERMUTATIONS[p].map(|x| phase[x as usize])))
+            .collect();
+        let target = &self.targets[leaf.worst_target as usize];
+        Arrangement {
+            rank,
+            phases,
+            changes: self.changes(&perms),
+            objective: leaf.objective,
+            improvement_percent: (as_built > 0.0).then(|| (as_built - leaf.objective) / as_built * 100.0),
+            worst: Worst { kind: target.kind.to_string(), id: target.id.clone(), value: leaf.worst_value },
+        }
+    }
+}
+
+/// `doc` with the chosen circuits' conductors re-phased as `perms`.
+fn apply(doc: &SiteDoc, site: &Site, chosen: &[usize], perms: &[usize]) -> SiteDoc {
+    let mut out = doc.clone();
+    for (k, conductor) in site.conductors().iter().enumerate() {
+        for (&c, &p) in chosen.iter().zip(perms) {
+            if let Some(s) = line_slot(&conductor.drive, c) {
+                out.conductors[k].phase = Some([Phase::A, Phase::B, Phase::C][PERMUTATIONS[p][s] as usize]);
+            }
+        }
+    }
+    out
+}
