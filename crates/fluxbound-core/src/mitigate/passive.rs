@@ -102,6 +102,8 @@ pub enum PassiveLoopError {
     TooClose { conductor: usize, distance_m: f64 },
     #[error("spectral line {line} has {found} currents for {expected} conductors")]
     CurrentCount { line: usize, expected: usize, found: usize },
+    #[error("spectral line {line} has a negative or non-finite frequency")]
+    Frequency { line: usize },
 }
 
 /// How the loop's resistance is given.
@@ -319,8 +321,11 @@ fn check_excitation(conductors: usize, excitation: &Excitation) -> Result<(), Pa
         if l.currents_a.len() != conductors {
             return Err(PassiveLoopError::CurrentCount { line: n, expected: conductors, found: l.currents_a.len() });
         }
-        if !l.frequency_hz.is_finite() || l.currents_a.iter().any(|i| !i.re.is_finite() || !i.im.is_finite()) {
-            return Err(PassiveLoopError::NotFinite { what: "a spectral line" });
+        if !(l.frequency_hz.is_finite() && l.frequency_hz >= 0.0) {
+            return Err(PassiveLoopError::Frequency { line: n });
+        }
+        if l.currents_a.iter().any(|i| !i.re.is_finite() || !i.im.is_finite()) {
+            return Err(PassiveLoopError::NotFinite { what: "a source current" });
         }
     }
     Ok(())

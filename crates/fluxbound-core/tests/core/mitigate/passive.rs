@@ -375,6 +375,12 @@ fn bad_loops_are_named_not_computed() {
         loop_currents(&ok, &sources, &short).unwrap_err(),
         PassiveLoopError::CurrentCount { line: 0, expected: 2, found: 1 }
     );
+    let mut negative = excitation.clone();
+    negative.lines[0].frequency_hz = -50.0;
+    assert_eq!(loop_currents(&ok, &sources, &negative).unwrap_err(), PassiveLoopError::Frequency { line: 0 });
+    let mut nan = excitation.clone();
+    nan.lines[0].currents_a[1].im = f64::NAN;
+    assert!(matches!(loop_currents(&ok, &sources, &nan).unwrap_err(), PassiveLoopError::NotFinite { .. }));
     // The wire resistance: 6 m of 95 mm² copper, R = l/(σA) (DC).
     let copper =
         PassiveLoop { resistance: LoopResistance::Wire { cross_section_mm2: 95.0, conductivity_s_per_m: 5.8e7 }, ..ok };
