@@ -6,6 +6,8 @@
 //! and the long straight wire (OpenStax University Physics Vol. 2 §12.2,
 //! B = 0.2·I/r µT).
 
+mod passive;
+
 use fluxbound_core::assess::LoadCase;
 use fluxbound_core::limits::parse_table;
 use fluxbound_core::mitigate::{Direction, DistanceResult, MAX_RANGE_M, Target, distance};
