@@ -250,7 +250,27 @@ pub struct SearchBudget {
     pub max_grid_cells: u64,
     /// Arrangement × point evaluations of the search.
     pub max_work: u64,
+    /// Most distinct arrangements evaluated one by one
+    /// ([`EXHAUSTIVE_LIMIT`]; lower it to force branch and bound).
+    pub exhaustive_limit: u64,
     pub cancel: Cancel,
+}
+
+/// Arrangement × point evaluations one search may spend by default
+/// (a few seconds on two cores).
+pub const DEFAULT_MAX_WORK: u64 = 4_000_000_000;
+
+impl SearchBudget {
+    /// No cap on pairs or cells, the default work and exhaustive limit.
+    pub fn unlimited() -> SearchBudget {
+        SearchBudget {
+            max_pairs: u64::MAX,
+            max_grid_cells: u64::MAX,
+            max_work: DEFAULT_MAX_WORK,
+            exhaustive_limit: EXHAUSTIVE_LIMIT,
+            cancel: Cancel::never(),
+        }
+    }
 }
 
 /// A target: its kind, id and points.
@@ -274,9 +294,10 @@ fn check_request(site: &Site, req: &PhaseSearchDoc) -> Result<Vec<usize>, Proble
         match site.circuits().iter().position(|c| &c.id == id) {
             None => p.push(&here, format!("the site has no circuit '{id}'")),
             Some(_) if req.circuits[..i].contains(id) => p.push(&here, format!("circuit '{id}' is named twice")),
-            Some(c) if site.circuits()[c].kind != CircuitKind::ThreePhase => {
-                p.push(&here, format!("circuit '{id}' is single-phase: only three-phase circuits have a phase order to change"))
-            }
+            Some(c) if site.circuits()[c].kind != CircuitKind::ThreePhase => p.push(
+                &here,
+                format!("circuit '{id}' is single-phase: only three-phase circuits have a phase order to change"),
+            ),
             Some(c) if !site.conductors().iter().any(|k| line_slot(&k.drive, c).is_some()) => {
                 p.push(&here, format!("no conductor carries a line phase of circuit '{id}'"))
             }
@@ -387,7 +408,10 @@ pub fn search_phases(
     if cells > budget.max_grid_cells {
         return Err(SearchErrorOr::budget(
             "/areas",
-            format!("the chosen areas need {cells} grid cells, over the budget of {}: choose fewer areas or coarsen their spacing_m", budget.max_grid_cells),
+            format!(
+                "the chosen areas need {cells} grid cells, over the budget of {}: choose fewer areas or coarsen their spacing_m",
+                budget.max_grid_cells
+            ),
         ));
     }
     let segments = crate::usecase::segment_count(site.conductors());
@@ -395,7 +419,10 @@ pub fn search_phases(
     if pairs > budget.max_pairs {
         return Err(SearchErrorOr::budget(
             "/areas",
-            format!("the search needs {pairs} segment-point pairs for its influence matrix, over the budget of {}: choose fewer areas or coarsen their spacing_m", budget.max_pairs),
+            format!(
+                "the search needs {pairs} segment-point pairs for its influence matrix, over the budget of {}: choose fewer areas or coarsen their spacing_m",
+                budget.max_pairs
+            ),
         ));
     }
     let excitation = site.excitation_at(&loads);
@@ -428,7 +455,7 @@ pub fn search_phases(
     };
     let blocks = build_blocks(site, &chosen, &excitation, &lines, &g, &kept, &all_targets, weights, req);
     let work = counting.distinct.saturating_mul(blocks.points as u64);
-    let exhaustive = counting.distinct <= EXHAUSTIVE_LIMIT
+    let exhaustive = counting.distinct <= budget.exhaustive_limit
         && work <= budget.max_work
         && counting.distinct.saturating_mul(blocks.targets as u64) <= EXHAUSTIVE_CELLS;
     let found = if exhaustive {
@@ -663,7 +690,8 @@ fn build_blocks(
             })
         })
         .collect();
-    let target_of = targets.iter().enumerate().flat_map(|(t, tp)| std::iter::repeat_n(t as u32, tp.points.len())).collect();
+    let target_of =
+        targets.iter().enumerate().flat_map(|(t, tp)| std::iter::repeat_n(t as u32, tp.points.len())).collect();
     Blocks {
         points: np,
         lines: nl,

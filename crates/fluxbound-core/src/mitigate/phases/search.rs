@@ -315,9 +315,7 @@ pub(crate) fn branch_and_bound(
         for h in 0..b.lines {
             for q in 0..p {
                 let best = (0..6)
-                    .map(|s| {
-                        (0..6).map(|c| b.circuit[j][s][(h * 6 + c) * p + q].powi(2)).sum::<f64>().sqrt()
-                    })
+                    .map(|s| (0..6).map(|c| b.circuit[j][s][(h * 6 + c) * p + q].powi(2)).sum::<f64>().sqrt())
                     .fold(0.0, f64::max);
                 here[h * p + q] += best;
             }

@@ -123,6 +123,8 @@ pub(crate) fn symmetry_words(group_size: usize, circuits: usize) -> String {
         1 => "no relabelling of all phases at once leaves the fields unchanged (unbalanced or overridden phases, \
               or other currents that fix the phase reference): every arrangement is distinct"
             .to_string(),
-        n => format!("{n} relabellings of all phases at once leave every RMS field unchanged, so one arrangement in {n} is distinct"),
+        n => format!(
+            "{n} relabellings of all phases at once leave every RMS field unchanged, so one arrangement in {n} is distinct"
+        ),
     }
 }

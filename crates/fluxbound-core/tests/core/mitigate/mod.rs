@@ -7,6 +7,7 @@
 //! B = 0.2·I/r µT).
 
 mod passive;
+mod phases;
 
 use fluxbound_core::assess::LoadCase;
 use fluxbound_core::limits::parse_table;
