@@ -68,6 +68,11 @@ pub enum Command {
     },
     /// First crossing and clearance from a position, conductor or point to a µT level or a table's ratio 1.
     Distance(DistanceArgs),
+    /// What to change: rank the phase arrangements of chosen circuits by the exposure they give.
+    Whatif {
+        #[command(subcommand)]
+        action: WhatifAction,
+    },
     /// Spot-measurement surveys.
     Survey {
         #[command(subcommand)]
@@ -332,6 +337,68 @@ impl ClientArgs {
 }
 
 #[derive(Debug, Subcommand)]
+pub enum WhatifAction {
+    /// Rank the phase arrangements of chosen three-phase circuits; write the best as a draft site.
+    Phases(PhasesArgs),
+}
+
+#[derive(Debug, clap::Args)]
+pub struct PhasesArgs {
+    /// Site model (JSON), or `-` for standard input.
+    #[arg(value_name = "SITE")]
+    pub site: PathBuf,
+    /// Ids of the three-phase circuits whose phase order may change, comma-separated.
+    #[arg(long, value_delimiter = ',', value_name = "ID,ID", required = true)]
+    pub circuits: Vec<String>,
+    /// What to minimise: the exposure ratio against a table, or the resultant in µT.
+    #[arg(long, value_enum, default_value_t = MeasureArg::Ratio)]
+    pub measure: MeasureArg,
+    /// How the targets combine: the highest value, or the mean of each target's highest.
+    #[arg(long, value_enum, default_value_t = OverArg::Max)]
+    pub over: OverArg,
+    /// Table of the ratio (default: the site's first table).
+    #[arg(long, value_name = "ID")]
+    pub table: Option<String>,
+    /// A custom table (JSON) that --table may name; may be repeated.
+    #[arg(long = "table-file", value_name = "FILE")]
+    pub table_files: Vec<PathBuf>,
+    /// Position ids to judge by, comma-separated (default: all).
+    #[arg(long, value_delimiter = ',', value_name = "ID,ID")]
+    pub positions: Option<Vec<String>>,
+    /// Area ids to judge by on their grid nodes, comma-separated (default: all).
+    #[arg(long, value_delimiter = ',', value_name = "ID,ID")]
+    pub areas: Option<Vec<String>>,
+    /// Currents to compare at.
+    #[arg(long, value_enum, default_value_t = LoadArg::Present)]
+    pub load: LoadArg,
+    /// How many of the best arrangements to list (1–100).
+    #[arg(long, default_value_t = 10)]
+    pub top: usize,
+    /// Write the site with the best arrangement applied to this file (a draft to review, save and assess).
+    #[arg(long = "revision-out", value_name = "FILE")]
+    pub revision_out: Option<PathBuf>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Table)]
+    pub format: Format,
+}
+
+#[derive(Debug, Clone, Copy, ValueEnum)]
+pub enum MeasureArg {
+    /// Exposure ratio Σ B_f / B_RL(f) against one table.
+    Ratio,
+    /// Resultant RMS flux density, µT.
+    BUt,
+}
+
+#[derive(Debug, Clone, Copy, ValueEnum)]
+pub enum OverArg {
+    /// The highest value over all targets.
+    Max,
+    /// The mean over targets of each target's highest value.
+    Mean,
+}
+
+#[derive(Debug, Subcommand)]
 pub enum SurveyAction {
     /// Compare measurements with the model, fit the circuit loads, and extrapolate to rated load.
     Reconcile {
@@ -481,6 +548,7 @@ fn problem_lines(e: UseCaseError) -> Vec<String> {
         UseCaseError::Assess(a) => assess_lines(a),
         UseCaseError::Load(l) => load_lines(l),
         UseCaseError::Survey(p) | UseCaseError::Evaluate(p) | UseCaseError::OverBudget(p) => in_file(p),
+        UseCaseError::WhatIf(p) => p.iter().map(whatif_line).collect(),
         UseCaseError::UnknownArea(id) => vec![format!("--map: the site has no area '{id}'")],
         UseCaseError::Distance { arg, detail } | UseCaseError::DistanceOverBudget { arg, detail } => {
             vec![format!("--{}: {detail}", arg.name().replace('_', "-"))]
@@ -554,6 +622,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<ExitCode, CliError> {
         Command::Assess(args) => assess_command(&args, out),
         Command::Tables { action } => tables_command(action, out),
         Command::Distance(args) => distance_command(&args, out),
+        Command::Whatif { action: WhatifAction::Phases(args) } => phases_command(&args, out),
         Command::Survey { action: SurveyAction::Reconcile { site, survey, tables, review_fraction, format } } => {
             survey_command(&SurveyInputs { site, survey, tables, review_fraction }, format, out)
         }
@@ -763,6 +832,47 @@ fn distance_command(args: &DistanceArgs, out: &mut dyn Write) -> Result<ExitCode
         Format::Table => write!(out, "{}", mitigate::distance_text(&result)).map_err(CliError::Write)?,
     }
     Ok(ExitCode::SUCCESS)
+}
+
+fn phases_command(args: &PhasesArgs, out: &mut dyn Write) -> Result<ExitCode, CliError> {
+    use fluxbound_core::mitigate::phases::{Measure, Over, PhaseSearchDoc, phases_text};
+    let (doc, site) = read_site_doc(&args.site)?;
+    let req = PhaseSearchDoc {
+        circuits: args.circuits.clone(),
+        load: LoadCase::from(args.load),
+        measure: match args.measure {
+            MeasureArg::Ratio => Measure::Ratio,
+            MeasureArg::BUt => Measure::BUt,
+        },
+        over: match args.over {
+            OverArg::Max => Over::Max,
+            OverArg::Mean => Over::Mean,
+        },
+        table: args.table.clone(),
+        positions: args.positions.clone(),
+        areas: args.areas.clone(),
+        top: args.top,
+    };
+    let custom = read_table_files(&args.table_files)?;
+    let result = usecase::search_phases(&site, &doc, &req, &custom, &Budget::offline())?;
+    if let Some(path) = &args.revision_out {
+        write_file(path, &serde_json::to_string_pretty(&result.revision).expect("plain data"))?;
+    }
+    match args.format {
+        Format::Json => write_json(out, &result)?,
+        Format::Table => write!(out, "{}", phases_text(&result)).map_err(CliError::Write)?,
+    }
+    Ok(ExitCode::SUCCESS)
+}
+
+/// A what-if request's problem, addressed by the flag that set the value
+/// its pointer names.
+fn whatif_line(p: &fluxbound_core::site::Problem) -> String {
+    let key = p.pointer.trim_start_matches('/').split('/').next().unwrap_or("");
+    match key {
+        "circuits" | "table" | "positions" | "areas" | "top" | "load" => format!("--{key}: {}", p.detail),
+        _ => p.to_string(),
+    }
 }
 
 /// What `survey reconcile` reads.

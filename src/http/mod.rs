@@ -24,7 +24,7 @@ use axum::middleware::{self, Next};
 use axum::response::{IntoResponse, Response};
 use axum::routing::{get, post};
 use problem::ApiError;
-use routes::{assessments, evaluate, keys, ops, reports, sites, surveys, tables};
+use routes::{assessments, evaluate, keys, ops, reports, sites, surveys, tables, whatif};
 use std::sync::Arc;
 use std::time::Duration;
 use tower_http::catch_panic::CatchPanicLayer;
@@ -87,6 +87,7 @@ pub fn router(state: AppState) -> Router {
             "/v1/sites/{site_id}/assessments",
             post(assessments::assessments_create).get(assessments::assessments_list),
         )
+        .route("/v1/sites/{site_id}/whatif/phases", post(whatif::whatif_phases))
         .route("/v1/sites/{site_id}/surveys", post(surveys::surveys_create).get(surveys::surveys_list))
         .route("/v1/surveys/{survey_id}", get(surveys::surveys_show))
         .route("/v1/surveys/{survey_id}/reconciliation", get(surveys::surveys_reconciliation))

@@ -233,6 +233,7 @@ impl Modify for PathIds {
         routes::surveys::surveys_create, routes::surveys::surveys_list, routes::surveys::surveys_show,
         routes::surveys::surveys_reconciliation, routes::surveys::surveys_extrapolation,
         routes::evaluate::evaluate,
+        routes::whatif::whatif_phases,
         routes::keys::keys_list, routes::keys::keys_create, routes::keys::keys_revoke,
         routes::ops::healthz, routes::ops::readyz, routes::ops::metrics,
     ),
@@ -245,6 +246,7 @@ impl Modify for PathIds {
         (name = "reports", description = "Field maps (SVG), CSV and GeoJSON exports, distance to a level"),
         (name = "surveys", description = "Spot measurements: reconciliation, load fit, extrapolation to rated load"),
         (name = "evaluate", description = "Stateless field computation"),
+        (name = "what-if", description = "What to change: phase arrangements ranked by exposure"),
         (name = "keys", description = "API keys (admin)"),
         (name = "operations", description = "Health, readiness, metrics"),
     )

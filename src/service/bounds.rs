@@ -109,6 +109,7 @@ impl Limits {
             max_grid_cells: self.max_grid_cells,
             map_max_cells: MAP_MAX_CELLS,
             max_distance_pairs: self.max_distance_pairs,
+            max_search_work: fluxbound_core::mitigate::phases::DEFAULT_MAX_WORK,
             cancel: Cancel::never(),
         }
     }

@@ -15,6 +15,7 @@ mod reports;
 mod sites;
 mod surveys;
 mod tables;
+mod whatif;
 
 pub use assessments::{AssessmentRequest, AssessmentView};
 pub use auth::{Caller, Role, hash_secret};
@@ -145,7 +146,7 @@ impl From<UseCaseError> for ServiceError {
             U::UnknownTables(unknown) => ServiceError::Validation(unknown_table_problems(&unknown)),
             U::Assess(a) => ServiceError::Validation(a.into_problems("/tables", "/load")),
             U::Load(l) => ServiceError::Validation(l.into_problems("/load")),
-            U::Survey(p) | U::Evaluate(p) => ServiceError::Validation(p),
+            U::Survey(p) | U::Evaluate(p) | U::WhatIf(p) => ServiceError::Validation(p),
             U::UnknownArea(_) => ServiceError::NotFound("area"),
             U::Distance { arg, detail } => ServiceError::Validation(one_problem(format!("/{}", arg.name()), detail)),
             U::OverBudget(p) => ServiceError::TooBig(p),

@@ -24,3 +24,4 @@ mod surveys;
 mod tables;
 mod tls;
 mod warnings;
+mod whatif;

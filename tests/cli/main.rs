@@ -10,6 +10,7 @@ use std::process::{Command, Output, Stdio};
 use std::sync::atomic::{AtomicUsize, Ordering};
 
 mod health;
+mod whatif;
 
 const EXAMPLE: &str = "examples/evaluate-busbar-walkway.json";
 

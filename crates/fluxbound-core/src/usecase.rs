@@ -37,6 +37,9 @@ pub struct Budget {
     /// and of the bounds each count every segment once), within
     /// `max_pairs` as well.
     pub max_distance_pairs: u64,
+    /// Arrangement × point evaluations of one phase-arrangement search;
+    /// a branch and bound stopped by it reports its optimality gap.
+    pub max_search_work: u64,
     /// Set when the answer is no longer wanted: every use case looks at it
     /// between chunks of work and stops with [`UseCaseError::Cancelled`].
     pub cancel: Cancel,
@@ -62,6 +65,7 @@ impl Default for Budget {
             max_grid_cells: DEFAULT_MAX_GRID_CELLS,
             map_max_cells: MAP_MAX_CELLS,
             max_distance_pairs: DEFAULT_MAX_DISTANCE_PAIRS,
+            max_search_work: mitigate::phases::DEFAULT_MAX_WORK,
             cancel: Cancel::never(),
         }
     }
@@ -77,6 +81,7 @@ impl Budget {
         Budget {
             max_pairs: u64::MAX,
             max_distance_pairs: DEFAULT_MAX_DISTANCE_PAIRS * OFFLINE_DISTANCE_FACTOR,
+            max_search_work: mitigate::phases::DEFAULT_MAX_WORK * OFFLINE_DISTANCE_FACTOR,
             ..Budget::default()
         }
     }
@@ -136,6 +141,9 @@ pub enum UseCaseError {
     /// size is to blame.
     #[error("the request exceeds a compute budget")]
     OverBudget(Problems),
+    /// A what-if request's problems, pointers into it (`/circuits/1`).
+    #[error("the what-if request has problems")]
+    WhatIf(Problems),
     /// The budget's `cancel` flag was set before the work ended: there is
     /// no result, not even a partial one.
     #[error("the computation was cancelled")]
@@ -524,4 +532,56 @@ pub fn evaluate_checked(ev: evaluate::Evaluation, budget: &Budget) -> Result<eva
         ));
     }
     Ok(evaluate::try_compute(ev, &budget.cancel)?)
+}
+
+/// The table a phase search's ratio is judged by: the request's, else the
+/// site's first; looked up in `tables`, then among the built-in ones.
+fn phase_search_table(
+    site: &Site,
+    req: &mitigate::phases::PhaseSearchDoc,
+    tables: &[ReferenceTable],
+) -> Result<Option<ReferenceTable>, UseCaseError> {
+    if req.measure != mitigate::phases::Measure::Ratio {
+        return Ok(None);
+    }
+    let Some(id) = req.table.as_deref().or(site.tables().first().map(String::as_str)) else {
+        return Ok(None);
+    };
+    let found = tables.iter().find(|t| t.id() == id).or_else(|| crate::limits::builtin_table(id)).cloned();
+    match found {
+        Some(t) => Ok(Some(t)),
+        None if req.table.is_some() => {
+            Err(UseCaseError::WhatIf(Problems::one("/table", format!("unknown table '{id}' (see the tables list)"))))
+        }
+        None => Err(UseCaseError::WhatIf(Problems::one(
+            "/table",
+            format!("the site's first table '{id}' is unknown; name a table for the ratio"),
+        ))),
+    }
+}
+
+/// Searches the phase arrangements of the request's circuits in `site`
+/// (checked from `doc`), within `budget` ([`mitigate::phases`]).
+pub fn search_phases(
+    site: &Site,
+    doc: &crate::site::wire::SiteDoc,
+    req: &mitigate::phases::PhaseSearchDoc,
+    tables: &[ReferenceTable],
+    budget: &Budget,
+) -> Result<mitigate::phases::PhaseSearch, UseCaseError> {
+    use mitigate::phases::{SearchBudget, SearchErrorOr};
+    let table = phase_search_table(site, req, tables)?;
+    let search_budget = SearchBudget {
+        max_pairs: budget.max_pairs,
+        max_grid_cells: budget.max_grid_cells,
+        max_work: budget.max_search_work,
+        exhaustive_limit: mitigate::phases::EXHAUSTIVE_LIMIT,
+        cancel: budget.cancel.clone(),
+    };
+    mitigate::phases::search_phases(site, doc, req, table.as_ref(), &search_budget).map_err(|e| match e {
+        SearchErrorOr::Search(s) if !s.over_budget.is_empty() => UseCaseError::OverBudget(s.over_budget),
+        SearchErrorOr::Search(s) => UseCaseError::WhatIf(s.in_request),
+        SearchErrorOr::Load(l) => UseCaseError::Load(l),
+        SearchErrorOr::Cancelled => UseCaseError::Cancelled,
+    })
 }

@@ -8,6 +8,7 @@ pub mod reports;
 pub mod sites;
 pub mod surveys;
 pub mod tables;
+pub mod whatif;
 
 use axum::http::{HeaderValue, StatusCode, header};
 use axum::response::{IntoResponse, Response};

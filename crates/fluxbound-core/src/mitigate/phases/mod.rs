@@ -18,8 +18,10 @@
 
 mod search;
 mod symmetry;
+mod text;
 
 pub use symmetry::PERMUTATIONS;
+pub use text::phases_text;
 
 use crate::assess::{LoadCase, TableRef, line_levels};
 use crate::cancel::Cancel;
