@@ -335,8 +335,12 @@ fn line_slot(drive: &Drive, c: usize) -> Option<usize> {
     }
 }
 
+/// Whether `id` is among the chosen `ids` (absent: all are).
+fn wanted(ids: &Option<Vec<String>>, id: &str) -> bool {
+    ids.as_ref().is_none_or(|l| l.iter().any(|x| x == id))
+}
+
 fn targets(site: &Site, req: &PhaseSearchDoc) -> Vec<TargetPoints> {
-    let wanted = |ids: &Option<Vec<String>>, id: &str| ids.as_ref().is_none_or(|l| l.iter().any(|x| x == id));
     let positions = site.positions().iter().filter(|q| wanted(&req.positions, &q.id)).map(|q| TargetPoints {
         kind: "position",
         id: q.id.clone(),
@@ -393,39 +397,40 @@ pub fn search_phases(
 ) -> Result<PhaseSearch, SearchErrorOr> {
     let chosen = check_request(site, req).map_err(SearchErrorOr::request)?;
     let loads = req.load.resolve(site).map_err(SearchErrorOr::Load)?;
+    // Bounds first, from counts alone: nothing is sampled before they pass.
+    let chosen_areas = site.areas().iter().filter(|a| wanted(&req.areas, &a.id));
+    let cells: u64 = chosen_areas.map(|a| crate::assess::bounding_cells(&a.polygon, a.spacing_m)).sum();
+    let over = |what: String, limit: u64| {
+        SearchErrorOr::budget(
+            "/areas",
+            format!("{what}, over the budget of {limit}: choose fewer areas or coarsen their spacing_m"),
+        )
+    };
+    if cells > budget.max_grid_cells {
+        return Err(over(format!("the chosen areas need {cells} grid cells"), budget.max_grid_cells));
+    }
+    let position_points: u64 = site
+        .positions()
+        .iter()
+        .filter(|q| wanted(&req.positions, &q.id))
+        .map(|q| match &q.placement {
+            Placement::Standing { heights_m, .. } => heights_m.len() as u64,
+            Placement::Point(_) => 1,
+        })
+        .sum();
+    let pairs = (position_points + cells).saturating_mul(crate::usecase::segment_count(site.conductors()));
+    if pairs > budget.max_pairs {
+        return Err(over(
+            format!("the search needs {pairs} segment-point pairs for its influence matrix"),
+            budget.max_pairs,
+        ));
+    }
     let mut all_targets = targets(site, req);
-    if all_targets.is_empty() {
+    if all_targets.iter().all(|t| t.points.is_empty()) {
         return Err(SearchErrorOr::request(Problems::one(
             "/positions",
-            "nothing to judge the arrangements by: the site (or the request) has no positions or areas",
+            "nothing to judge the arrangements by: the site (or the request) has no positions or area grid nodes",
         )));
-    }
-    let points_total: u64 = all_targets.iter().map(|t| t.points.len() as u64).sum();
-    let cells: u64 = site
-        .areas()
-        .iter()
-        .filter(|a| all_targets.iter().any(|t| t.kind == "area" && t.id == a.id))
-        .map(|a| crate::assess::bounding_cells(&a.polygon, a.spacing_m))
-        .sum();
-    if cells > budget.max_grid_cells {
-        return Err(SearchErrorOr::budget(
-            "/areas",
-            format!(
-                "the chosen areas need {cells} grid cells, over the budget of {}: choose fewer areas or coarsen their spacing_m",
-                budget.max_grid_cells
-            ),
-        ));
-    }
-    let segments = crate::usecase::segment_count(site.conductors());
-    let pairs = points_total.saturating_mul(segments);
-    if pairs > budget.max_pairs {
-        return Err(SearchErrorOr::budget(
-            "/areas",
-            format!(
-                "the search needs {pairs} segment-point pairs for its influence matrix, over the budget of {}: choose fewer areas or coarsen their spacing_m",
-                budget.max_pairs
-            ),
-        ));
     }
     let excitation = site.excitation_at(&loads);
     let line_hz: Vec<f64> = excitation.lines.iter().map(|l| l.frequency_hz).collect();
@@ -588,6 +593,11 @@ fn drop_inside(targets: &mut Vec<TargetPoints>, g: &InfluenceMatrix, site: &Site
     for t in targets.iter_mut() {
         let start = next;
         next += t.points.len();
+        if t.points.is_empty() {
+            let reason = "no grid node falls inside the area at its spacing_m: make the spacing finer".to_string();
+            left.push(LeftOut { kind: t.kind.to_string(), id: t.id.clone(), reason });
+            continue;
+        }
         let inside: Vec<usize> = (start..next).filter(|&i| g.is_inside(i)).collect();
         if inside.is_empty() {
             continue;

@@ -69,6 +69,16 @@ pub(crate) struct Found {
 }
 
 impl Blocks {
+    /// The highest value of each target among values at every point.
+    fn target_maxima(&self, vals: &[f64]) -> Vec<f64> {
+        let mut maxima = vec![f64::NEG_INFINITY; self.targets];
+        for (p, v) in vals.iter().enumerate() {
+            let t = self.target_of[p] as usize;
+            maxima[t] = maxima[t].max(*v);
+        }
+        maxima
+    }
+
     /// Objective and worst target from per-target maxima.
     fn objective(&self, maxima: &[f64]) -> (f64, u32, f64) {
         let (mut worst, mut worst_value) = (0u32, f64::NEG_INFINITY);
@@ -96,12 +106,7 @@ impl Blocks {
         }
         let mut vals = vec![0.0; n];
         point_values(self, &acc, n, &mut vals, None);
-        let mut maxima = vec![f64::NEG_INFINITY; self.targets];
-        for (p, v) in vals.iter().enumerate() {
-            let t = self.target_of[p] as usize;
-            maxima[t] = maxima[t].max(*v);
-        }
-        let (objective, worst_target, worst_value) = self.objective(&maxima);
+        let (objective, worst_target, worst_value) = self.objective(&self.target_maxima(&vals));
         Leaf { index: 0, objective, worst_target, worst_value }
     }
 }
@@ -381,12 +386,7 @@ impl Bb<'_> {
     fn lower_bound(&mut self, level: usize) -> f64 {
         let p = self.b.points;
         point_values(self.b, &self.acc[level], p, &mut self.vals, Some(&self.bound[level]));
-        let mut maxima = vec![f64::NEG_INFINITY; self.b.targets];
-        for (q, v) in self.vals.iter().enumerate() {
-            let t = self.b.target_of[q] as usize;
-            maxima[t] = maxima[t].max(*v);
-        }
-        self.b.objective(&maxima).0
+        self.b.objective(&self.b.target_maxima(&self.vals)).0
     }
 
     fn keep(&mut self, leaf: Leaf) {
@@ -419,12 +419,7 @@ impl Bb<'_> {
                     *d = a + c;
                 }
                 point_values(self.b, &self.scratch, p, &mut self.vals, None);
-                let mut maxima = vec![f64::NEG_INFINITY; self.b.targets];
-                for (q, v) in self.vals.iter().enumerate() {
-                    let t = self.b.target_of[q] as usize;
-                    maxima[t] = maxima[t].max(*v);
-                }
-                let (objective, worst_target, worst_value) = self.b.objective(&maxima);
+                let (objective, worst_target, worst_value) = self.b.objective(&self.b.target_maxima(&self.vals));
                 self.evaluated += 1;
                 self.keep(Leaf { index: child, objective, worst_target, worst_value });
             } else {

@@ -381,3 +381,22 @@ fn ratio_against_a_table_is_b_over_its_level() {
     assert!((found.ranked[0].objective - b.ranked[0].objective / level).abs() <= 1e-12 * found.ranked[0].objective);
     assert_eq!(found.table.unwrap().id, "icnirp-2010-occupational");
 }
+
+#[test]
+fn areas_over_the_grid_budget_are_refused_and_empty_areas_are_left_out_in_words() {
+    let mut v = flat_tray();
+    v["areas"] = json!([{"id": "hall", "polygon": [[-50.0, -50.0], [50.0, -50.0], [50.0, 50.0], [-50.0, 50.0]], "height_m": 1.0, "spacing_m": 0.01}]);
+    let budget = SearchBudget { max_grid_cells: 1_000_000, ..SearchBudget::unlimited() };
+    let err = search_phases(&site_of(&v), &doc_of(&v), &b_request(vec!["T1".into()]), None, &budget).unwrap_err();
+    let text = format!("{err:?}");
+    assert!(text.contains("/areas") && text.contains("grid cells"), "{text}");
+    // A sliver thinner than its spacing holds no node: left out, said why.
+    v["areas"] = json!([{"id": "sliver", "polygon": [[3.0, 0.0], [3.5, 0.0], [3.5, 0.001], [3.0, 0.001]], "height_m": 1.0, "spacing_m": 1.0}]);
+    let found = search(&v, &b_request(vec!["T1".into(), "T2".into()]), &SearchBudget::unlimited());
+    assert!(
+        found.left_out.iter().any(|l| l.id == "sliver" && l.reason.contains("no grid node")),
+        "{:?}",
+        found.left_out
+    );
+    assert!(found.ranked[0].objective.is_finite());
+}
