@@ -169,14 +169,19 @@ pub struct PageQuery {
     pub name: Option<String>,
 }
 
+/// Reads a route's query parameters (unknown or malformed ones are a 400
+/// in plain words). Control characters were refused before the handler
+/// ran ([`plain_params`]).
+pub fn query_params<T: serde::de::DeserializeOwned>(uri: &axum::http::Uri) -> Result<T, ApiError> {
+    axum::extract::Query::<T>::try_from_uri(uri)
+        .map(|q| q.0)
+        .map_err(|e| ApiError::bad_request(e.body_text(), Problems::default()))
+}
+
 impl PageQuery {
     /// Reads the query string (unknown parameters are a 400).
     pub fn from_uri(uri: &axum::http::Uri) -> Result<PageQuery, ApiError> {
-        // Control characters were refused before the handler ran
-        // ([`plain_params`]).
-        axum::extract::Query::<PageQuery>::try_from_uri(uri)
-            .map(|q| q.0)
-            .map_err(|e| ApiError::bad_request(e.body_text(), Problems::default()))
+        query_params(uri)
     }
     /// The page size as given (a positive integer, 400 otherwise); its
     /// range is the service's rule ([`crate::service::page_limit`]).

@@ -96,10 +96,9 @@ impl Service {
         let mut ctx = self.report_context(caller, id).await?;
         if let DistanceTo::Table(table_id) = &to
             && !ctx.tables.iter().any(|t| t.id() == table_id)
-            && builtin_table(table_id).is_none()
-            && let Some(v) = self.store().table_version(&caller.org_id, table_id, None).await?
+            && let Some(t) = self.latest_custom_table(caller, table_id).await?
         {
-            ctx.tables.push(stored_table(&v)?);
+            ctx.tables.push(t);
         }
         let result = self
             .compute(move |budget| usecase::distance(&ctx.site, &ctx.request.load, &query, &ctx.tables, budget))

@@ -50,6 +50,19 @@ pub(super) fn stored_table(v: &TableVersionRow) -> Result<ReferenceTable> {
 }
 
 impl Service {
+    /// The organisation's latest version of custom table `id`; `None` for
+    /// a built-in id (those need no lookup) or an id the organisation does
+    /// not have (the use case then says it is unknown).
+    pub(super) async fn latest_custom_table(&self, caller: &Caller, id: &str) -> Result<Option<ReferenceTable>> {
+        if builtin_table(id).is_some() {
+            return Ok(None);
+        }
+        match self.store().table_version(&caller.org_id, id, None).await? {
+            Some(v) => Ok(Some(stored_table(&v)?)),
+            None => Ok(None),
+        }
+    }
+
     #[tracing::instrument(name = "tables_list", skip_all, fields(org = %caller.org_id))]
     pub async fn tables_list(&self, caller: &Caller) -> Result<Vec<TableView>> {
         caller.require(Role::Viewer)?;

@@ -1,8 +1,7 @@
 //! What-if searches on a stored site revision: answered, not stored.
 
-use super::{Caller, Result, Role, Service, tables::stored_table};
+use super::{Caller, Result, Role, Service};
 use crate::ids::SiteId;
-use fluxbound_core::limits::builtin_table;
 use fluxbound_core::mitigate::phases::{PhaseSearch, PhaseSearchDoc};
 use fluxbound_core::usecase;
 
@@ -21,14 +20,11 @@ impl Service {
     ) -> Result<PhaseSearch> {
         caller.require(Role::Assessor)?;
         let (_rev, doc, site) = self.site_doc_at_revision(caller, site_id, revision).await?;
-        let mut tables = Vec::new();
-        let table_id = request.table.clone().or_else(|| site.tables().first().cloned());
-        if let Some(id) = table_id
-            && builtin_table(&id).is_none()
-            && let Some(v) = self.store().table_version(&caller.org_id, &id, None).await?
-        {
-            tables.push(stored_table(&v)?);
-        }
+        let table_id = request.table.as_deref().or(site.tables().first().map(String::as_str));
+        let tables: Vec<_> = match table_id {
+            Some(id) => self.latest_custom_table(caller, id).await?.into_iter().collect(),
+            None => Vec::new(),
+        };
         let pairs = usecase::segment_count(site.conductors());
         let result =
             self.compute(move |budget| usecase::search_phases(&site, &doc, &request, &tables, budget)).await??;

@@ -50,6 +50,10 @@ async fn problems_of_a_phase_search_point_into_the_request() {
     assert_problem(res, 422, "validation", Some("/load/factors/X")).await;
     let res = app.post(&path, &key, &json!({"circuits": ["TX1-a"], "colour": "red"})).await;
     assert_eq!(res.status(), 422);
+    let res = app.post(&format!("{path}?colour=red"), &key, &json!({"circuits": ["TX1-a"]})).await;
+    assert_eq!(res.status(), 400);
+    let res = app.post(&format!("{path}?revision=9"), &key, &json!({"circuits": ["TX1-a"]})).await;
+    assert_eq!(res.status(), 404);
     let viewer = app.key("org-a", Role::Viewer).await;
     assert_eq!(app.post(&path, &viewer, &json!({"circuits": ["TX1-a"]})).await.status(), 403);
     let other = app.key("org-b", Role::Assessor).await;

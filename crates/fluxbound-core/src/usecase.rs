@@ -17,7 +17,7 @@ use crate::evaluate::{self, EvaluateRequest, EvaluateResponse};
 use crate::limits::{ReferenceTable, UnknownTable};
 use crate::mitigate::{self, DistanceResult, Origin};
 use crate::report::{csv, geojson, svg};
-use crate::site::{Area, Conductor, Placement, Pointer, Problem, Problems, Site};
+use crate::site::{Area, Conductor, Pointer, Problem, Problems, Site};
 use crate::survey::{self, Survey, SurveyAnalysis, wire::SurveyDoc};
 
 /// Compute budgets of one request: how much work it may ask for, and how
@@ -176,14 +176,7 @@ pub fn segment_count(conductors: &[Conductor]) -> u64 {
 /// Evaluation points of an assessment of `site`: every height of every
 /// position and every bounding-grid cell of every area (an upper bound).
 pub fn assessment_points(site: &Site) -> u64 {
-    let positions: u64 = site
-        .positions()
-        .iter()
-        .map(|q| match &q.placement {
-            Placement::Standing { heights_m, .. } => heights_m.len() as u64,
-            Placement::Point(_) => 1,
-        })
-        .sum();
+    let positions: u64 = site.positions().iter().map(|q| q.placement.point_count() as u64).sum();
     positions + site.areas().iter().map(|a| assess::bounding_cells(&a.polygon, a.spacing_m)).sum::<u64>()
 }
 
@@ -434,12 +427,13 @@ fn distance_error(arg: DistanceArg) -> impl Fn(String) -> UseCaseError {
 }
 
 /// The table `id` among `available`, else a built-in table.
+fn find_table(id: &str, available: &[ReferenceTable]) -> Option<ReferenceTable> {
+    available.iter().find(|t| t.id() == id).or_else(|| crate::limits::builtin_table(id)).cloned()
+}
+
+/// [`find_table`] for a distance query.
 fn distance_table(id: &str, available: &[ReferenceTable]) -> Result<ReferenceTable, UseCaseError> {
-    available
-        .iter()
-        .find(|t| t.id() == id)
-        .or_else(|| crate::limits::builtin_table(id))
-        .cloned()
+    find_table(id, available)
         .ok_or_else(|| distance_error(DistanceArg::Table)(format!("unknown table '{id}' (see the tables list)")))
 }
 
@@ -547,8 +541,7 @@ fn phase_search_table(
     let Some(id) = req.table.as_deref().or(site.tables().first().map(String::as_str)) else {
         return Ok(None);
     };
-    let found = tables.iter().find(|t| t.id() == id).or_else(|| crate::limits::builtin_table(id)).cloned();
-    match found {
+    match find_table(id, tables) {
         Some(t) => Ok(Some(t)),
         None if req.table.is_some() => {
             Err(UseCaseError::WhatIf(Problems::one("/table", format!("unknown table '{id}' (see the tables list)"))))
@@ -569,7 +562,7 @@ pub fn search_phases(
     tables: &[ReferenceTable],
     budget: &Budget,
 ) -> Result<mitigate::phases::PhaseSearch, UseCaseError> {
-    use mitigate::phases::{SearchBudget, SearchErrorOr};
+    use mitigate::phases::{SearchBudget, SearchError};
     let table = phase_search_table(site, req, tables)?;
     let search_budget = SearchBudget {
         max_pairs: budget.max_pairs,
@@ -579,9 +572,9 @@ pub fn search_phases(
         cancel: budget.cancel.clone(),
     };
     mitigate::phases::search_phases(site, doc, req, table.as_ref(), &search_budget).map_err(|e| match e {
-        SearchErrorOr::Search(s) if !s.over_budget.is_empty() => UseCaseError::OverBudget(s.over_budget),
-        SearchErrorOr::Search(s) => UseCaseError::WhatIf(s.in_request),
-        SearchErrorOr::Load(l) => UseCaseError::Load(l),
-        SearchErrorOr::Cancelled => UseCaseError::Cancelled,
+        SearchError::Request(p) => UseCaseError::WhatIf(p),
+        SearchError::OverBudget(p) => UseCaseError::OverBudget(p),
+        SearchError::Load(l) => UseCaseError::Load(l),
+        SearchError::Cancelled => UseCaseError::Cancelled,
     })
 }

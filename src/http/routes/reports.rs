@@ -122,9 +122,7 @@ pub async fn reports_distance(
     uri: Uri,
 ) -> Result<Response, ApiError> {
     let id: AssessmentId = parse_id(&id, "assessment")?;
-    let q = axum::extract::Query::<DistanceQuery>::try_from_uri(&uri)
-        .map_err(|e| ApiError::bad_request(e.body_text(), Default::default()))?
-        .0;
+    let q: DistanceQuery = crate::http::extract::query_params(&uri)?;
     let to = match (q.level_ut, q.table) {
         (Some(level), None) => DistanceTo::LevelUt(level.parse().map_err(|_| {
             ApiError::validation(fluxbound_core::site::Problems::one("/level_ut", "level_ut must be a number (µT)"))

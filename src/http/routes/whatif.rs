@@ -2,7 +2,7 @@
 
 use super::json_response;
 use crate::http::AppState;
-use crate::http::extract::{ApiJson, Auth, parse_id};
+use crate::http::extract::{ApiJson, Auth, parse_id, query_params};
 use crate::http::problem::ApiError;
 use crate::ids::SiteId;
 use axum::extract::{Path, State};
@@ -47,9 +47,7 @@ pub async fn whatif_phases(
     ApiJson(req): ApiJson<PhaseSearchDoc>,
 ) -> Result<Response, ApiError> {
     let site_id: SiteId = parse_id(&site_id, "site")?;
-    let q = axum::extract::Query::<RevisionQuery>::try_from_uri(&uri)
-        .map_err(|e| ApiError::bad_request(e.body_text(), Default::default()))?
-        .0;
+    let q: RevisionQuery = query_params(&uri)?;
     let result = s.service.whatif_phases(&caller, &site_id, q.revision, req).await?;
     Ok(json_response(StatusCode::OK, &result, None, None))
 }

@@ -531,12 +531,7 @@ impl PointPlan {
         let mut positions = Vec::with_capacity(site.positions().len());
         for q in site.positions() {
             let start = points.len();
-            match &q.placement {
-                Placement::Standing { x_m, y_m, heights_m } => {
-                    points.extend(heights_m.iter().map(|h| Point3::new(*x_m, *y_m, *h)))
-                }
-                Placement::Point(pt) => points.push(*pt),
-            }
+            points.extend(q.placement.points());
             positions.push(start..points.len());
         }
         PointPlan { points, positions }

@@ -177,6 +177,27 @@ pub fn filaments(conductors: &[Conductor]) -> crate::field::Filaments {
     crate::field::Filaments::new(&list)
 }
 
+impl Placement {
+    /// The points evaluated for this placement: each body height above a
+    /// standing point, or the point itself.
+    pub fn points(&self) -> Vec<Point3<f64>> {
+        match self {
+            Placement::Standing { x_m, y_m, heights_m } => {
+                heights_m.iter().map(|h| Point3::new(*x_m, *y_m, *h)).collect()
+            }
+            Placement::Point(p) => vec![*p],
+        }
+    }
+
+    /// How many points [`Placement::points`] gives, without making them.
+    pub fn point_count(&self) -> usize {
+        match self {
+            Placement::Standing { heights_m, .. } => heights_m.len(),
+            Placement::Point(_) => 1,
+        }
+    }
+}
+
 /// Default body heights above a standing point, m: the 0.5 / 1.0 / 1.5 m set
 /// of IEC 62110 practice (docs/REFERENCES.md, from memory).
 pub const DEFAULT_HEIGHTS_M: [f64; 3] = [0.5, 1.0, 1.5];

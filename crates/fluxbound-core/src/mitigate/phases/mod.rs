@@ -28,7 +28,7 @@ use crate::cancel::Cancel;
 use crate::field::{InfluenceMatrix, try_influence_matrix};
 use crate::limits::ReferenceTable;
 use crate::site::wire::{CircuitKind, Phase, SiteDoc};
-use crate::site::{CircuitLoad, Drive, Placement, Pointer, Problems, Site};
+use crate::site::{CircuitLoad, Drive, Pointer, Problems, Site};
 use num_complex::Complex64;
 use search::{Blocks, Found, Leaf};
 use serde::{Deserialize, Serialize};
@@ -235,12 +235,22 @@ pub struct PhaseSearch {
     pub cautions: Vec<String>,
 }
 
-/// Why a search could not run: problems with pointers into the request
-/// (`/circuits/1`, `/table`) or the site, and work over the budget.
-#[derive(Debug, Clone, PartialEq, Default)]
-pub struct SearchError {
-    pub in_request: Problems,
-    pub over_budget: Problems,
+/// Why a search could not run.
+#[derive(Debug, Clone, PartialEq)]
+pub enum SearchError {
+    /// Problems with pointers into the request (`/circuits/1`, `/table`).
+    Request(Problems),
+    /// Work over a budget; the pointer says what to reduce.
+    OverBudget(Problems),
+    /// The load case does not fit the site.
+    Load(crate::assess::LoadError),
+    Cancelled,
+}
+
+impl SearchError {
+    fn request(pointer: &str, detail: &str) -> Self {
+        SearchError::Request(Problems::one(pointer, detail))
+    }
 }
 
 /// Work limits of one search.
@@ -344,12 +354,7 @@ fn targets(site: &Site, req: &PhaseSearchDoc) -> Vec<TargetPoints> {
     let positions = site.positions().iter().filter(|q| wanted(&req.positions, &q.id)).map(|q| TargetPoints {
         kind: "position",
         id: q.id.clone(),
-        points: match &q.placement {
-            Placement::Standing { x_m, y_m, heights_m } => {
-                heights_m.iter().map(|h| nalgebra::Point3::new(*x_m, *y_m, *h)).collect()
-            }
-            Placement::Point(p) => vec![*p],
-        },
+        points: q.placement.points(),
     });
     let areas = site.areas().iter().filter(|a| wanted(&req.areas, &a.id)).map(|a| TargetPoints {
         kind: "area",
@@ -394,17 +399,17 @@ pub fn search_phases(
     req: &PhaseSearchDoc,
     table: Option<&ReferenceTable>,
     budget: &SearchBudget,
-) -> Result<PhaseSearch, SearchErrorOr> {
-    let chosen = check_request(site, req).map_err(SearchErrorOr::request)?;
-    let loads = req.load.resolve(site).map_err(SearchErrorOr::Load)?;
+) -> Result<PhaseSearch, SearchError> {
+    let chosen = check_request(site, req).map_err(SearchError::Request)?;
+    let loads = req.load.resolve(site).map_err(SearchError::Load)?;
     // Bounds first, from counts alone: nothing is sampled before they pass.
     let chosen_areas = site.areas().iter().filter(|a| wanted(&req.areas, &a.id));
     let cells: u64 = chosen_areas.map(|a| crate::assess::bounding_cells(&a.polygon, a.spacing_m)).sum();
     let over = |what: String, limit: u64| {
-        SearchErrorOr::budget(
+        SearchError::OverBudget(Problems::one(
             "/areas",
             format!("{what}, over the budget of {limit}: choose fewer areas or coarsen their spacing_m"),
-        )
+        ))
     };
     if cells > budget.max_grid_cells {
         return Err(over(format!("the chosen areas need {cells} grid cells"), budget.max_grid_cells));
@@ -413,10 +418,7 @@ pub fn search_phases(
         .positions()
         .iter()
         .filter(|q| wanted(&req.positions, &q.id))
-        .map(|q| match &q.placement {
-            Placement::Standing { heights_m, .. } => heights_m.len() as u64,
-            Placement::Point(_) => 1,
-        })
+        .map(|q| q.placement.point_count() as u64)
         .sum();
     let pairs = (position_points + cells).saturating_mul(crate::usecase::segment_count(site.conductors()));
     if pairs > budget.max_pairs {
@@ -427,28 +429,27 @@ pub fn search_phases(
     }
     let mut all_targets = targets(site, req);
     if all_targets.iter().all(|t| t.points.is_empty()) {
-        return Err(SearchErrorOr::request(Problems::one(
+        return Err(SearchError::request(
             "/positions",
             "nothing to judge the arrangements by: the site (or the request) has no positions or area grid nodes",
-        )));
+        ));
     }
     let excitation = site.excitation_at(&loads);
     let line_hz: Vec<f64> = excitation.lines.iter().map(|l| l.frequency_hz).collect();
     let present: Vec<bool> = excitation.lines.iter().map(|l| l.currents_a.iter().any(|c| c.norm() > 0.0)).collect();
-    let weights = ratio_weights(req, table, &line_hz, &present).map_err(SearchErrorOr::request)?;
+    let weights = ratio_weights(req, table, &line_hz, &present).map_err(SearchError::Request)?;
 
     // Influence matrix at every target point, once.
     let flat: Vec<nalgebra::Point3<f64>> = all_targets.iter().flat_map(|t| t.points.iter().copied()).collect();
     let g = try_influence_matrix(&crate::site::filaments(site.conductors()), &flat, &budget.cancel)
-        .map_err(|_| SearchErrorOr::Cancelled)?;
-    let left_out = drop_inside(&mut all_targets, &g, site);
+        .map_err(|_| SearchError::Cancelled)?;
+    let (left_out, kept) = drop_inside(&mut all_targets, &g, site);
     if all_targets.is_empty() {
-        return Err(SearchErrorOr::request(Problems::one(
+        return Err(SearchError::request(
             "/positions",
             "every chosen position and area node lies inside a conductor: nothing to judge the arrangements by",
-        )));
+        ));
     }
-    let kept: Vec<usize> = kept_points(&g, flat.len());
     let lines = line_currents(site, &chosen, &loads, &excitation);
     let group = symmetry::invariant_relabellings(&lines);
     let first = symmetry::first_circuit_choices(&group);
@@ -470,14 +471,15 @@ pub fn search_phases(
     } else {
         search::branch_and_bound(&blocks, &first, req.top, budget.max_work, &budget.cancel)
     }
-    .map_err(|_| SearchErrorOr::Cancelled)?;
+    .map_err(|_| SearchError::Cancelled)?;
     let as_built_leaf = blocks.evaluate(&vec![0; n]);
     let shape = Shape { site, chosen: &chosen, group: &group, targets: &all_targets };
-    let as_built = shape.arrangement(&as_built_leaf, &[0; MAX_CIRCUITS][..n], None, as_built_leaf.objective);
-    let as_built_rank = found
-        .complete
-        .then(|| found.ranked.iter().filter(|l| l.objective < as_built_leaf.objective).count() as u64 + 1);
-    let as_built = Arrangement { rank: as_built_rank, ..as_built };
+    // The as-built rank is known when every arrangement better than it is
+    // in `found.ranked`: all of them were ranked (exhaustive), or a proven
+    // ranking reaches past it.
+    let better = found.ranked.iter().filter(|l| l.objective < as_built_leaf.objective).count();
+    let as_built_rank = (exhaustive || (found.complete && better < found.ranked.len())).then_some(better as u64 + 1);
+    let as_built = shape.arrangement(&as_built_leaf, &vec![0; n], as_built_rank, as_built_leaf.objective);
     let ranked: Vec<Arrangement> = found
         .ranked
         .iter()
@@ -514,23 +516,6 @@ pub fn search_phases(
         notes: notes(&found, req, method),
         cautions: crate::cautions::cautions(),
     })
-}
-
-/// A search error, or one of the load case's, or cancellation.
-#[derive(Debug, Clone, PartialEq)]
-pub enum SearchErrorOr {
-    Search(SearchError),
-    Load(crate::assess::LoadError),
-    Cancelled,
-}
-
-impl SearchErrorOr {
-    fn request(p: Problems) -> Self {
-        SearchErrorOr::Search(SearchError { in_request: p, ..Default::default() })
-    }
-    fn budget(pointer: &str, detail: String) -> Self {
-        SearchErrorOr::Search(SearchError { over_budget: Problems::one(pointer, detail), ..Default::default() })
-    }
 }
 
 fn notes(found: &Found, req: &PhaseSearchDoc, method: Method) -> Vec<String> {
@@ -585,10 +570,12 @@ fn line_currents(
         .collect()
 }
 
-/// Points inside a conductor: removed from their target; a target with
-/// no point left is left out.
-fn drop_inside(targets: &mut Vec<TargetPoints>, g: &InfluenceMatrix, site: &Site) -> Vec<LeftOut> {
+/// Points inside a conductor: removed from their target, which is left
+/// out (with the reason) if none is left. Returns the targets left out and
+/// the indices (into the flat point list) of the points kept, in order.
+fn drop_inside(targets: &mut Vec<TargetPoints>, g: &InfluenceMatrix, site: &Site) -> (Vec<LeftOut>, Vec<usize>) {
     let mut left = Vec::new();
+    let mut kept = Vec::new();
     let mut next = 0;
     for t in targets.iter_mut() {
         let start = next;
@@ -598,38 +585,35 @@ fn drop_inside(targets: &mut Vec<TargetPoints>, g: &InfluenceMatrix, site: &Site
             left.push(LeftOut { kind: t.kind.to_string(), id: t.id.clone(), reason });
             continue;
         }
-        let inside: Vec<usize> = (start..next).filter(|&i| g.is_inside(i)).collect();
-        if inside.is_empty() {
+        let before = kept.len();
+        kept.extend((start..next).filter(|&i| !g.is_inside(i)));
+        let inside = t.points.len() - (kept.len() - before);
+        if inside == 0 {
             continue;
         }
+        let first = (start..next).find(|&i| g.is_inside(i));
         let conductor = g
             .inside
             .iter()
-            .find(|h| h.point == inside[0])
+            .find(|h| Some(h.point) == first)
             .map_or(String::new(), |h| site.conductors()[h.conductor].id.clone());
-        let reason = if inside.len() == t.points.len() {
+        let reason = if inside == t.points.len() {
             format!("every point lies inside conductor '{conductor}': the field there is not computed")
         } else {
             format!(
-                "{} of its {} points lie inside conductor '{conductor}' (or another): those are not judged",
-                inside.len(),
+                "{inside} of its {} points lie inside conductor '{conductor}' (or another): those are not judged",
                 t.points.len()
             )
         };
         left.push(LeftOut { kind: t.kind.to_string(), id: t.id.clone(), reason });
         let mut k = start;
         t.points.retain(|_| {
-            let keep = !inside.contains(&k);
             k += 1;
-            keep
+            !g.is_inside(k - 1)
         });
     }
     targets.retain(|t| !t.points.is_empty());
-    left
-}
-
-fn kept_points(g: &InfluenceMatrix, count: usize) -> Vec<usize> {
-    (0..count).filter(|&i| !g.is_inside(i)).collect()
+    (left, kept)
 }
 
 #[allow(clippy::too_many_arguments)]

@@ -104,8 +104,8 @@ impl Blocks {
                 *a += c;
             }
         }
-        let mut vals = vec![0.0; n];
-        point_values(self, &acc, n, &mut vals, None);
+        let (mut vals, mut m2) = (vec![0.0; n], vec![0.0; n]);
+        point_values(self, &acc, n, &mut vals, &mut m2, None);
         let (objective, worst_target, worst_value) = self.objective(&self.target_maxima(&vals));
         Leaf { index: 0, objective, worst_target, worst_value }
     }
@@ -113,10 +113,12 @@ impl Blocks {
 
 /// Values of the measure at `len` points from a block-layout sum `acc`
 /// (stride `len`); with `less`, from `max(0, ‖acc_line‖ − less)` instead.
-fn point_values(b: &Blocks, acc: &[f64], len: usize, vals: &mut [f64], less: Option<&[f64]>) {
+/// `m2` is scratch of at least `len` (kept by the caller: this runs once
+/// per arrangement and tile).
+fn point_values(b: &Blocks, acc: &[f64], len: usize, vals: &mut [f64], m2: &mut [f64], less: Option<&[f64]>) {
     let vals = &mut vals[..len];
     vals.fill(0.0);
-    let mut m2 = vec![0.0; len];
+    let m2 = &mut m2[..len];
     for h in 0..b.lines {
         m2.fill(0.0);
         for c in 0..6 {
@@ -135,12 +137,12 @@ fn point_values(b: &Blocks, acc: &[f64], len: usize, vals: &mut [f64], less: Opt
         match b.measure {
             Measure::Ratio => {
                 let w = b.weights[h];
-                for (v, m) in vals.iter_mut().zip(&m2) {
+                for (v, m) in vals.iter_mut().zip(m2.iter()) {
                     *v += m.sqrt() * w;
                 }
             }
             Measure::BUt => {
-                for (v, m) in vals.iter_mut().zip(&m2) {
+                for (v, m) in vals.iter_mut().zip(m2.iter()) {
                     *v += m;
                 }
             }
@@ -252,6 +254,7 @@ struct Walk<'a> {
     /// `acc[l]`: fixed plus circuits `0..l`.
     acc: Vec<Vec<f64>>,
     vals: Vec<f64>,
+    m2: Vec<f64>,
     scratch: Vec<f64>,
 }
 
@@ -260,7 +263,7 @@ impl<'a> Walk<'a> {
         let n = b.circuit.len();
         let mut acc = vec![fixed];
         acc.extend((1..n).map(|_| vec![0.0; b.lines * 6 * len]));
-        Walk { b, first, len, acc, vals: vec![0.0; len], scratch: vec![0.0; b.lines * 6 * len] }
+        Walk { b, first, len, acc, vals: vec![0.0; len], m2: vec![0.0; len], scratch: vec![0.0; b.lines * 6 * len] }
     }
 
     fn choices(&self, level: usize) -> Vec<usize> {
@@ -285,7 +288,7 @@ impl<'a> Walk<'a> {
                 for ((d, a), c) in self.scratch.iter_mut().zip(src).zip(&blocks[level][s]) {
                     *d = a + c;
                 }
-                point_values(self.b, &self.scratch, self.len, &mut self.vals, None);
+                point_values(self.b, &self.scratch, self.len, &mut self.vals, &mut self.m2, None);
                 if !leaf(child, &self.vals) {
                     return false;
                 }
@@ -336,6 +339,7 @@ pub(crate) fn branch_and_bound(
         acc: vec![b.fixed.clone()],
         bound,
         vals: vec![0.0; p],
+        m2: vec![0.0; p],
         scratch: vec![0.0; b.lines * 6 * p],
         kept: Vec::new(),
         evaluated: 0,
@@ -364,6 +368,7 @@ struct Bb<'a> {
     acc: Vec<Vec<f64>>,
     bound: Vec<Vec<f64>>,
     vals: Vec<f64>,
+    m2: Vec<f64>,
     scratch: Vec<f64>,
     kept: Vec<Leaf>,
     evaluated: u64,
@@ -385,7 +390,7 @@ impl Bb<'_> {
     /// Objective of the lower bounds of every completion of `acc[level]`.
     fn lower_bound(&mut self, level: usize) -> f64 {
         let p = self.b.points;
-        point_values(self.b, &self.acc[level], p, &mut self.vals, Some(&self.bound[level]));
+        point_values(self.b, &self.acc[level], p, &mut self.vals, &mut self.m2, Some(&self.bound[level]));
         self.b.objective(&self.b.target_maxima(&self.vals)).0
     }
 
@@ -418,7 +423,7 @@ impl Bb<'_> {
                 for ((d, a), c) in self.scratch.iter_mut().zip(src).zip(&self.b.circuit[level][s]) {
                     *d = a + c;
                 }
-                point_values(self.b, &self.scratch, p, &mut self.vals, None);
+                point_values(self.b, &self.scratch, p, &mut self.vals, &mut self.m2, None);
                 let (objective, worst_target, worst_value) = self.b.objective(&self.b.target_maxima(&self.vals));
                 self.evaluated += 1;
                 self.keep(Leaf { index: child, objective, worst_target, worst_value });

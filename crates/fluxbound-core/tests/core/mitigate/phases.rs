@@ -370,16 +370,49 @@ fn requests_that_do_not_fit_the_site_are_refused_with_pointers() {
     assert!(format!("{err:?}").contains("/table"));
 }
 
+/// The ratio objective against brute force through the engine: the best
+/// of the six orders of the second circuit, its B over the table's level
+/// at 50 Hz (the table's own band, read through `level_ut`).
 #[test]
-fn ratio_against_a_table_is_b_over_its_level() {
+fn ratio_against_a_table_is_the_brute_force_b_over_its_level() {
     let v = flat_tray();
+    let at = [Point3::new(0.25, 0.0, 1.0)];
     let table = fluxbound_core::limits::builtin_table("icnirp-2010-occupational").unwrap();
     let level = table.level_ut(50.0).unwrap();
+    let best_b = (0..6).map(|k| rms(&rephase(&v, "T2", PERMS[k]), &at)[0]).fold(f64::INFINITY, f64::min);
     let req = PhaseSearchDoc::for_circuits(vec!["T1".into(), "T2".into()]);
     let found = search_phases(&site_of(&v), &doc_of(&v), &req, Some(table), &SearchBudget::unlimited()).unwrap();
-    let b = search(&v, &b_request(vec!["T1".into(), "T2".into()]), &SearchBudget::unlimited());
-    assert!((found.ranked[0].objective - b.ranked[0].objective / level).abs() <= 1e-12 * found.ranked[0].objective);
+    let expected = best_b / level;
+    assert!(
+        (found.ranked[0].objective - expected).abs() <= 1e-12 * expected,
+        "{} vs {expected}",
+        found.ranked[0].objective
+    );
     assert_eq!(found.table.unwrap().id, "icnirp-2010-occupational");
+}
+
+/// Branch and bound ranks the as-built arrangement only where the
+/// ranking reaches it; beyond its top it says nothing rather than a wrong
+/// rank.
+#[test]
+fn the_as_built_rank_is_given_only_where_it_is_known() {
+    let v = irregular(4, &[0.0, 10.0, 0.0, -20.0], Unbalance::None);
+    let all = search(&v, &PhaseSearchDoc { top: 100, ..b_request(ids(4)) }, &SearchBudget::unlimited());
+    let true_rank = all.as_built.rank.unwrap();
+    // Exhaustive: the rank counts the strictly better of all 432.
+    let points = position_points(&v);
+    let better = all_arrangements(&v, &["c0", "c1", "c2", "c3"])
+        .iter()
+        .map(|(_, d)| rms(d, &points).into_iter().fold(0.0, f64::max))
+        .filter(|o| *o < all.as_built.objective * (1.0 - 1e-12))
+        .count();
+    // 6^4 raw arrangements, 3 of each distinct field (cyclic relabellings).
+    assert_eq!(true_rank as usize, better / 3 + 1);
+    let forced = SearchBudget { exhaustive_limit: 0, ..SearchBudget::unlimited() };
+    let short = search(&v, &PhaseSearchDoc { top: 1, ..b_request(ids(4)) }, &forced);
+    assert_eq!(short.as_built.rank, if true_rank == 1 { Some(1) } else { None });
+    let long = search(&v, &PhaseSearchDoc { top: 100, ..b_request(ids(4)) }, &forced);
+    assert_eq!(long.as_built.rank, (true_rank <= 100).then_some(true_rank));
 }
 
 #[test]
