@@ -68,7 +68,7 @@ pub enum Command {
     },
     /// First crossing and clearance from a position, conductor or point to a µT level or a table's ratio 1.
     Distance(DistanceArgs),
-    /// What to change: rank the phase arrangements of chosen circuits by the exposure they give.
+    /// What to change: phase arrangements, load scenarios, moves and passive loops.
     Whatif {
         #[command(subcommand)]
         action: WhatifAction,
@@ -340,6 +340,110 @@ impl ClientArgs {
 pub enum WhatifAction {
     /// Rank the phase arrangements of chosen three-phase circuits; write the best as a draft site.
     Phases(PhasesArgs),
+    /// Judge named load cases and N-1 cases of load groups in one pass; name the worst.
+    Scenarios(ScenariosArgs),
+    /// Move conductors or positions, or sweep a move; find the smallest move under a level.
+    Move(MoveArgs),
+    /// Add a passive loop: its induced current per harmonic and the field without and with it.
+    Loop(LoopArgs),
+}
+
+#[derive(Debug, clap::Args)]
+pub struct ScenariosArgs {
+    /// Site model (JSON), or `-` for standard input.
+    #[arg(value_name = "SITE")]
+    pub site: PathBuf,
+    /// A scenario request (JSON, the body of the HTTP route): named load cases and more. Without it:
+    /// present, rated when every circuit has a rated current, and the flags below.
+    #[arg(long, value_name = "FILE")]
+    pub request: Option<PathBuf>,
+    /// Also generate N-1 cases for every load group (circuits with the same load_group).
+    #[arg(long = "n-minus-1")]
+    pub n_minus_1: bool,
+    /// The load before one circuit of a group goes out (with --n-minus-1).
+    #[arg(long, value_enum, default_value_t = LoadArg::Present)]
+    pub base: LoadArg,
+    /// Table of the ratio (default: the site's first table; none: flux density only).
+    #[arg(long, value_name = "ID")]
+    pub table: Option<String>,
+    /// A custom table (JSON) that --table may name; may be repeated.
+    #[arg(long = "table-file", value_name = "FILE")]
+    pub table_files: Vec<PathBuf>,
+    /// Position ids to judge by, comma-separated (default: all).
+    #[arg(long, value_delimiter = ',', value_name = "ID,ID")]
+    pub positions: Option<Vec<String>>,
+    /// Area ids to judge by on their grid nodes, comma-separated (default: all).
+    #[arg(long, value_delimiter = ',', value_name = "ID,ID")]
+    pub areas: Option<Vec<String>>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Table)]
+    pub format: Format,
+}
+
+#[derive(Debug, clap::Args)]
+pub struct MoveArgs {
+    /// Site model (JSON), or `-` for standard input.
+    #[arg(value_name = "SITE")]
+    pub site: PathBuf,
+    /// Conductor ids that move, comma-separated.
+    #[arg(long, value_delimiter = ',', value_name = "ID,ID")]
+    pub conductors: Vec<String>,
+    /// Circuit ids whose conductors all move, comma-separated.
+    #[arg(long, value_delimiter = ',', value_name = "ID,ID")]
+    pub circuits: Vec<String>,
+    /// Position ids that move, comma-separated.
+    #[arg(long = "move-positions", value_delimiter = ',', value_name = "ID,ID")]
+    pub move_positions: Vec<String>,
+    /// The full move in metres: DX,DY,DZ.
+    #[arg(long, value_delimiter = ',', value_name = "DX,DY,DZ", required = true, allow_hyphen_values = true)]
+    pub by: Vec<f64>,
+    /// Steps from no move to the full move (1–200).
+    #[arg(long, default_value_t = 1)]
+    pub steps: u32,
+    /// Every target must be under this (a ratio, default 1; µT with --measure b-ut, then required).
+    #[arg(long, allow_hyphen_values = true)]
+    pub level: Option<f64>,
+    /// What is judged: the exposure ratio against a table, or the resultant in µT.
+    #[arg(long, value_enum, default_value_t = MeasureArg::Ratio)]
+    pub measure: MeasureArg,
+    /// Table of the ratio (default: the site's first table).
+    #[arg(long, value_name = "ID")]
+    pub table: Option<String>,
+    /// A custom table (JSON) that --table may name; may be repeated.
+    #[arg(long = "table-file", value_name = "FILE")]
+    pub table_files: Vec<PathBuf>,
+    /// Position ids to judge by, comma-separated (default: all).
+    #[arg(long, value_delimiter = ',', value_name = "ID,ID")]
+    pub positions: Option<Vec<String>>,
+    /// Area ids to judge by on their grid nodes, comma-separated (default: all).
+    #[arg(long, value_delimiter = ',', value_name = "ID,ID")]
+    pub areas: Option<Vec<String>>,
+    /// Currents to judge at.
+    #[arg(long, value_enum, default_value_t = LoadArg::Present)]
+    pub load: LoadArg,
+    /// Write the site moved by the smallest move found to this file (a draft to review, save and assess).
+    #[arg(long = "revision-out", value_name = "FILE")]
+    pub revision_out: Option<PathBuf>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Table)]
+    pub format: Format,
+}
+
+#[derive(Debug, clap::Args)]
+pub struct LoopArgs {
+    /// Site model (JSON), or `-` for standard input.
+    #[arg(value_name = "SITE")]
+    pub site: PathBuf,
+    /// The loop (JSON, the body of the HTTP route): path, wire_radius_m, resistance, and optionally
+    /// load, table, positions, areas.
+    #[arg(value_name = "LOOP")]
+    pub request: PathBuf,
+    /// A custom table (JSON) that the loop's table may name; may be repeated.
+    #[arg(long = "table-file", value_name = "FILE")]
+    pub table_files: Vec<PathBuf>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Table)]
+    pub format: Format,
 }
 
 #[derive(Debug, clap::Args)]
@@ -623,6 +727,9 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<ExitCode, CliError> {
         Command::Tables { action } => tables_command(action, out),
         Command::Distance(args) => distance_command(&args, out),
         Command::Whatif { action: WhatifAction::Phases(args) } => phases_command(&args, out),
+        Command::Whatif { action: WhatifAction::Scenarios(args) } => scenarios_command(&args, out),
+        Command::Whatif { action: WhatifAction::Move(args) } => move_command(&args, out),
+        Command::Whatif { action: WhatifAction::Loop(args) } => loop_command(&args, out),
         Command::Survey { action: SurveyAction::Reconcile { site, survey, tables, review_fraction, format } } => {
             survey_command(&SurveyInputs { site, survey, tables, review_fraction }, format, out)
         }
@@ -835,15 +942,12 @@ fn distance_command(args: &DistanceArgs, out: &mut dyn Write) -> Result<ExitCode
 }
 
 fn phases_command(args: &PhasesArgs, out: &mut dyn Write) -> Result<ExitCode, CliError> {
-    use fluxbound_core::mitigate::phases::{Measure, Over, PhaseSearchDoc, phases_text};
+    use fluxbound_core::mitigate::phases::{Over, PhaseSearchDoc, phases_text};
     let (doc, site) = read_site_doc(&args.site)?;
     let req = PhaseSearchDoc {
         circuits: args.circuits.clone(),
         load: LoadCase::from(args.load),
-        measure: match args.measure {
-            MeasureArg::Ratio => Measure::Ratio,
-            MeasureArg::BUt => Measure::BUt,
-        },
+        measure: measure_of(args.measure),
         over: match args.over {
             OverArg::Max => Over::Max,
             OverArg::Mean => Over::Mean,
@@ -868,10 +972,128 @@ fn phases_command(args: &PhasesArgs, out: &mut dyn Write) -> Result<ExitCode, Cl
 /// A what-if request's problem, addressed by the flag that set the value
 /// its pointer names.
 fn whatif_line(p: &fluxbound_core::site::Problem) -> String {
-    let key = p.pointer.trim_start_matches('/').split('/').next().unwrap_or("");
+    let mut keys = p.pointer.trim_start_matches('/').split('/');
+    let key = keys.next().unwrap_or("");
     match key {
-        "circuits" | "table" | "positions" | "areas" | "top" | "load" => format!("--{key}: {}", p.detail),
+        "circuits" | "table" | "positions" | "areas" | "top" | "load" | "steps" | "level" | "measure" | "base" => {
+            format!("--{key}: {}", p.detail)
+        }
+        "by_m" => format!("--by: {}", p.detail),
+        "n_minus_1" => format!("--n-minus-1: {}", p.detail),
+        "moving" => match keys.next() {
+            Some("positions") => format!("--move-positions: {}", p.detail),
+            Some(k @ ("conductors" | "circuits")) => format!("--{k}: {}", p.detail),
+            _ => format!("--conductors, --circuits or --move-positions: {}", p.detail),
+        },
         _ => p.to_string(),
+    }
+}
+
+/// Problems of a what-if request read from `file`: those under the
+/// `in_file` keys addressed by the file and the pointer into it, the others
+/// by their flag.
+fn request_file_error(file: &Path, e: UseCaseError, in_file: &[&str]) -> CliError {
+    match e {
+        UseCaseError::WhatIf(p) => CliError::Problems(
+            p.iter()
+                .map(|x| {
+                    let key = x.pointer.trim_start_matches('/').split('/').next().unwrap_or("");
+                    if in_file.is_empty() || in_file.contains(&key) {
+                        format!("{}: {x}", file.display())
+                    } else {
+                        whatif_line(x)
+                    }
+                })
+                .collect(),
+        ),
+        other => CliError::from(other),
+    }
+}
+
+fn scenarios_command(args: &ScenariosArgs, out: &mut dyn Write) -> Result<ExitCode, CliError> {
+    use fluxbound_core::mitigate::scenarios::{NMinusOne, ScenariosDoc, scenarios_text};
+    let site = read_site(&args.site)?;
+    let mut req: ScenariosDoc = match &args.request {
+        Some(path) => site::parse_json(&read_input(path)?)
+            .map_err(|p| CliError::Problems(p.iter().map(|x| format!("{}: {x}", path.display())).collect()))?,
+        None => ScenariosDoc::default(),
+    };
+    if args.n_minus_1 {
+        req.n_minus_1 = Some(NMinusOne { base: LoadCase::from(args.base) });
+    }
+    if args.table.is_some() {
+        req.table = args.table.clone();
+    }
+    if args.positions.is_some() {
+        req.positions = args.positions.clone();
+    }
+    if args.areas.is_some() {
+        req.areas = args.areas.clone();
+    }
+    let custom = read_table_files(&args.table_files)?;
+    let result = usecase::run_scenarios(&site, &req, &custom, &Budget::offline()).map_err(|e| match &args.request {
+        Some(path) => request_file_error(path, e, &["scenarios"]),
+        None => CliError::from(e),
+    })?;
+    match args.format {
+        Format::Json => write_json(out, &result)?,
+        Format::Table => write!(out, "{}", scenarios_text(&result)).map_err(CliError::Write)?,
+    }
+    Ok(ExitCode::SUCCESS)
+}
+
+fn move_command(args: &MoveArgs, out: &mut dyn Write) -> Result<ExitCode, CliError> {
+    use fluxbound_core::mitigate::moves::{MoveDoc, Moving, move_text};
+    let (doc, site) = read_site_doc(&args.site)?;
+    let by: [f64; 3] =
+        args.by.as_slice().try_into().map_err(|_| CliError::flag("--by", "give three numbers DX,DY,DZ in metres"))?;
+    let req = MoveDoc {
+        moving: Moving {
+            conductors: args.conductors.clone(),
+            circuits: args.circuits.clone(),
+            positions: args.move_positions.clone(),
+        },
+        by_m: by,
+        steps: args.steps,
+        level: args.level,
+        measure: measure_of(args.measure),
+        load: LoadCase::from(args.load),
+        table: args.table.clone(),
+        positions: args.positions.clone(),
+        areas: args.areas.clone(),
+    };
+    let custom = read_table_files(&args.table_files)?;
+    let result = usecase::run_move(&site, &doc, &req, &custom, &Budget::offline())?;
+    if let (Some(path), Some(rev)) = (&args.revision_out, &result.revision) {
+        write_file(path, &serde_json::to_string_pretty(rev).expect("plain data"))?;
+    }
+    match args.format {
+        Format::Json => write_json(out, &result)?,
+        Format::Table => write!(out, "{}", move_text(&result)).map_err(CliError::Write)?,
+    }
+    Ok(ExitCode::SUCCESS)
+}
+
+fn loop_command(args: &LoopArgs, out: &mut dyn Write) -> Result<ExitCode, CliError> {
+    use fluxbound_core::mitigate::loops::{LoopDoc, loop_text};
+    let site = read_site(&args.site)?;
+    let path = &args.request;
+    let req: LoopDoc = site::parse_json(&read_input(path)?)
+        .map_err(|p| CliError::Problems(p.iter().map(|x| format!("{}: {x}", path.display())).collect()))?;
+    let custom = read_table_files(&args.table_files)?;
+    let result =
+        usecase::run_loop(&site, &req, &custom, &Budget::offline()).map_err(|e| request_file_error(path, e, &[]))?;
+    match args.format {
+        Format::Json => write_json(out, &result)?,
+        Format::Table => write!(out, "{}", loop_text(&result)).map_err(CliError::Write)?,
+    }
+    Ok(ExitCode::SUCCESS)
+}
+
+fn measure_of(m: MeasureArg) -> fluxbound_core::mitigate::Measure {
+    match m {
+        MeasureArg::Ratio => fluxbound_core::mitigate::Measure::Ratio,
+        MeasureArg::BUt => fluxbound_core::mitigate::Measure::BUt,
     }
 }
 

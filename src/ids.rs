@@ -128,6 +128,10 @@ resource_id!(
     SurveyId
 );
 resource_id!(
+    /// A stored what-if result.
+    WhatIfId
+);
+resource_id!(
     /// An API key (its id, never its secret).
     KeyId
 );

@@ -88,6 +88,10 @@ pub fn router(state: AppState) -> Router {
             post(assessments::assessments_create).get(assessments::assessments_list),
         )
         .route("/v1/sites/{site_id}/whatif/phases", post(whatif::whatif_phases))
+        .route("/v1/sites/{site_id}/whatif/scenarios", post(whatif::whatif_scenarios))
+        .route("/v1/sites/{site_id}/whatif/move", post(whatif::whatif_move))
+        .route("/v1/sites/{site_id}/whatif/loop", post(whatif::whatif_loop))
+        .route("/v1/whatif-results/{whatif_id}", get(whatif::whatif_show))
         .route("/v1/sites/{site_id}/surveys", post(surveys::surveys_create).get(surveys::surveys_list))
         .route("/v1/surveys/{survey_id}", get(surveys::surveys_show))
         .route("/v1/surveys/{survey_id}/reconciliation", get(surveys::surveys_reconciliation))

@@ -296,3 +296,42 @@ pub struct SurveyExtrapolation {
     /// Model warnings about the surveyed site revision.
     pub warnings: Vec<Warning>,
 }
+
+/// A stored what-if result with its request.
+#[derive(Debug, Serialize, ToSchema)]
+pub struct WhatIfResource {
+    pub id: crate::ids::WhatIfId,
+    pub site_id: SiteId,
+    pub site_revision: i64,
+    pub created_at: Timestamp,
+    /// `phases`, `scenarios`, `move` or `loop`.
+    #[schema(pattern = "^(phases|scenarios|move|loop)$")]
+    pub kind: String,
+    /// The request as given (the body of the what-if route of `kind`).
+    #[schema(value_type = Object)]
+    pub request: serde_json::Value,
+    /// The result: a `PhaseSearch`, `ScenarioResults`, `MoveResult` or
+    /// `LoopResult` by `kind`.
+    #[schema(value_type = Object)]
+    pub result: serde_json::Value,
+}
+
+impl TryFrom<crate::store::WhatIfRow> for WhatIfResource {
+    type Error = crate::service::ServiceError;
+    fn try_from(row: crate::store::WhatIfRow) -> Result<Self, Self::Error> {
+        let json = |text: &str| {
+            serde_json::from_str(text).map_err(|e| {
+                crate::service::ServiceError::Internal(format!("stored what-if {} is not JSON: {e}", row.id))
+            })
+        };
+        Ok(WhatIfResource {
+            request: json(&row.request)?,
+            result: json(&row.result)?,
+            id: row.id,
+            site_id: row.site_id,
+            site_revision: row.site_revision,
+            created_at: row.created_at,
+            kind: row.kind,
+        })
+    }
+}

@@ -24,6 +24,7 @@ pub use compute::ComputeCounts;
 pub use sites::{IfMatch, SiteView};
 pub use surveys::SurveyView;
 pub use tables::{TableVersionInfo, TableView};
+pub use whatif::{WhatIfAnswer, WhatIfOn};
 
 use crate::ids::SiteId;
 use crate::store::{Store, StoreError};

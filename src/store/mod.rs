@@ -15,6 +15,7 @@ mod orgs;
 mod sites;
 mod surveys;
 mod tables;
+mod whatif;
 
 pub use assessments::{AssessmentRow, NewAssessment, PinnedVersion, RESULT_FORM};
 pub use migrate::{MIGRATIONS_POSTGRES, MIGRATIONS_SQLITE, migrator};
@@ -22,6 +23,7 @@ pub use orgs::{KeyRow, OrgRow, Revoke};
 pub use sites::{RevisionRow, SiteRow, UpdateOutcome};
 pub use surveys::SurveyRow;
 pub use tables::{TableRow, TableVersionRow, VersionReplace};
+pub use whatif::{NewWhatIf, WhatIfRow};
 
 use sqlx::any::{AnyPoolOptions, install_default_drivers};
 use sqlx::{AnyPool, Executor};

@@ -528,22 +528,24 @@ pub fn evaluate_checked(ev: evaluate::Evaluation, budget: &Budget) -> Result<eva
     Ok(evaluate::try_compute(ev, &budget.cancel)?)
 }
 
-/// The table a phase search's ratio is judged by: the request's, else the
-/// site's first; looked up in `tables`, then among the built-in ones.
-fn phase_search_table(
+/// The table a what-if judges the ratio by: the requested one, else the
+/// site's first; `None` when no ratio is wanted or (for `optional`) the
+/// site names none.
+fn whatif_table(
     site: &Site,
-    req: &mitigate::phases::PhaseSearchDoc,
+    requested: Option<&str>,
+    wanted: bool,
     tables: &[ReferenceTable],
 ) -> Result<Option<ReferenceTable>, UseCaseError> {
-    if req.measure != mitigate::phases::Measure::Ratio {
+    if !wanted {
         return Ok(None);
     }
-    let Some(id) = req.table.as_deref().or(site.tables().first().map(String::as_str)) else {
+    let Some(id) = requested.or(site.tables().first().map(String::as_str)) else {
         return Ok(None);
     };
     match find_table(id, tables) {
         Some(t) => Ok(Some(t)),
-        None if req.table.is_some() => {
+        None if requested.is_some() => {
             Err(UseCaseError::WhatIf(Problems::one("/table", format!("unknown table '{id}' (see the tables list)"))))
         }
         None => Err(UseCaseError::WhatIf(Problems::one(
@@ -563,7 +565,7 @@ pub fn search_phases(
     budget: &Budget,
 ) -> Result<mitigate::phases::PhaseSearch, UseCaseError> {
     use mitigate::phases::{SearchBudget, SearchError};
-    let table = phase_search_table(site, req, tables)?;
+    let table = whatif_table(site, req.table.as_deref(), req.measure == mitigate::phases::Measure::Ratio, tables)?;
     let search_budget = SearchBudget {
         max_pairs: budget.max_pairs,
         max_grid_cells: budget.max_grid_cells,
@@ -576,5 +578,81 @@ pub fn search_phases(
         SearchError::OverBudget(p) => UseCaseError::OverBudget(p),
         SearchError::Load(l) => UseCaseError::Load(l),
         SearchError::Cancelled => UseCaseError::Cancelled,
+    })
+}
+
+/// Judges a batch of load scenarios in `site` within `budget`
+/// ([`mitigate::scenarios`]).
+pub fn run_scenarios(
+    site: &Site,
+    req: &mitigate::scenarios::ScenariosDoc,
+    tables: &[ReferenceTable],
+    budget: &Budget,
+) -> Result<mitigate::scenarios::ScenarioResults, UseCaseError> {
+    use mitigate::scenarios::{ScenarioBudget, ScenarioError};
+    let table = whatif_table(site, req.table.as_deref(), true, tables)?;
+    let b = ScenarioBudget {
+        max_pairs: budget.max_pairs,
+        max_grid_cells: budget.max_grid_cells,
+        max_work: budget.max_search_work,
+        cancel: budget.cancel.clone(),
+    };
+    mitigate::scenarios::run_scenarios(site, req, table.as_ref(), &b).map_err(|e| match e {
+        ScenarioError::Request(p) => UseCaseError::WhatIf(p),
+        ScenarioError::OverBudget(p) => UseCaseError::OverBudget(p),
+        ScenarioError::Cancelled => UseCaseError::Cancelled,
+    })
+}
+
+/// Judges a move of conductors or positions in `site` (checked from `doc`)
+/// within `budget` ([`mitigate::moves`]).
+pub fn run_move(
+    site: &Site,
+    doc: &crate::site::wire::SiteDoc,
+    req: &mitigate::moves::MoveDoc,
+    tables: &[ReferenceTable],
+    budget: &Budget,
+) -> Result<mitigate::moves::MoveResult, UseCaseError> {
+    use mitigate::moves::{MoveBudget, MoveError};
+    let table = whatif_table(site, req.table.as_deref(), req.measure == mitigate::Measure::Ratio, tables)?;
+    let b = MoveBudget {
+        max_pairs: budget.max_pairs,
+        max_grid_cells: budget.max_grid_cells,
+        cancel: budget.cancel.clone(),
+    };
+    if req.measure == mitigate::Measure::Ratio && table.is_none() {
+        return Err(UseCaseError::WhatIf(Problems::one(
+            "/table",
+            "name a reference-level table for the ratio (the site names none), or set measure to b_ut with a level",
+        )));
+    }
+    mitigate::moves::run_move(site, doc, req, table.as_ref(), &b).map_err(|e| match e {
+        MoveError::Request(p) => UseCaseError::WhatIf(p),
+        MoveError::OverBudget(p) => UseCaseError::OverBudget(p),
+        MoveError::Load(l) => UseCaseError::Load(l),
+        MoveError::Cancelled => UseCaseError::Cancelled,
+    })
+}
+
+/// Judges a passive loop added to `site` within `budget`
+/// ([`mitigate::loops`]).
+pub fn run_loop(
+    site: &Site,
+    req: &mitigate::loops::LoopDoc,
+    tables: &[ReferenceTable],
+    budget: &Budget,
+) -> Result<mitigate::loops::LoopResult, UseCaseError> {
+    use mitigate::loops::{LoopBudget, LoopError};
+    let table = whatif_table(site, req.table.as_deref(), true, tables)?;
+    let b = LoopBudget {
+        max_pairs: budget.max_pairs,
+        max_grid_cells: budget.max_grid_cells,
+        cancel: budget.cancel.clone(),
+    };
+    mitigate::loops::run_loop(site, req, table.as_ref(), &b).map_err(|e| match e {
+        LoopError::Request(p) => UseCaseError::WhatIf(p),
+        LoopError::OverBudget(p) => UseCaseError::OverBudget(p),
+        LoopError::Load(l) => UseCaseError::Load(l),
+        LoopError::Cancelled => UseCaseError::Cancelled,
     })
 }

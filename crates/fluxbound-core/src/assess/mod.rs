@@ -18,6 +18,7 @@ mod verdict;
 mod weighted_peak;
 
 pub use grid::{DEFAULT_MAX_GRID_CELLS, GridSpec, area_grid, bounding_cells, check_grid_budget, contains};
+pub(crate) use load::report as load_report;
 pub use load::{CircuitLoadReport, LoadCase, LoadCaseReport, LoadError, PhaseLoadReport};
 pub use map::{AreaMap, MAP_MAX_CELLS, TableRatios, area_map, try_area_map};
 pub use peak::CERTAINTY;

@@ -1,14 +1,22 @@
 //! What-if answers: how far away the field falls below a level or a
 //! table's exposure ratio below 1, proven by bounds; which phase
-//! arrangement of chosen circuits gives the lowest exposure; and passive
-//! loops (mutual and self-inductance, the induced current, the field with
-//! it).
+//! arrangement of chosen circuits gives the lowest exposure; load
+//! scenarios (named cases and N-1); moves of conductors or positions; and
+//! passive loops (mutual and self-inductance, the induced current, the
+//! field with it). Each is judged at chosen positions and area grid nodes
+//! from one influence matrix ([`judge`]).
 
 mod distance;
+mod judge;
+pub mod loops;
+pub mod moves;
 mod passive;
 pub mod phases;
 mod ray;
+pub mod scenarios;
 mod text;
+
+pub use judge::{LeftOut, Measure, Worst};
 
 pub use distance::{
     AXIS_EXCLUSION_DEG, DISTANCE_TOLERANCE_M, Direction, DistanceError, DistanceQuantity, DistanceResult,

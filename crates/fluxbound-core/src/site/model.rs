@@ -100,6 +100,8 @@ pub struct Circuit {
     pub overrides: [PhaseOverride; 3],
     /// Sorted by order, orders unique.
     pub harmonics: Vec<Harmonic>,
+    /// Circuits sharing one load (N-1 scenarios); each group has ≥ 2.
+    pub load_group: Option<String>,
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Default)]

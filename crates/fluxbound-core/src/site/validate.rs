@@ -162,7 +162,27 @@ fn check_ids<'a>(ids: impl Iterator<Item = &'a str>, list: &Pointer, what: &str,
 
 pub(crate) fn check_circuits(docs: &[CircuitDoc], at: &Pointer, p: &mut Problems) -> Vec<Circuit> {
     check_ids(docs.iter().map(|c| c.id.as_str()), at, "circuit", p);
+    check_load_groups(docs, at, p);
     docs.iter().enumerate().map(|(i, c)| check_circuit(c, &at.index(i), p)).collect()
+}
+
+/// Load groups: a printable name of 1–64 characters, shared by at least
+/// two circuits (a group of one has nobody to take over its load).
+fn check_load_groups(docs: &[CircuitDoc], at: &Pointer, p: &mut Problems) {
+    for (i, c) in docs.iter().enumerate() {
+        let Some(group) = &c.load_group else { continue };
+        let gp = at.index(i).key("load_group");
+        if group.trim().is_empty() || group.chars().count() > MAX_ID_CHARS {
+            p.push(&gp, format!("load group must be 1 to {MAX_ID_CHARS} characters"));
+        } else if let Some(why) = single_line_problem(group) {
+            p.push(&gp, why);
+        } else if docs.iter().filter(|d| d.load_group.as_ref() == Some(group)).count() < 2 {
+            p.push(
+                &gp,
+                format!("circuit '{}' is the only one in load group '{group}': a load group names circuits that share one load, at least two", c.id),
+            );
+        }
+    }
 }
 
 fn check_circuit(c: &CircuitDoc, at: &Pointer, p: &mut Problems) -> Circuit {
@@ -229,6 +249,7 @@ fn check_circuit(c: &CircuitDoc, at: &Pointer, p: &mut Problems) -> Circuit {
         angle_deg: c.angle_deg,
         overrides,
         harmonics,
+        load_group: c.load_group.clone(),
     }
 }
 

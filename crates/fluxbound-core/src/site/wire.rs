@@ -104,6 +104,12 @@ pub struct CircuitDoc {
     /// Harmonic currents, one per order.
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub harmonics: Vec<HarmonicDoc>,
+    /// Circuits with the same `load_group` feed one load in parallel: when
+    /// one is out of service the others carry its share (the what-if's
+    /// N-1 scenarios). At least two circuits per group (1–64 characters).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    #[cfg_attr(feature = "schema", schema(min_length = 1, max_length = 64))]
+    pub load_group: Option<String>,
 }
 
 /// Per-phase deviations from the balanced set.

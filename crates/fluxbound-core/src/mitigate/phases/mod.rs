@@ -23,9 +23,11 @@ mod text;
 pub use symmetry::PERMUTATIONS;
 pub use text::phases_text;
 
-use crate::assess::{LoadCase, TableRef, line_levels};
+use super::judge::{Chosen, JudgeError, Judged, TargetPoints, lines_present, ratio_weights};
+pub use super::judge::{LeftOut, Measure, Worst};
+use crate::assess::{LoadCase, TableRef};
 use crate::cancel::Cancel;
-use crate::field::{InfluenceMatrix, try_influence_matrix};
+use crate::field::InfluenceMatrix;
 use crate::limits::ReferenceTable;
 use crate::site::wire::{CircuitKind, Phase, SiteDoc};
 use crate::site::{CircuitLoad, Drive, Pointer, Problems, Site};
@@ -47,18 +49,6 @@ pub const MAX_TOP: usize = 100;
 
 /// Most `arrangements × targets` kept in memory by the exhaustive mode.
 const EXHAUSTIVE_CELLS: u64 = 20_000_000;
-
-/// What is minimised.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
-#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
-#[serde(rename_all = "snake_case")]
-pub enum Measure {
-    /// Exposure ratio `Σ_f B_f / B_RL(f)` against one table.
-    #[default]
-    Ratio,
-    /// Resultant RMS flux density over all frequencies, µT.
-    BUt,
-}
 
 /// How the targets' values combine into one objective.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
@@ -159,17 +149,6 @@ pub struct PhaseChange {
     pub to: Phase,
 }
 
-/// Where an arrangement's objective is worst.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
-pub struct Worst {
-    /// `position` or `area`.
-    pub kind: String,
-    pub id: String,
-    /// Its value (ratio, or µT for `b_ut`).
-    pub value: f64,
-}
-
 /// One arrangement.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
@@ -189,15 +168,6 @@ pub struct Arrangement {
     #[cfg_attr(feature = "schema", schema(required = true))]
     pub improvement_percent: Option<f64>,
     pub worst: Worst,
-}
-
-/// A target left out of the search, and why.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
-pub struct LeftOut {
-    pub kind: String,
-    pub id: String,
-    pub reason: String,
 }
 
 /// The answer of a phase-arrangement search.
@@ -247,12 +217,6 @@ pub enum SearchError {
     Cancelled,
 }
 
-impl SearchError {
-    fn request(pointer: &str, detail: &str) -> Self {
-        SearchError::Request(Problems::one(pointer, detail))
-    }
-}
-
 /// Work limits of one search.
 #[derive(Debug, Clone)]
 pub struct SearchBudget {
@@ -285,13 +249,6 @@ impl SearchBudget {
     }
 }
 
-/// A target: its kind, id and points.
-struct TargetPoints {
-    kind: &'static str,
-    id: String,
-    points: Vec<nalgebra::Point3<f64>>,
-}
-
 /// Checks the request against the site: the chosen circuits (indices into
 /// the site's circuits, in request order) and the targets.
 fn check_request(site: &Site, req: &PhaseSearchDoc) -> Result<Vec<usize>, Problems> {
@@ -319,16 +276,7 @@ fn check_request(site: &Site, req: &PhaseSearchDoc) -> Result<Vec<usize>, Proble
     if !(1..=MAX_TOP).contains(&req.top) {
         p.push(&Pointer::root().key("top"), format!("top must be between 1 and {MAX_TOP}"));
     }
-    for (key, ids, known) in [
-        ("positions", &req.positions, site.positions().iter().map(|q| q.id.as_str()).collect::<Vec<_>>()),
-        ("areas", &req.areas, site.areas().iter().map(|a| a.id.as_str()).collect::<Vec<_>>()),
-    ] {
-        for (i, id) in ids.iter().flatten().enumerate() {
-            if !known.contains(&id.as_str()) {
-                p.push(&Pointer::root().key(key).index(i), format!("the site has no {} '{id}'", &key[..key.len() - 1]));
-            }
-        }
-    }
+    Chosen { positions: &req.positions, areas: &req.areas }.check_ids(site, &mut p);
     p.into_result(chosen)
 }
 
@@ -345,52 +293,6 @@ fn line_slot(drive: &Drive, c: usize) -> Option<usize> {
     }
 }
 
-/// Whether `id` is among the chosen `ids` (absent: all are).
-fn wanted(ids: &Option<Vec<String>>, id: &str) -> bool {
-    ids.as_ref().is_none_or(|l| l.iter().any(|x| x == id))
-}
-
-fn targets(site: &Site, req: &PhaseSearchDoc) -> Vec<TargetPoints> {
-    let positions = site.positions().iter().filter(|q| wanted(&req.positions, &q.id)).map(|q| TargetPoints {
-        kind: "position",
-        id: q.id.clone(),
-        points: q.placement.points(),
-    });
-    let areas = site.areas().iter().filter(|a| wanted(&req.areas, &a.id)).map(|a| TargetPoints {
-        kind: "area",
-        id: a.id.clone(),
-        points: crate::assess::area_grid(&a.polygon, a.height_m, a.spacing_m),
-    });
-    positions.chain(areas).collect()
-}
-
-/// The table of the ratio, its levels at the site's lines, or the problem.
-fn ratio_weights(
-    req: &PhaseSearchDoc,
-    table: Option<&ReferenceTable>,
-    line_hz: &[f64],
-    present: &[bool],
-) -> Result<Vec<f64>, Problems> {
-    let at = Pointer::root().key("table");
-    match (req.measure, table) {
-        (Measure::BUt, _) => Ok(vec![1.0; line_hz.len()]),
-        (Measure::Ratio, None) => Err(Problems::one(
-            at.to_string(),
-            "name a reference-level table for the ratio (the site names none), or set measure to b_ut",
-        )),
-        (Measure::Ratio, Some(t)) => {
-            let levels = line_levels(t, line_hz);
-            let mut p = Problems::default();
-            for ((f, level), here) in line_hz.iter().zip(&levels).zip(present) {
-                if level.is_none() && *here {
-                    p.push(&at, format!("table '{}' gives no level at {f} Hz, which the site's currents contain: the ratio cannot be judged; choose a table that covers it or set measure to b_ut", t.id()));
-                }
-            }
-            p.into_result(levels.iter().map(|l| l.map_or(0.0, |l| 1.0 / l)).collect())
-        }
-    }
-}
-
 /// Searches the phase arrangements of `req.circuits` in `site` (checked
 /// from `doc`), with the ratio against `table` (resolved by the caller).
 pub fn search_phases(
@@ -403,53 +305,18 @@ pub fn search_phases(
     let chosen = check_request(site, req).map_err(SearchError::Request)?;
     let loads = req.load.resolve(site).map_err(SearchError::Load)?;
     // Bounds first, from counts alone: nothing is sampled before they pass.
-    let chosen_areas = site.areas().iter().filter(|a| wanted(&req.areas, &a.id));
-    let cells: u64 = chosen_areas.map(|a| crate::assess::bounding_cells(&a.polygon, a.spacing_m)).sum();
-    let over = |what: String, limit: u64| {
-        SearchError::OverBudget(Problems::one(
-            "/areas",
-            format!("{what}, over the budget of {limit}: choose fewer areas or coarsen their spacing_m"),
-        ))
-    };
-    if cells > budget.max_grid_cells {
-        return Err(over(format!("the chosen areas need {cells} grid cells"), budget.max_grid_cells));
-    }
-    let position_points: u64 = site
-        .positions()
-        .iter()
-        .filter(|q| wanted(&req.positions, &q.id))
-        .map(|q| q.placement.point_count() as u64)
-        .sum();
-    let pairs = (position_points + cells).saturating_mul(crate::usecase::segment_count(site.conductors()));
-    if pairs > budget.max_pairs {
-        return Err(over(
-            format!("the search needs {pairs} segment-point pairs for its influence matrix"),
-            budget.max_pairs,
-        ));
-    }
-    let mut all_targets = targets(site, req);
-    if all_targets.iter().all(|t| t.points.is_empty()) {
-        return Err(SearchError::request(
-            "/positions",
-            "nothing to judge the arrangements by: the site (or the request) has no positions or area grid nodes",
-        ));
-    }
+    let choice = Chosen { positions: &req.positions, areas: &req.areas };
+    choice.check_budget(site, 1, budget.max_grid_cells, budget.max_pairs).map_err(SearchError::OverBudget)?;
     let excitation = site.excitation_at(&loads);
     let line_hz: Vec<f64> = excitation.lines.iter().map(|l| l.frequency_hz).collect();
-    let present: Vec<bool> = excitation.lines.iter().map(|l| l.currents_a.iter().any(|c| c.norm() > 0.0)).collect();
-    let weights = ratio_weights(req, table, &line_hz, &present).map_err(SearchError::Request)?;
-
+    let present = lines_present(&excitation);
+    let weights = ratio_weights(req.measure, table, &line_hz, &present).map_err(SearchError::Request)?;
     // Influence matrix at every target point, once.
-    let flat: Vec<nalgebra::Point3<f64>> = all_targets.iter().flat_map(|t| t.points.iter().copied()).collect();
-    let g = try_influence_matrix(&crate::site::filaments(site.conductors()), &flat, &budget.cancel)
-        .map_err(|_| SearchError::Cancelled)?;
-    let (left_out, kept) = drop_inside(&mut all_targets, &g, site);
-    if all_targets.is_empty() {
-        return Err(SearchError::request(
-            "/positions",
-            "every chosen position and area node lies inside a conductor: nothing to judge the arrangements by",
-        ));
-    }
+    let Judged { targets: all_targets, g, kept, left_out } =
+        Judged::sample(site, &[], choice.targets(site), "the arrangements", &budget.cancel).map_err(|e| match e {
+            JudgeError::Nothing(p) => SearchError::Request(p),
+            JudgeError::Cancelled => SearchError::Cancelled,
+        })?;
     let lines = line_currents(site, &chosen, &loads, &excitation);
     let group = symmetry::invariant_relabellings(&lines);
     let first = symmetry::first_circuit_choices(&group);
@@ -568,52 +435,6 @@ fn line_currents(
                 .collect(),
         })
         .collect()
-}
-
-/// Points inside a conductor: removed from their target, which is left
-/// out (with the reason) if none is left. Returns the targets left out and
-/// the indices (into the flat point list) of the points kept, in order.
-fn drop_inside(targets: &mut Vec<TargetPoints>, g: &InfluenceMatrix, site: &Site) -> (Vec<LeftOut>, Vec<usize>) {
-    let mut left = Vec::new();
-    let mut kept = Vec::new();
-    let mut next = 0;
-    for t in targets.iter_mut() {
-        let start = next;
-        next += t.points.len();
-        if t.points.is_empty() {
-            let reason = "no grid node falls inside the area at its spacing_m: make the spacing finer".to_string();
-            left.push(LeftOut { kind: t.kind.to_string(), id: t.id.clone(), reason });
-            continue;
-        }
-        let before = kept.len();
-        kept.extend((start..next).filter(|&i| !g.is_inside(i)));
-        let inside = t.points.len() - (kept.len() - before);
-        if inside == 0 {
-            continue;
-        }
-        let first = (start..next).find(|&i| g.is_inside(i));
-        let conductor = g
-            .inside
-            .iter()
-            .find(|h| Some(h.point) == first)
-            .map_or(String::new(), |h| site.conductors()[h.conductor].id.clone());
-        let reason = if inside == t.points.len() {
-            format!("every point lies inside conductor '{conductor}': the field there is not computed")
-        } else {
-            format!(
-                "{inside} of its {} points lie inside conductor '{conductor}' (or another): those are not judged",
-                t.points.len()
-            )
-        };
-        left.push(LeftOut { kind: t.kind.to_string(), id: t.id.clone(), reason });
-        let mut k = start;
-        t.points.retain(|_| {
-            k += 1;
-            !g.is_inside(k - 1)
-        });
-    }
-    targets.retain(|t| !t.points.is_empty());
-    (left, kept)
 }
 
 #[allow(clippy::too_many_arguments)]

@@ -3,12 +3,7 @@
 use super::{Arrangement, Measure, Method, PhaseSearch};
 use std::fmt::Write;
 
-fn value(measure: Measure, v: f64) -> String {
-    match measure {
-        Measure::Ratio => format!("ratio {v:.3}"),
-        Measure::BUt => format!("{v:.2} µT"),
-    }
-}
+use crate::mitigate::judge::{closing_text, value_text as value};
 
 fn phases(a: &Arrangement) -> String {
     a.phases.iter().map(|(c, p)| format!("{c}: {:?}{:?}{:?}", p[0], p[1], p[2])).collect::<Vec<_>>().join(", ")
@@ -73,15 +68,6 @@ pub fn phases_text(r: &PhaseSearch) -> String {
         let _ = writeln!(s, "     phases {}", phases(a));
         let _ = writeln!(s, "     changes {}", changes(a));
     }
-    if !r.left_out.is_empty() {
-        let _ = writeln!(s);
-        for l in &r.left_out {
-            let _ = writeln!(s, "Left out: {} {}: {}", l.kind, l.id, l.reason);
-        }
-    }
-    let _ = writeln!(s);
-    for n in r.notes.iter().chain(&r.cautions) {
-        let _ = writeln!(s, "- {n}");
-    }
+    closing_text(&mut s, &r.left_out, &r.notes, &r.cautions);
     s
 }

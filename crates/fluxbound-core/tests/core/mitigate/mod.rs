@@ -8,6 +8,7 @@
 
 mod passive;
 mod phases;
+mod whatif;
 
 use fluxbound_core::assess::LoadCase;
 use fluxbound_core::limits::parse_table;

@@ -1,0 +1,357 @@
+//! A passive loop added to a site: its induced current on every spectral
+//! line and the field at the chosen targets without and with it, from one
+//! influence matrix of the site's conductors and the loop ([`super::passive`]
+//! for the inductances and the current).
+
+use super::judge::{
+    Chosen, JudgeError, Judged, LeftOut, Measure, Worst, closing_text, lines_present, ratio_weights, value_text,
+};
+use super::passive::{LoopResistance, PassiveLoop, PassiveLoopError, loop_coupling};
+use crate::assess::{LoadCase, TableRef};
+use crate::cancel::Cancel;
+use crate::field::Filament;
+use crate::limits::ReferenceTable;
+use crate::site::{Pointer, Problems, Site};
+use nalgebra::Point3;
+use num_complex::Complex64;
+use serde::{Deserialize, Serialize};
+
+/// Most vertices of a loop.
+pub const MAX_LOOP_VERTICES: usize = 1000;
+
+/// How the loop's resistance is given.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
+#[serde(tag = "kind", rename_all = "snake_case", deny_unknown_fields)]
+pub enum ResistanceDoc {
+    /// The whole loop's resistance, Ω (measured, joints included).
+    Given {
+        #[cfg_attr(feature = "schema", schema(exclusive_minimum = 0))]
+        ohm: f64,
+    },
+    /// Uniform wire, `R = length / (σ·A)` at DC (copper ≈ 5.8e7 S/m,
+    /// aluminium ≈ 3.5e7 S/m).
+    Wire {
+        #[cfg_attr(feature = "schema", schema(exclusive_minimum = 0))]
+        cross_section_mm2: f64,
+        #[cfg_attr(feature = "schema", schema(exclusive_minimum = 0))]
+        conductivity_s_per_m: f64,
+    },
+}
+
+/// A passive-loop request.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
+#[serde(deny_unknown_fields)]
+pub struct LoopDoc {
+    /// Closed polygon `[[x, y, z], …]`, m (3–1000 vertices; the last joins
+    /// the first). The loop current is positive in vertex order.
+    #[cfg_attr(feature = "schema", schema(min_items = 3, max_items = 1000))]
+    pub path: Vec<[f64; 3]>,
+    /// Radius of the loop's round wire, m.
+    #[cfg_attr(feature = "schema", schema(exclusive_minimum = 0))]
+    pub wire_radius_m: f64,
+    pub resistance: ResistanceDoc,
+    /// The load judged at (default present).
+    #[serde(default)]
+    pub load: LoadCase,
+    /// Table of the ratio (default: the site's first table; none: B only).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub table: Option<String>,
+    /// Position ids judged (default: all; `[]` for none).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub positions: Option<Vec<String>>,
+    /// Area ids judged on their grid nodes (default: all; `[]` for none).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub areas: Option<Vec<String>>,
+}
+
+/// The loop current on one spectral line.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
+pub struct LoopLine {
+    /// Harmonic order (1 = fundamental).
+    pub order: u32,
+    pub frequency_hz: f64,
+    /// RMS loop current, A.
+    pub current_a: f64,
+    /// Its phase angle, degrees (same reference as the circuits').
+    pub angle_deg: f64,
+    /// Loop reactance `ωL`, Ω.
+    pub reactance_ohm: f64,
+}
+
+/// A target's values without and with the loop.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
+pub struct LoopTarget {
+    /// `position` or `area`.
+    pub kind: String,
+    pub id: String,
+    /// Highest resultant RMS flux density without the loop, µT.
+    pub b_without_ut: f64,
+    /// With the loop, µT.
+    pub b_with_ut: f64,
+    /// `(without − with)/without`, percent (negative: the loop raises it;
+    /// `null` when there is no field without it).
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub reduction_percent: Option<f64>,
+    /// Highest ratio without the loop (`null` without a table).
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub ratio_without: Option<f64>,
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub ratio_with: Option<f64>,
+}
+
+/// The answer for a passive loop.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
+pub struct LoopResult {
+    pub length_m: f64,
+    pub resistance_ohm: f64,
+    /// Self-inductance, H (thin round wire, uniform current).
+    pub self_inductance_h: f64,
+    pub load: LoadCase,
+    /// The loop current per spectral line.
+    pub lines: Vec<LoopLine>,
+    pub measure: Measure,
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub table: Option<TableRef>,
+    pub targets: Vec<LoopTarget>,
+    pub worst_without: Worst,
+    pub worst_with: Worst,
+    pub left_out: Vec<LeftOut>,
+    pub notes: Vec<String>,
+    pub cautions: Vec<String>,
+}
+
+/// Why a loop could not be judged.
+#[derive(Debug, Clone, PartialEq)]
+pub enum LoopError {
+    Request(Problems),
+    OverBudget(Problems),
+    Load(crate::assess::LoadError),
+    Cancelled,
+}
+
+/// Work limits.
+#[derive(Debug, Clone)]
+pub struct LoopBudget {
+    pub max_pairs: u64,
+    pub max_grid_cells: u64,
+    pub cancel: Cancel,
+}
+
+/// The loop of the request, or the problem at its field.
+fn passive(req: &LoopDoc) -> Result<PassiveLoop, Problems> {
+    let mut p = Problems::default();
+    if !(3..=MAX_LOOP_VERTICES).contains(&req.path.len()) {
+        p.push(&Pointer::root().key("path"), format!("a loop needs 3 to {MAX_LOOP_VERTICES} vertices"));
+    }
+    for (i, v) in req.path.iter().enumerate() {
+        for (d, c) in v.iter().enumerate() {
+            crate::site::check_coordinate(*c, &Pointer::root().key("path").index(i).index(d), &mut p);
+        }
+    }
+    let resistance = match req.resistance {
+        ResistanceDoc::Given { ohm } => LoopResistance::Ohm(ohm),
+        ResistanceDoc::Wire { cross_section_mm2, conductivity_s_per_m } => {
+            LoopResistance::Wire { cross_section_mm2, conductivity_s_per_m }
+        }
+    };
+    let l = PassiveLoop {
+        path: req.path.iter().map(|v| Point3::new(v[0], v[1], v[2])).collect(),
+        wire_radius_m: req.wire_radius_m,
+        resistance,
+    };
+    p.into_result(l)
+}
+
+/// The pointer a loop error belongs to.
+fn loop_problem(e: &PassiveLoopError) -> Problems {
+    let at = match e {
+        PassiveLoopError::TooFewVertices { .. }
+        | PassiveLoopError::ZeroLengthSegment { .. }
+        | PassiveLoopError::NotFinite { what: "a loop vertex" } => "/path",
+        PassiveLoopError::WireRadius | PassiveLoopError::WireTooThick { .. } => "/wire_radius_m",
+        PassiveLoopError::Resistance | PassiveLoopError::NotFinite { .. } => "/resistance",
+        PassiveLoopError::TooClose { .. } => "/path",
+        PassiveLoopError::CurrentCount { .. } | PassiveLoopError::Frequency { .. } => "",
+    };
+    Problems::one(at, e.to_string())
+}
+
+/// Judges `req`'s loop in `site`, the ratio against `table` (resolved by
+/// the caller; `None`: B only).
+pub fn run_loop(
+    site: &Site,
+    req: &LoopDoc,
+    table: Option<&ReferenceTable>,
+    budget: &LoopBudget,
+) -> Result<LoopResult, LoopError> {
+    let choice = Chosen { positions: &req.positions, areas: &req.areas };
+    let mut p = Problems::default();
+    choice.check_ids(site, &mut p);
+    let pl = match passive(req) {
+        Ok(l) if p.is_empty() => l,
+        Ok(_) => return Err(LoopError::Request(p)),
+        Err(e) => {
+            p.0.extend(e.0);
+            return Err(LoopError::Request(p));
+        }
+    };
+    let loads = req.load.resolve(site).map_err(LoopError::Load)?;
+    choice.check_budget(site, 1, budget.max_grid_cells, budget.max_pairs).map_err(LoopError::OverBudget)?;
+    let sources: Vec<Filament> =
+        site.conductors().iter().map(|c| Filament { path: c.path.clone(), radius_m: c.radius_m }).collect();
+    let coupling = loop_coupling(&pl, &sources).map_err(|e| LoopError::Request(loop_problem(&e)))?;
+    if budget.cancel.is_cancelled() {
+        return Err(LoopError::Cancelled);
+    }
+    let excitation = site.excitation_at(&loads);
+    let measure = if table.is_some() { Measure::Ratio } else { Measure::BUt };
+    let line_hz: Vec<f64> = excitation.lines.iter().map(|l| l.frequency_hz).collect();
+    let weights = ratio_weights(measure, table, &line_hz, &lines_present(&excitation)).map_err(LoopError::Request)?;
+    let currents: Vec<Complex64> =
+        excitation.lines.iter().map(|l| coupling.current_a(l.frequency_hz, &l.currents_a)).collect();
+    let vertices = pl.vertices().map_err(|e| LoopError::Request(loop_problem(&e)))?;
+    let mut closed = vertices.to_vec();
+    closed.push(vertices[0]);
+    let filament = Filament { path: closed, radius_m: pl.wire_radius_m };
+    let judged =
+        Judged::sample(site, std::slice::from_ref(&filament), choice.targets(site), "the loop", &budget.cancel)
+            .map_err(|e| match e {
+                JudgeError::Nothing(p) => LoopError::Request(p),
+                JudgeError::Cancelled => LoopError::Cancelled,
+            })?;
+    let mut with = excitation.clone();
+    for (line, i) in with.lines.iter_mut().zip(&currents) {
+        line.currents_a.push(*i);
+    }
+    let before = judged.values(&excitation, &weights);
+    let after = judged.values(&with, &weights);
+    let targets: Vec<LoopTarget> = judged
+        .targets
+        .iter()
+        .zip(before.iter().zip(&after))
+        .map(|(t, (b, a))| LoopTarget {
+            kind: t.kind.to_string(),
+            id: t.id.clone(),
+            b_without_ut: b.b_ut,
+            b_with_ut: a.b_ut,
+            reduction_percent: (b.b_ut > 0.0).then(|| (b.b_ut - a.b_ut) / b.b_ut * 100.0),
+            ratio_without: (measure == Measure::Ratio).then_some(b.ratio),
+            ratio_with: (measure == Measure::Ratio).then_some(a.ratio),
+        })
+        .collect();
+    let worst = |pick: &dyn Fn(&LoopTarget) -> f64| {
+        targets
+            .iter()
+            .map(|t| Worst { kind: t.kind.clone(), id: t.id.clone(), value: pick(t) })
+            .max_by(|a, b| a.value.total_cmp(&b.value))
+            .expect("sampling leaves at least one target")
+    };
+    let worst_without = worst(&|t| t.ratio_without.unwrap_or(t.b_without_ut));
+    let worst_with = worst(&|t| t.ratio_with.unwrap_or(t.b_with_ut));
+    let lines = excitation
+        .lines
+        .iter()
+        .zip(&currents)
+        .map(|(l, i)| LoopLine {
+            order: l.order,
+            frequency_hz: l.frequency_hz,
+            current_a: i.norm(),
+            angle_deg: if i.norm() > 0.0 { i.arg().to_degrees() } else { 0.0 },
+            reactance_ohm: 2.0 * std::f64::consts::PI * l.frequency_hz * coupling.self_h,
+        })
+        .collect();
+    let mut notes = vec![
+        "The loop's resistance is taken at DC (no skin effect) and its current is uniform in the wire: a loop of \
+         wire thicker than the skin depth, or of steel, carries less current and reduces the field less than shown."
+            .to_string(),
+        "The loop is drawn from its centre line; connections, joints and earthing paths that close other loops are \
+         not modelled. Measure after installation."
+            .to_string(),
+        "Areas are judged at the nodes of their grid; between nodes the field can be higher. Assess the site with \
+         the loop modelled to confirm."
+            .to_string(),
+    ];
+    if let ResistanceDoc::Wire { conductivity_s_per_m, .. } = req.resistance
+        && let Some(f) = excitation.lines.iter().map(|l| l.frequency_hz).reduce(f64::max)
+    {
+        // Skin depth δ = √(2 / (ω µ0 σ)) (textbook, non-magnetic conductor).
+        let omega = 2.0 * std::f64::consts::PI * f;
+        let delta = (2.0 / (omega * super::passive::MU0_H_PER_M * conductivity_s_per_m)).sqrt();
+        if req.wire_radius_m > delta {
+            notes.push(format!(
+                "The wire's radius ({:.1} mm) exceeds the skin depth at {f} Hz ({:.1} mm): its AC resistance is higher \
+                 than the DC value used, so the loop current and the reduction shown are too high. Give the measured \
+                 resistance instead.",
+                req.wire_radius_m * 1e3,
+                delta * 1e3
+            ));
+        }
+    }
+    Ok(LoopResult {
+        length_m: pl.length_m().map_err(|e| LoopError::Request(loop_problem(&e)))?,
+        resistance_ohm: coupling.resistance_ohm,
+        self_inductance_h: coupling.self_h,
+        load: req.load.clone(),
+        lines,
+        measure,
+        table: table.map(TableRef::of),
+        targets,
+        worst_without,
+        worst_with,
+        left_out: judged.left_out,
+        notes,
+        cautions: crate::cautions::cautions(),
+    })
+}
+
+/// The loop as a short report for the command line.
+pub fn loop_text(r: &LoopResult) -> String {
+    use std::fmt::Write;
+    let mut s = String::new();
+    let _ = writeln!(
+        s,
+        "Passive loop: {:.2} m of wire, R = {:.4} mΩ, L = {:.3} µH, at {} load",
+        r.length_m,
+        r.resistance_ohm * 1e3,
+        r.self_inductance_h * 1e6,
+        r.load.name()
+    );
+    for l in &r.lines {
+        let _ = writeln!(
+            s,
+            "  order {:>2} ({} Hz): loop current {:.2} A at {:.1}°, ωL = {:.4} mΩ",
+            l.order,
+            l.frequency_hz,
+            l.current_a,
+            l.angle_deg,
+            l.reactance_ohm * 1e3
+        );
+    }
+    let _ = writeln!(s);
+    let _ = writeln!(s, "{:<9} {:<20} {:>12} {:>12} {:>10}", "kind", "id", "without µT", "with µT", "change");
+    for t in &r.targets {
+        let change = t.reduction_percent.map_or("—".to_string(), |p| format!("{:+.1} %", -p));
+        let _ = writeln!(s, "{:<9} {:<20} {:>12.3} {:>12.3} {:>10}", t.kind, t.id, t.b_without_ut, t.b_with_ut, change);
+        if let (Some(a), Some(b)) = (t.ratio_without, t.ratio_with) {
+            let _ = writeln!(s, "{:<9} {:<20} {:>12} {:>12}", "", "ratio", format!("{a:.3}"), format!("{b:.3}"));
+        }
+    }
+    let _ = writeln!(s);
+    let _ = writeln!(
+        s,
+        "Worst without the loop: {} '{}' at {}; with it: {} '{}' at {}",
+        r.worst_without.kind,
+        r.worst_without.id,
+        value_text(r.measure, r.worst_without.value),
+        r.worst_with.kind,
+        r.worst_with.id,
+        value_text(r.measure, r.worst_with.value)
+    );
+    closing_text(&mut s, &r.left_out, &r.notes, &r.cautions);
+    s
+}
