@@ -2,8 +2,9 @@
 //! table's exposure ratio below 1, proven by bounds; which phase
 //! arrangement of chosen circuits gives the lowest exposure; and passive
 //! loops (mutual and self-inductance, the induced current, the field with
-//! it).
+//! it); and two assessments side by side.
 
+pub mod compare;
 mod distance;
 mod passive;
 pub mod phases;
