@@ -233,7 +233,7 @@ impl Modify for PathIds {
         routes::surveys::surveys_create, routes::surveys::surveys_list, routes::surveys::surveys_show,
         routes::surveys::surveys_reconciliation, routes::surveys::surveys_extrapolation,
         routes::evaluate::evaluate,
-        routes::whatif::whatif_phases,
+        routes::whatif::whatif_phases, routes::assessments::assessments_compare,
         routes::keys::keys_list, routes::keys::keys_create, routes::keys::keys_revoke,
         routes::ops::healthz, routes::ops::readyz, routes::ops::metrics,
     ),

@@ -11,6 +11,7 @@
 use crate::assess::{AreaResult, Assessment, PositionResult, TableRef, Verdict};
 use crate::cautions::cautions;
 use serde::{Deserialize, Serialize};
+use std::collections::{HashMap, HashSet};
 
 mod text;
 
@@ -373,21 +374,24 @@ fn shared_tables(before: &[TableRef], after: &[TableRef]) -> Vec<SharedTable> {
         .collect()
 }
 
-/// Items on both sides (in the before side's order) and the ids of those on one side only.
+/// Items on both sides (in the before side's order) and the ids of those
+/// on one side only; matched through a map, so linear in the items.
 fn match_items(
     before: &[Item<'_>],
     after: &[Item<'_>],
     shared: &[&str],
 ) -> (Vec<ItemChange>, Vec<String>, Vec<String>) {
+    let after_by_id: HashMap<&str, &Item<'_>> = after.iter().map(|a| (a.id, a)).collect();
+    let before_ids: HashSet<&str> = before.iter().map(|b| b.id).collect();
     let mut both = Vec::new();
     let mut only_before = Vec::new();
     for b in before {
-        match after.iter().find(|a| a.id == b.id) {
+        match after_by_id.get(b.id) {
             Some(a) => both.push(item_change(b, a, shared)),
             None => only_before.push(b.id.to_string()),
         }
     }
-    let only_after = after.iter().filter(|a| !before.iter().any(|b| b.id == a.id)).map(|a| a.id.to_string()).collect();
+    let only_after = after.iter().filter(|a| !before_ids.contains(a.id)).map(|a| a.id.to_string()).collect();
     (both, only_before, only_after)
 }
 
