@@ -103,8 +103,9 @@ impl Change {
     /// The change between two values; never NaN or infinite: a missing side
     /// or a zero base gives `null` with words instead.
     pub fn of(before: Option<f64>, after: Option<f64>) -> Change {
+        let (before, after) = (before.filter(|v| v.is_finite()), after.filter(|v| v.is_finite()));
         let (b, a) = match (before, after) {
-            (Some(b), Some(a)) if b.is_finite() && a.is_finite() => (b, a),
+            (Some(b), Some(a)) => (b, a),
             (None, None) => return Change::missing("not computed on either side"),
             (None, _) => return Change::missing("not computed before"),
             _ => return Change::missing("not computed after"),
@@ -501,7 +502,7 @@ fn site_notes(before: &Assessment, after: &Assessment, notes: &mut Vec<String>) 
     }
     match (&before.provenance, &after.provenance) {
         (Some(b), Some(a)) if b.site_sha256 == a.site_sha256 => {
-            notes.push("the same site document on both sides (equal SHA-256): only the load, tables or options differ".to_string())
+            notes.push("the same site document on both sides (equal SHA-256): only the load, tables or options can differ".to_string())
         }
         (Some(b), Some(a)) => notes.push(format!(
             "different site documents ({}, SHA-256 {}… before; {}, SHA-256 {}… after): the change includes changes to the model",
