@@ -346,6 +346,8 @@ pub enum WhatifAction {
     Move(MoveArgs),
     /// Add a passive loop: its induced current per harmonic and the field without and with it.
     Loop(LoopArgs),
+    /// Two assessment results side by side (as written by `assess --format json`): B, ratios, verdicts and the change.
+    Compare(CompareArgs),
 }
 
 #[derive(Debug, clap::Args)]
@@ -441,6 +443,19 @@ pub struct LoopArgs {
     /// A custom table (JSON) that the loop's table may name; may be repeated.
     #[arg(long = "table-file", value_name = "FILE")]
     pub table_files: Vec<PathBuf>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Table)]
+    pub format: Format,
+}
+
+#[derive(Debug, clap::Args)]
+pub struct CompareArgs {
+    /// The first assessment result (JSON from `fluxbound assess --format json`), or `-` for standard input.
+    #[arg(value_name = "BEFORE")]
+    pub before: PathBuf,
+    /// The second assessment result; every change is AFTER − BEFORE.
+    #[arg(value_name = "AFTER")]
+    pub after: PathBuf,
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Table)]
     pub format: Format,
@@ -730,6 +745,7 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<ExitCode, CliError> {
         Command::Whatif { action: WhatifAction::Scenarios(args) } => scenarios_command(&args, out),
         Command::Whatif { action: WhatifAction::Move(args) } => move_command(&args, out),
         Command::Whatif { action: WhatifAction::Loop(args) } => loop_command(&args, out),
+        Command::Whatif { action: WhatifAction::Compare(args) } => compare_command(&args, out),
         Command::Survey { action: SurveyAction::Reconcile { site, survey, tables, review_fraction, format } } => {
             survey_command(&SurveyInputs { site, survey, tables, review_fraction }, format, out)
         }
@@ -967,6 +983,44 @@ fn phases_command(args: &PhasesArgs, out: &mut dyn Write) -> Result<ExitCode, Cl
         Format::Table => write!(out, "{}", phases_text(&result)).map_err(CliError::Write)?,
     }
     Ok(ExitCode::SUCCESS)
+}
+
+fn compare_command(args: &CompareArgs, out: &mut dyn Write) -> Result<ExitCode, CliError> {
+    if args.before == Path::new("-") && args.after == Path::new("-") {
+        return Err(CliError::Problems(vec!["AFTER: standard input is already BEFORE; give a file".to_string()]));
+    }
+    let before = read_assessment("BEFORE", &args.before);
+    let after = read_assessment("AFTER", &args.after);
+    let (before, after) = match (before, after) {
+        (Ok(b), Ok(a)) => (b, a),
+        (b, a) => return Err(CliError::Problems(b.err().into_iter().chain(a.err()).flatten().collect())),
+    };
+    let result = mitigate::compare::compare(&before, &after);
+    match args.format {
+        Format::Json => write_json(out, &result)?,
+        Format::Table => write!(out, "{}", mitigate::compare::comparison_text(&result)).map_err(CliError::Write)?,
+    }
+    Ok(ExitCode::SUCCESS)
+}
+
+/// An assessment result from a file, or its problems named by the
+/// argument (`BEFORE`, `AFTER`) and the file, with pointers into it.
+fn read_assessment(arg: &str, path: &Path) -> Result<fluxbound_core::assess::Assessment, Vec<String>> {
+    use fluxbound_core::site::Unreadable;
+    let at = format!("{arg} ({})", file_label(path));
+    let text = read_input(path).map_err(|e| match e {
+        CliError::Read { source, .. } => vec![format!("{at}: cannot be read: {source}")],
+        other => vec![format!("{at}: {other}")],
+    })?;
+    site::read_json(&text).map_err(|e| match e {
+        Unreadable::Malformed(why) => vec![format!("{at}: not valid JSON: {why}")],
+        Unreadable::Invalid(problems) => {
+            let mut lines =
+                vec![format!("{at}: not an assessment result (write one with `fluxbound assess SITE --format json`)")];
+            lines.extend(problems.iter().map(|p| format!("{at} {p}")));
+            lines
+        }
+    })
 }
 
 /// A what-if request's problem, addressed by the flag that set the value

@@ -101,6 +101,7 @@ pub fn router(state: AppState) -> Router {
         .route("/v1/assessments/{assessment_id}/positions.csv", get(reports::reports_csv))
         .route("/v1/assessments/{assessment_id}/features.geojson", get(reports::reports_geojson))
         .route("/v1/assessments/{assessment_id}/distance", get(reports::reports_distance))
+        .route("/v1/assessments/{assessment_id}/comparison", get(assessments::assessments_compare))
         .route("/v1/tables", get(tables::tables_list).post(tables::tables_create))
         .route("/v1/tables/{table_id}", get(tables::tables_show))
         .route("/v1/tables/{table_id}/versions", post(tables::tables_version_add))

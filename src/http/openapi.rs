@@ -234,7 +234,7 @@ impl Modify for PathIds {
         routes::surveys::surveys_reconciliation, routes::surveys::surveys_extrapolation,
         routes::evaluate::evaluate,
         routes::whatif::whatif_phases, routes::whatif::whatif_scenarios, routes::whatif::whatif_move,
-        routes::whatif::whatif_loop, routes::whatif::whatif_show,
+        routes::whatif::whatif_loop, routes::whatif::whatif_show, routes::assessments::assessments_compare,
         routes::keys::keys_list, routes::keys::keys_create, routes::keys::keys_revoke,
         routes::ops::healthz, routes::ops::readyz, routes::ops::metrics,
     ),

@@ -9,6 +9,7 @@
 mod assessments;
 mod auth;
 mod bounds;
+mod compare;
 mod compute;
 mod evaluate;
 mod reports;

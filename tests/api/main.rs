@@ -6,6 +6,7 @@ mod helpers;
 
 mod assessments;
 mod clients;
+mod compare;
 mod compute;
 mod edges;
 mod errors;

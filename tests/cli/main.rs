@@ -1,6 +1,7 @@
 //! The `fluxbound` binary, run as a user would run it: arguments, standard
 //! input, files, exit codes, standard output and standard error.
 
+mod compare;
 mod container;
 
 use serde_json::{Value, json};

@@ -24,7 +24,8 @@
 //!             bounded least-squares load fit, extrapolation to rated load
 //! survey/lm   the Levenberg–Marquardt solver of the fit, tuning named and cited
 //! mitigate/   first crossing and clearance to a level or a table, proven by bounds;
-//!             passive loops (mutual and self-inductance, induced current)
+//!             passive loops (mutual and self-inductance, induced current);
+//!             two assessments side by side (mitigate/compare)
 //! report/     pure renderers: text, CSV, SVG, GeoJSON, contours, geodesy
 //! provenance  canonical JSON (RFC 8785), the site fingerprint, where a result came from
 //! usecase     one function per thing a caller can do (CLI and service alike)

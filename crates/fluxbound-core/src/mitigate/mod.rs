@@ -1,11 +1,13 @@
 //! What-if answers: how far away the field falls below a level or a
 //! table's exposure ratio below 1, proven by bounds; which phase
 //! arrangement of chosen circuits gives the lowest exposure; load
-//! scenarios (named cases and N-1); moves of conductors or positions; and
+//! scenarios (named cases and N-1); moves of conductors or positions;
 //! passive loops (mutual and self-inductance, the induced current, the
-//! field with it). Each is judged at chosen positions and area grid nodes
-//! from one influence matrix ([`judge`]).
+//! field with it); and two assessments side by side. The what-ifs are
+//! judged at chosen positions and area grid nodes from one influence
+//! matrix ([`judge`]).
 
+pub mod compare;
 mod distance;
 mod judge;
 pub mod loops;

@@ -6,6 +6,7 @@
 //! and the long straight wire (OpenStax University Physics Vol. 2 §12.2,
 //! B = 0.2·I/r µT).
 
+mod compare;
 mod passive;
 mod phases;
 mod whatif;
