@@ -229,7 +229,8 @@ impl Contract {
 
 impl Contract {
     /// Query parameters of an accepted request: each documented, each value
-    /// within its schema (numbers compared as numbers).
+    /// within its schema (numbers compared as numbers, `true`/`false` as
+    /// booleans).
     fn check_query(&self, op: &str, query: &str, what: &str) -> Vec<String> {
         let params = self.doc.pointer(&format!("{op}/parameters")).and_then(Value::as_array).cloned();
         let mut out = Vec::new();
@@ -240,9 +241,16 @@ impl Contract {
                 continue;
             };
             let schema = format!("{op}/parameters/{i}/schema");
-            let numeric = self.doc.pointer(&format!("{schema}/type")).is_some_and(|t| t == "integer" || t == "number");
-            let value = match raw.parse::<f64>() {
-                Ok(n) if numeric => json!(n),
+            // The schema's type, or any of its listed types (`["boolean", "null"]`).
+            let has_type = |want: &[&str]| {
+                self.doc.pointer(&format!("{schema}/type")).is_some_and(|t| match t {
+                    Value::Array(list) => list.iter().any(|x| want.iter().any(|w| x == w)),
+                    t => want.iter().any(|w| t == w),
+                })
+            };
+            let value = match (raw.parse::<f64>(), raw.parse::<bool>()) {
+                (Ok(n), _) if has_type(&["integer", "number"]) => json!(n),
+                (_, Ok(b)) if has_type(&["boolean"]) => json!(b),
                 _ => json!(raw),
             };
             out.extend(self.validate(&schema, &value, &format!("{what} ?{name}")));

@@ -59,3 +59,107 @@ async fn problems_of_a_phase_search_point_into_the_request() {
     let other = app.key("org-b", Role::Assessor).await;
     assert_eq!(app.post(&path, &other, &json!({"circuits": ["TX1-a"]})).await.status(), 404);
 }
+
+#[tokio::test]
+async fn scenarios_are_stored_when_asked_and_read_back_with_their_request() {
+    let app = spawn_app().await;
+    let key = app.key("org-a", Role::Assessor).await;
+    let id = app.site(&key, &example("site-control-room-tray.json")).await;
+    let path = format!("/v1/sites/{id}/whatif/scenarios");
+    // Not stored by default: 200 and no location.
+    let res = app.post(&path, &key, &json!({})).await;
+    assert_eq!(res.status(), 200);
+    assert!(res.headers().get("location").is_none());
+    let r: Value = res.json().await.unwrap();
+    let names: Vec<&str> = r["scenarios"].as_array().unwrap().iter().map(|s| s["name"].as_str().unwrap()).collect();
+    assert_eq!(names, ["present", "rated"]);
+    // Fields scale with current (Biot–Savart is linear): rated 2300 A
+    // against present 2200 A gives 2300/2200 of the ratio.
+    let ratio = |k: usize| r["scenarios"][k]["targets"][0]["ratio"].as_f64().unwrap();
+    assert!((ratio(1) / ratio(0) - 2300.0 / 2200.0).abs() < 1e-12, "{r}");
+    assert_eq!(r["worst"]["scenario"], "rated");
+    // Stored: 201, Location, and the same result read back with the request.
+    let body = json!({"scenarios": [{"name": "half", "load": {"kind": "scale", "factors": {"TX1-a": 0.5}}}]});
+    let res = app.post(&format!("{path}?store=true"), &key, &body).await;
+    assert_eq!(res.status(), 201);
+    let location = res.headers().get("location").unwrap().to_str().unwrap().to_string();
+    assert!(location.starts_with("/v1/whatif-results/"), "{location}");
+    let answered: Value = res.json().await.unwrap();
+    let viewer = app.key("org-a", Role::Viewer).await;
+    let stored: Value = app.get(&location, &viewer).await.json().await.unwrap();
+    assert_eq!(stored["kind"], "scenarios");
+    assert_eq!(stored["site_revision"], 1);
+    assert_eq!(stored["result"], answered);
+    assert_eq!(stored["request"]["scenarios"][0]["name"], "half");
+    // Another organisation does not see it; a bad flag is refused.
+    let other = app.key("org-b", Role::Viewer).await;
+    assert_eq!(app.get(&location, &other).await.status(), 404);
+    assert_eq!(app.post(&format!("{path}?store=maybe"), &key, &body).await.status(), 400);
+    // N-1 without load groups says what to mark, at its pointer.
+    let res = app.post(&path, &key, &json!({"n_minus_1": {}})).await;
+    assert_problem(res, 422, "validation", Some("/n_minus_1")).await;
+}
+
+#[tokio::test]
+async fn the_smallest_move_saved_as_a_revision_no_longer_exceeds() {
+    let app = spawn_app().await;
+    let key = app.key("org-a", Role::Assessor).await;
+    let id = app.site(&key, &example("site-control-room-tray.json")).await;
+    let path = format!("/v1/sites/{id}/whatif/move");
+    let body = json!({"moving": {"circuits": ["TX1-a", "TX1-b"]}, "by_m": [3.0, 0.0, 0.0], "steps": 6});
+    let res = app.post(&path, &key, &body).await;
+    assert_eq!(res.status(), 200);
+    let r: Value = res.json().await.unwrap();
+    assert!(r["steps"][0]["under_level"] == false, "{r}");
+    let d = r["smallest"]["distance_m"].as_f64().unwrap();
+    assert!(d > 0.0 && d <= 0.5, "{d}");
+    let put = app.put(&format!("/v1/sites/{id}"), &key, &r["revision"], Some("\"1\"")).await;
+    assert_eq!(put.status(), 200);
+    let assessed: Value =
+        app.post(&format!("/v1/sites/{id}/assessments"), &key, &json!({})).await.json().await.unwrap();
+    assert_ne!(assessed["result"]["summary"]["worst_verdict"], "exceeds");
+    // Refusals with pointers.
+    let res = app.post(&path, &key, &json!({"moving": {}, "by_m": [0.0, 0.0, 0.0]})).await;
+    let p = assert_problem(res, 422, "validation", Some("/moving")).await;
+    assert!(p.to_string().contains("/by_m"), "{p}");
+    let res = app.post(&path, &key, &json!({"moving": {"conductors": ["nope"]}, "by_m": [1.0, 0.0, 0.0]})).await;
+    assert_problem(res, 422, "validation", Some("/moving/conductors/0")).await;
+    let res =
+        app.post(&path, &key, &json!({"moving": {"positions": ["operator-desk"]}, "by_m": [0.0, 0.0, 1.0]})).await;
+    assert_problem(res, 422, "validation", Some("/by_m/2")).await;
+}
+
+#[tokio::test]
+async fn a_passive_loop_over_the_tray_reports_its_current_and_lowers_the_desk() {
+    let app = spawn_app().await;
+    let key = app.key("org-a", Role::Assessor).await;
+    let id = app.site(&key, &example("site-control-room-tray.json")).await;
+    let path = format!("/v1/sites/{id}/whatif/loop");
+    let body = json!({
+        "path": [[-0.1, -8.0, 0.3], [0.6, -8.0, 0.3], [0.6, 8.0, 0.3], [-0.1, 8.0, 0.3]],
+        "wire_radius_m": 0.005,
+        "resistance": {"kind": "wire", "cross_section_mm2": 95, "conductivity_s_per_m": 5.8e7}
+    });
+    let res = app.post(&format!("{path}?store=true"), &key, &body).await;
+    assert_eq!(res.status(), 201);
+    let r: Value = res.json().await.unwrap();
+    // R = length / (σ·A) = 33.4 m / (5.8e7 · 95e-6) (the loop is 2·0.7 + 2·16 m).
+    let want_r = 33.4 / (5.8e7 * 95e-6);
+    assert!((r["resistance_ohm"].as_f64().unwrap() - want_r).abs() < 1e-12, "{r}");
+    assert_eq!(r["lines"][0]["order"], 1);
+    assert!(r["lines"][0]["current_a"].as_f64().unwrap() > 0.0);
+    let t = &r["targets"][0];
+    assert!(t["b_with_ut"].as_f64().unwrap() < t["b_without_ut"].as_f64().unwrap(), "{t}");
+    let res = app
+        .post(
+            &path,
+            &key,
+            &json!({"path": [[0, 0, 1], [1, 0, 1]], "wire_radius_m": 0.0, "resistance": {"kind": "given", "ohm": 1}}),
+        )
+        .await;
+    assert_problem(res, 422, "validation", Some("/path")).await;
+    let mut thick = body.clone();
+    thick["wire_radius_m"] = json!(0.0);
+    let res = app.post(&path, &key, &thick).await;
+    assert_problem(res, 422, "validation", Some("/wire_radius_m")).await;
+}

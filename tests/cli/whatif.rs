@@ -57,3 +57,82 @@ fn whatif_problems_name_their_flags() {
     );
     assert_rejected_with(&out, &["--table: unknown table 'no-such-table'"]);
 }
+
+/// Writes `text` to a fresh temporary file.
+fn file_with(name: &str, text: &str) -> TempPath {
+    let p = TempPath::unique(name);
+    std::fs::write(&*p, text).unwrap();
+    p
+}
+
+#[test]
+fn scenarios_name_the_worst_and_n_minus_one_needs_load_groups() {
+    let tray = manifest_dir().join(TRAY);
+    let tray = tray.to_str().unwrap();
+    let out = fluxbound(&["whatif", "scenarios", tray, "--format", "json"], None);
+    assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
+    let r: Value = serde_json::from_str(&stdout_of(&out)).unwrap();
+    // Rated (2300 A) against present (2200 A): the ratio scales with the
+    // current (Biot–Savart is linear).
+    let ratio = |k: usize| r["scenarios"][k]["targets"][0]["ratio"].as_f64().unwrap();
+    assert!((ratio(1) / ratio(0) - 2300.0 / 2200.0).abs() < 1e-12, "{r}");
+    assert_eq!(r["worst"]["scenario"], "rated");
+    let out = fluxbound(&["whatif", "scenarios", tray, "--n-minus-1"], None);
+    assert_rejected_with(&out, &["--n-minus-1: no circuit of the site has a load_group"]);
+    let request = file_with(
+        "scenarios.json",
+        r#"{"scenarios": [{"name": "x", "load": {"kind": "scale", "factors": {"nope": 2}}}]}"#,
+    );
+    let out = fluxbound(&["whatif", "scenarios", tray, "--request", request.to_str().unwrap()], None);
+    assert_rejected_with(&out, &["/scenarios/0/load/factors/nope: unknown circuit 'nope'"]);
+}
+
+#[test]
+fn a_move_sideways_finds_the_smallest_move_and_writes_it_as_a_site() {
+    let tray = manifest_dir().join(TRAY);
+    let tray = tray.to_str().unwrap();
+    let revision = TempPath::unique("tray-moved.json");
+    let out = fluxbound(
+        &["whatif", "move", tray, "--circuits", "TX1-a,TX1-b", "--by", "3,0,0", "--steps", "6", "--revision-out"]
+            .into_iter()
+            .chain([revision.to_str().unwrap(), "--format", "json"])
+            .collect::<Vec<_>>(),
+        None,
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
+    let r: Value = serde_json::from_str(&stdout_of(&out)).unwrap();
+    let d = r["smallest"]["distance_m"].as_f64().unwrap();
+    assert!(d > 0.0 && d < 0.5, "{d}");
+    assert_ne!(worst_verdict(revision.to_str().unwrap()), "exceeds");
+    let out = fluxbound(&["whatif", "move", tray, "--conductors", "nope", "--by", "0,0,0", "--steps", "0"], None);
+    assert_rejected_with(
+        &out,
+        &[
+            "--conductors: the site has no conductor 'nope'",
+            "--by: the move is zero",
+            "--steps: steps must be between 1 and 200",
+        ],
+    );
+    let out = fluxbound(&["whatif", "move", tray, "--circuits", "TX1-a", "--by", "1,2"], None);
+    assert_rejected_with(&out, &["--by: give three numbers DX,DY,DZ in metres"]);
+}
+
+#[test]
+fn a_loop_from_a_file_reports_its_current_and_its_problems_by_file() {
+    let tray = manifest_dir().join(TRAY);
+    let tray = tray.to_str().unwrap();
+    let good = file_with(
+        "loop.json",
+        r#"{"path": [[-0.1, -8, 0.3], [0.6, -8, 0.3], [0.6, 8, 0.3], [-0.1, 8, 0.3]], "wire_radius_m": 0.005,
+            "resistance": {"kind": "given", "ohm": 0.01}}"#,
+    );
+    let text = stdout_of(&fluxbound(&["whatif", "loop", tray, good.to_str().unwrap()], None));
+    assert!(text.contains("loop current"), "{text}");
+    assert!(text.contains("qualified assessors"), "{text}");
+    let bad = file_with(
+        "loop-bad.json",
+        r#"{"path": [[0, 0, 1], [1, 0, 1], [1, 1, 1]], "wire_radius_m": -1, "resistance": {"kind": "given", "ohm": 0.01}}"#,
+    );
+    let out = fluxbound(&["whatif", "loop", tray, bad.to_str().unwrap()], None);
+    assert_rejected_with(&out, &["/wire_radius_m: the loop's wire radius must be positive"]);
+}
