@@ -350,6 +350,23 @@ pub enum WhatifAction {
     Compare(CompareArgs),
 }
 
+/// What a what-if judges by: the table of the ratio and the targets.
+#[derive(Debug, clap::Args)]
+pub struct JudgedArgs {
+    /// Table of the ratio (default: the site's first table; for scenarios and loops without any: flux density only).
+    #[arg(long, value_name = "ID")]
+    pub table: Option<String>,
+    /// A custom table (JSON) that --table may name; may be repeated.
+    #[arg(long = "table-file", value_name = "FILE")]
+    pub table_files: Vec<PathBuf>,
+    /// Position ids to judge by, comma-separated (default: all).
+    #[arg(long, value_delimiter = ',', value_name = "ID,ID")]
+    pub positions: Option<Vec<String>>,
+    /// Area ids to judge by on their grid nodes, comma-separated (default: all).
+    #[arg(long, value_delimiter = ',', value_name = "ID,ID")]
+    pub areas: Option<Vec<String>>,
+}
+
 #[derive(Debug, clap::Args)]
 pub struct ScenariosArgs {
     /// Site model (JSON), or `-` for standard input.
@@ -365,18 +382,8 @@ pub struct ScenariosArgs {
     /// The load before one circuit of a group goes out (with --n-minus-1).
     #[arg(long, value_enum, default_value_t = LoadArg::Present)]
     pub base: LoadArg,
-    /// Table of the ratio (default: the site's first table; none: flux density only).
-    #[arg(long, value_name = "ID")]
-    pub table: Option<String>,
-    /// A custom table (JSON) that --table may name; may be repeated.
-    #[arg(long = "table-file", value_name = "FILE")]
-    pub table_files: Vec<PathBuf>,
-    /// Position ids to judge by, comma-separated (default: all).
-    #[arg(long, value_delimiter = ',', value_name = "ID,ID")]
-    pub positions: Option<Vec<String>>,
-    /// Area ids to judge by on their grid nodes, comma-separated (default: all).
-    #[arg(long, value_delimiter = ',', value_name = "ID,ID")]
-    pub areas: Option<Vec<String>>,
+    #[command(flatten)]
+    pub judged: JudgedArgs,
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Table)]
     pub format: Format,
@@ -408,18 +415,8 @@ pub struct MoveArgs {
     /// What is judged: the exposure ratio against a table, or the resultant in µT.
     #[arg(long, value_enum, default_value_t = MeasureArg::Ratio)]
     pub measure: MeasureArg,
-    /// Table of the ratio (default: the site's first table).
-    #[arg(long, value_name = "ID")]
-    pub table: Option<String>,
-    /// A custom table (JSON) that --table may name; may be repeated.
-    #[arg(long = "table-file", value_name = "FILE")]
-    pub table_files: Vec<PathBuf>,
-    /// Position ids to judge by, comma-separated (default: all).
-    #[arg(long, value_delimiter = ',', value_name = "ID,ID")]
-    pub positions: Option<Vec<String>>,
-    /// Area ids to judge by on their grid nodes, comma-separated (default: all).
-    #[arg(long, value_delimiter = ',', value_name = "ID,ID")]
-    pub areas: Option<Vec<String>>,
+    #[command(flatten)]
+    pub judged: JudgedArgs,
     /// Currents to judge at.
     #[arg(long, value_enum, default_value_t = LoadArg::Present)]
     pub load: LoadArg,
@@ -475,18 +472,8 @@ pub struct PhasesArgs {
     /// How the targets combine: the highest value, or the mean of each target's highest.
     #[arg(long, value_enum, default_value_t = OverArg::Max)]
     pub over: OverArg,
-    /// Table of the ratio (default: the site's first table).
-    #[arg(long, value_name = "ID")]
-    pub table: Option<String>,
-    /// A custom table (JSON) that --table may name; may be repeated.
-    #[arg(long = "table-file", value_name = "FILE")]
-    pub table_files: Vec<PathBuf>,
-    /// Position ids to judge by, comma-separated (default: all).
-    #[arg(long, value_delimiter = ',', value_name = "ID,ID")]
-    pub positions: Option<Vec<String>>,
-    /// Area ids to judge by on their grid nodes, comma-separated (default: all).
-    #[arg(long, value_delimiter = ',', value_name = "ID,ID")]
-    pub areas: Option<Vec<String>>,
+    #[command(flatten)]
+    pub judged: JudgedArgs,
     /// Currents to compare at.
     #[arg(long, value_enum, default_value_t = LoadArg::Present)]
     pub load: LoadArg,
@@ -968,12 +955,12 @@ fn phases_command(args: &PhasesArgs, out: &mut dyn Write) -> Result<ExitCode, Cl
             OverArg::Max => Over::Max,
             OverArg::Mean => Over::Mean,
         },
-        table: args.table.clone(),
-        positions: args.positions.clone(),
-        areas: args.areas.clone(),
+        table: args.judged.table.clone(),
+        positions: args.judged.positions.clone(),
+        areas: args.judged.areas.clone(),
         top: args.top,
     };
-    let custom = read_table_files(&args.table_files)?;
+    let custom = read_table_files(&args.judged.table_files)?;
     let result = usecase::search_phases(&site, &doc, &req, &custom, &Budget::offline())?;
     if let Some(path) = &args.revision_out {
         write_file(path, &serde_json::to_string_pretty(&result.revision).expect("plain data"))?;
@@ -1075,16 +1062,16 @@ fn scenarios_command(args: &ScenariosArgs, out: &mut dyn Write) -> Result<ExitCo
     if args.n_minus_1 {
         req.n_minus_1 = Some(NMinusOne { base: LoadCase::from(args.base) });
     }
-    if args.table.is_some() {
-        req.table = args.table.clone();
+    if args.judged.table.is_some() {
+        req.table = args.judged.table.clone();
     }
-    if args.positions.is_some() {
-        req.positions = args.positions.clone();
+    if args.judged.positions.is_some() {
+        req.positions = args.judged.positions.clone();
     }
-    if args.areas.is_some() {
-        req.areas = args.areas.clone();
+    if args.judged.areas.is_some() {
+        req.areas = args.judged.areas.clone();
     }
-    let custom = read_table_files(&args.table_files)?;
+    let custom = read_table_files(&args.judged.table_files)?;
     let result = usecase::run_scenarios(&site, &req, &custom, &Budget::offline()).map_err(|e| match &args.request {
         Some(path) => request_file_error(path, e, &["scenarios"]),
         None => CliError::from(e),
@@ -1112,11 +1099,11 @@ fn move_command(args: &MoveArgs, out: &mut dyn Write) -> Result<ExitCode, CliErr
         level: args.level,
         measure: measure_of(args.measure),
         load: LoadCase::from(args.load),
-        table: args.table.clone(),
-        positions: args.positions.clone(),
-        areas: args.areas.clone(),
+        table: args.judged.table.clone(),
+        positions: args.judged.positions.clone(),
+        areas: args.judged.areas.clone(),
     };
-    let custom = read_table_files(&args.table_files)?;
+    let custom = read_table_files(&args.judged.table_files)?;
     let result = usecase::run_move(&site, &doc, &req, &custom, &Budget::offline())?;
     if let (Some(path), Some(rev)) = (&args.revision_out, &result.revision) {
         write_file(path, &serde_json::to_string_pretty(rev).expect("plain data"))?;

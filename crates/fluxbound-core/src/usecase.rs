@@ -564,7 +564,7 @@ pub fn search_phases(
     tables: &[ReferenceTable],
     budget: &Budget,
 ) -> Result<mitigate::phases::PhaseSearch, UseCaseError> {
-    use mitigate::phases::{SearchBudget, SearchError};
+    use mitigate::phases::SearchBudget;
     let table = whatif_table(site, req.table.as_deref(), req.measure == mitigate::phases::Measure::Ratio, tables)?;
     let search_budget = SearchBudget {
         max_pairs: budget.max_pairs,
@@ -573,12 +573,7 @@ pub fn search_phases(
         exhaustive_limit: mitigate::phases::EXHAUSTIVE_LIMIT,
         cancel: budget.cancel.clone(),
     };
-    mitigate::phases::search_phases(site, doc, req, table.as_ref(), &search_budget).map_err(|e| match e {
-        SearchError::Request(p) => UseCaseError::WhatIf(p),
-        SearchError::OverBudget(p) => UseCaseError::OverBudget(p),
-        SearchError::Load(l) => UseCaseError::Load(l),
-        SearchError::Cancelled => UseCaseError::Cancelled,
-    })
+    Ok(mitigate::phases::search_phases(site, doc, req, table.as_ref(), &search_budget)?)
 }
 
 /// Judges a batch of load scenarios in `site` within `budget`
@@ -589,19 +584,8 @@ pub fn run_scenarios(
     tables: &[ReferenceTable],
     budget: &Budget,
 ) -> Result<mitigate::scenarios::ScenarioResults, UseCaseError> {
-    use mitigate::scenarios::{ScenarioBudget, ScenarioError};
     let table = whatif_table(site, req.table.as_deref(), true, tables)?;
-    let b = ScenarioBudget {
-        max_pairs: budget.max_pairs,
-        max_grid_cells: budget.max_grid_cells,
-        max_work: budget.max_search_work,
-        cancel: budget.cancel.clone(),
-    };
-    mitigate::scenarios::run_scenarios(site, req, table.as_ref(), &b).map_err(|e| match e {
-        ScenarioError::Request(p) => UseCaseError::WhatIf(p),
-        ScenarioError::OverBudget(p) => UseCaseError::OverBudget(p),
-        ScenarioError::Cancelled => UseCaseError::Cancelled,
-    })
+    Ok(mitigate::scenarios::run_scenarios(site, req, table.as_ref(), &whatif_budget(budget))?)
 }
 
 /// Judges a move of conductors or positions in `site` (checked from `doc`)
@@ -613,25 +597,14 @@ pub fn run_move(
     tables: &[ReferenceTable],
     budget: &Budget,
 ) -> Result<mitigate::moves::MoveResult, UseCaseError> {
-    use mitigate::moves::{MoveBudget, MoveError};
     let table = whatif_table(site, req.table.as_deref(), req.measure == mitigate::Measure::Ratio, tables)?;
-    let b = MoveBudget {
-        max_pairs: budget.max_pairs,
-        max_grid_cells: budget.max_grid_cells,
-        cancel: budget.cancel.clone(),
-    };
     if req.measure == mitigate::Measure::Ratio && table.is_none() {
         return Err(UseCaseError::WhatIf(Problems::one(
             "/table",
             "name a reference-level table for the ratio (the site names none), or set measure to b_ut with a level",
         )));
     }
-    mitigate::moves::run_move(site, doc, req, table.as_ref(), &b).map_err(|e| match e {
-        MoveError::Request(p) => UseCaseError::WhatIf(p),
-        MoveError::OverBudget(p) => UseCaseError::OverBudget(p),
-        MoveError::Load(l) => UseCaseError::Load(l),
-        MoveError::Cancelled => UseCaseError::Cancelled,
-    })
+    Ok(mitigate::moves::run_move(site, doc, req, table.as_ref(), &whatif_budget(budget))?)
 }
 
 /// Judges a passive loop added to `site` within `budget`
@@ -642,17 +615,28 @@ pub fn run_loop(
     tables: &[ReferenceTable],
     budget: &Budget,
 ) -> Result<mitigate::loops::LoopResult, UseCaseError> {
-    use mitigate::loops::{LoopBudget, LoopError};
     let table = whatif_table(site, req.table.as_deref(), true, tables)?;
-    let b = LoopBudget {
+    Ok(mitigate::loops::run_loop(site, req, table.as_ref(), &whatif_budget(budget))?)
+}
+
+/// The what-if budget of a use-case budget.
+fn whatif_budget(budget: &Budget) -> mitigate::WhatIfBudget {
+    mitigate::WhatIfBudget {
         max_pairs: budget.max_pairs,
         max_grid_cells: budget.max_grid_cells,
+        max_work: budget.max_search_work,
         cancel: budget.cancel.clone(),
-    };
-    mitigate::loops::run_loop(site, req, table.as_ref(), &b).map_err(|e| match e {
-        LoopError::Request(p) => UseCaseError::WhatIf(p),
-        LoopError::OverBudget(p) => UseCaseError::OverBudget(p),
-        LoopError::Load(l) => UseCaseError::Load(l),
-        LoopError::Cancelled => UseCaseError::Cancelled,
-    })
+    }
+}
+
+impl From<mitigate::WhatIfError> for UseCaseError {
+    fn from(e: mitigate::WhatIfError) -> Self {
+        use mitigate::WhatIfError as W;
+        match e {
+            W::Request(p) => UseCaseError::WhatIf(p),
+            W::OverBudget(p) => UseCaseError::OverBudget(p),
+            W::Load(l) => UseCaseError::Load(l),
+            W::Cancelled => UseCaseError::Cancelled,
+        }
+    }
 }

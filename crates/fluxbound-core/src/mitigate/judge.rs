@@ -48,6 +48,46 @@ pub struct Worst {
     pub value: f64,
 }
 
+/// Why a what-if could not answer.
+#[derive(Debug, Clone, PartialEq)]
+pub enum WhatIfError {
+    /// Problems with pointers into the request.
+    Request(Problems),
+    /// Work over a budget; the pointer says what to reduce.
+    OverBudget(Problems),
+    /// The load case does not fit the site.
+    Load(crate::assess::LoadError),
+    Cancelled,
+}
+
+impl From<JudgeError> for WhatIfError {
+    fn from(e: JudgeError) -> Self {
+        match e {
+            JudgeError::Nothing(p) => WhatIfError::Request(p),
+            JudgeError::Cancelled => WhatIfError::Cancelled,
+        }
+    }
+}
+
+/// Work limits of one what-if (scenarios, moves, loops).
+#[derive(Debug, Clone)]
+pub struct WhatIfBudget {
+    /// Segment–point pairs of every influence matrix together.
+    pub max_pairs: u64,
+    /// Grid cells over the chosen areas.
+    pub max_grid_cells: u64,
+    /// Scenario × point × conductor × line products of a scenario batch.
+    pub max_work: u64,
+    pub cancel: Cancel,
+}
+
+impl WhatIfBudget {
+    /// No cap on anything, never cancelled (tests and tools).
+    pub fn unlimited() -> WhatIfBudget {
+        WhatIfBudget { max_pairs: u64::MAX, max_grid_cells: u64::MAX, max_work: u64::MAX, cancel: Cancel::never() }
+    }
+}
+
 /// A target: its kind, id and points.
 pub(crate) struct TargetPoints {
     pub kind: &'static str,

@@ -4,11 +4,11 @@
 //! for the inductances and the current).
 
 use super::judge::{
-    Chosen, JudgeError, Judged, LeftOut, Measure, Worst, closing_text, lines_present, ratio_weights, value_text,
+    Chosen, Judged, LeftOut, Measure, WhatIfBudget, WhatIfError, Worst, closing_text, lines_present, ratio_weights,
+    value_text,
 };
 use super::passive::{LoopResistance, PassiveLoop, PassiveLoopError, loop_coupling};
 use crate::assess::{LoadCase, TableRef};
-use crate::cancel::Cancel;
 use crate::field::Filament;
 use crate::limits::ReferenceTable;
 use crate::site::{Pointer, Problems, Site};
@@ -125,23 +125,6 @@ pub struct LoopResult {
     pub cautions: Vec<String>,
 }
 
-/// Why a loop could not be judged.
-#[derive(Debug, Clone, PartialEq)]
-pub enum LoopError {
-    Request(Problems),
-    OverBudget(Problems),
-    Load(crate::assess::LoadError),
-    Cancelled,
-}
-
-/// Work limits.
-#[derive(Debug, Clone)]
-pub struct LoopBudget {
-    pub max_pairs: u64,
-    pub max_grid_cells: u64,
-    pub cancel: Cancel,
-}
-
 /// The loop of the request, or the problem at its field.
 fn passive(req: &LoopDoc) -> Result<PassiveLoop, Problems> {
     let mut p = Problems::default();
@@ -187,43 +170,39 @@ pub fn run_loop(
     site: &Site,
     req: &LoopDoc,
     table: Option<&ReferenceTable>,
-    budget: &LoopBudget,
-) -> Result<LoopResult, LoopError> {
+    budget: &WhatIfBudget,
+) -> Result<LoopResult, WhatIfError> {
     let choice = Chosen { positions: &req.positions, areas: &req.areas };
     let mut p = Problems::default();
     choice.check_ids(site, &mut p);
     let pl = match passive(req) {
         Ok(l) if p.is_empty() => l,
-        Ok(_) => return Err(LoopError::Request(p)),
+        Ok(_) => return Err(WhatIfError::Request(p)),
         Err(e) => {
             p.0.extend(e.0);
-            return Err(LoopError::Request(p));
+            return Err(WhatIfError::Request(p));
         }
     };
-    let loads = req.load.resolve(site).map_err(LoopError::Load)?;
-    choice.check_budget(site, 1, budget.max_grid_cells, budget.max_pairs).map_err(LoopError::OverBudget)?;
+    let loads = req.load.resolve(site).map_err(WhatIfError::Load)?;
+    choice.check_budget(site, 1, budget.max_grid_cells, budget.max_pairs).map_err(WhatIfError::OverBudget)?;
     let sources: Vec<Filament> =
         site.conductors().iter().map(|c| Filament { path: c.path.clone(), radius_m: c.radius_m }).collect();
-    let coupling = loop_coupling(&pl, &sources).map_err(|e| LoopError::Request(loop_problem(&e)))?;
+    let coupling = loop_coupling(&pl, &sources).map_err(|e| WhatIfError::Request(loop_problem(&e)))?;
     if budget.cancel.is_cancelled() {
-        return Err(LoopError::Cancelled);
+        return Err(WhatIfError::Cancelled);
     }
     let excitation = site.excitation_at(&loads);
     let measure = if table.is_some() { Measure::Ratio } else { Measure::BUt };
     let line_hz: Vec<f64> = excitation.lines.iter().map(|l| l.frequency_hz).collect();
-    let weights = ratio_weights(measure, table, &line_hz, &lines_present(&excitation)).map_err(LoopError::Request)?;
+    let weights = ratio_weights(measure, table, &line_hz, &lines_present(&excitation)).map_err(WhatIfError::Request)?;
     let currents: Vec<Complex64> =
         excitation.lines.iter().map(|l| coupling.current_a(l.frequency_hz, &l.currents_a)).collect();
-    let vertices = pl.vertices().map_err(|e| LoopError::Request(loop_problem(&e)))?;
+    let vertices = pl.vertices().map_err(|e| WhatIfError::Request(loop_problem(&e)))?;
     let mut closed = vertices.to_vec();
     closed.push(vertices[0]);
     let filament = Filament { path: closed, radius_m: pl.wire_radius_m };
     let judged =
-        Judged::sample(site, std::slice::from_ref(&filament), choice.targets(site), "the loop", &budget.cancel)
-            .map_err(|e| match e {
-                JudgeError::Nothing(p) => LoopError::Request(p),
-                JudgeError::Cancelled => LoopError::Cancelled,
-            })?;
+        Judged::sample(site, std::slice::from_ref(&filament), choice.targets(site), "the loop", &budget.cancel)?;
     let mut with = excitation.clone();
     for (line, i) in with.lines.iter_mut().zip(&currents) {
         line.currents_a.push(*i);
@@ -293,7 +272,7 @@ pub fn run_loop(
         }
     }
     Ok(LoopResult {
-        length_m: pl.length_m().map_err(|e| LoopError::Request(loop_problem(&e)))?,
+        length_m: pl.length_m().map_err(|e| WhatIfError::Request(loop_problem(&e)))?,
         resistance_ohm: coupling.resistance_ohm,
         self_inductance_h: coupling.self_h,
         load: req.load.clone(),

@@ -18,7 +18,7 @@ mod ray;
 pub mod scenarios;
 mod text;
 
-pub use judge::{LeftOut, Measure, Worst};
+pub use judge::{LeftOut, Measure, WhatIfBudget, WhatIfError, Worst};
 
 pub use distance::{
     AXIS_EXCLUSION_DEG, DISTANCE_TOLERANCE_M, Direction, DistanceError, DistanceQuantity, DistanceResult,

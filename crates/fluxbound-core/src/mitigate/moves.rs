@@ -12,7 +12,8 @@
 //! steadily with the move: a later step over the level again is reported.
 
 use super::judge::{
-    Chosen, JudgeError, Judged, LeftOut, Measure, Worst, closing_text, lines_present, ratio_weights, value_text,
+    Chosen, JudgeError, Judged, LeftOut, Measure, WhatIfBudget, WhatIfError, Worst, closing_text, lines_present,
+    ratio_weights, value_text,
 };
 use crate::assess::{LoadCase, TableRef};
 use crate::cancel::Cancel;
@@ -136,24 +137,6 @@ pub struct MoveResult {
     pub cautions: Vec<String>,
 }
 
-/// Why a move could not run.
-#[derive(Debug, Clone, PartialEq)]
-pub enum MoveError {
-    Request(Problems),
-    OverBudget(Problems),
-    Load(crate::assess::LoadError),
-    Cancelled,
-}
-
-/// Work limits of one move.
-#[derive(Debug, Clone)]
-pub struct MoveBudget {
-    /// Segment–point pairs over all steps and bisections.
-    pub max_pairs: u64,
-    pub max_grid_cells: u64,
-    pub cancel: Cancel,
-}
-
 fn check_request(site: &Site, req: &MoveDoc) -> Result<f64, Problems> {
     let mut p = Problems::default();
     let m = &req.moving;
@@ -256,7 +239,7 @@ struct Judge<'a> {
 
 impl Judge<'_> {
     /// The step at `fraction` of the move; `Err` only when cancelled.
-    fn step(&self, fraction: f64) -> Result<(MoveStep, Vec<LeftOut>), MoveError> {
+    fn step(&self, fraction: f64) -> Result<(MoveStep, Vec<LeftOut>), WhatIfError> {
         let offset = self.req.by_m.map(|v| v * fraction);
         let mut step =
             MoveStep { offset_m: offset, distance_m: norm(offset), worst: None, under_level: None, problem: None };
@@ -271,12 +254,12 @@ impl Judge<'_> {
                 return Ok((step, Vec::new()));
             }
         };
-        let loads = self.req.load.resolve(&site).map_err(MoveError::Load)?;
+        let loads = self.req.load.resolve(&site).map_err(WhatIfError::Load)?;
         let excitation = site.excitation_at(&loads);
         let choice = Chosen { positions: &self.req.positions, areas: &self.req.areas };
         let judged = match Judged::sample(&site, &[], choice.targets(&site), "the move", self.cancel) {
             Ok(j) => j,
-            Err(JudgeError::Cancelled) => return Err(MoveError::Cancelled),
+            Err(JudgeError::Cancelled) => return Err(WhatIfError::Cancelled),
             Err(JudgeError::Nothing(p)) => {
                 step.problem = Some(p.iter().next().map_or(String::new(), |q| q.detail.clone()));
                 return Ok((step, Vec::new()));
@@ -313,18 +296,18 @@ pub fn run_move(
     doc: &SiteDoc,
     req: &MoveDoc,
     table: Option<&ReferenceTable>,
-    budget: &MoveBudget,
-) -> Result<MoveResult, MoveError> {
-    let level = check_request(site, req).map_err(MoveError::Request)?;
-    let loads = req.load.resolve(site).map_err(MoveError::Load)?;
+    budget: &WhatIfBudget,
+) -> Result<MoveResult, WhatIfError> {
+    let level = check_request(site, req).map_err(WhatIfError::Request)?;
+    let loads = req.load.resolve(site).map_err(WhatIfError::Load)?;
     let passes = u64::from(req.steps) + 1 + u64::from(BISECTIONS) + 1;
     Chosen { positions: &req.positions, areas: &req.areas }
         .check_budget(site, passes, budget.max_grid_cells, budget.max_pairs)
-        .map_err(MoveError::OverBudget)?;
+        .map_err(WhatIfError::OverBudget)?;
     let excitation = site.excitation_at(&loads);
     let line_hz: Vec<f64> = excitation.lines.iter().map(|l| l.frequency_hz).collect();
     let weights =
-        ratio_weights(req.measure, table, &line_hz, &lines_present(&excitation)).map_err(MoveError::Request)?;
+        ratio_weights(req.measure, table, &line_hz, &lines_present(&excitation)).map_err(WhatIfError::Request)?;
     let judge = Judge { doc, req, weights, level, cancel: &budget.cancel };
     let mut steps = Vec::with_capacity(req.steps as usize + 1);
     let mut left_out = Vec::new();
@@ -333,7 +316,7 @@ pub fn run_move(
         if k == 0 {
             if step.worst.is_none() {
                 let why = step.problem.unwrap_or_default();
-                return Err(MoveError::Request(Problems::one("/positions", why)));
+                return Err(WhatIfError::Request(Problems::one("/positions", why)));
             }
             left_out = left;
         }
@@ -395,7 +378,7 @@ pub fn run_move(
 /// The smallest computed move under the level between step `k − 1` (not
 /// under) and step `k` (under): bisection, then rounded up to whole
 /// millimetres along the move and judged again.
-fn refine(judge: &Judge, req: &MoveDoc, k: usize) -> Result<MoveStep, MoveError> {
+fn refine(judge: &Judge, req: &MoveDoc, k: usize) -> Result<MoveStep, WhatIfError> {
     let n = f64::from(req.steps);
     let len = norm(req.by_m);
     let (mut lo, mut hi) = ((k - 1) as f64 / n, k as f64 / n);

@@ -12,10 +12,10 @@
 //! case is written out as explicit currents, so it can be assessed as is.
 
 use super::judge::{
-    Chosen, JudgeError, Judged, LeftOut, Measure, Worst, closing_text, lines_present, ratio_weights, value_text,
+    Chosen, Judged, LeftOut, Measure, WhatIfBudget, WhatIfError, Worst, closing_text, lines_present, ratio_weights,
+    value_text,
 };
 use crate::assess::{CircuitLoadReport, LoadCase, TableRef};
-use crate::cancel::Cancel;
 use crate::limits::ReferenceTable;
 use crate::site::{Pointer, Problems, Site};
 use serde::{Deserialize, Serialize};
@@ -143,26 +143,6 @@ pub struct ScenarioResults {
     pub cautions: Vec<String>,
 }
 
-/// Why a batch could not run.
-#[derive(Debug, Clone, PartialEq)]
-pub enum ScenarioError {
-    /// Problems with pointers into the request.
-    Request(Problems),
-    /// Work over a budget.
-    OverBudget(Problems),
-    Cancelled,
-}
-
-/// Work limits of one batch.
-#[derive(Debug, Clone)]
-pub struct ScenarioBudget {
-    pub max_pairs: u64,
-    pub max_grid_cells: u64,
-    /// Scenario × point × conductor × line products.
-    pub max_work: u64,
-    pub cancel: Cancel,
-}
-
 /// The scenarios of the request, given then generated, or every problem.
 pub fn expand(site: &Site, req: &ScenariosDoc) -> Result<Vec<(Scenario, Origin)>, Problems> {
     let mut p = Problems::default();
@@ -255,8 +235,8 @@ pub fn run_scenarios(
     site: &Site,
     req: &ScenariosDoc,
     table: Option<&ReferenceTable>,
-    budget: &ScenarioBudget,
-) -> Result<ScenarioResults, ScenarioError> {
+    budget: &WhatIfBudget,
+) -> Result<ScenarioResults, WhatIfError> {
     let choice = Chosen { positions: &req.positions, areas: &req.areas };
     let mut p = Problems::default();
     choice.check_ids(site, &mut p);
@@ -264,20 +244,20 @@ pub fn run_scenarios(
         Ok(s) => s,
         Err(e) => {
             p.0.extend(e.0);
-            return Err(ScenarioError::Request(p));
+            return Err(WhatIfError::Request(p));
         }
     };
     if !p.is_empty() {
-        return Err(ScenarioError::Request(p));
+        return Err(WhatIfError::Request(p));
     }
-    choice.check_budget(site, 1, budget.max_grid_cells, budget.max_pairs).map_err(ScenarioError::OverBudget)?;
+    choice.check_budget(site, 1, budget.max_grid_cells, budget.max_pairs).map_err(WhatIfError::OverBudget)?;
     let (_, points) = choice.counts(site);
     let work =
         (scenarios.len() as u64).saturating_mul(points).saturating_mul(site.conductors().len() as u64).saturating_mul(
             site.excitation_at(&vec![crate::site::CircuitLoad::PRESENT; site.circuits().len()]).lines.len() as u64,
         );
     if work > budget.max_work {
-        return Err(ScenarioError::OverBudget(Problems::one(
+        return Err(WhatIfError::OverBudget(Problems::one(
             "/scenarios",
             format!(
                 "{work} scenario-point-conductor products, over the budget of {}: fewer scenarios or targets",
@@ -290,22 +270,18 @@ pub fn run_scenarios(
     // any scenario carries is a problem before anything is sampled.
     let mut cases = Vec::with_capacity(scenarios.len());
     for (s, origin) in scenarios {
-        let loads = s.load.resolve(site).map_err(|e| ScenarioError::Request(e.into_problems("/scenarios")))?;
+        let loads = s.load.resolve(site).map_err(|e| WhatIfError::Request(e.into_problems("/scenarios")))?;
         let excitation = site.excitation_at(&loads);
         let line_hz: Vec<f64> = excitation.lines.iter().map(|l| l.frequency_hz).collect();
         let weights =
-            ratio_weights(measure, table, &line_hz, &lines_present(&excitation)).map_err(ScenarioError::Request)?;
+            ratio_weights(measure, table, &line_hz, &lines_present(&excitation)).map_err(WhatIfError::Request)?;
         cases.push((s, origin, loads, excitation, weights));
     }
-    let judged =
-        Judged::sample(site, &[], choice.targets(site), "the scenarios", &budget.cancel).map_err(|e| match e {
-            JudgeError::Nothing(p) => ScenarioError::Request(p),
-            JudgeError::Cancelled => ScenarioError::Cancelled,
-        })?;
+    let judged = Judged::sample(site, &[], choice.targets(site), "the scenarios", &budget.cancel)?;
     let mut results = Vec::with_capacity(cases.len());
     for (s, origin, loads, excitation, weights) in cases {
         if budget.cancel.is_cancelled() {
-            return Err(ScenarioError::Cancelled);
+            return Err(WhatIfError::Cancelled);
         }
         let values = judged.values(&excitation, &weights);
         let targets: Vec<TargetResult> = judged

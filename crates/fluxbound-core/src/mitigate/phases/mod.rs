@@ -23,7 +23,7 @@ mod text;
 pub use symmetry::PERMUTATIONS;
 pub use text::phases_text;
 
-use super::judge::{Chosen, JudgeError, Judged, TargetPoints, lines_present, ratio_weights};
+use super::judge::{Chosen, Judged, TargetPoints, lines_present, ratio_weights};
 pub use super::judge::{LeftOut, Measure, Worst};
 use crate::assess::{LoadCase, TableRef};
 use crate::cancel::Cancel;
@@ -206,16 +206,7 @@ pub struct PhaseSearch {
 }
 
 /// Why a search could not run.
-#[derive(Debug, Clone, PartialEq)]
-pub enum SearchError {
-    /// Problems with pointers into the request (`/circuits/1`, `/table`).
-    Request(Problems),
-    /// Work over a budget; the pointer says what to reduce.
-    OverBudget(Problems),
-    /// The load case does not fit the site.
-    Load(crate::assess::LoadError),
-    Cancelled,
-}
+pub type SearchError = super::judge::WhatIfError;
 
 /// Work limits of one search.
 #[derive(Debug, Clone)]
@@ -313,10 +304,7 @@ pub fn search_phases(
     let weights = ratio_weights(req.measure, table, &line_hz, &present).map_err(SearchError::Request)?;
     // Influence matrix at every target point, once.
     let Judged { targets: all_targets, g, kept, left_out } =
-        Judged::sample(site, &[], choice.targets(site), "the arrangements", &budget.cancel).map_err(|e| match e {
-            JudgeError::Nothing(p) => SearchError::Request(p),
-            JudgeError::Cancelled => SearchError::Cancelled,
-        })?;
+        Judged::sample(site, &[], choice.targets(site), "the arrangements", &budget.cancel)?;
     let lines = line_currents(site, &chosen, &loads, &excitation);
     let group = symmetry::invariant_relabellings(&lines);
     let first = symmetry::first_circuit_choices(&group);
@@ -361,7 +349,9 @@ pub fn search_phases(
     let revision = apply(doc, site, &chosen, &shape.fewest_changes(&best)).map_err(|id| {
         SearchError::Request(Problems::one(
             "/circuits",
-            format!("conductor '{id}' is not in the site document and its phase cannot be written back: re-phase it by hand"),
+            format!(
+                "conductor '{id}' is not in the site document and its phase cannot be written back: re-phase it by hand"
+            ),
         ))
     })?;
     let method = if exhaustive { Method::Exhaustive } else { Method::BranchAndBound };

@@ -9,11 +9,10 @@
 //! M = µ0·h/(2π)·ln(d2/d1)).
 
 use fluxbound_core::assess::LoadCase;
-use fluxbound_core::cancel::Cancel;
-use fluxbound_core::mitigate::Measure;
-use fluxbound_core::mitigate::loops::{LoopBudget, LoopDoc, ResistanceDoc, run_loop};
-use fluxbound_core::mitigate::moves::{MoveBudget, MoveDoc, Moving, run_move};
-use fluxbound_core::mitigate::scenarios::{NMinusOne, Origin, ScenarioBudget, ScenariosDoc, run_scenarios};
+use fluxbound_core::mitigate::loops::{LoopDoc, ResistanceDoc, run_loop};
+use fluxbound_core::mitigate::moves::{MoveDoc, Moving, run_move};
+use fluxbound_core::mitigate::scenarios::{NMinusOne, Origin, ScenariosDoc, run_scenarios};
+use fluxbound_core::mitigate::{Measure, WhatIfBudget, WhatIfError};
 use fluxbound_core::site::wire::SiteDoc;
 use fluxbound_core::site::{Site, validate_site};
 use serde_json::{Value, json};
@@ -70,8 +69,8 @@ fn long_wires_ut(at: (f64, f64), wires: &[(f64, f64, f64)]) -> f64 {
     (by * by + bz * bz).sqrt()
 }
 
-fn scenario_budget() -> ScenarioBudget {
-    ScenarioBudget { max_pairs: u64::MAX, max_grid_cells: u64::MAX, max_work: u64::MAX, cancel: Cancel::never() }
+fn scenario_budget() -> WhatIfBudget {
+    WhatIfBudget::unlimited()
 }
 
 #[test]
@@ -143,7 +142,7 @@ fn named_scenarios_and_their_problems_are_addressed_by_pointer() {
     }))
     .unwrap();
     let e = match run_scenarios(&site, &req, None, &scenario_budget()) {
-        Err(fluxbound_core::mitigate::scenarios::ScenarioError::Request(p)) => p,
+        Err(WhatIfError::Request(p)) => p,
         other => panic!("{other:?}"),
     };
     let pointers: Vec<&str> = e.iter().map(|p| p.pointer.as_str()).collect();
@@ -156,7 +155,7 @@ fn named_scenarios_and_their_problems_are_addressed_by_pointer() {
     }
     let req = ScenariosDoc { n_minus_1: Some(NMinusOne::default()), ..ScenariosDoc::default() };
     match run_scenarios(&site_of(&plain), &req, None, &scenario_budget()) {
-        Err(fluxbound_core::mitigate::scenarios::ScenarioError::Request(p)) => {
+        Err(WhatIfError::Request(p)) => {
             assert_eq!(p.iter().next().unwrap().pointer, "/n_minus_1", "{p:?}")
         }
         other => panic!("{other:?}"),
@@ -183,8 +182,8 @@ fn one_wire() -> Value {
     })
 }
 
-fn move_budget() -> MoveBudget {
-    MoveBudget { max_pairs: u64::MAX, max_grid_cells: u64::MAX, cancel: Cancel::never() }
+fn move_budget() -> WhatIfBudget {
+    WhatIfBudget::unlimited()
 }
 
 #[test]
@@ -247,7 +246,7 @@ fn a_move_that_never_reaches_the_level_says_so_and_a_standing_position_cannot_ri
     req.moving.positions = vec!["floor".into()];
     req.by_m = [0.0, 0.0, 1.0];
     match run_move(&site_of(&v), &doc_of(&v), &req, None, &move_budget()) {
-        Err(fluxbound_core::mitigate::moves::MoveError::Request(p)) => {
+        Err(WhatIfError::Request(p)) => {
             assert_eq!(p.iter().next().unwrap().pointer, "/by_m/2", "{p:?}")
         }
         other => panic!("{other:?}"),
@@ -282,13 +281,7 @@ fn a_coplanar_loop_beside_a_long_wire_carries_the_current_of_its_mutual_inductan
         positions: None,
         areas: None,
     };
-    let r = run_loop(
-        &site_of(&v),
-        &req,
-        None,
-        &LoopBudget { max_pairs: u64::MAX, max_grid_cells: u64::MAX, cancel: Cancel::never() },
-    )
-    .unwrap();
+    let r = run_loop(&site_of(&v), &req, None, &WhatIfBudget::unlimited()).unwrap();
     let m = 2e-6 * 2f64.ln();
     let omega = 2.0 * std::f64::consts::PI * 50.0;
     let z = num_complex::Complex64::new(0.002, omega * r.self_inductance_h);
@@ -324,13 +317,8 @@ fn a_loop_through_a_conductor_is_refused_at_its_path() {
         "resistance": {"kind": "given", "ohm": 0.01}
     }))
     .unwrap();
-    match run_loop(
-        &site_of(&v),
-        &req,
-        None,
-        &LoopBudget { max_pairs: u64::MAX, max_grid_cells: u64::MAX, cancel: Cancel::never() },
-    ) {
-        Err(fluxbound_core::mitigate::loops::LoopError::Request(p)) => {
+    match run_loop(&site_of(&v), &req, None, &WhatIfBudget::unlimited()) {
+        Err(WhatIfError::Request(p)) => {
             assert_eq!(p.iter().next().unwrap().pointer, "/path", "{p:?}")
         }
         other => panic!("{other:?}"),
