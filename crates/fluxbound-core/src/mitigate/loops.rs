@@ -19,6 +19,12 @@ use serde::{Deserialize, Serialize};
 /// Most vertices of a loop.
 pub const MAX_LOOP_VERTICES: usize = 1000;
 
+/// Kernel pairs one loop-segment × source-segment Neumann integral is
+/// counted as against the pair budget (Gauss–Legendre of up to 32 points on
+/// a few pieces, each a closed-form inner integral: common practice, no
+/// source; an estimate that errs on the large side).
+pub const NEUMANN_PAIR_COST: u64 = 256;
+
 /// How the loop's resistance is given.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
@@ -187,6 +193,24 @@ pub fn run_loop(
     choice.check_budget(site, 1, budget.max_grid_cells, budget.max_pairs).map_err(WhatIfError::OverBudget)?;
     let sources: Vec<Filament> =
         site.conductors().iter().map(|c| Filament { path: c.path.clone(), radius_m: c.radius_m }).collect();
+    // Neumann's integral runs once per loop segment and source segment, in
+    // one piece, and cannot be stopped half-way: it is bounded here, each
+    // segment pair counted as NEUMANN_PAIR_COST kernel pairs.
+    let neumann = (req.path.len() as u64)
+        .saturating_mul(crate::usecase::segment_count(site.conductors()))
+        .saturating_mul(NEUMANN_PAIR_COST);
+    if neumann > budget.max_pairs {
+        return Err(WhatIfError::OverBudget(Problems::one(
+            "/path",
+            format!(
+                "the loop's {} segments against the site's {} conductor segments need about {neumann} pair \
+                 evaluations, over the budget of {}: use fewer loop vertices",
+                req.path.len(),
+                crate::usecase::segment_count(site.conductors()),
+                budget.max_pairs
+            ),
+        )));
+    }
     let coupling = loop_coupling(&pl, &sources).map_err(|e| WhatIfError::Request(loop_problem(&e)))?;
     if budget.cancel.is_cancelled() {
         return Err(WhatIfError::Cancelled);

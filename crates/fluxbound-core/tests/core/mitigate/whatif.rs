@@ -324,3 +324,22 @@ fn a_loop_through_a_conductor_is_refused_at_its_path() {
         other => panic!("{other:?}"),
     }
 }
+
+#[test]
+fn a_loop_whose_neumann_integrals_exceed_the_budget_is_refused_before_computing() {
+    // 4 loop segments × 1 conductor segment × 256 = 1024 pair evaluations.
+    let v = one_wire();
+    let req: LoopDoc = serde_json::from_value(json!({
+        "path": [[-1.0, 1.0, 5.0], [1.0, 1.0, 5.0], [1.0, 2.0, 5.0], [-1.0, 2.0, 5.0]],
+        "wire_radius_m": 0.005,
+        "resistance": {"kind": "given", "ohm": 0.01}
+    }))
+    .unwrap();
+    let tight = WhatIfBudget { max_pairs: 1000, ..WhatIfBudget::unlimited() };
+    match run_loop(&site_of(&v), &req, None, &tight) {
+        Err(WhatIfError::OverBudget(p)) => assert_eq!(p.iter().next().unwrap().pointer, "/path", "{p:?}"),
+        other => panic!("{other:?}"),
+    }
+    let enough = WhatIfBudget { max_pairs: 1_000_000, ..WhatIfBudget::unlimited() };
+    assert!(run_loop(&site_of(&v), &req, None, &enough).is_ok());
+}
