@@ -95,8 +95,18 @@ async fn scenarios_are_stored_when_asked_and_read_back_with_their_request() {
     let other = app.key("org-b", Role::Viewer).await;
     assert_eq!(app.get(&location, &other).await.status(), 404);
     assert_eq!(app.post(&format!("{path}?store=maybe"), &key, &body).await.status(), 400);
-    // N-1 without load groups says what to mark, at its pointer.
-    let res = app.post(&path, &key, &json!({"n_minus_1": {}})).await;
+    // N-1 of the example's load group: one feeder out, the other at 4400 A.
+    let res = app.post(&path, &key, &json!({"scenarios": [], "n_minus_1": {}})).await;
+    let n1: Value = res.json().await.unwrap();
+    assert_eq!(n1["scenarios"].as_array().unwrap().len(), 3, "{n1}");
+    assert_eq!(n1["scenarios"][1]["load"]["currents_a"]["TX1-b"], 4400.0);
+    // Without load groups N-1 says what to mark, at its pointer.
+    let mut plain = example("site-control-room-tray.json");
+    for c in plain["circuits"].as_array_mut().unwrap() {
+        c.as_object_mut().unwrap().remove("load_group");
+    }
+    let plain_id = app.site(&key, &plain).await;
+    let res = app.post(&format!("/v1/sites/{plain_id}/whatif/scenarios"), &key, &json!({"n_minus_1": {}})).await;
     assert_problem(res, 422, "validation", Some("/n_minus_1")).await;
 }
 

@@ -43,6 +43,8 @@ fn rephasing_the_tray_brings_the_desk_from_exceeds_to_within() {
     // The plain-words form names the change and carries the cautions.
     let text = stdout_of(&fluxbound(&["whatif", "phases", tray, "--circuits", "TX1-a,TX1-b", "--top", "1"], None));
     assert!(text.contains("TX1-b-A A→C"), "{text}");
+    // The feeders share a load: the answer points to the N-1 check.
+    assert!(text.contains("Run the N-1 scenarios"), "{text}");
     assert!(text.contains("qualified assessors"), "{text}");
 }
 
@@ -77,7 +79,20 @@ fn scenarios_name_the_worst_and_n_minus_one_needs_load_groups() {
     let ratio = |k: usize| r["scenarios"][k]["targets"][0]["ratio"].as_f64().unwrap();
     assert!((ratio(1) / ratio(0) - 2300.0 / 2200.0).abs() < 1e-12, "{r}");
     assert_eq!(r["worst"]["scenario"], "rated");
-    let out = fluxbound(&["whatif", "scenarios", tray, "--n-minus-1"], None);
+    // The example's two feeders share one load: with one out, the other
+    // carries 4400 A, above its 2300 A rating, and the desk is worst then.
+    let out = fluxbound(&["whatif", "scenarios", tray, "--n-minus-1", "--format", "json"], None);
+    let r: Value = serde_json::from_str(&stdout_of(&out)).unwrap();
+    assert_eq!(r["worst"]["scenario"], "TX1: TX1-a out");
+    assert_eq!(r["scenarios"][3]["above_rated"][0], "TX1-b");
+    assert_eq!(r["scenarios"][3]["load"]["currents_a"]["TX1-b"], 4400.0);
+    // Without load groups, N-1 says what to mark.
+    let mut plain: Value = serde_json::from_str(&std::fs::read_to_string(tray).unwrap()).unwrap();
+    for c in plain["circuits"].as_array_mut().unwrap() {
+        c.as_object_mut().unwrap().remove("load_group");
+    }
+    let plain_file = file_with("tray-no-groups.json", &plain.to_string());
+    let out = fluxbound(&["whatif", "scenarios", plain_file.to_str().unwrap(), "--n-minus-1"], None);
     assert_rejected_with(&out, &["--n-minus-1: no circuit of the site has a load_group"]);
     let request = file_with(
         "scenarios.json",

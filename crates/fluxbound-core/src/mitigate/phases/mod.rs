@@ -375,12 +375,18 @@ pub fn search_phases(
         ranked,
         revision,
         left_out,
-        notes: notes(&found, req, method),
+        notes: notes(&found, req, method, shares_load(site, &chosen)),
         cautions: crate::cautions::cautions(),
     })
 }
 
-fn notes(found: &Found, req: &PhaseSearchDoc, method: Method) -> Vec<String> {
+/// Whether two of the chosen circuits share a load group.
+fn shares_load(site: &Site, chosen: &[usize]) -> bool {
+    let groups: Vec<&String> = chosen.iter().filter_map(|&c| site.circuits()[c].load_group.as_ref()).collect();
+    groups.iter().enumerate().any(|(i, g)| groups[..i].contains(g))
+}
+
+fn notes(found: &Found, req: &PhaseSearchDoc, method: Method, shared_load: bool) -> Vec<String> {
     let mut n = vec![
         "Areas are judged at the nodes of their grid; between nodes the field can be higher. Save the revision and \
          assess it: the assessment bounds each area's maximum and gives the verdicts."
@@ -389,6 +395,13 @@ fn notes(found: &Found, req: &PhaseSearchDoc, method: Method) -> Vec<String> {
          protection, metering and the connected equipment's phase rotation before work is planned."
             .to_string(),
     ];
+    if shared_load {
+        n.push(
+            "Some of these circuits share one load: with one out of service the others carry its current and no \
+             phase order cancels it. Run the N-1 scenarios (whatif scenarios) on the chosen revision."
+                .to_string(),
+        );
+    }
     if req.over == Over::Mean {
         n.push("The objective is the mean over targets: a listed arrangement can raise one target while lowering the mean; see each arrangement's worst target.".to_string());
     }
