@@ -103,8 +103,8 @@ impl Service {
     }
 
     /// Runs one what-if on a site revision: the assessor role, the ratio's
-    /// table as the request names it, else the site's first (built-in, else
-    /// the organisation's latest version), the work in a compute slot, and
+    /// tables as the request names one, else all the site names (built-in,
+    /// else the organisation's latest version), the work in a compute slot, and
     /// the result stored with its request when asked.
     #[allow(clippy::too_many_arguments)]
     async fn whatif<Req, Res>(
@@ -125,11 +125,16 @@ impl Service {
     {
         caller.require(Role::Assessor)?;
         let (rev, doc, site) = self.site_doc_at_revision(caller, site_id, on.revision).await?;
-        let table_id = table.as_deref().or(site.tables().first().map(String::as_str));
-        let tables: Vec<_> = match table_id {
-            Some(id) => self.latest_custom_table(caller, id).await?.into_iter().collect(),
-            None => Vec::new(),
+        // The organisation's latest version of every custom table the
+        // what-if may judge by: the request's, else all the site names.
+        let ids: Vec<String> = match table {
+            Some(id) => vec![id],
+            None => site.tables().to_vec(),
         };
+        let mut tables = Vec::new();
+        for id in &ids {
+            tables.extend(self.latest_custom_table(caller, id).await?);
+        }
         let (result, request) = self
             .compute(move |budget| {
                 let out = run(&site, &doc, &request, &tables, budget);

@@ -584,8 +584,8 @@ pub fn run_scenarios(
     tables: &[ReferenceTable],
     budget: &Budget,
 ) -> Result<mitigate::scenarios::ScenarioResults, UseCaseError> {
-    let table = whatif_table(site, req.table.as_deref(), true, tables)?;
-    Ok(mitigate::scenarios::run_scenarios(site, req, table.as_ref(), &whatif_budget(budget))?)
+    let tables = whatif_tables(site, req.table.as_deref(), true, tables)?;
+    Ok(mitigate::scenarios::run_scenarios(site, req, &tables, &whatif_budget(budget))?)
 }
 
 /// Judges a move of conductors or positions in `site` (checked from `doc`)
@@ -597,14 +597,8 @@ pub fn run_move(
     tables: &[ReferenceTable],
     budget: &Budget,
 ) -> Result<mitigate::moves::MoveResult, UseCaseError> {
-    let table = whatif_table(site, req.table.as_deref(), req.measure == mitigate::Measure::Ratio, tables)?;
-    if req.measure == mitigate::Measure::Ratio && table.is_none() {
-        return Err(UseCaseError::WhatIf(Problems::one(
-            "/table",
-            "name a reference-level table for the ratio (the site names none), or set measure to b_ut with a level",
-        )));
-    }
-    Ok(mitigate::moves::run_move(site, doc, req, table.as_ref(), &whatif_budget(budget))?)
+    let tables = whatif_tables(site, req.table.as_deref(), req.measure == mitigate::Measure::Ratio, tables)?;
+    Ok(mitigate::moves::run_move(site, doc, req, &tables, &whatif_budget(budget))?)
 }
 
 /// Judges a passive loop added to `site` within `budget`
@@ -615,8 +609,47 @@ pub fn run_loop(
     tables: &[ReferenceTable],
     budget: &Budget,
 ) -> Result<mitigate::loops::LoopResult, UseCaseError> {
-    let table = whatif_table(site, req.table.as_deref(), true, tables)?;
-    Ok(mitigate::loops::run_loop(site, req, table.as_ref(), &whatif_budget(budget))?)
+    let tables = whatif_tables(site, req.table.as_deref(), true, tables)?;
+    Ok(mitigate::loops::run_loop(site, req, &tables, &whatif_budget(budget))?)
+}
+
+/// The tables a what-if judges ratios against, as an assessment would:
+/// the requested one alone, else every table the site names; with the
+/// implant table added when the site has implant wearers and no table
+/// covers them. Empty when no ratio is wanted or no table is named.
+fn whatif_tables(
+    site: &Site,
+    requested: Option<&str>,
+    wanted: bool,
+    tables: &[ReferenceTable],
+) -> Result<Vec<ReferenceTable>, UseCaseError> {
+    if !wanted {
+        return Ok(Vec::new());
+    }
+    let ids: Vec<&str> = match requested {
+        Some(id) => vec![id],
+        None => site.tables().iter().map(String::as_str).collect(),
+    };
+    let mut p = Problems::default();
+    let mut out = Vec::new();
+    for id in ids {
+        match find_table(id, tables) {
+            Some(t) if !out.iter().any(|o: &ReferenceTable| o.id() == t.id()) => out.push(t),
+            Some(_) => {}
+            None if requested.is_some() => p.push(
+                &crate::site::Pointer::root().key("table"),
+                format!("unknown table '{id}' (see the tables list)"),
+            ),
+            None => p.push(
+                &crate::site::Pointer::root().key("table"),
+                format!("the site names table '{id}', which is unknown; name a table for the ratio"),
+            ),
+        }
+    }
+    if !p.is_empty() {
+        return Err(UseCaseError::WhatIf(p));
+    }
+    Ok(if out.is_empty() { out } else { crate::assess::with_implant_table(site, out) })
 }
 
 /// The what-if budget of a use-case budget.

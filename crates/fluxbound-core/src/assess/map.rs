@@ -2,7 +2,7 @@
 //! exposure ratio of each applicable table: what field maps, contours and
 //! boundary polygons are drawn from.
 
-use super::{GridSpec, applies, exposure_ratio, line_levels};
+use super::{GridSpec, exposure_ratio, line_levels, table_applies as applies};
 use crate::cancel::{Cancel, Cancelled, uncancelled};
 use crate::field;
 use crate::limits::ReferenceTable;

@@ -684,7 +684,7 @@ fn check_inputs(
 
 /// Adds the implant screening table when the site has implant wearers and
 /// no table chosen covers them.
-fn with_implant_table(site: &Site, mut tables: Vec<ReferenceTable>) -> Vec<ReferenceTable> {
+pub(crate) fn with_implant_table(site: &Site, mut tables: Vec<ReferenceTable>) -> Vec<ReferenceTable> {
     if site.positions().iter().any(|q| q.group == Group::ImplantWearer)
         && !tables.iter().any(|t| t.applies_to().population == Population::ImplantWearers)
         && let Some(t) = builtin_table(IMPLANT_TABLE_ID)
@@ -728,7 +728,7 @@ fn assess_positions(
                 })
                 .collect();
             let applicable: Vec<&ReferenceTable> =
-                tables.iter().filter(|t| applies(t, q.body_region, q.group)).collect();
+                tables.iter().filter(|t| table_applies(t, q.body_region, q.group)).collect();
             assess_position(q, &samples, &applicable, rf, site.frequency_hz(), &sampler.lines)
         })
         .collect()
@@ -743,7 +743,7 @@ fn assess_areas(
     max_refine_pairs: u64,
 ) -> Result<Result<Vec<AreaResult>, AssessError>, Cancelled> {
     let area_tables: Vec<&ReferenceTable> =
-        tables.iter().filter(|t| applies(t, BodyRegion::WholeBody, Group::General)).collect();
+        tables.iter().filter(|t| table_applies(t, BodyRegion::WholeBody, Group::General)).collect();
     let measures = AreaMeasures::of(&area_tables, &sampler.line_hz);
     let weightings: Vec<Weighting> = area_tables.iter().map(|t| Weighting::of(t, &sampler.lines)).collect();
     let mut left = max_refine_pairs;
@@ -871,7 +871,7 @@ pub fn area_maxima_with_and_without_pruning(
     let engine = peak::Engine { filaments: &filaments, excitation: &excitation, bounds: &bounds, cancel: &cancel };
     let line_hz: Vec<f64> = excitation.lines.iter().map(|l| l.frequency_hz).collect();
     let area_tables: Vec<&ReferenceTable> =
-        tables.iter().filter(|t| applies(t, BodyRegion::WholeBody, Group::General)).collect();
+        tables.iter().filter(|t| table_applies(t, BodyRegion::WholeBody, Group::General)).collect();
     let measures = AreaMeasures::of(&area_tables, &line_hz);
     let refined = |a: &crate::site::Area, cells: &cells::AreaCells, blocks| {
         let shape = peak::AreaShape::of(a);
@@ -930,7 +930,7 @@ fn dedup_tables(tables: &[ReferenceTable]) -> Vec<ReferenceTable> {
 /// Whether `table` applies to a point of `region` for `group`: whole-body
 /// tables to whole-body positions and areas, limb tables to limb positions,
 /// implant-wearer tables to implant wearers only.
-fn applies(table: &ReferenceTable, region: BodyRegion, group: Group) -> bool {
+pub(crate) fn table_applies(table: &ReferenceTable, region: BodyRegion, group: Group) -> bool {
     let a = table.applies_to();
     let region_ok = match region {
         BodyRegion::WholeBody => a.body_region == TableBodyRegion::WholeBody,

@@ -12,6 +12,7 @@ use crate::assess::line_levels;
 use crate::cancel::Cancel;
 use crate::field::{Excitation, Filament, Filaments, InfluenceMatrix, try_influence_matrix};
 use crate::limits::ReferenceTable;
+use crate::site::wire::{BodyRegion, Group};
 use crate::site::{Pointer, Problems, Site};
 use nalgebra::Point3;
 use serde::{Deserialize, Serialize};
@@ -93,6 +94,10 @@ pub(crate) struct TargetPoints {
     pub kind: &'static str,
     pub id: String,
     pub points: Vec<Point3<f64>>,
+    /// Which tables apply: a position's own, whole body and the general
+    /// public for an area.
+    pub region: BodyRegion,
+    pub group: Group,
 }
 
 /// The chosen targets by id (absent: all; empty: none).
@@ -173,11 +178,15 @@ impl Chosen<'_> {
             kind: "position",
             id: q.id.clone(),
             points: q.placement.points(),
+            region: q.body_region,
+            group: q.group,
         });
         let areas = site.areas().iter().filter(|a| wanted(self.areas, &a.id)).map(|a| TargetPoints {
             kind: "area",
             id: a.id.clone(),
             points: crate::assess::area_grid(&a.polygon, a.height_m, a.spacing_m),
+            region: BodyRegion::WholeBody,
+            group: Group::General,
         });
         positions.chain(areas).collect()
     }
@@ -239,8 +248,49 @@ pub(crate) enum JudgeError {
 pub(crate) struct TargetValue {
     /// Highest resultant RMS flux density, µT.
     pub b_ut: f64,
-    /// Highest exposure ratio (0 without weights).
-    pub ratio: f64,
+    /// Highest exposure ratio over the tables that apply to the target
+    /// (`None`: none applies).
+    pub ratio: Option<f64>,
+    /// The table (index into [`RatioTables::tables`]) of that ratio.
+    pub table: Option<usize>,
+}
+
+/// The tables ratios are judged against, each with its weights `1/B_RL`
+/// per spectral line. A target is judged against every table that applies
+/// to it (as an assessment does: by body region and group, the implant
+/// table for implant wearers), and its ratio is the highest.
+#[derive(Debug, Clone, Default)]
+pub(crate) struct RatioTables {
+    pub tables: Vec<ReferenceTable>,
+    pub weights: Vec<Vec<f64>>,
+}
+
+impl RatioTables {
+    /// Weights of every table at the excitation's lines, or the problem at
+    /// `/table` for a table that misses a line carrying current.
+    pub fn new(tables: &[ReferenceTable], excitation: &Excitation) -> Result<RatioTables, Problems> {
+        let line_hz: Vec<f64> = excitation.lines.iter().map(|l| l.frequency_hz).collect();
+        let present = lines_present(excitation);
+        let mut p = Problems::default();
+        let mut weights = Vec::new();
+        for t in tables {
+            match ratio_weights(Measure::Ratio, Some(t), &line_hz, &present) {
+                Ok(w) => weights.push(w),
+                Err(e) => p.0.extend(e.0),
+            }
+        }
+        p.into_result(RatioTables { tables: tables.to_vec(), weights })
+    }
+
+    /// Indices of the tables that apply to a target of `region` and `group`.
+    pub fn applicable(&self, region: BodyRegion, group: Group) -> Vec<usize> {
+        (0..self.tables.len()).filter(|&k| crate::assess::table_applies(&self.tables[k], region, group)).collect()
+    }
+
+    /// The table refs, for a result.
+    pub fn refs(&self) -> Vec<crate::assess::TableRef> {
+        self.tables.iter().map(crate::assess::TableRef::of).collect()
+    }
 }
 
 impl Judged {
@@ -277,23 +327,32 @@ impl Judged {
     }
 
     /// Each target's highest B and ratio for the conductor currents of
-    /// `excitation` (every conductor of the sampled site, same order),
-    /// the ratio with `weights` per line (`1/B_RL`). The highest B and the
-    /// highest ratio may come from different points of the target.
-    pub fn values(&self, excitation: &Excitation, weights: &[f64]) -> Vec<TargetValue> {
+    /// `excitation` (every conductor of the sampled site, same order), the
+    /// ratio against each table of `tables` that applies to the target, the
+    /// highest kept. The highest B and the highest ratio may come from
+    /// different points of the target.
+    pub fn values(&self, excitation: &Excitation, tables: &RatioTables) -> Vec<TargetValue> {
         let mut out = Vec::with_capacity(self.targets.len());
         let mut q = 0;
+        let mut m = vec![0.0; excitation.lines.len()];
         for t in &self.targets {
-            let mut worst = TargetValue { b_ut: 0.0, ratio: 0.0 };
+            let applicable = tables.applicable(t.region, t.group);
+            let mut worst = TargetValue { b_ut: 0.0, ratio: None, table: None };
             for &row in &self.kept[q..q + t.points.len()] {
-                let (mut b2, mut ratio) = (0.0, 0.0);
-                for (line, w) in excitation.lines.iter().zip(weights) {
+                let mut b2 = 0.0;
+                for (mh, line) in m.iter_mut().zip(&excitation.lines) {
                     let m2 = self.g.apply(row, &line.currents_a).iter().map(|c| c.norm_sqr()).sum::<f64>();
                     b2 += m2;
-                    ratio += m2.sqrt() * w;
+                    *mh = m2.sqrt();
                 }
                 worst.b_ut = worst.b_ut.max(b2.sqrt());
-                worst.ratio = worst.ratio.max(ratio);
+                for &k in &applicable {
+                    let ratio: f64 = m.iter().zip(&tables.weights[k]).map(|(mh, w)| mh * w).sum();
+                    if worst.ratio.is_none_or(|r| ratio > r) {
+                        worst.ratio = Some(ratio);
+                        worst.table = Some(k);
+                    }
+                }
             }
             q += t.points.len();
             out.push(worst);
@@ -352,10 +411,20 @@ pub(crate) fn drop_inside(
     (left, kept)
 }
 
-/// The closing lines of a what-if's text: targets left out, then the notes
-/// and cautions as a list.
-pub(crate) fn closing_text(s: &mut String, left_out: &[LeftOut], notes: &[String], cautions: &[String]) {
+/// The closing lines of a what-if's text: the site's model warnings,
+/// targets left out, then the notes and cautions as a list.
+pub(crate) fn closing_text(
+    s: &mut String,
+    left_out: &[LeftOut],
+    warnings: &[crate::site::Warning],
+    notes: &[String],
+    cautions: &[String],
+) {
     use std::fmt::Write;
+    if !warnings.is_empty() {
+        let _ = writeln!(s);
+        s.push_str(&crate::report::text::warnings_text(warnings));
+    }
     if !left_out.is_empty() {
         let _ = writeln!(s);
         for l in left_out {

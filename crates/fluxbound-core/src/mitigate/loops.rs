@@ -4,8 +4,7 @@
 //! for the inductances and the current).
 
 use super::judge::{
-    Chosen, Judged, LeftOut, Measure, WhatIfBudget, WhatIfError, Worst, closing_text, lines_present, ratio_weights,
-    value_text,
+    Chosen, Judged, LeftOut, Measure, RatioTables, WhatIfBudget, WhatIfError, Worst, closing_text, value_text,
 };
 use super::passive::{LoopResistance, PassiveLoop, PassiveLoopError, loop_coupling};
 use crate::assess::{LoadCase, TableRef};
@@ -61,7 +60,9 @@ pub struct LoopDoc {
     /// The load judged at (default present).
     #[serde(default)]
     pub load: LoadCase,
-    /// Table of the ratio (default: the site's first table; none: B only).
+    /// The one table of the ratio (default: every table of the site that
+    /// applies to each target, and the implant table for implant wearers,
+    /// as an assessment; none: B only).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub table: Option<String>,
     /// Position ids judged (default: all; `[]` for none).
@@ -122,11 +123,16 @@ pub struct LoopResult {
     pub lines: Vec<LoopLine>,
     pub measure: Measure,
     #[cfg_attr(feature = "schema", schema(required = true))]
-    pub table: Option<TableRef>,
+    /// The tables of the ratios (empty: B only).
+    pub tables: Vec<TableRef>,
     pub targets: Vec<LoopTarget>,
     pub worst_without: Worst,
     pub worst_with: Worst,
     pub left_out: Vec<LeftOut>,
+    /// Model warnings about the site as judged (open ends, no return path,
+    /// points inside conductors or below ground), each with its pointer
+    /// into the site document. They never block the answer.
+    pub warnings: Vec<crate::site::Warning>,
     pub notes: Vec<String>,
     pub cautions: Vec<String>,
 }
@@ -170,12 +176,12 @@ fn loop_problem(e: &PassiveLoopError) -> Problems {
     Problems::one(at, e.to_string())
 }
 
-/// Judges `req`'s loop in `site`, the ratio against `table` (resolved by
+/// Judges `req`'s loop in `site`, the ratios against `tables` (resolved by
 /// the caller; `None`: B only).
 pub fn run_loop(
     site: &Site,
     req: &LoopDoc,
-    table: Option<&ReferenceTable>,
+    tables: &[ReferenceTable],
     budget: &WhatIfBudget,
 ) -> Result<LoopResult, WhatIfError> {
     let choice = Chosen { positions: &req.positions, areas: &req.areas };
@@ -211,28 +217,61 @@ pub fn run_loop(
             ),
         )));
     }
-    let coupling = loop_coupling(&pl, &sources).map_err(|e| WhatIfError::Request(loop_problem(&e)))?;
+    let coupling = loop_coupling(&pl, &sources).map_err(|e| match e {
+        PassiveLoopError::TooClose { conductor, distance_m } => WhatIfError::Request(Problems::one(
+            "/path",
+            format!(
+                "the loop comes within {distance_m:.4} m of conductor '{}', closer than the two radii: move it clear",
+                site.conductors().get(conductor).map_or("?", |c| c.id.as_str())
+            ),
+        )),
+        e => WhatIfError::Request(loop_problem(&e)),
+    })?;
+    if enclosed_area_m2(&pl.path) <= 1e-9 * pl.length_m().unwrap_or(0.0).powi(2) {
+        return Err(WhatIfError::Request(Problems::one(
+            "/path",
+            "the loop encloses no area (its vertices lie on one line, or it folds back on itself): no current is induced",
+        )));
+    }
     if budget.cancel.is_cancelled() {
         return Err(WhatIfError::Cancelled);
     }
     let excitation = site.excitation_at(&loads);
-    let measure = if table.is_some() { Measure::Ratio } else { Measure::BUt };
-    let line_hz: Vec<f64> = excitation.lines.iter().map(|l| l.frequency_hz).collect();
-    let weights = ratio_weights(measure, table, &line_hz, &lines_present(&excitation)).map_err(WhatIfError::Request)?;
+    let measure = if tables.is_empty() { Measure::BUt } else { Measure::Ratio };
+    let ratio_tables = RatioTables::new(tables, &excitation).map_err(WhatIfError::Request)?;
     let currents: Vec<Complex64> =
         excitation.lines.iter().map(|l| coupling.current_a(l.frequency_hz, &l.currents_a)).collect();
     let vertices = pl.vertices().map_err(|e| WhatIfError::Request(loop_problem(&e)))?;
     let mut closed = vertices.to_vec();
     closed.push(vertices[0]);
     let filament = Filament { path: closed, radius_m: pl.wire_radius_m };
-    let judged =
-        Judged::sample(site, std::slice::from_ref(&filament), choice.targets(site), "the loop", &budget.cancel)?;
+    let targets = choice.targets(site);
+    // Where each target's points start in the sampled list, before points
+    // inside conductors are removed.
+    let spans: Vec<(String, usize)> = targets
+        .iter()
+        .scan(0, |start, t| {
+            *start += t.points.len();
+            Some((format!("{} '{}'", t.kind, t.id), *start))
+        })
+        .collect();
+    let judged = Judged::sample(site, std::slice::from_ref(&filament), targets, "the loop", &budget.cancel)?;
+    // A point inside the loop's own wire would be left out of "without"
+    // too and hide the worst: the loop may not pass through a target.
+    let n = site.conductors().len();
+    if let Some(hit) = judged.g.inside.iter().find(|h| h.conductor == n) {
+        let what = spans.iter().find(|(_, end)| hit.point < *end).map_or("a chosen target", |(w, _)| w.as_str());
+        return Err(WhatIfError::Request(Problems::one(
+            "/path",
+            format!("the loop's wire passes through {what}: move the loop clear of where people are judged"),
+        )));
+    }
     let mut with = excitation.clone();
     for (line, i) in with.lines.iter_mut().zip(&currents) {
         line.currents_a.push(*i);
     }
-    let before = judged.values(&excitation, &weights);
-    let after = judged.values(&with, &weights);
+    let before = judged.values(&excitation, &ratio_tables);
+    let after = judged.values(&with, &ratio_tables);
     let targets: Vec<LoopTarget> = judged
         .targets
         .iter()
@@ -243,19 +282,28 @@ pub fn run_loop(
             b_without_ut: b.b_ut,
             b_with_ut: a.b_ut,
             reduction_percent: (b.b_ut > 0.0).then(|| (b.b_ut - a.b_ut) / b.b_ut * 100.0),
-            ratio_without: (measure == Measure::Ratio).then_some(b.ratio),
-            ratio_with: (measure == Measure::Ratio).then_some(a.ratio),
+            ratio_without: b.ratio,
+            ratio_with: a.ratio,
         })
         .collect();
-    let worst = |pick: &dyn Fn(&LoopTarget) -> f64| {
+    // By ratio where a table applies, else (no table at all) by B; a target
+    // no table applies to is named in the notes instead.
+    let worst = |pick: &dyn Fn(&LoopTarget) -> Option<f64>| {
         targets
             .iter()
-            .map(|t| Worst { kind: t.kind.clone(), id: t.id.clone(), value: pick(t) })
+            .filter_map(|t| Some(Worst { kind: t.kind.clone(), id: t.id.clone(), value: pick(t)? }))
             .max_by(|a, b| a.value.total_cmp(&b.value))
-            .expect("sampling leaves at least one target")
+            .ok_or_else(|| {
+                WhatIfError::Request(Problems::one(
+                    "/table",
+                    "no table applies to any chosen target (their body region or group): name a table that does",
+                ))
+            })
     };
-    let worst_without = worst(&|t| t.ratio_without.unwrap_or(t.b_without_ut));
-    let worst_with = worst(&|t| t.ratio_with.unwrap_or(t.b_with_ut));
+    let (worst_without, worst_with) = match measure {
+        Measure::Ratio => (worst(&|t| t.ratio_without)?, worst(&|t| t.ratio_with)?),
+        Measure::BUt => (worst(&|t| Some(t.b_without_ut))?, worst(&|t| Some(t.b_with_ut))?),
+    };
     let lines = excitation
         .lines
         .iter()
@@ -275,10 +323,14 @@ pub fn run_loop(
         "The loop is drawn from its centre line; connections, joints and earthing paths that close other loops are \
          not modelled. Measure after installation."
             .to_string(),
-        "Areas are judged at the nodes of their grid; between nodes the field can be higher. Assess the site with \
-         the loop modelled to confirm."
+        "Areas are judged at the nodes of their grid; between nodes the field can be higher. The site model holds \
+         no passive loops: confirm the reduction by measurement after installation."
             .to_string(),
     ];
+    let unjudged = super::scenarios::unjudged(&judged, tables);
+    if !unjudged.is_empty() {
+        notes.push(format!("No table applies to {}: they are judged by flux density only.", unjudged.join(", ")));
+    }
     if let ResistanceDoc::Wire { conductivity_s_per_m, .. } = req.resistance
         && let Some(f) = excitation.lines.iter().map(|l| l.frequency_hz).reduce(f64::max)
     {
@@ -302,11 +354,12 @@ pub fn run_loop(
         load: req.load.clone(),
         lines,
         measure,
-        table: table.map(TableRef::of),
+        tables: ratio_tables.refs(),
         targets,
         worst_without,
         worst_with,
         left_out: judged.left_out,
+        warnings: crate::site::site_warnings(site),
         notes,
         cautions: crate::cautions::cautions(),
     })
@@ -324,6 +377,10 @@ pub fn loop_text(r: &LoopResult) -> String {
         r.self_inductance_h * 1e6,
         r.load.name()
     );
+    if !r.tables.is_empty() {
+        let names: Vec<String> = r.tables.iter().map(|t| format!("{} (v{})", t.id, t.version)).collect();
+        let _ = writeln!(s, "Ratios against the tables that apply to each target: {}", names.join(", "));
+    }
     for l in &r.lines {
         let _ = writeln!(
             s,
@@ -355,6 +412,13 @@ pub fn loop_text(r: &LoopResult) -> String {
         r.worst_with.id,
         value_text(r.measure, r.worst_with.value)
     );
-    closing_text(&mut s, &r.left_out, &r.notes, &r.cautions);
+    closing_text(&mut s, &r.left_out, &r.warnings, &r.notes, &r.cautions);
     s
+}
+
+/// The magnitude of the loop's vector area `½ |Σ v_i × v_(i+1)|`, m².
+fn enclosed_area_m2(path: &[Point3<f64>]) -> f64 {
+    let n = path.len();
+    let sum = (0..n).fold(nalgebra::Vector3::zeros(), |acc, i| acc + path[i].coords.cross(&path[(i + 1) % n].coords));
+    0.5 * sum.norm()
 }

@@ -12,8 +12,8 @@
 //! steadily with the move: a later step over the level again is reported.
 
 use super::judge::{
-    Chosen, JudgeError, Judged, LeftOut, Measure, WhatIfBudget, WhatIfError, Worst, closing_text, lines_present,
-    ratio_weights, value_text,
+    Chosen, JudgeError, Judged, LeftOut, Measure, RatioTables, WhatIfBudget, WhatIfError, Worst, closing_text,
+    value_text,
 };
 use crate::assess::{LoadCase, TableRef};
 use crate::cancel::Cancel;
@@ -78,7 +78,9 @@ pub struct MoveDoc {
     /// The load judged at (default present).
     #[serde(default)]
     pub load: LoadCase,
-    /// Table of the ratio (default: the site's first table).
+    /// The one table of the ratio (default: every table of the site that
+    /// applies to each target, and the implant table for implant wearers,
+    /// as an assessment).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub table: Option<String>,
     /// Position ids judged (default: all; `[]` for none).
@@ -117,7 +119,8 @@ pub struct MoveResult {
     pub by_m: [f64; 3],
     pub measure: Measure,
     #[cfg_attr(feature = "schema", schema(required = true))]
-    pub table: Option<TableRef>,
+    /// The tables of the ratios (empty for `b_ut`).
+    pub tables: Vec<TableRef>,
     pub level: f64,
     pub load: LoadCase,
     /// Step 0 (as built) to the full move.
@@ -132,7 +135,14 @@ pub struct MoveResult {
     /// and assess (`null` without one).
     #[cfg_attr(feature = "schema", schema(required = true))]
     pub revision: Option<SiteDoc>,
+    /// Model warnings of the site moved by `smallest` (`[]` without one):
+    /// a move can put conductors below ground or against others.
+    pub revision_warnings: Vec<crate::site::Warning>,
     pub left_out: Vec<LeftOut>,
+    /// Model warnings about the site as judged (open ends, no return path,
+    /// points inside conductors or below ground), each with its pointer
+    /// into the site document. They never block the answer.
+    pub warnings: Vec<crate::site::Warning>,
     pub notes: Vec<String>,
     pub cautions: Vec<String>,
 }
@@ -232,7 +242,7 @@ pub fn moved(doc: &SiteDoc, moving: &Moving, offset: [f64; 3]) -> SiteDoc {
 struct Judge<'a> {
     doc: &'a SiteDoc,
     req: &'a MoveDoc,
-    weights: Vec<f64>,
+    tables: RatioTables,
     level: f64,
     cancel: &'a Cancel,
 }
@@ -265,18 +275,17 @@ impl Judge<'_> {
                 return Ok((step, Vec::new()));
             }
         };
-        let values = judged.values(&excitation, &self.weights);
+        let values = judged.values(&excitation, &self.tables);
         let worst = judged
             .targets
             .iter()
             .zip(&values)
-            .map(|(t, v)| Worst {
-                kind: t.kind.to_string(),
-                id: t.id.clone(),
-                value: match self.req.measure {
-                    Measure::Ratio => v.ratio,
+            .filter_map(|(t, v)| {
+                let value = match self.req.measure {
+                    Measure::Ratio => v.ratio?,
                     Measure::BUt => v.b_ut,
-                },
+                };
+                Some(Worst { kind: t.kind.to_string(), id: t.id.clone(), value })
             })
             .max_by(|a, b| a.value.total_cmp(&b.value));
         step.under_level = worst.as_ref().map(|w| w.value < self.level);
@@ -289,13 +298,13 @@ fn under(s: &MoveStep) -> bool {
     s.under_level == Some(true)
 }
 
-/// Judges the move of `req` in `site` (checked from `doc`), the ratio
-/// against `table` (resolved by the caller).
+/// Judges the move of `req` in `site` (checked from `doc`), the ratios
+/// against `tables` (resolved by the caller).
 pub fn run_move(
     site: &Site,
     doc: &SiteDoc,
     req: &MoveDoc,
-    table: Option<&ReferenceTable>,
+    tables: &[ReferenceTable],
     budget: &WhatIfBudget,
 ) -> Result<MoveResult, WhatIfError> {
     let level = check_request(site, req).map_err(WhatIfError::Request)?;
@@ -305,23 +314,46 @@ pub fn run_move(
         .check_budget(site, passes, budget.max_grid_cells, budget.max_pairs)
         .map_err(WhatIfError::OverBudget)?;
     let excitation = site.excitation_at(&loads);
-    let line_hz: Vec<f64> = excitation.lines.iter().map(|l| l.frequency_hz).collect();
-    let weights =
-        ratio_weights(req.measure, table, &line_hz, &lines_present(&excitation)).map_err(WhatIfError::Request)?;
-    let judge = Judge { doc, req, weights, level, cancel: &budget.cancel };
+    let tables = match req.measure {
+        Measure::Ratio if tables.is_empty() => {
+            return Err(WhatIfError::Request(Problems::one(
+                "/table",
+                "name a reference-level table for the ratio (the site names none), or set measure to b_ut with a level",
+            )));
+        }
+        Measure::Ratio => RatioTables::new(tables, &excitation).map_err(WhatIfError::Request)?,
+        Measure::BUt => RatioTables::default(),
+    };
+    let judge = Judge { doc, req, tables, level, cancel: &budget.cancel };
     let mut steps = Vec::with_capacity(req.steps as usize + 1);
     let mut left_out = Vec::new();
     for k in 0..=req.steps {
         let (step, left) = judge.step(f64::from(k) / f64::from(req.steps))?;
         if k == 0 {
             if step.worst.is_none() {
-                let why = step.problem.unwrap_or_default();
-                return Err(WhatIfError::Request(Problems::one("/positions", why)));
+                return Err(WhatIfError::Request(match step.problem {
+                    Some(why) => Problems::one("/positions", why),
+                    None => Problems::one(
+                        "/table",
+                        "no table applies to any chosen target (their body region or group): name a table that \
+                         does, or set measure to b_ut with a level",
+                    ),
+                }));
             }
             left_out = left;
         }
         steps.push(step);
     }
+    let unjudged: Vec<String> = if judge.tables.tables.is_empty() {
+        Vec::new()
+    } else {
+        Chosen { positions: &req.positions, areas: &req.areas }
+            .targets(site)
+            .iter()
+            .filter(|t| judge.tables.applicable(t.region, t.group).is_empty())
+            .map(|t| format!("{} '{}'", t.kind, t.id))
+            .collect()
+    };
     let first = steps.iter().position(under);
     let smallest = match first {
         None => None,
@@ -330,22 +362,26 @@ pub fn run_move(
     };
     let again = first.and_then(|k| steps[k..].iter().find(|s| !under(s)).cloned());
     let revision = smallest.as_ref().map(|s| moved(doc, &req.moving, s.offset_m));
-    let unit = match req.measure {
-        Measure::Ratio => "",
-        Measure::BUt => " µT",
+    let revision_warnings = revision
+        .as_ref()
+        .and_then(|d| validate_site(d).ok())
+        .map_or(Vec::new(), |moved_site| crate::site::site_warnings(&moved_site));
+    let (unit, what) = match req.measure {
+        Measure::Ratio => ("", "ratio "),
+        Measure::BUt => (" µT", ""),
     };
     let answer = match (&smallest, first) {
         (None, _) => format!(
-            "No step of the move up to {:.3} m brings every target under {level}{unit}: the worst at the full move is {}.",
+            "No step of the move up to {:.3} m brings every target under {what}{level}{unit}: the worst at the full move is {}.",
             norm(req.by_m),
             steps
                 .last()
                 .and_then(|s| s.worst.as_ref())
                 .map_or("not known".to_string(), |w| format!("{} '{}' at {:.3}{unit}", w.kind, w.id, w.value))
         ),
-        (Some(_), Some(0)) => format!("Every target is already under {level}{unit} as built."),
+        (Some(_), Some(0)) => format!("Every target is already under {what}{level}{unit} as built."),
         (Some(s), _) => format!(
-            "Moving by {:.3} m ([{:.3}, {:.3}, {:.3}]) brings every target under {level}{unit}: the worst is then {} '{}' at {:.5}{unit}.",
+            "Moving by {:.3} m ([{:.3}, {:.3}, {:.3}]) brings every target under {what}{level}{unit}: the worst is then {} '{}' at {what}{:.5}{unit}.",
             s.distance_m,
             s.offset_m[0],
             s.offset_m[1],
@@ -359,18 +395,17 @@ pub fn run_move(
         moving: req.moving.clone(),
         by_m: req.by_m,
         measure: req.measure,
-        table: match req.measure {
-            Measure::Ratio => table.map(TableRef::of),
-            Measure::BUt => None,
-        },
+        tables: judge.tables.refs(),
         level,
         load: req.load.clone(),
-        notes: notes(again.as_ref(), &steps),
+        notes: notes(again.as_ref(), &steps, &unjudged),
         steps,
         smallest,
         answer,
         revision,
+        revision_warnings,
         left_out,
+        warnings: crate::site::site_warnings(site),
         cautions: crate::cautions::cautions(),
     })
 }
@@ -406,7 +441,7 @@ fn refine(judge: &Judge, req: &MoveDoc, k: usize) -> Result<MoveStep, WhatIfErro
     Ok(best)
 }
 
-fn notes(again: Option<&MoveStep>, steps: &[MoveStep]) -> Vec<String> {
+fn notes(again: Option<&MoveStep>, steps: &[MoveStep], unjudged: &[String]) -> Vec<String> {
     let mut n = vec![
         "Positions are judged at their points exactly; areas at the nodes of their grid, between which the field can \
          be higher. Save the revision and assess it: the assessment bounds each area's maximum and gives the verdicts."
@@ -419,6 +454,12 @@ fn notes(again: Option<&MoveStep>, steps: &[MoveStep]) -> Vec<String> {
         n.push(format!(
             "The worst value does not fall steadily: at a move of {:.3} m a target is over the level again, so a larger move is not necessarily better.",
             s.distance_m
+        ));
+    }
+    if !unjudged.is_empty() {
+        n.push(format!(
+            "No table applies to {}: they have no ratio and do not take part in the worst or the level.",
+            unjudged.join(", ")
         ));
     }
     if steps.iter().any(|s| s.problem.is_some()) {
@@ -439,19 +480,23 @@ pub fn move_text(r: &MoveResult) -> String {
             what.push(format!("{kind} {}", ids.join(", ")));
         }
     }
-    let by = match (&r.table, r.measure) {
-        (Some(t), Measure::Ratio) => format!("exposure ratio against {} (v{})", t.id, t.version),
-        _ => "resultant RMS flux density".to_string(),
+    let by = match r.measure {
+        Measure::Ratio => format!(
+            "exposure ratio against {}",
+            r.tables.iter().map(|t| format!("{} (v{})", t.id, t.version)).collect::<Vec<_>>().join(", ")
+        ),
+        Measure::BUt => "resultant RMS flux density".to_string(),
     };
     let _ = writeln!(
         s,
-        "Move of {} by up to [{}, {}, {}] m at {} load, judged by {by}, level {}",
+        "Move of {} by up to [{}, {}, {}] m at {} load, judged by {by}, level {}{}",
         what.join("; "),
         r.by_m[0],
         r.by_m[1],
         r.by_m[2],
         r.load.name(),
-        r.level
+        r.level,
+        if r.measure == Measure::BUt { " µT" } else { "" }
     );
     let _ = writeln!(s);
     let _ = writeln!(s, "{:>10}  {:<28}  under the level", "move (m)", "worst");
@@ -468,6 +513,11 @@ pub fn move_text(r: &MoveResult) -> String {
     }
     let _ = writeln!(s);
     let _ = writeln!(s, "{}", r.answer);
-    closing_text(&mut s, &r.left_out, &r.notes, &r.cautions);
+    if !r.revision_warnings.is_empty() {
+        let _ = writeln!(s);
+        let _ = writeln!(s, "Moved site (the revision):");
+        s.push_str(&crate::report::text::warnings_text(&r.revision_warnings));
+    }
+    closing_text(&mut s, &r.left_out, &r.warnings, &r.notes, &r.cautions);
     s
 }

@@ -12,8 +12,7 @@
 //! case is written out as explicit currents, so it can be assessed as is.
 
 use super::judge::{
-    Chosen, Judged, LeftOut, Measure, WhatIfBudget, WhatIfError, Worst, closing_text, lines_present, ratio_weights,
-    value_text,
+    Chosen, Judged, LeftOut, Measure, RatioTables, WhatIfBudget, WhatIfError, Worst, closing_text, value_text,
 };
 use crate::assess::{CircuitLoadReport, LoadCase, TableRef};
 use crate::limits::ReferenceTable;
@@ -58,7 +57,9 @@ pub struct ScenariosDoc {
     /// the same `load_group`).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub n_minus_1: Option<NMinusOne>,
-    /// Table of the ratio (default: the site's first table; none: B only).
+    /// The one table of the ratio (default: every table of the site that
+    /// applies to each target, and the implant table for implant wearers,
+    /// as an assessment; none: B only).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub table: Option<String>,
     /// Position ids judged (default: all; `[]` for none).
@@ -90,9 +91,13 @@ pub struct TargetResult {
     /// Highest resultant RMS flux density over its points (an area: its
     /// grid nodes), µT.
     pub b_ut: f64,
-    /// Highest exposure ratio over its points (`null` without a table).
+    /// Highest exposure ratio over its points and the tables that apply to
+    /// it (`null`: no table applies).
     #[cfg_attr(feature = "schema", schema(required = true))]
     pub ratio: Option<f64>,
+    /// The table of that ratio.
+    #[cfg_attr(feature = "schema", schema(required = true))]
+    pub table: Option<String>,
 }
 
 /// One scenario's answer.
@@ -130,15 +135,19 @@ pub struct WorstScenario {
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct ScenarioResults {
-    /// What the worst is judged by: `ratio` with a table, else `b_ut`.
+    /// What the worst is judged by: `ratio` with tables, else `b_ut`.
     pub measure: Measure,
-    #[cfg_attr(feature = "schema", schema(required = true))]
-    pub table: Option<TableRef>,
+    /// The tables of the ratios (empty: B only).
+    pub tables: Vec<TableRef>,
     /// Points (position heights and area nodes) judged in every scenario.
     pub points: u64,
     pub scenarios: Vec<ScenarioResult>,
     pub worst: WorstScenario,
     pub left_out: Vec<LeftOut>,
+    /// Model warnings about the site as judged (open ends, no return path,
+    /// points inside conductors or below ground), each with its pointer
+    /// into the site document. They never block the answer.
+    pub warnings: Vec<crate::site::Warning>,
     pub notes: Vec<String>,
     pub cautions: Vec<String>,
 }
@@ -229,12 +238,12 @@ fn n_minus_one(site: &Site, base: &LoadCase) -> Result<Vec<Scenario>, Problems> 
     Ok(out)
 }
 
-/// Judges every scenario of `req` in `site`, the ratio against `table`
+/// Judges every scenario of `req` in `site`, the ratios against `tables`
 /// (resolved by the caller; `None`: B only).
 pub fn run_scenarios(
     site: &Site,
     req: &ScenariosDoc,
-    table: Option<&ReferenceTable>,
+    tables: &[ReferenceTable],
     budget: &WhatIfBudget,
 ) -> Result<ScenarioResults, WhatIfError> {
     let choice = Chosen { positions: &req.positions, areas: &req.areas };
@@ -265,25 +274,23 @@ pub fn run_scenarios(
             ),
         )));
     }
-    let measure = if table.is_some() { Measure::Ratio } else { Measure::BUt };
+    let measure = if tables.is_empty() { Measure::BUt } else { Measure::Ratio };
     // Every scenario's lines and loads first: a table that misses a line
     // any scenario carries is a problem before anything is sampled.
     let mut cases = Vec::with_capacity(scenarios.len());
     for (s, origin) in scenarios {
         let loads = s.load.resolve(site).map_err(|e| WhatIfError::Request(e.into_problems("/scenarios")))?;
         let excitation = site.excitation_at(&loads);
-        let line_hz: Vec<f64> = excitation.lines.iter().map(|l| l.frequency_hz).collect();
-        let weights =
-            ratio_weights(measure, table, &line_hz, &lines_present(&excitation)).map_err(WhatIfError::Request)?;
-        cases.push((s, origin, loads, excitation, weights));
+        let ratio_tables = RatioTables::new(tables, &excitation).map_err(WhatIfError::Request)?;
+        cases.push((s, origin, loads, excitation, ratio_tables));
     }
     let judged = Judged::sample(site, &[], choice.targets(site), "the scenarios", &budget.cancel)?;
     let mut results = Vec::with_capacity(cases.len());
-    for (s, origin, loads, excitation, weights) in cases {
+    for (s, origin, loads, excitation, ratio_tables) in cases {
         if budget.cancel.is_cancelled() {
             return Err(WhatIfError::Cancelled);
         }
-        let values = judged.values(&excitation, &weights);
+        let values = judged.values(&excitation, &ratio_tables);
         let targets: Vec<TargetResult> = judged
             .targets
             .iter()
@@ -292,14 +299,21 @@ pub fn run_scenarios(
                 kind: t.kind.to_string(),
                 id: t.id.clone(),
                 b_ut: v.b_ut,
-                ratio: (measure == Measure::Ratio).then_some(v.ratio),
+                ratio: v.ratio,
+                table: v.table.map(|k| tables[k].id().to_string()),
             })
             .collect();
         let worst_of = |kind: &str| {
             targets
                 .iter()
                 .filter(|t| t.kind == kind)
-                .map(|t| Worst { kind: t.kind.clone(), id: t.id.clone(), value: t.ratio.unwrap_or(t.b_ut) })
+                .filter_map(|t| {
+                    let value = match measure {
+                        Measure::Ratio => t.ratio?,
+                        Measure::BUt => t.b_ut,
+                    };
+                    Some(Worst { kind: t.kind.clone(), id: t.id.clone(), value })
+                })
                 .max_by(|a, b| a.value.total_cmp(&b.value))
         };
         let report = crate::assess::load_report(&s.load, site, &loads);
@@ -330,20 +344,45 @@ pub fn run_scenarios(
                 .map(|w| WorstScenario { scenario: r.name.clone(), at: w.clone() })
         })
         .max_by(|a, b| a.at.value.total_cmp(&b.at.value))
-        .expect("every sampled target has a value in every scenario");
+        .ok_or_else(|| {
+            WhatIfError::Request(Problems::one(
+                "/table",
+                "no table applies to any chosen target (their body region or group): name a table that does",
+            ))
+        })?;
     Ok(ScenarioResults {
         measure,
-        table: table.map(TableRef::of),
+        tables: tables.iter().map(TableRef::of).collect(),
         points: judged.kept.len() as u64,
-        notes: notes(&results, measure),
+        notes: notes(
+            &results,
+            measure,
+            &unjudged(&judged, tables),
+            site.circuits().iter().any(|c| c.load_group.is_some()),
+        ),
         scenarios: results,
         worst,
         left_out: judged.left_out,
+        warnings: crate::site::site_warnings(site),
         cautions: crate::cautions::cautions(),
     })
 }
 
-fn notes(results: &[ScenarioResult], measure: Measure) -> Vec<String> {
+/// Targets no table applies to, in words (`position 'hands' (limbs)`).
+pub(crate) fn unjudged(judged: &Judged, tables: &[ReferenceTable]) -> Vec<String> {
+    if tables.is_empty() {
+        return Vec::new();
+    }
+    let rt = RatioTables { tables: tables.to_vec(), weights: Vec::new() };
+    judged
+        .targets
+        .iter()
+        .filter(|t| rt.applicable(t.region, t.group).is_empty())
+        .map(|t| format!("{} '{}'", t.kind, t.id))
+        .collect()
+}
+
+fn notes(results: &[ScenarioResult], measure: Measure, unjudged: &[String], has_groups: bool) -> Vec<String> {
     let mut n = vec![
         "Areas are judged at the nodes of their grid; between nodes the field can be higher. Assess the worst \
          scenario's load case: the assessment bounds each area's maximum and gives the verdicts."
@@ -351,6 +390,26 @@ fn notes(results: &[ScenarioResult], measure: Measure) -> Vec<String> {
     ];
     if measure == Measure::BUt {
         n.push("No table was named and the site names none: scenarios are compared by flux density only.".to_string());
+    } else {
+        n.push(
+            "Each target is judged against every table that applies to it (by body region and group, the implant \
+             table for implant wearers), as an assessment does; its ratio is the highest, with that table named."
+                .to_string(),
+        );
+    }
+    if !unjudged.is_empty() {
+        n.push(format!(
+            "No table applies to {}: they have no ratio and do not take part in the worst; see their flux density.",
+            unjudged.join(", ")
+        ));
+    }
+    if !results.iter().any(|r| r.origin == Origin::NMinusOne) && has_groups {
+        n.push(
+            "The site marks circuits that share one load (load_group) and no N-1 case was asked for: with one out \
+             of service the others carry its current, which can be worse than any case here. Add n_minus_1 (CLI \
+             --n-minus-1)."
+                .to_string(),
+        );
     }
     if results.iter().any(|r| r.origin == Origin::NMinusOne) {
         n.push(
@@ -373,21 +432,34 @@ fn notes(results: &[ScenarioResult], measure: Measure) -> Vec<String> {
 pub fn scenarios_text(r: &ScenarioResults) -> String {
     use std::fmt::Write;
     let mut s = String::new();
-    let by = match &r.table {
-        Some(t) => format!("exposure ratio against {} (v{})", t.id, t.version),
-        None => "resultant RMS flux density (no table)".to_string(),
+    let by = match r.tables.as_slice() {
+        [] => "resultant RMS flux density (no table)".to_string(),
+        tables => format!(
+            "exposure ratio against {}",
+            tables.iter().map(|t| format!("{} (v{})", t.id, t.version)).collect::<Vec<_>>().join(", ")
+        ),
     };
     let _ = writeln!(s, "Load scenarios: {} judged at {} points, by {by}", r.scenarios.len(), r.points);
     let _ = writeln!(s);
     let width = r.scenarios.iter().map(|x| x.name.chars().count()).max().unwrap_or(8).max(8);
-    let _ = writeln!(s, "{:<width$}  {:<24}  {:<24}", "scenario", "worst position", "worst area");
+    let cell = |w: &Option<Worst>| {
+        w.as_ref().map_or("—".to_string(), |w| format!("{} {}", w.id, value_text(r.measure, w.value)))
+    };
+    let pw = r.scenarios.iter().map(|x| cell(&x.worst_position).chars().count()).max().unwrap_or(0).max(14);
+    let _ = writeln!(s, "{:<width$}  {:<pw$}  worst area", "scenario", "worst position");
     for x in &r.scenarios {
         let cell = |w: &Option<Worst>| {
             w.as_ref().map_or("—".to_string(), |w| format!("{} {}", w.id, value_text(r.measure, w.value)))
         };
-        let _ = writeln!(s, "{:<width$}  {:<24}  {:<24}", x.name, cell(&x.worst_position), cell(&x.worst_area));
+        let _ = writeln!(s, "{:<width$}  {:<pw$}  {}", x.name, cell(&x.worst_position), cell(&x.worst_area));
         if !x.above_rated.is_empty() {
-            let _ = writeln!(s, "{:<width$}  above rated current: {}", "", x.above_rated.join(", "));
+            let over: Vec<String> = x
+                .circuits
+                .iter()
+                .filter(|c| x.above_rated.contains(&c.id))
+                .map(|c| format!("{} at {:.0} A", c.id, c.assessed_a))
+                .collect();
+            let _ = writeln!(s, "{:<width$}  above its rated current: {}", "", over.join(", "));
         }
     }
     let _ = writeln!(s);
@@ -399,6 +471,6 @@ pub fn scenarios_text(r: &ScenarioResults) -> String {
         r.worst.at.id,
         value_text(r.measure, r.worst.at.value)
     );
-    closing_text(&mut s, &r.left_out, &r.notes, &r.cautions);
+    closing_text(&mut s, &r.left_out, &r.warnings, &r.notes, &r.cautions);
     s
 }

@@ -44,6 +44,11 @@ pub const EXHAUSTIVE_LIMIT: u64 = 46_656;
 /// Most circuits in one search.
 pub const MAX_CIRCUITS: usize = 12;
 
+/// Below this improvement, percent, the search says that re-phasing is not
+/// worth it (common practice, no source: a change smaller than the model's
+/// and the measurement's uncertainty).
+pub const MATERIAL_PERCENT: f64 = 5.0;
+
 /// Most ranked arrangements returned.
 pub const MAX_TOP: usize = 100;
 
@@ -199,6 +204,10 @@ pub struct PhaseSearch {
     /// The site document with the best arrangement applied: a draft
     /// revision to review, then save and assess.
     pub revision: SiteDoc,
+    /// Model warnings about the site as judged (open ends, no return path,
+    /// points inside conductors or below ground), each with its pointer
+    /// into the site document. They never block the answer.
+    pub warnings: Vec<crate::site::Warning>,
     pub left_out: Vec<LeftOut>,
     /// What the numbers mean and what to do next.
     pub notes: Vec<String>,
@@ -356,6 +365,17 @@ pub fn search_phases(
     })?;
     let method = if exhaustive { Method::Exhaustive } else { Method::BranchAndBound };
     let optimality_gap = found.open_bound.map(|lb| (found.ranked.first().map_or(lb, |l| l.objective) - lb).max(0.0));
+    let all_notes = {
+        let mut n = notes(&found, req, method, shares_load(site, &chosen));
+        if ranked.first().and_then(|a| a.improvement_percent).is_some_and(|p| p < MATERIAL_PERCENT) {
+            n.push(format!(
+                "No arrangement lowers the objective by {MATERIAL_PERCENT} % or more against as built: keeping \
+                 the present phase order is as good, and re-phasing is work and risk for no real gain."
+            ));
+        }
+        n.extend(table_note(site, table, &all_targets, req.measure));
+        n
+    };
     Ok(PhaseSearch {
         circuits: req.circuits.clone(),
         load: req.load.clone(),
@@ -375,9 +395,43 @@ pub fn search_phases(
         ranked,
         revision,
         left_out,
-        notes: notes(&found, req, method, shares_load(site, &chosen)),
+        warnings: crate::site::site_warnings(site),
+        notes: all_notes,
         cautions: crate::cautions::cautions(),
     })
+}
+
+/// What the one table of the ranking leaves out, in words: other tables
+/// the site names, the implant table of implant wearers, targets the table
+/// does not apply to. An assessment of the revision judges them all.
+fn table_note(
+    site: &Site,
+    table: Option<&ReferenceTable>,
+    targets: &[TargetPoints],
+    measure: Measure,
+) -> Option<String> {
+    let t = table.filter(|_| measure == Measure::Ratio)?;
+    let mut others: Vec<String> = site.tables().iter().filter(|id| id.as_str() != t.id()).cloned().collect();
+    if targets.iter().any(|x| x.group == crate::site::wire::Group::ImplantWearer) {
+        others.push(crate::limits::IMPLANT_TABLE_ID.to_string());
+    }
+    let outside: Vec<String> = targets
+        .iter()
+        .filter(|x| !crate::assess::table_applies(t, x.region, x.group))
+        .map(|x| format!("{} '{}'", x.kind, x.id))
+        .collect();
+    if others.is_empty() && outside.is_empty() {
+        return None;
+    }
+    let mut words = format!("The arrangements are ranked against table '{}' alone.", t.id());
+    if !outside.is_empty() {
+        words.push_str(&format!(" It does not apply to {} (body region or group).", outside.join(", ")));
+    }
+    if !others.is_empty() {
+        words.push_str(&format!(" Also applicable and not used here: {}.", others.join(", ")));
+    }
+    words.push_str(" Assess the chosen revision: the assessment judges every target against every table that applies.");
+    Some(words)
 }
 
 /// Whether two of the chosen circuits share a load group.

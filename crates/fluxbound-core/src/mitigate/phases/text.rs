@@ -55,7 +55,13 @@ pub fn phases_text(r: &PhaseSearch) -> String {
     );
     let _ = writeln!(s);
     for a in &r.ranked {
-        let better = a.improvement_percent.map_or(String::new(), |p| format!(", {p:+.1} % against as built"));
+        let better = a.improvement_percent.map_or(String::new(), |p| {
+            if p >= 0.0 {
+                format!(", {p:.1} % lower than as built")
+            } else {
+                format!(", {:.1} % higher than as built", -p)
+            }
+        });
         let _ = writeln!(
             s,
             "{:>3}. {}{} — worst {} {}",
@@ -68,6 +74,6 @@ pub fn phases_text(r: &PhaseSearch) -> String {
         let _ = writeln!(s, "     phases {}", phases(a));
         let _ = writeln!(s, "     changes {}", changes(a));
     }
-    closing_text(&mut s, &r.left_out, &r.notes, &r.cautions);
+    closing_text(&mut s, &r.left_out, &r.warnings, &r.notes, &r.cautions);
     s
 }

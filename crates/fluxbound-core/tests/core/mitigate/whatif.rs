@@ -83,7 +83,7 @@ fn n_minus_one_cases_of_three_feeders_follow_the_shares_worked_by_hand() {
     let v = three_feeders();
     let site = site_of(&v);
     let req = ScenariosDoc { n_minus_1: Some(NMinusOne { base: LoadCase::Present }), ..ScenariosDoc::default() };
-    let r = run_scenarios(&site, &req, None, &scenario_budget()).unwrap();
+    let r = run_scenarios(&site, &req, &[], &scenario_budget()).unwrap();
     let names: Vec<&str> = r.scenarios.iter().map(|s| s.name.as_str()).collect();
     assert_eq!(names, ["present", "rated", "bus: all in service", "bus: F1 out", "bus: F2 out", "bus: F3 out"]);
     assert_eq!(r.measure, Measure::BUt, "no table: by flux density");
@@ -141,7 +141,7 @@ fn named_scenarios_and_their_problems_are_addressed_by_pointer() {
         ]
     }))
     .unwrap();
-    let e = match run_scenarios(&site, &req, None, &scenario_budget()) {
+    let e = match run_scenarios(&site, &req, &[], &scenario_budget()) {
         Err(WhatIfError::Request(p)) => p,
         other => panic!("{other:?}"),
     };
@@ -154,7 +154,7 @@ fn named_scenarios_and_their_problems_are_addressed_by_pointer() {
         c.as_object_mut().unwrap().remove("load_group");
     }
     let req = ScenariosDoc { n_minus_1: Some(NMinusOne::default()), ..ScenariosDoc::default() };
-    match run_scenarios(&site_of(&plain), &req, None, &scenario_budget()) {
+    match run_scenarios(&site_of(&plain), &req, &[], &scenario_budget()) {
         Err(WhatIfError::Request(p)) => {
             assert_eq!(p.iter().next().unwrap().pointer, "/n_minus_1", "{p:?}")
         }
@@ -205,7 +205,7 @@ fn raising_a_wire_finds_the_smallest_move_of_the_long_wire_law_rounded_up_to_a_m
         positions: Some(vec!["desk".into()]),
         areas: Some(vec![]),
     };
-    let r = run_move(&site_of(&v), &doc_of(&v), &req, None, &move_budget()).unwrap();
+    let r = run_move(&site_of(&v), &doc_of(&v), &req, &[], &move_budget()).unwrap();
     for (k, s) in r.steps.iter().enumerate() {
         let want = 0.2 * 1000.0 / (4.0 + k as f64);
         let got = s.worst.as_ref().unwrap().value;
@@ -238,14 +238,14 @@ fn a_move_that_never_reaches_the_level_says_so_and_a_standing_position_cannot_ri
         areas: None,
     };
     // Sideways by 2 m: 0.2·1000/√(16 + 4) = 44.7 µT, far above 1 µT.
-    let r = run_move(&site_of(&v), &doc_of(&v), &req, None, &move_budget()).unwrap();
+    let r = run_move(&site_of(&v), &doc_of(&v), &req, &[], &move_budget()).unwrap();
     assert!(r.smallest.is_none() && r.revision.is_none());
     let last = r.steps.last().unwrap().worst.as_ref().unwrap().value;
     assert!((last - 200.0 / 20f64.sqrt()).abs() < 1e-4, "{last}");
     assert!(r.answer.starts_with("No step of the move"), "{}", r.answer);
     req.moving.positions = vec!["floor".into()];
     req.by_m = [0.0, 0.0, 1.0];
-    match run_move(&site_of(&v), &doc_of(&v), &req, None, &move_budget()) {
+    match run_move(&site_of(&v), &doc_of(&v), &req, &[], &move_budget()) {
         Err(WhatIfError::Request(p)) => {
             assert_eq!(p.iter().next().unwrap().pointer, "/by_m/2", "{p:?}")
         }
@@ -281,7 +281,7 @@ fn a_coplanar_loop_beside_a_long_wire_carries_the_current_of_its_mutual_inductan
         positions: None,
         areas: None,
     };
-    let r = run_loop(&site_of(&v), &req, None, &WhatIfBudget::unlimited()).unwrap();
+    let r = run_loop(&site_of(&v), &req, &[], &WhatIfBudget::unlimited()).unwrap();
     let m = 2e-6 * 2f64.ln();
     let omega = 2.0 * std::f64::consts::PI * 50.0;
     let z = num_complex::Complex64::new(0.002, omega * r.self_inductance_h);
@@ -317,7 +317,7 @@ fn a_loop_through_a_conductor_is_refused_at_its_path() {
         "resistance": {"kind": "given", "ohm": 0.01}
     }))
     .unwrap();
-    match run_loop(&site_of(&v), &req, None, &WhatIfBudget::unlimited()) {
+    match run_loop(&site_of(&v), &req, &[], &WhatIfBudget::unlimited()) {
         Err(WhatIfError::Request(p)) => {
             assert_eq!(p.iter().next().unwrap().pointer, "/path", "{p:?}")
         }
@@ -336,10 +336,87 @@ fn a_loop_whose_neumann_integrals_exceed_the_budget_is_refused_before_computing(
     }))
     .unwrap();
     let tight = WhatIfBudget { max_pairs: 1000, ..WhatIfBudget::unlimited() };
-    match run_loop(&site_of(&v), &req, None, &tight) {
+    match run_loop(&site_of(&v), &req, &[], &tight) {
         Err(WhatIfError::OverBudget(p)) => assert_eq!(p.iter().next().unwrap().pointer, "/path", "{p:?}"),
         other => panic!("{other:?}"),
     }
     let enough = WhatIfBudget { max_pairs: 1_000_000, ..WhatIfBudget::unlimited() };
-    assert!(run_loop(&site_of(&v), &req, None, &enough).is_ok());
+    assert!(run_loop(&site_of(&v), &req, &[], &enough).is_ok());
+}
+
+#[test]
+fn each_target_is_judged_against_every_table_that_applies_to_it_the_implant_wearer_too() {
+    // A 20 km wire of 1000 A; two positions 2 m beside it (B = 0.2·1000/2 =
+    // 100 µT, OpenStax), one of them an implant wearer. The site names one
+    // invented workers' table (flat 1000 µT): ratio 0.1 for both; the
+    // implant wearer is also screened against the built-in implant table
+    // (added as an assessment adds it), whose level is read from the table.
+    let table = fluxbound_core::limits::parse_table(
+        &json!({
+            "id": "test-flat-1000", "title": "Flat 1000 µT (invented for tests)", "source": "invented for tests",
+            "applies_to": {"population": "workers", "body_region": "whole_body"}, "kind": "reference_level",
+            "bands": [{"from_hz": 1, "to_hz": 1000, "coefficient": 1000, "exponent": 0}]
+        })
+        .to_string(),
+    )
+    .unwrap();
+    let v = json!({
+        "frequency_hz": 50,
+        "tables": ["test-flat-1000"],
+        "circuits": [{"id": "c", "kind": "single_phase", "current_a": 1000}],
+        "conductors": [wire("w", "c", 0.0, 5.0)],
+        "positions": [
+            {"id": "worker", "at": [0.0, 2.0, 5.0]},
+            {"id": "wearer", "at": [0.0, -2.0, 5.0], "group": "implant_wearer"}
+        ]
+    });
+    let site = site_of(&v);
+    let r = fluxbound_core::usecase::run_scenarios(
+        &site,
+        &serde_json::from_value(json!({"scenarios": [{"name": "now", "load": {"kind": "present"}}]})).unwrap(),
+        &[table],
+        &fluxbound_core::usecase::Budget::default(),
+    )
+    .unwrap();
+    let implant = fluxbound_core::limits::builtin_table("implant-screening-100").unwrap();
+    let implant_level = implant.level_ut(50.0).unwrap();
+    let b = 0.1 * 1000.0 / 2.0 * 2.0 * HALF_M / (4.0 + HALF_M * HALF_M).sqrt();
+    let s = &r.scenarios[0];
+    let worker = s.targets.iter().find(|t| t.id == "worker").unwrap();
+    let wearer = s.targets.iter().find(|t| t.id == "wearer").unwrap();
+    assert!((worker.ratio.unwrap() - b / 1000.0).abs() < 1e-9, "{worker:?}");
+    assert_eq!(worker.table.as_deref(), Some("test-flat-1000"));
+    assert!((wearer.ratio.unwrap() - b / implant_level).abs() < 1e-9, "{wearer:?}");
+    assert_eq!(wearer.table.as_deref(), Some("implant-screening-100"));
+    assert_eq!(r.worst.at.id, "wearer");
+}
+
+#[test]
+fn a_loop_through_a_judged_point_or_enclosing_no_area_is_refused() {
+    let v = one_wire();
+    // The desk's point (0, 0, 1) lies on the loop's wire.
+    let through: LoopDoc = serde_json::from_value(json!({
+        "path": [[-1.0, 0.0, 1.0], [1.0, 0.0, 1.0], [1.0, 0.0, 2.0], [-1.0, 0.0, 2.0]],
+        "wire_radius_m": 0.005,
+        "resistance": {"kind": "given", "ohm": 0.01}
+    }))
+    .unwrap();
+    match run_loop(&site_of(&v), &through, &[], &WhatIfBudget::unlimited()) {
+        Err(WhatIfError::Request(p)) => {
+            let first = p.iter().next().unwrap();
+            assert_eq!(first.pointer, "/path");
+            assert!(first.detail.contains("position 'desk'"), "{first:?}");
+        }
+        other => panic!("{other:?}"),
+    }
+    let flat: LoopDoc = serde_json::from_value(json!({
+        "path": [[-1.0, 2.0, 1.0], [0.0, 2.0, 1.0], [1.0, 2.0, 1.0]],
+        "wire_radius_m": 0.005,
+        "resistance": {"kind": "given", "ohm": 0.01}
+    }))
+    .unwrap();
+    match run_loop(&site_of(&v), &flat, &[], &WhatIfBudget::unlimited()) {
+        Err(WhatIfError::Request(p)) => assert!(p.iter().next().unwrap().detail.contains("encloses no area"), "{p:?}"),
+        other => panic!("{other:?}"),
+    }
 }
