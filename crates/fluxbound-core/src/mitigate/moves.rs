@@ -235,6 +235,16 @@ pub fn moved(doc: &SiteDoc, moving: &Moving, offset: [f64; 3]) -> SiteDoc {
             }
         }
     }
+    // A formation's cables move with their circuit, by their route.
+    for f in &mut out.formations {
+        if moving.circuits.contains(&f.circuit) {
+            for v in &mut f.route {
+                for d in 0..3 {
+                    v[d] += offset[d];
+                }
+            }
+        }
+    }
     for q in &mut out.positions {
         if moving.positions.contains(&q.id) {
             for (d, c) in q.at.iter_mut().enumerate() {

@@ -361,7 +361,9 @@ pub fn search_phases(
     let revision = apply(doc, site, &chosen, &shape.fewest_changes(&best)).map_err(|id| {
         SearchError::Request(Problems::one(
             "/circuits",
-            format!("conductor '{id}' is not in the site document and its phase cannot be written back: re-phase it by hand"),
+            format!(
+                "conductor '{id}' is not in the site document and its phase cannot be written back: re-phase it by hand"
+            ),
         ))
     })?;
     let method = if exhaustive { Method::Exhaustive } else { Method::BranchAndBound };
@@ -550,7 +552,15 @@ impl Shape<'_> {
                     })
                 })
             })
-            .collect()
+            .collect::<Vec<_>>()
+            // A bar's filaments share its id and its phase: one change.
+            .into_iter()
+            .fold(Vec::new(), |mut out: Vec<PhaseChange>, c| {
+                if out.last().is_none_or(|l| l.conductor != c.conductor) {
+                    out.push(c);
+                }
+                out
+            })
     }
 
     /// Of the arrangements with the same field as `perms`, the one that
