@@ -218,3 +218,34 @@ pub(super) fn offset_path(
         })
         .collect()
 }
+
+/// The conductors as drawn and exported: a bar once, along its axis (the
+/// mean of its filaments' vertices, since the nodes lie symmetrically about
+/// the axis) with the radius of the smallest tube around its filaments'
+/// cells; every other conductor as it is.
+pub fn drawn(conductors: &[Conductor]) -> Vec<std::borrow::Cow<'_, Conductor>> {
+    use std::borrow::Cow;
+    let mut out: Vec<Cow<'_, Conductor>> = Vec::new();
+    let mut k = 0;
+    while k < conductors.len() {
+        let first = &conductors[k];
+        let n = conductors[k..].iter().take_while(|c| c.same_bar(first)).count().max(1);
+        if first.cell.is_none() || n == 1 {
+            out.push(Cow::Borrowed(first));
+            k += 1;
+            continue;
+        }
+        let bar = &conductors[k..k + n];
+        let axis: Vec<Point3<f64>> = (0..first.path.len())
+            .map(|j| Point3::from(bar.iter().map(|c| c.path[j].coords).sum::<Vector3<f64>>() / n as f64))
+            .collect();
+        let radius_m = bar.iter().map(|c| (c.path[0] - axis[0]).norm() + c.radius_m).fold(0.0, f64::max);
+        let mut whole = first.clone();
+        whole.path = axis;
+        whole.radius_m = radius_m;
+        whole.cell = None;
+        out.push(Cow::Owned(whole));
+        k += n;
+    }
+    out
+}

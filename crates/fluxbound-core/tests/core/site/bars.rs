@@ -208,3 +208,37 @@ fn a_bent_bar_keeps_its_filaments_parallel_through_the_bend() {
         assert_eq!(c.id, "bus");
     }
 }
+
+#[test]
+fn a_distance_search_from_conductor_id_starts_on_the_bars_axis() {
+    use fluxbound_core::mitigate::{Direction, Meter, Origin, Target, distance};
+    use fluxbound_core::site::CircuitLoad;
+    use nalgebra::{Unit, Vector3};
+    // The level is the closed-form field 0.2 m out on the wide axis, so the
+    // search from `conductor:bus` along +y must stop 0.2 m from the axis.
+    // Tolerance: the bisection's 1e-4 m plus the rule's 1e-5 and the
+    // finite length's 4e-6 relative (B ∝ 1/d there, so as much in distance).
+    let site = parse_site(&bar_site(true).to_string()).unwrap();
+    let level_ut = MU0_I_OVER_2PI_UT_M * closed_form(0.2, 0.0, 0.1, 0.01);
+    let loads = vec![CircuitLoad::PRESENT];
+    let target = Target::LevelUt(level_ut);
+    let meter = Meter::new(&site, &loads, &target).unwrap();
+    let from = Origin::Conductor("bus".into()).locate(&site, &meter).unwrap();
+    assert!(from.coords.norm() < 1e-12, "the bar's axis centre, not a filament's: {from}");
+    let along = Direction::Along(Unit::new_normalize(Vector3::new(0.0, 1.0, 0.0)));
+    let r = distance(&site, &loads, from, along, &target, u64::MAX).unwrap();
+    assert!((r.distance_m.unwrap() - 0.2).abs() < 2e-4, "{r:?}");
+}
+
+#[test]
+fn maps_and_exports_draw_a_bar_once_along_its_axis() {
+    let site = parse_site(&bar_site(true).to_string()).unwrap();
+    let drawn = fluxbound_core::site::bar::drawn(site.conductors());
+    assert_eq!(drawn.len(), 1);
+    assert_eq!(drawn[0].id, "bus");
+    assert!((drawn[0].path[0] - Point3::new(-50.0, 0.0, 0.0)).norm() < 1e-12);
+    assert!((drawn[0].path[1] - Point3::new(50.0, 0.0, 0.0)).norm() < 1e-12);
+    // The tube holds the rectangle (half-diagonal √(50² + 5²) = 50.25 mm)
+    // and reaches no more than the cells' 1.65 mm beyond it.
+    assert!((0.05025..0.0525).contains(&drawn[0].radius_m), "{}", drawn[0].radius_m);
+}
