@@ -58,10 +58,10 @@ fn a_trefoil_follows_the_far_field_law_of_three_line_currents() {
 
 #[test]
 fn the_far_field_law_can_tell_a_trefoil_from_a_flat_row() {
-    // A flat touching row of the same cables: ‖M_1‖ = I·d·√(3/2)·… differs
-    // (positions −d, 0, d: Σ a_k x_k = I·d·(e^{j2π/3} − 1)... |·| = √3·I·d,
-    // so B_far,flat / B_far,trefoil = √3 / √(3/2) = √2): the trefoil law
-    // fails for it by far more than its bound.
+    // A flat touching row of the same cables, at x = −d, 0, d: M_1 =
+    // I·d·(e^{−j4π/3} − 1) along x, ‖M_1‖ = √3·I·d, so its far field is
+    // √3 / √(3/2) = √2 times the trefoil's (its next term is at most
+    // d/(√3 r) relative, 0.3 % at 20 m): the trefoil law fails for it.
     let mut v = trefoil(0.1, 5000.0);
     v["formations"][0]["layout"] = json!("flat_touching");
     let r = 20.0;
@@ -217,4 +217,18 @@ fn the_phase_search_writes_a_formations_new_phase_order_back() {
         })
         .fold(f64::INFINITY, f64::min);
     assert!((brute - best.objective).abs() <= 1e-9 * brute);
+}
+
+#[test]
+fn a_move_shifts_a_formations_route_by_circuit_or_by_a_named_cable() {
+    use fluxbound_core::mitigate::moves::{Moving, moved};
+    let doc: SiteDoc = serde_json::from_value(two_trefoils()).unwrap();
+    let by_cable = Moving { conductors: vec!["F2-1-3".into()], ..Moving::default() };
+    let out = moved(&doc, &by_cable, [0.0, 1.0, 0.0]);
+    assert_eq!(out.formations[1].route, [[-25.0, 1.5, 0.0], [25.0, 1.5, 0.0]]);
+    assert_eq!(out.formations[0].route, doc.formations[0].route, "F1 stays");
+    let by_circuit = Moving { circuits: vec!["T1".into()], ..Moving::default() };
+    let out = moved(&doc, &by_circuit, [0.0, 0.0, -0.5]);
+    assert_eq!(out.formations[0].route, [[-25.0, 0.0, -0.5], [25.0, 0.0, -0.5]]);
+    assert_eq!(out.formations[1].route, doc.formations[1].route, "F2 stays");
 }
