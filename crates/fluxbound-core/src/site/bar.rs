@@ -15,12 +15,14 @@
 //!
 //! Relative error of the 2-D field against the closed form for a
 //! rectangular conductor (the log/atan form derived in
-//! `tests/core/site/bars.rs`), worst over directions, computed for aspect
-//! ratios 1–20 when this rule was chosen:
+//! `tests/core/site/bars.rs`), worst over points all around the bar, as
+//! printed by `tests/core/site/bar_rule_errors.py` (pure Python):
 //! - at twice the longer side from the bar's axis and beyond: ≤ 1 × 10⁻⁵
-//!   (the goal was 0.1 %);
+//!   (5.3 × 10⁻⁶ for a square bar, far less for flat ones; the goal was
+//!   0.1 %);
 //! - at one shorter side from the surface and beyond: ≤ 1 × 10⁻⁴ for
-//!   aspect ratios up to [`MAX_PANELS`] (6 × 10⁻⁵ for the square bar).
+//!   aspect ratios up to 20 (5.3 × 10⁻⁵ for the square bar); past 16
+//!   panels stop being square and this grows (2.5 × 10⁻³ at 40).
 //!
 //! An adaptive rule (finer only for points near the bar) would need the
 //! engine to pick filaments per point; the fixed rule keeps a bar a set of
