@@ -395,6 +395,17 @@ fn checking_the_furnace_example_prints_its_open_end_warnings_and_still_exits_0()
 }
 
 #[test]
+fn checking_the_busbar_room_example_expands_its_bars_and_cables_without_warnings() {
+    let out = fluxbound(&["check", manifest_dir().join("examples/site-busbar-room.json").to_str().unwrap()], None);
+    let stdout = stdout_of(&out);
+    assert_eq!(out.status.code(), Some(0), "stdout: {stdout}\nstderr: {}", stderr_of(&out));
+    // Three 100 × 10 mm bars of 10 panels × 9 filaments, a 50 × 10 mm
+    // neutral of 5 × 9, and two trefoil sets of 3 cables: 270 + 45 + 6.
+    assert!(stdout.contains("321 conductor(s)"), "stdout: {stdout}");
+    assert!(!stdout.contains("MODEL WARNINGS"), "stdout: {stdout}");
+}
+
+#[test]
 fn checking_a_site_without_warnings_prints_no_warnings_block() {
     let site = json!({
         "frequency_hz": 50,

@@ -17,6 +17,8 @@
 //! site/       the site document: wire types, strict parsing, validation with
 //!             JSON pointers, the checked model, phase and harmonic conventions,
 //!             model warnings (open ends, no return path, overlaps, …)
+//!             busbar cross-sections (site/bar) and cable formations
+//!             (site/formation), expanded into ordinary conductors
 //! limits/     reference-level tables as data: bands, lookup, validation, built-ins
 //! assess/     exposure at positions and areas, load cases, ratios and verdicts,
 //!             area grids and field maps, the proven area maximum (assess/peak)

@@ -556,7 +556,13 @@ impl Sampler<'_> {
             maximum_ut: field::total_maximum_ut(phasors),
             spectrum: self.line_hz.iter().zip(phasors).map(|(f, b)| (*f, field::resultant_ut(b))).collect(),
             phasors: phasors.to_vec(),
-            inside: self.set.inside_of(i).map(|k| self.site.conductors()[k].id.clone()).collect(),
+            inside: {
+                // A bar's filaments share its id: name the bar once.
+                let mut ids: Vec<String> =
+                    self.set.inside_of(i).map(|k| self.site.conductors()[k].id.clone()).collect();
+                ids.dedup();
+                ids
+            },
         }
     }
 }

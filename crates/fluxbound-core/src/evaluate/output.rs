@@ -190,7 +190,10 @@ impl Evaluated {
     }
 
     fn inside_ids(&self, i: usize) -> impl Iterator<Item = &str> + '_ {
-        self.set.inside_of(i).map(|k| self.ev.conductors[k].id.as_str())
+        // A bar's filaments share its id: name the bar once.
+        let mut ids: Vec<&str> = self.set.inside_of(i).map(|k| self.ev.conductors[k].id.as_str()).collect();
+        ids.dedup();
+        ids.into_iter()
     }
 
     fn at(&self, i: usize) -> [f64; 3] {

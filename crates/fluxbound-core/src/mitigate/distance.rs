@@ -563,17 +563,21 @@ impl Origin {
         match self {
             Origin::Point(p) => Ok(*p),
             Origin::Conductor(id) => {
-                let c = site
-                    .conductors()
-                    .iter()
-                    .find(|c| &c.id == id)
-                    .ok_or_else(|| format!("unknown conductor '{id}'"))?;
-                let seg = c
-                    .path
-                    .windows(2)
-                    .max_by(|a, b| (a[1] - a[0]).norm().total_cmp(&(b[1] - b[0]).norm()))
-                    .ok_or("conductor has no segment")?;
-                Ok(nalgebra::center(&seg[0], &seg[1]))
+                // A bar is all its filaments (they share its id): the mean
+                // of their longest segments' centres is on the bar's axis.
+                let mut centres = Vec::new();
+                for c in site.conductors().iter().filter(|c| &c.id == id) {
+                    let seg = c
+                        .path
+                        .windows(2)
+                        .max_by(|a, b| (a[1] - a[0]).norm().total_cmp(&(b[1] - b[0]).norm()))
+                        .ok_or("conductor has no segment")?;
+                    centres.push(nalgebra::center(&seg[0], &seg[1]).coords);
+                }
+                if centres.is_empty() {
+                    return Err(format!("unknown conductor '{id}'"));
+                }
+                Ok(Point3::from(centres.iter().sum::<Vector3<f64>>() / centres.len() as f64))
             }
             Origin::Position(id) => {
                 let q =

@@ -39,7 +39,7 @@ const BISECTIONS: u32 = 40;
 #[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 #[serde(deny_unknown_fields)]
 pub struct Moving {
-    /// Conductor ids.
+    /// Conductor ids (a formation's cable moves its whole formation).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub conductors: Vec<String>,
     /// Circuit ids: every conductor of the circuit (its neutral too).
@@ -222,6 +222,20 @@ pub fn moved(doc: &SiteDoc, moving: &Moving, offset: [f64; 3]) -> SiteDoc {
         let by_circuit = k.circuit.as_ref().is_some_and(|c| moving.circuits.contains(c));
         if by_circuit || moving.conductors.contains(&k.id) {
             for v in &mut k.path {
+                for d in 0..3 {
+                    v[d] += offset[d];
+                }
+            }
+        }
+    }
+    // A formation's cables move together, by their route: with their
+    // circuit, or when one of them is named.
+    for f in &mut out.formations {
+        let named = f.sets.iter().enumerate().any(|(j, set)| {
+            (0..set.phases.len()).any(|k| moving.conductors.contains(&crate::site::formation::cable_id(&f.id, j, k)))
+        });
+        if named || moving.circuits.contains(&f.circuit) {
+            for v in &mut f.route {
                 for d in 0..3 {
                     v[d] += offset[d];
                 }

@@ -34,7 +34,8 @@ impl Frame<'_> {
 pub fn assessment_geojson(site: &Site, a: &Assessment, maps: &[AreaMap]) -> Value {
     let f = Frame(site);
     let mut features = Vec::new();
-    for c in site.conductors() {
+    // A bar once, along its axis.
+    for c in crate::site::bar::drawn(site.conductors()) {
         features.push(json!({
             "type": "Feature",
             "geometry": {"type": "LineString", "coordinates": c.path.iter().map(|p| f.xyz(p.x, p.y, p.z)).collect::<Vec<_>>()},

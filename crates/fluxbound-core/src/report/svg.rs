@@ -289,7 +289,8 @@ fn contour_level(s: &mut String, map: &AreaMap, v: &View, ratio: &[f64], level_u
 /// (under 2 px long in plan) is a small square.
 fn conductors(s: &mut String, site: &Site, v: &View) {
     let _ = writeln!(s, r#"<g clip-path="url(#frame)">"#);
-    for c in site.conductors() {
+    // A bar once, along its axis.
+    for c in crate::site::bar::drawn(site.conductors()) {
         let pts: Vec<(f64, f64)> = c.path.iter().map(|p| v.px(p.x, p.y)).collect();
         let len: f64 = pts.windows(2).map(|w| ((w[1].0 - w[0].0).powi(2) + (w[1].1 - w[0].1).powi(2)).sqrt()).sum();
         if len < 2.0 {

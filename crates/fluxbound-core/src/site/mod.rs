@@ -1,7 +1,9 @@
 //! The site model: JSON wire types, the checked model, validation with RFC
 //! 6901 pointers, and the phase-current conventions.
 
+pub mod bar;
 mod currents;
+pub mod formation;
 mod model;
 mod parse;
 mod problem;
@@ -36,6 +38,9 @@ pub fn parse_site(text: &str) -> Result<Site, Problems> {
 /// the change. False if no section generates a conductor of that id.
 pub fn rephase_generated(doc: &mut wire::SiteDoc, conductor_id: &str, phase: wire::Phase) -> bool {
     // Each generating section adds its arm here.
+    if formation::rephase(doc, conductor_id, phase) {
+        return true;
+    }
     let _ = (doc, conductor_id, phase);
     false
 }

@@ -141,6 +141,22 @@ pub struct Conductor {
     /// Whether the path continues beyond the model at its first and last
     /// vertex (`[start, end]`); such ends are not open ends.
     pub continues: [bool; 2],
+    /// Where the document states this conductor: `/conductors/3`, or the
+    /// section that generates it (`/formations/0`); `path`'s vertices
+    /// follow the list under `vertices_key` there (`path`, `route`).
+    pub source: super::problem::Pointer,
+    pub vertices_key: &'static str,
+    /// For one filament of a bar with a cross-section, its cell number: the
+    /// filaments of a bar share its `id` and `source`, so the bar stays
+    /// addressable by its id (see `site::bar`).
+    pub cell: Option<usize>,
+}
+
+impl Conductor {
+    /// Whether `self` and `other` are filaments of one bar.
+    pub fn same_bar(&self, other: &Conductor) -> bool {
+        self.cell.is_some() && other.cell.is_some() && self.source == other.source
+    }
 }
 
 #[derive(Debug, Clone, PartialEq)]

@@ -42,7 +42,15 @@ pub fn validate_site(doc: &SiteDoc) -> Result<Site, Problems> {
     }
     check_frequency(doc.frequency_hz, &root.key("frequency_hz"), &mut p);
     let circuits = check_circuits(&doc.circuits, &root.key("circuits"), &mut p);
-    let conductors = check_conductors(&doc.conductors, &root.key("conductors"), &doc.circuits, &mut p);
+    let mut conductors = check_conductors(&doc.conductors, &root.key("conductors"), &doc.circuits, &mut p);
+    let listed: Vec<&str> = doc.conductors.iter().map(|c| c.id.as_str()).collect();
+    conductors.extend(super::formation::check_formations(
+        &doc.formations,
+        &root.key("formations"),
+        &doc.circuits,
+        &listed,
+        &mut p,
+    ));
     let positions = check_positions(&doc.positions, &root.key("positions"), &mut p);
     let areas = check_areas(&doc.areas, &root.key("areas"), &mut p, &mut notes);
     if let Some(g) = &doc.georeference {
@@ -142,7 +150,7 @@ fn check_occupancy(v: Option<f64>, at: &Pointer, p: &mut Problems) {
 }
 
 /// Ids: non-empty, short, printable, unique within their list.
-fn check_ids<'a>(ids: impl Iterator<Item = &'a str>, list: &Pointer, what: &str, p: &mut Problems) {
+pub(super) fn check_ids<'a>(ids: impl Iterator<Item = &'a str>, list: &Pointer, what: &str, p: &mut Problems) {
     let mut seen: HashMap<&str, usize> = HashMap::new();
     for (i, id) in ids.enumerate() {
         // Built only for a problem: a valid list allocates no pointer.
@@ -265,7 +273,19 @@ pub(crate) fn check_conductors(
     for (i, c) in circuits.iter().enumerate() {
         by_id.entry(c.id.as_str()).or_insert(i);
     }
-    docs.iter().enumerate().map(|(i, c)| check_conductor(c, &at.index(i), circuits, &by_id, p)).collect()
+    docs.iter()
+        .enumerate()
+        .flat_map(|(i, c)| {
+            let conductor = check_conductor(c, &at.index(i), circuits, &by_id, p);
+            match &c.cross_section {
+                // A bar becomes its filaments (none after a problem).
+                Some(section) => {
+                    super::bar::expand(conductor, section, &at.index(i).key("cross_section"), p).unwrap_or_default()
+                }
+                None => vec![conductor],
+            }
+        })
+        .collect()
 }
 
 fn check_conductor(
@@ -284,10 +304,19 @@ fn check_conductor(
     }
     let drive = check_drive(c, at, circuits, by_id, p);
     let continues = c.continues.map_or([false; 2], |k| [k.start, k.end]);
-    Conductor { id: c.id.clone(), path, radius_m: c.radius_m, drive, continues }
+    Conductor {
+        id: c.id.clone(),
+        path,
+        radius_m: c.radius_m,
+        drive,
+        continues,
+        source: at.clone(),
+        vertices_key: "path",
+        cell: None,
+    }
 }
 
-fn check_path(path: &[[f64; 3]], at: &Pointer, p: &mut Problems) -> Vec<Point3<f64>> {
+pub(super) fn check_path(path: &[[f64; 3]], at: &Pointer, p: &mut Problems) -> Vec<Point3<f64>> {
     if path.len() < 2 {
         p.push(at, "a path needs at least 2 vertices");
     } else if path.len() > MAX_VERTICES {

@@ -207,8 +207,11 @@ fn truncate(mut out: Vec<Warning>) -> Vec<Warning> {
     out
 }
 
-fn conductor_at(i: usize) -> Pointer {
-    Pointer::root().key("conductors").index(i)
+/// The vertex list of a conductor in the document: its own `path`, or
+/// the route of the section that generates it (a bar's filaments point at
+/// the bar).
+fn vertices_at(c: &Conductor) -> Pointer {
+    c.source.key(c.vertices_key)
 }
 
 fn xyz(p: &Point3<f64>) -> String {
@@ -219,16 +222,29 @@ fn xyz(p: &Point3<f64>) -> String {
 
 fn open_ends(conductors: &[Conductor], end_met: &[[bool; 2]]) -> Vec<Warning> {
     let mut out = Vec::new();
+    // A bar's end is met when the end of any of its filaments is; the bar
+    // warns once, by its first filament.
+    let mut bar_met: HashMap<String, [bool; 2]> = HashMap::new();
+    for (i, c) in conductors.iter().enumerate().filter(|(_, c)| c.cell.is_some()) {
+        let met = bar_met.entry(c.source.to_string()).or_default();
+        met[0] |= end_met[i][0];
+        met[1] |= end_met[i][1];
+    }
     for (i, c) in conductors.iter().enumerate() {
         let last = c.path.len() - 1;
         let closed = (c.path[0] - c.path[last]).norm() <= c.radius_m + CONTACT_TOLERANCE_M;
+        let met = match c.cell {
+            None => end_met[i],
+            Some(0) => bar_met.get(&c.source.to_string()).copied().unwrap_or_default(),
+            Some(_) => [true; 2],
+        };
         for (which, vertex, word) in [(0, 0, "start"), (1, last, "end")] {
-            if closed || c.continues[which] || end_met[i][which] {
+            if closed || c.continues[which] || met[which] {
                 continue;
             }
             out.push(Warning {
                 code: WarningCode::OpenEnd,
-                pointer: conductor_at(i).key("path").index(vertex).to_string(),
+                pointer: vertices_at(c).index(vertex).to_string(),
                 detail: format!(
                     "the {word} of conductor '{}' at {} m meets no other conductor: its current flows into free space there and the field near this end is an artefact; connect it, or set continues.{word} if the conductor goes on beyond the model",
                     c.id,
@@ -270,7 +286,7 @@ fn no_return(frequency_hz: f64, circuits: &[Circuit], conductors: &[Conductor]) 
             })
             .max_by(|a, b| a.1.total_cmp(&b.1));
         if let Some((hz, share)) = worst {
-            out.push(net_current_warning(g, explicit, circuits, first, hz, share));
+            out.push(net_current_warning(g, explicit, circuits, &conductors[first], hz, share));
         }
     }
     out
@@ -280,13 +296,13 @@ fn net_current_warning(
     group: usize,
     explicit: usize,
     circuits: &[Circuit],
-    first: usize,
+    first: &Conductor,
     hz: f64,
     share: f64,
 ) -> Warning {
     let percent = 100.0 * share;
     let (pointer, what) = if group == explicit {
-        (conductor_at(first).key("current").to_string(), "the conductors with explicit currents".to_string())
+        (first.source.key("current").to_string(), "the conductors with explicit currents".to_string())
     } else {
         (Pointer::root().key("circuits").index(group).to_string(), format!("circuit '{}'", circuits[group].id))
     };
@@ -308,11 +324,11 @@ fn overlaps(conductors: &[Conductor], found: &HashMap<(usize, usize), Overlap>) 
         .map(|&(a, b)| {
             let o = &found[&(a, b)];
             let (ca, cb) = (&conductors[a], &conductors[b]);
-            let other = conductor_at(b).key("path").index(o.seg_b);
+            let other = vertices_at(cb).index(o.seg_b);
             let whom = if a == b { "itself".to_string() } else { format!("conductor '{}'", cb.id) };
             Warning {
                 code: WarningCode::ConductorsOverlap,
-                pointer: conductor_at(a).key("path").index(o.seg_a).to_string(),
+                pointer: vertices_at(ca).index(o.seg_a).to_string(),
                 detail: format!(
                     "conductor '{}' (segment from vertex {}) and {whom} (segment from vertex {}, {other}) come within {:.4} m of each other's axis, less than the sum of their radii {:.4} m: they overlap or cross, which real conductors cannot; move them apart (conductors laid touching, at exactly the sum of their radii, are fine)",
                     ca.id,
@@ -364,11 +380,13 @@ fn conductors_below_ground(conductors: &[Conductor]) -> Vec<Warning> {
     conductors
         .iter()
         .enumerate()
-        .filter_map(|(i, c)| {
+        // A bar warns once, by its first filament.
+        .filter(|(_, c)| c.cell.is_none_or(|n| n == 0))
+        .filter_map(|(_, c)| {
             let first = c.path.iter().position(|p| p.z < 0.0)?;
             let count = c.path.iter().filter(|p| p.z < 0.0).count();
             let lowest = c.path.iter().map(|p| p.z).fold(f64::INFINITY, f64::min);
-            let at = conductor_at(i).key("path").index(first).to_string();
+            let at = vertices_at(c).index(first).to_string();
             Some(below_ground(
                 &at,
                 &format!("conductor '{}' has {count} vertex(es) with z < 0 (lowest z = {lowest} m)", c.id),
@@ -505,7 +523,9 @@ fn contacts(conductors: &[Conductor], probes: &[Probe]) -> Contacts {
 /// Tests one ordered pair of items; each unordered pair is offered both ways.
 fn pair(conductors: &[Conductor], probes: &[Probe], x: Item, y: Item, found: &mut Contacts) {
     match (x, y) {
-        (Item::End { conductor: a, which }, Item::Segment { conductor: b, index }) if a != b => {
+        (Item::End { conductor: a, which }, Item::Segment { conductor: b, index })
+            if a != b && !conductors[a].same_bar(&conductors[b]) =>
+        {
             let (ca, cb) = (&conductors[a], &conductors[b]);
             let end = if which == 0 { ca.path[0] } else { ca.path[ca.path.len() - 1] };
             if end_meets(&end, ca.radius_m, cb, index) {
@@ -529,6 +549,9 @@ fn pair(conductors: &[Conductor], probes: &[Probe], x: Item, y: Item, found: &mu
 fn segment_pair(conductors: &[Conductor], (a, sa): (usize, usize), (b, sb): (usize, usize), found: &mut Contacts) {
     if a == b && sa.abs_diff(sb) <= 1 {
         return; // neighbours on one path share a vertex by construction
+    }
+    if conductors[a].same_bar(&conductors[b]) {
+        return; // the filaments of one bar fill its cross-section together
     }
     let (ca, cb) = (&conductors[a], &conductors[b]);
     let (p1, q1, p2, q2) = (&ca.path[sa], &ca.path[sa + 1], &cb.path[sb], &cb.path[sb + 1]);

@@ -37,7 +37,13 @@ pub struct SiteDoc {
     /// latitude; without it exports stay in the local frame.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub georeference: Option<GeoreferenceDoc>,
+    /// Cable circuits laid in a formation along a route; each expands into
+    /// one conductor per cable (see `site::formation`).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub formations: Vec<FormationDoc>,
 }
+
+pub use super::formation::{CableSetDoc, FormationDoc, Layout};
 
 /// The local frame's origin on WGS 84 and the bearing of its y axis.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
@@ -216,6 +222,28 @@ pub struct ConductorDoc {
     /// conductor and is not marked here draws an `open_end` warning.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub continues: Option<ContinuesDoc>,
+    /// A rectangular cross-section (a busbar): the conductor is computed as
+    /// parallel filaments over the rectangle, and `radius_m` is not used.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cross_section: Option<CrossSectionDoc>,
+}
+
+/// A bar's rectangular cross-section, centred on the conductor's path.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
+#[serde(deny_unknown_fields)]
+pub struct CrossSectionDoc {
+    /// Width of the bar, m (1 mm to 2 m), along `orientation`.
+    #[cfg_attr(feature = "schema", schema(minimum = 0.001, maximum = 2))]
+    pub width_m: f64,
+    /// Height (thickness) of the bar, m (1 mm to 2 m), across both the
+    /// path and the width.
+    #[cfg_attr(feature = "schema", schema(minimum = 0.001, maximum = 2))]
+    pub height_m: f64,
+    /// Direction `[x, y, z]` the width lies along (any length); on each
+    /// segment its component across the segment is used, so it must not
+    /// run along any segment. `[0, 0, 1]`: a bar standing on edge.
+    pub orientation: [f64; 3],
 }
 
 /// Ends of a conductor's path that continue beyond the model: the path is

@@ -607,7 +607,15 @@ impl Shape<'_> {
                     })
                 })
             })
-            .collect()
+            .collect::<Vec<_>>()
+            // A bar's filaments share its id and its phase: one change.
+            .into_iter()
+            .fold(Vec::new(), |mut out: Vec<PhaseChange>, c| {
+                if out.last().is_none_or(|l| l.conductor != c.conductor) {
+                    out.push(c);
+                }
+                out
+            })
     }
 
     /// Of the arrangements with the same field as `perms`, the one that

@@ -688,6 +688,7 @@ fn wire_site() -> SiteDoc {
         name: None,
         tables: vec![],
         georeference: None,
+        formations: vec![],
         frequency_hz: 50.0,
         circuits: vec![],
         conductors: vec![ConductorDoc {
@@ -699,6 +700,7 @@ fn wire_site() -> SiteDoc {
             share: None,
             current: Some(CurrentDoc { rms_a: 100.0, phase_deg: 0.0 }),
             continues: None,
+            cross_section: None,
         }],
         positions: vec![PositionDoc {
             id: "desk".into(),
