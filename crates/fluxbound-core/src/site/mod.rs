@@ -2,6 +2,7 @@
 //! 6901 pointers, and the phase-current conventions.
 
 mod currents;
+pub mod exchange;
 mod model;
 mod parse;
 mod problem;

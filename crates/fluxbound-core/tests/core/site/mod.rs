@@ -5,3 +5,4 @@ mod currents;
 mod plain;
 mod validation;
 mod warnings;
+mod exchange;
