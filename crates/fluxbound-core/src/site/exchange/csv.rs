@@ -50,7 +50,11 @@ pub fn import_csv(text: &str, mapping: &MappingDoc) -> Result<Imported, ImportEr
     let mut problems = Vec::new();
     for h in &header {
         if !CSV_COLUMNS.contains(&h.as_str()) && !OPTIONAL.contains(&h.as_str()) {
-            problems.push(format!("line 1, column {h}: unknown column (expected {} and optionally {})", CSV_COLUMNS.join(", "), OPTIONAL.join(", ")));
+            problems.push(format!(
+                "line 1, column {h}: unknown column (expected {} and optionally {})",
+                CSV_COLUMNS.join(", "),
+                OPTIONAL.join(", ")
+            ));
         }
     }
     for r in CSV_COLUMNS {
@@ -117,7 +121,10 @@ pub fn import_csv(text: &str, mapping: &MappingDoc) -> Result<Imported, ImportEr
         seqs.sort_by(|a, b| a.0.total_cmp(&b.0));
         for w in seqs.windows(2) {
             if w[0].0 == w[1].0 {
-                problems.push(format!("line {}, column seq: conductor {id:?} already has seq {} (line {})", w[1].1, w[1].0, w[0].1));
+                problems.push(format!(
+                    "line {}, column seq: conductor {id:?} already has seq {} (line {})",
+                    w[1].1, w[1].0, w[0].1
+                ));
             }
         }
     }

@@ -246,7 +246,15 @@ impl EntityReader {
         });
     }
 
-    fn area(&mut self, c: &mut Collector, mapping: &MappingDoc, map: &LayerMapDoc, layer: &str, at: &str, mut f: Figure) {
+    fn area(
+        &mut self,
+        c: &mut Collector,
+        mapping: &MappingDoc,
+        map: &LayerMapDoc,
+        layer: &str,
+        at: &str,
+        mut f: Figure,
+    ) {
         if f.points.len() > 1 && f.points.first() == f.points.last() {
             f.points.pop();
         }
@@ -312,14 +320,16 @@ pub fn export_dxf(site: &SiteDoc) -> Vec<u8> {
     for p in &site.positions {
         let layer = add_layer(&mut d, layer_name("p", &p.id));
         let z = p.at.get(2).copied().unwrap_or(0.0);
-        let point = ModelPoint { location: Point::new(p.at[0], p.at.get(1).copied().unwrap_or(0.0), z), ..Default::default() };
+        let point =
+            ModelPoint { location: Point::new(p.at[0], p.at.get(1).copied().unwrap_or(0.0), z), ..Default::default() };
         add(&mut d, layer, EntityType::ModelPoint(point), 0.0);
     }
     for a in &site.areas {
         let layer = add_layer(&mut d, layer_name("a", &a.id));
         let mut poly = LwPolyline::default();
         poly.set_is_closed(true);
-        poly.vertices = a.polygon.iter().map(|p| dxf::LwPolylineVertex { x: p[0], y: p[1], ..Default::default() }).collect();
+        poly.vertices =
+            a.polygon.iter().map(|p| dxf::LwPolylineVertex { x: p[0], y: p[1], ..Default::default() }).collect();
         add(&mut d, layer, EntityType::LwPolyline(poly), a.height_m);
     }
     let mut out = Vec::new();

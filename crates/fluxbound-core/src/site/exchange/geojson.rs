@@ -120,8 +120,9 @@ fn site_member(value: &Value) -> Result<SiteMember, ImportError> {
 }
 
 fn features_of(value: Value) -> Result<Vec<Feature>, ImportError> {
-    let doc = serde_json::from_value::<GeoJson>(value)
-        .map_err(|e| ImportError::file("", format!("not a GeoJSON document: {}", crate::site::plain_words(&e.to_string()))))?;
+    let doc = serde_json::from_value::<GeoJson>(value).map_err(|e| {
+        ImportError::file("", format!("not a GeoJSON document: {}", crate::site::plain_words(&e.to_string())))
+    })?;
     Ok(match doc {
         GeoJson::FeatureCollection(fc) => fc.features,
         GeoJson::Feature(f) => vec![f],
@@ -129,7 +130,11 @@ fn features_of(value: Value) -> Result<Vec<Feature>, ImportError> {
     })
 }
 
-fn reader_for(mapping: &MappingDoc, word: Option<&str>, georef: Option<GeoreferenceDoc>) -> Result<Reader, ImportError> {
+fn reader_for(
+    mapping: &MappingDoc,
+    word: Option<&str>,
+    georef: Option<GeoreferenceDoc>,
+) -> Result<Reader, ImportError> {
     let from_file = match word {
         Some(LON_LAT) => Some(CoordinateFrame::LonLat),
         Some(LOCAL) => Some(CoordinateFrame::Local),
@@ -152,7 +157,9 @@ fn reader_for(mapping: &MappingDoc, word: Option<&str>, georef: Option<Georefere
             "/georeference",
             "the coordinates are longitude and latitude: give the site's georeference in the mapping",
         ))),
-        (CoordinateFrame::Local, _) => Ok(Reader::Local(Placement::new(mapping, mapping.units.unwrap_or(Units::Metre).metres()))),
+        (CoordinateFrame::Local, _) => {
+            Ok(Reader::Local(Placement::new(mapping, mapping.units.unwrap_or(Units::Metre).metres())))
+        }
     }
 }
 
@@ -205,7 +212,16 @@ fn read_feature(
             let id = wanted_id.unwrap_or_else(|| format!("conductor-{}", c.site.conductors.len() + 1));
             for (k, part) in coordinates.iter().enumerate() {
                 let part_id = if coordinates.len() == 1 { id.clone() } else { format!("{id}-{}", k + 1) };
-                line(c, reader, mapping, &format!("{at}/geometry/coordinates/{k}"), "MultiLineString part", &part_id, part, &props);
+                line(
+                    c,
+                    reader,
+                    mapping,
+                    &format!("{at}/geometry/coordinates/{k}"),
+                    "MultiLineString part",
+                    &part_id,
+                    part,
+                    &props,
+                );
             }
         }
         GeometryValue::Point { coordinates } => {
@@ -216,8 +232,12 @@ fn read_feature(
             let id = wanted_id.unwrap_or_else(|| format!("area-{}", c.site.areas.len() + 1));
             polygon(c, reader, mapping, at, &id, coordinates, &props);
         }
-        GeometryValue::MultiPoint { .. } => c.skip(at, "MultiPoint", None, "not supported: give one Point feature per position"),
-        GeometryValue::MultiPolygon { .. } => c.skip(at, "MultiPolygon", None, "not supported: give one Polygon feature per area"),
+        GeometryValue::MultiPoint { .. } => {
+            c.skip(at, "MultiPoint", None, "not supported: give one Point feature per position")
+        }
+        GeometryValue::MultiPolygon { .. } => {
+            c.skip(at, "MultiPolygon", None, "not supported: give one Polygon feature per area")
+        }
         GeometryValue::GeometryCollection { .. } => {
             c.skip(at, "GeometryCollection", None, "not supported: give one feature per conductor, position or area")
         }
@@ -276,7 +296,9 @@ fn line(
     obj.insert("path".into(), json!(path));
     match serde_json::from_value(Value::Object(obj)) {
         Ok(doc) => c.site.conductors.push(doc),
-        Err(e) => c.skip(at, what, None, format!("properties do not fit: {}", crate::site::plain_words(&e.to_string()))),
+        Err(e) => {
+            c.skip(at, what, None, format!("properties do not fit: {}", crate::site::plain_words(&e.to_string())))
+        }
     }
 }
 
@@ -291,7 +313,9 @@ fn point(c: &mut Collector, reader: &Reader, at: &str, id: &str, coordinates: &P
     obj.insert("at".into(), at_value);
     match serde_json::from_value(Value::Object(obj)) {
         Ok(doc) => c.site.positions.push(doc),
-        Err(e) => c.skip(at, "Point", None, format!("properties do not fit: {}", crate::site::plain_words(&e.to_string()))),
+        Err(e) => {
+            c.skip(at, "Point", None, format!("properties do not fit: {}", crate::site::plain_words(&e.to_string())))
+        }
     }
 }
 
@@ -327,7 +351,12 @@ fn polygon(
                 c.notes.push(format!("{at}: {key} {v} m taken from the mapping's defaults"));
             }
             None => {
-                c.skip(at, "Polygon", None, format!("missing property {key} (or give defaults.area_{key} in the mapping)"));
+                c.skip(
+                    at,
+                    "Polygon",
+                    None,
+                    format!("missing property {key} (or give defaults.area_{key} in the mapping)"),
+                );
                 return;
             }
         }
@@ -336,7 +365,9 @@ fn polygon(
     obj.insert("polygon".into(), json!(ring.iter().map(|p| [p[0], p[1]]).collect::<Vec<_>>()));
     match serde_json::from_value(Value::Object(obj)) {
         Ok(doc) => c.site.areas.push(doc),
-        Err(e) => c.skip(at, "Polygon", None, format!("properties do not fit: {}", crate::site::plain_words(&e.to_string()))),
+        Err(e) => {
+            c.skip(at, "Polygon", None, format!("properties do not fit: {}", crate::site::plain_words(&e.to_string())))
+        }
     }
 }
 
@@ -357,7 +388,9 @@ pub fn export_geojson(site: &SiteDoc) -> Value {
         props.remove("path");
         props.insert("kind".into(), json!("conductor"));
         let coords: Vec<Vec<f64>> = c.path.iter().map(|p| [xy(p[0], p[1]), vec![p[2]]].concat()).collect();
-        features.push(json!({"type": "Feature", "properties": props, "geometry": {"type": "LineString", "coordinates": coords}}));
+        features.push(
+            json!({"type": "Feature", "properties": props, "geometry": {"type": "LineString", "coordinates": coords}}),
+        );
     }
     for p in &site.positions {
         let mut props = to_object(p);
@@ -365,7 +398,9 @@ pub fn export_geojson(site: &SiteDoc) -> Value {
         props.insert("kind".into(), json!("position"));
         let mut coords = xy(p.at.first().copied().unwrap_or(0.0), p.at.get(1).copied().unwrap_or(0.0));
         coords.extend(p.at.get(2));
-        features.push(json!({"type": "Feature", "properties": props, "geometry": {"type": "Point", "coordinates": coords}}));
+        features.push(
+            json!({"type": "Feature", "properties": props, "geometry": {"type": "Point", "coordinates": coords}}),
+        );
     }
     for a in &site.areas {
         let mut props = to_object(a);
@@ -375,7 +410,9 @@ pub fn export_geojson(site: &SiteDoc) -> Value {
         if let Some(first) = ring.first().cloned() {
             ring.push(first);
         }
-        features.push(json!({"type": "Feature", "properties": props, "geometry": {"type": "Polygon", "coordinates": [ring]}}));
+        features.push(
+            json!({"type": "Feature", "properties": props, "geometry": {"type": "Polygon", "coordinates": [ring]}}),
+        );
     }
     let mut member = json!({"frequency_hz": site.frequency_hz, "circuits": site.circuits});
     if let Some(n) = &site.name {

@@ -203,23 +203,31 @@ pub(super) struct Placement {
     cos: f64,
     sin: f64,
     scale: f64,
+    /// Units per metre when that is a whole number (mm: 1000): dividing by
+    /// it rounds decimal drawings exactly (2800 mm → 2.8 m, where
+    /// 2800 × 0.001 gives 2.8000000000000003).
+    per_metre: Option<f64>,
 }
 
 impl Placement {
     pub(super) fn new(mapping: &MappingDoc, metres_per_unit: f64) -> Placement {
         let o = mapping.origin.as_deref().unwrap_or(&[]);
-        let origin = [o.first().copied().unwrap_or(0.0), o.get(1).copied().unwrap_or(0.0), o.get(2).copied().unwrap_or(0.0)];
+        let origin =
+            [o.first().copied().unwrap_or(0.0), o.get(1).copied().unwrap_or(0.0), o.get(2).copied().unwrap_or(0.0)];
         let theta = mapping.rotation_deg.to_radians();
-        Placement { origin, cos: theta.cos(), sin: theta.sin(), scale: metres_per_unit }
+        let inverse = 1.0 / metres_per_unit;
+        let per_metre = (inverse > 1.0 && (inverse.round() - inverse).abs() <= 1e-9 * inverse).then(|| inverse.round());
+        // Rotation by 0 keeps coordinates exact (cos 0 = 1, sin 0 = 0).
+        Placement { origin, cos: theta.cos(), sin: theta.sin(), scale: metres_per_unit, per_metre }
     }
     /// Site metres of a file point.
     pub(super) fn local(&self, p: [f64; 3]) -> [f64; 3] {
         let (dx, dy, dz) = (p[0] - self.origin[0], p[1] - self.origin[1], p[2] - self.origin[2]);
-        [
-            self.scale * (self.cos * dx - self.sin * dy),
-            self.scale * (self.sin * dx + self.cos * dy),
-            self.scale * dz,
-        ]
+        let turned = [self.cos * dx - self.sin * dy, self.sin * dx + self.cos * dy, dz];
+        turned.map(|v| match self.per_metre {
+            Some(n) => v / n,
+            None => self.scale * v,
+        })
     }
 }
 
@@ -252,7 +260,8 @@ impl MappingDoc {
             let at = root.key("layers").key(name);
             if layer.kind == ItemKind::Conductor {
                 match &layer.circuit {
-                    None => problems.push(&at.key("circuit"), "a conductor layer needs the circuit its conductors belong to"),
+                    None => problems
+                        .push(&at.key("circuit"), "a conductor layer needs the circuit its conductors belong to"),
                     Some(c) if !self.circuits.iter().any(|d| &d.id == c) => problems.push(
                         &at.key("circuit"),
                         format!("circuit {c:?} is not among the mapping's circuits: declare it there"),

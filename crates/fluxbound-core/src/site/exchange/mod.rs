@@ -48,7 +48,8 @@ pub const MAX_ITEMS: usize = 20_000;
 pub const DEFAULT_FREQUENCY_HZ: f64 = 50.0;
 
 /// The formats a route can be imported from.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, serde::Deserialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 #[serde(rename_all = "lowercase")]
 pub enum Format {
     Geojson,
@@ -80,6 +81,7 @@ impl Format {
 
 /// One item of the file that did not become part of the site.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+#[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
 pub struct Skipped {
     /// Where in the file: a JSON pointer (GeoJSON), `handle 2F` (DXF) or
     /// `line 12` (CSV).
@@ -225,7 +227,8 @@ impl Collector {
         if let Some(f) = mapping.frequency_hz {
             self.site.frequency_hz = f;
         } else if !frequency_from_file {
-            self.notes.push(format!("frequency_hz not given by the file or the mapping: {DEFAULT_FREQUENCY_HZ} Hz taken"));
+            self.notes
+                .push(format!("frequency_hz not given by the file or the mapping: {DEFAULT_FREQUENCY_HZ} Hz taken"));
         }
         if let Some(g) = mapping.georeference {
             self.site.georeference = Some(g);

@@ -178,4 +178,27 @@ expected = {
 }
 with open("expected.json", "w") as f:
     json.dump(expected, f, indent=1)
-print("wrote routes.dxf, routes.geojson, mappings and expected.json")
+
+# --- examples/busbar-room.dxf: an invented low-voltage busbar room ---
+# A 1600 A busbar trunking (phases L1-L3 and N, 150 mm apart, 2.8 m above
+# the floor) runs 11 m from the transformer wall along the room, then
+# drops to the main board; drawn in millimetres as a CAD office would,
+# with walls and labels that the import lists as skipped.
+room = ezdxf.new("R2013")
+room.header["$INSUNITS"] = 4
+rm = room.modelspace()
+for name in ("BB-L1", "BB-L2", "BB-L3", "BB-N", "AISLE", "DESK", "BOARD-FRONT", "WALLS", "LABELS"):
+    room.layers.add(name)
+for k, name in enumerate(("BB-L1", "BB-L2", "BB-L3", "BB-N")):
+    y = 1000.0 + 150.0 * k
+    rm.add_polyline3d([(0.0, y, 2800.0), (11000.0 + 150.0 * k, y, 2800.0), (11000.0 + 150.0 * k, y, 1200.0)],
+                      dxfattribs={"layer": name})
+rm.add_lwpolyline([(500.0, 2200.0), (12500.0, 2200.0), (12500.0, 4500.0), (500.0, 4500.0)], close=True,
+                  dxfattribs={"layer": "AISLE"})
+rm.add_point((4000.0, 5200.0, 0.0), dxfattribs={"layer": "DESK"})
+rm.add_point((11300.0, 1900.0, 0.0), dxfattribs={"layer": "BOARD-FRONT"})
+rm.add_lwpolyline([(0.0, 0.0), (13000.0, 0.0), (13000.0, 6000.0), (0.0, 6000.0)], close=True,
+                  dxfattribs={"layer": "WALLS"})
+rm.add_text("LV busbar 1600 A", dxfattribs={"layer": "LABELS", "insert": (1000.0, 700.0)})
+room.saveas("../../../../../examples/busbar-room.dxf")
+print("wrote routes.dxf, routes.geojson, mappings, expected.json and examples/busbar-room.dxf")

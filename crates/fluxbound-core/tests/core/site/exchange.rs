@@ -112,7 +112,8 @@ fn the_geojson_in_longitude_and_latitude_imports_at_the_local_points_it_was_made
     // geodesic inverse problem. Tolerance 1e-7 m: both solutions are good
     // to about 15 nm (Karney 2013 §9); 0.1 µm leaves margin and stays
     // below the 1 µm the issue asks for.
-    let imported = import(Format::Geojson, &fixture("routes.geojson"), &mapping("routes-geojson-mapping.json")).unwrap();
+    let imported =
+        import(Format::Geojson, &fixture("routes.geojson"), &mapping("routes-geojson-mapping.json")).unwrap();
     let want = expected();
     assert_matches(&imported, &want["geojson"], 1e-7);
     let ats: Vec<(&str, &str)> = imported.skipped.iter().map(|s| (s.what.as_str(), s.at.as_str())).collect();
@@ -158,7 +159,9 @@ fn assert_same_but_vertices(a: &SiteDoc, b: &SiteDoc) {
 #[test]
 fn a_site_exported_as_geojson_imports_back_within_a_micrometre_in_local_metres_and_through_longitude_and_latitude() {
     // Requirement of issue 15: a round trip keeps every vertex within 1 µm.
-    for georeference in [None, Some(GeoreferenceDoc { origin_lon_deg: 9.19, origin_lat_deg: 45.46, y_axis_bearing_deg: -12.5 })] {
+    for georeference in
+        [None, Some(GeoreferenceDoc { origin_lon_deg: 9.19, origin_lat_deg: 45.46, y_axis_bearing_deg: -12.5 })]
+    {
         for name in ["site-switch-room.json", "site-furnace-feeder.json", "site-control-room-tray.json"] {
             let mut site = example(name);
             site.georeference = georeference;
@@ -198,10 +201,9 @@ fn csv_rows_are_ordered_by_seq_and_grouped_by_conductor_in_the_order_first_seen(
                 a,2,1500,0,0,T1,A,0.01\n\
                 a,1,0,0,0,,,\n\
                 b,2,1500,1000,0,,,\n";
-    let mut map: MappingDoc = serde_json::from_str(
-        r#"{"units": "mm", "circuits": [{"id": "T1", "kind": "three_phase", "current_a": 100}]}"#,
-    )
-    .unwrap();
+    let mut map: MappingDoc =
+        serde_json::from_str(r#"{"units": "mm", "circuits": [{"id": "T1", "kind": "three_phase", "current_a": 100}]}"#)
+            .unwrap();
     let imported = import(Format::Csv, text.as_bytes(), &map).unwrap();
     let ids: Vec<&str> = imported.site.conductors.iter().map(|c| c.id.as_str()).collect();
     assert_eq!(ids, ["b", "a"]);
@@ -230,7 +232,8 @@ fn a_csv_with_a_repeated_seq_or_a_bad_number_is_refused_with_its_line() {
 
 #[test]
 fn a_mapping_whose_conductor_layer_names_an_undeclared_circuit_is_refused_with_a_pointer() {
-    let map: MappingDoc = serde_json::from_str(r#"{"layers": {"L/1": {"kind": "conductor", "circuit": "X", "phase": "A"}}}"#).unwrap();
+    let map: MappingDoc =
+        serde_json::from_str(r#"{"layers": {"L/1": {"kind": "conductor", "circuit": "X", "phase": "A"}}}"#).unwrap();
     let Err(ImportError::Mapping(p)) = import(Format::Dxf, &fixture("routes.dxf"), &map) else { panic!("accepted") };
     let pointers: Vec<&str> = p.iter().map(|q| q.pointer.as_str()).collect();
     assert_eq!(pointers, ["/layers/L~11/circuit", "/layers/L~11/radius_m"]);
@@ -249,19 +252,20 @@ fn a_drawing_without_units_needs_units_in_the_mapping() {
     let unitless = lines.join("\n");
     let mut map = export_mapping(&site);
     map.units = None;
-    let Err(ImportError::Mapping(p)) = import(Format::Dxf, unitless.as_bytes(), &map) else {
-        panic!("accepted")
-    };
+    let Err(ImportError::Mapping(p)) = import(Format::Dxf, unitless.as_bytes(), &map) else { panic!("accepted") };
     assert_eq!(p.0[0].pointer, "/units");
     map.units = Some(fluxbound_core::site::exchange::Units::Millimetre);
     let back = import(Format::Dxf, unitless.as_bytes(), &map).unwrap();
-    // Worked by hand: the first vertex in mm read as metres × 0.001.
-    assert_eq!(back.site.conductors[0].path[0][0], site.conductors[0].path[0][0] * 0.001);
+    // Worked by hand: the first vertex, 1.0 m in the drawing, read as
+    // 1.0 mm = 0.001 m (tolerance: one rounding of the division).
+    assert_eq!(site.conductors[0].path[0][0], 1.0);
+    assert!((back.site.conductors[0].path[0][0] - 0.001).abs() < 1e-18);
 }
 
 #[test]
 fn text_that_is_not_a_drawing_or_not_geojson_is_refused_in_plain_words() {
-    for (format, body) in [(Format::Dxf, "hello"), (Format::Geojson, "{\"type\": \"Nothing\"}"), (Format::Geojson, "{")] {
+    for (format, body) in [(Format::Dxf, "hello"), (Format::Geojson, "{\"type\": \"Nothing\"}"), (Format::Geojson, "{")]
+    {
         let Err(ImportError::File(p)) = import(format, body.as_bytes(), &MappingDoc::default()) else {
             panic!("{body} accepted")
         };

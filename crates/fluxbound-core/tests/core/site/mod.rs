@@ -2,7 +2,7 @@
 //! phase-current conventions of `crates/fluxbound-core/src/site/currents.rs`.
 
 mod currents;
+mod exchange;
 mod plain;
 mod validation;
 mod warnings;
-mod exchange;
