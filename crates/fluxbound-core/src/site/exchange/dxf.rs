@@ -61,9 +61,7 @@ fn insunits_metres(u: DxfUnits) -> Option<f64> {
 
 /// Reads a DXF drawing (ASCII or binary) into a site.
 pub fn import_dxf(bytes: &[u8], mapping: &MappingDoc) -> Result<Imported, ImportError> {
-    let drawing = Drawing::load(&mut std::io::Cursor::new(bytes)).map_err(|e| {
-        ImportError::file("", format!("not a readable DXF drawing: {}", crate::site::plain_words(&e.to_string())))
-    })?;
+    let drawing = load(bytes)?;
     let scale = match mapping.units {
         Some(u) => u.metres(),
         None => insunits_metres(drawing.header.default_drawing_units).ok_or_else(|| {
@@ -87,6 +85,90 @@ pub fn import_dxf(bytes: &[u8], mapping: &MappingDoc) -> Result<Imported, Import
         reader.entity(&mut c, mapping, e);
     }
     Ok(c.finish(mapping, false))
+}
+
+/// Header variables the `dxf` crate converts to dates and durations with
+/// `chrono`, which panics on values out of its range (found by
+/// tests/core/fuzz/exchange.rs): a damaged date must not stop an import
+/// that never uses it.
+const DATE_VARIABLES: [&str; 4] = ["$TDCREATE", "$TDUCREATE", "$TDUPDATE", "$TDUUPDATE"];
+/// Header variables read as durations in days (time spent editing).
+const DURATION_VARIABLES: [&str; 2] = ["$TDINDWG", "$TDUSRTIMER"];
+/// Durations the crate converts safely, days.
+const SAFE_DURATION_DAYS: f64 = 1e6;
+
+/// Julian days the crate's date conversion handles (years 1900 to about
+/// 9000); others are replaced by 2451545.0 (2000-01-01) before reading.
+const SAFE_JULIAN_DAYS: (f64, f64) = (2_415_021.0, 5_000_000.0);
+
+/// Reads the drawing through the `dxf` crate. An ASCII drawing is first
+/// cleaned of what the import never uses and the crate cannot always
+/// read: out-of-range header dates, and the OBJECTS section (dictionaries,
+/// time stamps, layouts). Should the crate still panic on some other
+/// damaged input, the panic is answered as an unreadable drawing.
+fn load(bytes: &[u8]) -> Result<Drawing, ImportError> {
+    let cleaned = std::str::from_utf8(bytes).ok().map(clean_ascii);
+    let input: &[u8] = cleaned.as_deref().map_or(bytes, str::as_bytes);
+    let unreadable =
+        |why: String| ImportError::file("", format!("not a readable DXF drawing: {}", crate::site::plain_words(&why)));
+    if let Some(text) = &cleaned
+        && !text.lines().any(|l| l.trim() == "SECTION")
+    {
+        return Err(unreadable("it has no SECTION (is it a DXF file?)".into()));
+    }
+    match std::panic::catch_unwind(|| Drawing::load(&mut std::io::Cursor::new(input))) {
+        Ok(Ok(d)) => Ok(d),
+        Ok(Err(e)) => Err(unreadable(e.to_string())),
+        Err(_) => Err(unreadable("the DXF reader failed on a damaged value".into())),
+    }
+}
+
+/// An ASCII drawing without its OBJECTS section and with every header
+/// date in the range the reader converts.
+fn clean_ascii(text: &str) -> String {
+    let lines: Vec<&str> = text.lines().collect();
+    let mut out = String::with_capacity(text.len());
+    let (mut k, mut section) = (0, "");
+    // The header variable being read: a date, a duration, or neither.
+    let (mut date_var, mut duration_var) = (false, false);
+    while k + 1 < lines.len() {
+        let (code, value) = (lines[k].trim(), lines[k + 1]);
+        k += 2;
+        if code == "2" && k >= 4 && lines[k - 4].trim() == "0" && lines[k - 3].trim() == "SECTION" {
+            section = if value.trim() == "OBJECTS" { "OBJECTS" } else { "" };
+            if section == "OBJECTS" {
+                // Drop the "0 SECTION" pair already written.
+                let cut = out.trim_end_matches('\n').rfind("  0\nSECTION").unwrap_or(out.len());
+                out.truncate(cut);
+                continue;
+            }
+        }
+        if section == "OBJECTS" {
+            if code == "0" && value.trim() == "ENDSEC" {
+                section = "";
+            }
+            continue;
+        }
+        let mut value = value.to_string();
+        if code == "9" {
+            date_var = DATE_VARIABLES.contains(&value.trim());
+            duration_var = DURATION_VARIABLES.contains(&value.trim());
+        } else if code == "40" && (date_var || duration_var) {
+            let v = value.trim().parse::<f64>().unwrap_or(f64::NAN);
+            if date_var && !(v == 0.0 || (SAFE_JULIAN_DAYS.0..=SAFE_JULIAN_DAYS.1).contains(&v)) {
+                value = "2451545.0".into();
+            }
+            if duration_var && !(0.0..=SAFE_DURATION_DAYS).contains(&v) {
+                value = "0.0".into();
+            }
+        }
+        out.push_str("  ");
+        out.push_str(code);
+        out.push('\n');
+        out.push_str(&value);
+        out.push('\n');
+    }
+    out
 }
 
 /// Reading state: the conductor the last LINE went into, to join the next.
@@ -217,6 +299,12 @@ impl EntityReader {
         // One of the two is present: `MappingDoc::check` refuses a conductor
         // layer with neither.
         let radius_m = map.radius_m.or(self.default_radius_m).unwrap_or(0.0);
+        if map.radius_m.is_none() {
+            let note = format!("layer {layer}: radius_m {radius_m} m taken from the mapping's defaults");
+            if !c.notes.contains(&note) {
+                c.notes.push(note);
+            }
+        }
         let id = c.conductor_id(map.id.as_deref().unwrap_or(layer));
         c.site.conductors.push(ConductorDoc {
             id,

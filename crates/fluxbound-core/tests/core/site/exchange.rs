@@ -74,6 +74,11 @@ fn the_ezdxf_drawing_imports_with_every_supported_entity_at_the_coordinates_the_
     let site = &imported.site;
     let riser = site.conductors.iter().find(|c| c.id == "riser-n").unwrap();
     assert_eq!(riser.radius_m, 0.015, "the layer gives no radius: the mapping's default");
+    assert!(
+        imported.notes.iter().any(|n| n == "layer RISER-N: radius_m 0.015 m taken from the mapping's defaults"),
+        "{:?}",
+        imported.notes
+    );
     let cable = site.conductors.iter().find(|c| c.id == "cable-a").unwrap();
     assert_eq!(cable.share, Some(0.5));
     assert!(validate_site(site).is_ok(), "{:?}", validate_site(site).err());
