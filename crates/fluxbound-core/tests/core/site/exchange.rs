@@ -277,3 +277,28 @@ fn text_that_is_not_a_drawing_or_not_geojson_is_refused_in_plain_words() {
         assert!(!p.0[0].detail.is_empty());
     }
 }
+
+#[test]
+fn a_phase_search_over_an_imported_circuit_writes_a_revision_that_validates_and_changes_only_phases() {
+    // Imported conductors are ordinary ones: the search's write-back by
+    // conductor id applies, no generated-section hook is needed.
+    use fluxbound_core::mitigate::phases::{Measure, PhaseSearchDoc, SearchBudget, search_phases};
+    let root = format!("{}/../../examples", env!("CARGO_MANIFEST_DIR"));
+    let map: MappingDoc =
+        serde_json::from_slice(&std::fs::read(format!("{root}/busbar-room-mapping.json")).unwrap()).unwrap();
+    let imported = import(Format::Dxf, &std::fs::read(format!("{root}/busbar-room.dxf")).unwrap(), &map).unwrap();
+    let doc = imported.site;
+    let site = validate_site(&doc).unwrap();
+    let req = PhaseSearchDoc { measure: Measure::BUt, ..PhaseSearchDoc::for_circuits(vec!["TR1-LV".into()]) };
+    let found = search_phases(&site, &doc, &req, None, &SearchBudget::unlimited()).unwrap();
+    let revision = found.revision;
+    assert!(validate_site(&revision).is_ok(), "{:?}", validate_site(&revision).err());
+    let mut before: Vec<String> = doc.conductors.iter().map(|c| format!("{:?}", c.phase)).collect();
+    let mut after: Vec<String> = revision.conductors.iter().map(|c| format!("{:?}", c.phase)).collect();
+    before.sort();
+    after.sort();
+    assert_eq!(before, after, "a re-phasing permutes the phases");
+    for (a, b) in doc.conductors.iter().zip(&revision.conductors) {
+        assert_eq!((&a.id, &a.path, a.radius_m), (&b.id, &b.path, b.radius_m));
+    }
+}
