@@ -87,6 +87,53 @@ pub enum Command {
     },
     /// Check a running server: GET /healthz; exit 0 on 200, 1 otherwise (for container health checks).
     Health(HealthArgs),
+    /// Read routes from a GeoJSON, DXF or CSV file into a site document (printed); what
+    /// is left out is listed on standard error.
+    Import(ImportArgs),
+    /// Write a site's conductors, positions and areas as GeoJSON or DXF.
+    Export(ExportArgs),
+}
+
+#[derive(Debug, clap::Args)]
+pub struct ImportArgs {
+    /// The file to import (GeoJSON, DXF or CSV of route vertices), or `-` for standard input (then give --format).
+    #[arg(value_name = "FILE")]
+    pub file: PathBuf,
+    /// Mapping document (JSON): layers to circuits and phases, circuits, units, origin, rotation, defaults.
+    #[arg(long, value_name = "MAP.json")]
+    pub mapping: Option<PathBuf>,
+    /// File format (default: by the file's extension: .geojson/.json, .dxf, .csv).
+    #[arg(long, value_enum)]
+    pub format: Option<ImportFormat>,
+    /// Write what was skipped and assumed as JSON to this file (plain lines go to standard error anyway).
+    #[arg(long, value_name = "FILE")]
+    pub report: Option<PathBuf>,
+}
+
+#[derive(Debug, Clone, Copy, ValueEnum)]
+pub enum ImportFormat {
+    Geojson,
+    Dxf,
+    Csv,
+}
+
+#[derive(Debug, clap::Args)]
+pub struct ExportArgs {
+    /// Site model (JSON), or `-` for standard input.
+    #[arg(value_name = "SITE")]
+    pub site: PathBuf,
+    /// Output format.
+    #[arg(long, value_enum)]
+    pub format: ExportFormat,
+    /// With --format dxf: also write the mapping that imports the drawing back to this file.
+    #[arg(long, value_name = "FILE")]
+    pub mapping_out: Option<PathBuf>,
+}
+
+#[derive(Debug, Clone, Copy, ValueEnum)]
+pub enum ExportFormat {
+    Geojson,
+    Dxf,
 }
 
 #[derive(Debug, clap::Args)]
@@ -739,7 +786,69 @@ pub fn run(cli: Cli, out: &mut dyn Write) -> Result<ExitCode, CliError> {
         Command::Serve(args) => serve(args),
         Command::Keys { action } => keys(action, out),
         Command::Health(args) => health_command(&args, out),
+        Command::Import(args) => import_command(&args, out),
+        Command::Export(args) => export_command(&args, out),
     }
+}
+
+fn import_command(args: &ImportArgs, out: &mut dyn Write) -> Result<ExitCode, CliError> {
+    use fluxbound_core::site::exchange::{self, Format as FileFormat, ImportError};
+    let format = match args.format {
+        Some(ImportFormat::Geojson) => FileFormat::Geojson,
+        Some(ImportFormat::Dxf) => FileFormat::Dxf,
+        Some(ImportFormat::Csv) => FileFormat::Csv,
+        None => FileFormat::from_extension(&args.file.display().to_string()).ok_or_else(|| {
+            CliError::flag("--format", "the file's extension names no format: give geojson, dxf or csv")
+        })?,
+    };
+    let mapping: exchange::MappingDoc = match &args.mapping {
+        None => exchange::MappingDoc::default(),
+        Some(m) => site::parse_json(&read_input(m)?).map_err(|p| mapping_lines(m, &p))?,
+    };
+    let bytes = read_input_bytes(&args.file)?;
+    let imported = exchange::import(format, &bytes, &mapping).map_err(|e| match e {
+        ImportError::File(p) => CliError::Problems(p.iter().map(|q| format!("{}: {q}", args.file.display())).collect()),
+        ImportError::Mapping(p) => match &args.mapping {
+            Some(m) => mapping_lines(m, &p),
+            None => CliError::Problems(p.iter().map(|q| format!("--mapping: needed: {q}")).collect()),
+        },
+    })?;
+    for s in &imported.skipped {
+        eprintln!("{s}");
+    }
+    for n in &imported.notes {
+        eprintln!("note: {n}");
+    }
+    if let Some(path) = &args.report {
+        let report = serde_json::json!({"skipped": imported.skipped, "notes": imported.notes});
+        write_file(path, &format!("{report:#}\n"))?;
+    }
+    // The document is printed only if it is a valid site, so that what
+    // lands in site.json can be assessed as it is.
+    site::validate_site(&imported.site)
+        .map_err(|p| CliError::Problems(p.iter().map(|q| format!("imported site {q}")).collect()))?;
+    write_json(out, &imported.site)?;
+    Ok(ExitCode::SUCCESS)
+}
+
+/// Problems of the mapping file, named by its flag and path.
+fn mapping_lines(path: &Path, problems: &Problems) -> CliError {
+    CliError::Problems(problems.iter().map(|p| format!("--mapping {}: {p}", path.display())).collect())
+}
+
+fn export_command(args: &ExportArgs, out: &mut dyn Write) -> Result<ExitCode, CliError> {
+    use fluxbound_core::site::exchange;
+    let (doc, _checked) = read_site_doc(&args.site)?;
+    match args.format {
+        ExportFormat::Geojson => write_json(out, &exchange::export_geojson(&doc))?,
+        ExportFormat::Dxf => {
+            out.write_all(&exchange::export_dxf(&doc)).map_err(CliError::Write)?;
+            if let Some(path) = &args.mapping_out {
+                write_file(path, &format!("{:#}\n", serde_json::json!(exchange::export_mapping(&doc))))?;
+            }
+        }
+    }
+    Ok(ExitCode::SUCCESS)
 }
 
 fn health_command(args: &HealthArgs, out: &mut dyn Write) -> Result<ExitCode, CliError> {
@@ -1261,6 +1370,22 @@ fn keys(action: KeysAction, out: &mut dyn Write) -> Result<ExitCode, CliError> {
 
 /// Largest input file read (256 MiB): bounds memory on a mistaken path.
 const MAX_INPUT_BYTES: u64 = 256 * 1024 * 1024;
+
+/// [`read_input`] for files that need not be text (a binary DXF).
+fn read_input_bytes(path: &Path) -> Result<Vec<u8>, CliError> {
+    let name = path.display().to_string();
+    let err = |source| CliError::Read { path: name.clone(), source };
+    let mut bytes = Vec::new();
+    if path == Path::new("-") {
+        std::io::stdin().take(MAX_INPUT_BYTES + 1).read_to_end(&mut bytes).map_err(err)?;
+    } else {
+        std::fs::File::open(path).and_then(|f| f.take(MAX_INPUT_BYTES + 1).read_to_end(&mut bytes)).map_err(err)?;
+    }
+    if bytes.len() as u64 > MAX_INPUT_BYTES {
+        return Err(err(std::io::Error::other("input is larger than 256 MiB")));
+    }
+    Ok(bytes)
+}
 
 fn read_input(path: &Path) -> Result<String, CliError> {
     let name = path.display().to_string();

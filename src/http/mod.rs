@@ -24,7 +24,7 @@ use axum::middleware::{self, Next};
 use axum::response::{IntoResponse, Response};
 use axum::routing::{get, post};
 use problem::ApiError;
-use routes::{assessments, evaluate, keys, ops, reports, sites, surveys, tables, whatif};
+use routes::{assessments, evaluate, exchange, keys, ops, reports, sites, surveys, tables, whatif};
 use std::sync::Arc;
 use std::time::Duration;
 use tower_http::catch_panic::CatchPanicLayer;
@@ -83,6 +83,10 @@ pub fn router(state: AppState) -> Router {
         .route("/v1/sites", post(sites::sites_create).get(sites::sites_list))
         .route("/v1/sites/{site_id}", get(sites::sites_show).put(sites::sites_update).delete(sites::sites_delete))
         .route("/v1/sites/{site_id}/revisions/{revision}", get(sites::sites_revision))
+        .route("/v1/sites/import", post(exchange::sites_import))
+        .route("/v1/sites/{site_id}/import", post(exchange::sites_import_revision))
+        .route("/v1/sites/{site_id}/export.geojson", get(exchange::sites_export_geojson))
+        .route("/v1/sites/{site_id}/export.dxf", get(exchange::sites_export_dxf))
         .route(
             "/v1/sites/{site_id}/assessments",
             post(assessments::assessments_create).get(assessments::assessments_list),

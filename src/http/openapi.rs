@@ -225,6 +225,8 @@ impl Modify for PathIds {
     paths(
         routes::sites::sites_create, routes::sites::sites_list, routes::sites::sites_show, routes::sites::sites_update,
         routes::sites::sites_revision, routes::sites::sites_delete,
+        routes::exchange::sites_import, routes::exchange::sites_import_revision,
+        routes::exchange::sites_export_geojson, routes::exchange::sites_export_dxf,
         routes::assessments::assessments_create, routes::assessments::assessments_list, routes::assessments::assessments_show,
         routes::tables::tables_list, routes::tables::tables_create, routes::tables::tables_show,
         routes::tables::tables_version_add, routes::tables::tables_version_show, routes::tables::tables_version_replace,

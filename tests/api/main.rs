@@ -11,6 +11,7 @@ mod compute;
 mod edges;
 mod errors;
 mod evaluate;
+mod exchange;
 mod isolation;
 mod keys;
 mod migrations;

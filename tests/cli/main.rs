@@ -3,6 +3,7 @@
 
 mod compare;
 mod container;
+mod exchange;
 
 use serde_json::{Value, json};
 use std::io::Write;

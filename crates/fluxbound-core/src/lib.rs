@@ -1,7 +1,9 @@
 //! The pure core of Fluxbound: no I/O, no async, no framework.
 //!
 //! Its normal dependencies are nalgebra, num-complex, serde, serde_json,
-//! serde_path_to_error, thiserror, rayon, csv, geographiclib-rs and sha2;
+//! serde_path_to_error, thiserror, rayon, csv, geographiclib-rs, geojson and
+//! sha2; the `dxf` crate enters only with the optional `dxf` feature (it
+//! brings a clock and random GUIDs, see Cargo.toml);
 //! `utoipa` enters only with the
 //! optional `schema` feature, which the service turns on to generate its
 //! OpenAPI document from these types. Cargo enforces the rule (the core
@@ -16,9 +18,10 @@
 //!             bounds of a segment's field and its rate of change (field/bound)
 //! site/       the site document: wire types, strict parsing, validation with
 //!             JSON pointers, the checked model, phase and harmonic conventions,
-//!             model warnings (open ends, no return path, overlaps, …)
+//!             model warnings (open ends, no return path, overlaps, …);
 //!             busbar cross-sections (site/bar) and cable formations
-//!             (site/formation), expanded into ordinary conductors
+//!             (site/formation), expanded into ordinary conductors;
+//!             route import and export (site/exchange: GeoJSON, DXF, CSV)
 //! limits/     reference-level tables as data: bands, lookup, validation, built-ins
 //! assess/     exposure at positions and areas, load cases, ratios and verdicts,
 //!             area grids and field maps, the proven area maximum (assess/peak)

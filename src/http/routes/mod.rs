@@ -2,6 +2,7 @@
 
 pub mod assessments;
 pub mod evaluate;
+pub mod exchange;
 pub mod keys;
 pub mod ops;
 pub mod reports;

@@ -4,6 +4,7 @@
 pub mod bar;
 mod currents;
 pub mod formation;
+pub mod exchange;
 mod model;
 mod parse;
 mod problem;

@@ -187,7 +187,7 @@ fn syntax_words(raw: &str) -> Option<&'static str> {
         "number out of range" => "number out of range (not a finite 64-bit value)",
         "invalid escape" => "a backslash escape in a text is not valid JSON",
         "control character (\\u0000-\\u001F) found while parsing a string" => {
-            "a text contains a raw control character (such as a line break): remove it (only points_csv may hold line breaks and tabs, written as \\n and \\t)"
+            "a text contains a raw control character (such as a line break): remove it (only points_csv and file_text may hold line breaks and tabs, written as \\n and \\t)"
         }
         "recursion limit exceeded" => "the document is nested too deeply",
         "lone leading surrogate in hex escape" | "unexpected end of hex escape" | "invalid unicode code point" => {
@@ -284,8 +284,9 @@ fn without_jargon(text: &str) -> String {
 
 /// Keys whose text values are files by nature and may hold tabs and line
 /// breaks ([`crate::text::multi_line_problem`]): a survey's measurements as
-/// CSV, and its delimiter (which may be a tab). Every other text is one line.
-pub const MULTI_LINE_KEYS: [&str; 2] = ["points_csv", "csv_delimiter"];
+/// CSV, and its delimiter (which may be a tab); a file sent for import
+/// (`file_text`). Every other text is one line.
+pub const MULTI_LINE_KEYS: [&str; 3] = ["points_csv", "csv_delimiter", "file_text"];
 
 /// What the typed parse would not see: every control character in a key or
 /// a text, and the first key repeated within one object (which stops the

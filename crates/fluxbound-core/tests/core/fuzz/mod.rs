@@ -15,6 +15,7 @@
 
 mod csv;
 mod documents;
+mod exchange;
 mod mutate;
 
 use fluxbound_core::site::Problems;

@@ -4,6 +4,7 @@
 mod bars;
 mod currents;
 mod formations;
+mod exchange;
 mod plain;
 mod validation;
 mod warnings;
