@@ -3,6 +3,7 @@
 
 mod currents;
 mod model;
+pub mod overhead;
 mod parse;
 mod problem;
 mod strict;
@@ -36,6 +37,9 @@ pub fn parse_site(text: &str) -> Result<Site, Problems> {
 /// the change. False if no section generates a conductor of that id.
 pub fn rephase_generated(doc: &mut wire::SiteDoc, conductor_id: &str, phase: wire::Phase) -> bool {
     // Each generating section adds its arm here.
+    if overhead::rephase(doc, conductor_id, phase) {
+        return true;
+    }
     let _ = (doc, conductor_id, phase);
     false
 }

@@ -6,6 +6,8 @@
 
 use serde::{Deserialize, Serialize};
 
+pub use super::overhead::{BundleDoc, LinePhaseDoc, OverheadLineDoc, StructureDoc};
+
 /// A site: conductors carrying currents, and where people work.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
@@ -37,6 +39,10 @@ pub struct SiteDoc {
     /// latitude; without it exports stay in the local frame.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub georeference: Option<GeoreferenceDoc>,
+    /// Overhead lines given as structures, phases and sag; each expands
+    /// into one conductor per span, phase position and sub-conductor.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub overhead_lines: Vec<OverheadLineDoc>,
 }
 
 /// The local frame's origin on WGS 84 and the bearing of its y axis.

@@ -2,6 +2,7 @@
 //! phase-current conventions of `crates/fluxbound-core/src/site/currents.rs`.
 
 mod currents;
+mod overhead;
 mod plain;
 mod validation;
 mod warnings;

@@ -688,6 +688,7 @@ fn wire_site() -> SiteDoc {
         name: None,
         tables: vec![],
         georeference: None,
+        overhead_lines: vec![],
         frequency_hz: 50.0,
         circuits: vec![],
         conductors: vec![ConductorDoc {
