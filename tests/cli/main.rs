@@ -394,6 +394,21 @@ fn checking_the_furnace_example_prints_its_open_end_warnings_and_still_exits_0()
     assert!(stdout.contains("open_end at /conductors/1/path/2:"), "stdout: {stdout}");
 }
 
+/// The overhead-line example expands into conductors that meet at the
+/// structures and continue beyond the yard: no warnings, and the note says
+/// how the spans were cut and at which conductor temperature the sag holds.
+#[test]
+fn checking_the_depot_overhead_line_example_notes_its_chords_and_sag_temperature() {
+    let path = manifest_dir().join("examples/site-depot-overhead-line.json");
+    let out = fluxbound(&["check", path.to_str().unwrap()], None);
+    let stdout = stdout_of(&out);
+    assert_eq!(out.status.code(), Some(0), "stdout: {stdout}");
+    assert!(stdout.starts_with("ok") && !stdout.contains("WARNINGS"), "stdout: {stdout}");
+    for words in ["/overhead_lines/0:", "chords", "ground clearance", "80 °C", "maximum operating temperature"] {
+        assert!(stdout.contains(words), "{words}: {stdout}");
+    }
+}
+
 #[test]
 fn checking_a_site_without_warnings_prints_no_warnings_block() {
     let site = json!({
