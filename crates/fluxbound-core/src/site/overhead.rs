@@ -68,6 +68,10 @@ pub const MAX_BUNDLE: u32 = 4;
 pub const MAX_BUNDLE_SPACING_M: f64 = 2.0;
 /// Shortest span accepted, m: anything shorter is a repeated structure.
 pub const MIN_SPAN_M: f64 = 1.0;
+/// Most segments all lines of a site may expand into together (24 MB of
+/// vertices): past it the document is refused before the memory is spent,
+/// whatever the service's own bounds (which count the expanded site).
+pub const MAX_GENERATED_SEGMENTS: usize = 1_000_000;
 /// Conductor temperatures a sag may be stated at, °C.
 pub const SAG_TEMPERATURE_RANGE_C: (f64, f64) = (-50.0, 250.0);
 
@@ -185,6 +189,7 @@ pub(super) fn expand_lines(
     let at = Pointer::root().key("overhead_lines");
     check_ids(doc.overhead_lines.iter().map(|l| l.id.as_str()), &at, "overhead line", p);
     let mut taken: HashSet<String> = doc.conductors.iter().map(|c| c.id.clone()).collect();
+    let mut budget = MAX_GENERATED_SEGMENTS;
     for (i, line) in doc.overhead_lines.iter().enumerate() {
         let lp = at.index(i);
         let before = p.len();
@@ -192,7 +197,7 @@ pub(super) fn expand_lines(
         if p.len() > before {
             continue;
         }
-        let Some(expanded) = expand(line, &checked, &lp, p) else { continue };
+        let Some(expanded) = expand(line, &checked, &lp, &mut budget, p) else { continue };
         if let Some(clash) = expanded.conductors.iter().find(|c| !taken.insert(c.id.clone())) {
             p.push(
                 &lp.key("id"),
@@ -437,7 +442,13 @@ type Attachment = (Vector2<f64>, f64);
 
 /// Expands a checked line; problems (a sag the span cannot take, a
 /// conductor reaching the ground) point at the sag or the structure.
-fn expand(line: &OverheadLineDoc, checked: &CheckedLine, lp: &Pointer, p: &mut Problems) -> Option<Expanded> {
+fn expand(
+    line: &OverheadLineDoc,
+    checked: &CheckedLine,
+    lp: &Pointer,
+    budget: &mut usize,
+    p: &mut Problems,
+) -> Option<Expanded> {
     let normals = structure_normals(line);
     let attach: Vec<Vec<Attachment>> = line
         .structures
@@ -481,6 +492,15 @@ fn expand(line: &OverheadLineDoc, checked: &CheckedLine, lp: &Pointer, p: &mut P
             );
             return None;
         };
+        let segments = choice.count * curves.len() * checked.bundle.len();
+        if segments > *budget {
+            p.push(
+                lp,
+                format!("the overhead lines would expand into more than {MAX_GENERATED_SEGMENTS} segments (at span {j} of this one): split the site"),
+            );
+            return None;
+        }
+        *budget -= segments;
         out.chords = (out.chords.0.min(choice.count), out.chords.1.max(choice.count));
         out.longest_chord_m = out.longest_chord_m.max(choice.longest_m);
         out.ground_clearance_m = out.ground_clearance_m.min(clearance);

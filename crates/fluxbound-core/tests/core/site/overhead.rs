@@ -421,3 +421,32 @@ fn a_phase_search_over_a_lines_circuit_writes_the_order_back_into_the_line() {
     let objective = found.ranked[0].objective;
     assert!(rel(b, objective) < 1e-9, "{b} vs {objective}");
 }
+
+const PHASE_NAMES: [&str; 3] = ["A", "B", "C"];
+
+/// 499 spans of 300 m, 12 positions of 4 sub-conductors, 8 m of ground
+/// clearance: 153 chords a span (as in the flat line above) make
+/// 499 · 12 · 4 · 153 = 3.66 million segments, over the cap of one million;
+/// refused at the line before the memory is spent.
+#[test]
+fn a_line_that_would_expand_past_a_million_segments_is_refused_at_the_line() {
+    let circuits: Vec<Value> =
+        (0..4).map(|c| json!({"id": format!("c{c}"), "kind": "three_phase", "current_a": 100})).collect();
+    let phases: Vec<Value> =
+        (0..12).map(|k| json!({"circuit": format!("c{}", k / 3), "phase": PHASE_NAMES[k % 3]})).collect();
+    let offsets: Vec<f64> = (0..12).map(|k| -22.0 + 4.0 * k as f64).collect();
+    let heights = vec![20.0; 12];
+    let structures: Vec<Value> = (0..500)
+        .map(|j| json!({"at": [j as f64 * 300.0 - 75_000.0, 0.0], "heights_m": heights, "offsets_m": offsets}))
+        .collect();
+    let v = json!({
+        "frequency_hz": 50,
+        "circuits": circuits,
+        "conductors": [],
+        "overhead_lines": [{
+            "id": "long", "phases": phases, "structures": structures, "radius_m": 0.015,
+            "bundle": {"count": 4, "spacing_m": 0.4}, "sag_m": 12, "sag_temperature_c": 80
+        }]
+    });
+    assert!(has(&problems_of(&v), "/overhead_lines/0", "more than 1000000 segments"));
+}
