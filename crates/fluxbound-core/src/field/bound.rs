@@ -46,6 +46,16 @@
 //! bound: moving away from the middle of a segment seen under ±54.7°
 //! (cos² α = 1/3) the slope is `0.218·|I|/d²`.)
 //!
+//! **Short segments.** Straight from the Biot–Savart integral, a segment
+//! of length `ℓ` whose every point is at least `d` away adds at most
+//! `0.1·|I|·ℓ/d²` µT, and its rate of change at most `0.2·|I|·ℓ/d³` µT/m
+//! (the kernel `R/|R|³` has the Jacobian `(1 − 3R̂R̂ᵀ)/|R|³`, of norm
+//! `2/|R|³`). Each segment counts with the smaller of its two bounds
+//! ([`segment_field_bound_ut`], [`segment_slope_bound_ut_per_m`] are the
+//! length-free ones): a conductor cut into many short chords (an overhead
+//! span's catenary) then sums to about the bound of one long segment
+//! instead of growing with the number of chords.
+//!
 //! For many segments and complex phasors the triangle inequality gives, per
 //! spectral line, `|B_f| ≤ Σ_j 0.2·|I_jf|/d_j` and
 //! `|d|B_f|/ds| ≤ Σ_j 0.4·|I_jf|/d_j²` (the resultant's rate of change is at
@@ -167,9 +177,31 @@ struct BoundSegment {
     a: Point3<f64>,
     b: Point3<f64>,
     radius_m: f64,
+    /// Length, m, rounded up so a bound built on it is never too small.
+    length_m: f64,
     /// `|I|` per spectral line, A RMS.
     current_a: Vec<f64>,
 }
+
+impl BoundSegment {
+    /// The value and slope factors of the module docs at free distance
+    /// `d` (times `|I|`): the smaller of the length-free and the
+    /// short-segment bound.
+    fn factors(&self, d: f64) -> (f64, f64) {
+        let short = self.length_m / d;
+        (
+            (FIELD_BOUND_UT_M_PER_A / d).min(SHORT_FIELD_BOUND_UT_PER_A * short / d),
+            (SLOPE_BOUND_UT_PER_M_M2_PER_A / (d * d)).min(SHORT_SLOPE_BOUND_UT_PER_A * short / (d * d)),
+        )
+    }
+}
+
+/// `|B| ≤ SHORT_FIELD_BOUND_UT_PER_A · |I| · ℓ / d²` for a segment of
+/// length `ℓ`, µT·m/A (µ0/4π).
+const SHORT_FIELD_BOUND_UT_PER_A: f64 = 0.1;
+
+/// `|∂B/∂u| ≤ SHORT_SLOPE_BOUND_UT_PER_A · |I| · ℓ / d³`, µT·m/A (2·µ0/4π).
+const SHORT_SLOPE_BOUND_UT_PER_A: f64 = 0.2;
 
 impl SegmentBounds {
     pub fn new(filaments: &Filaments, excitation: &Excitation) -> SegmentBounds {
@@ -186,6 +218,7 @@ impl SegmentBounds {
                     a: v(j - 1),
                     b: v(j),
                     radius_m: filaments.radius2[k].sqrt(),
+                    length_m: (v(j) - v(j - 1)).norm() * (1.0 + DISTANCE_MARGIN),
                     current_a: current_a.clone(),
                 });
             }
@@ -224,9 +257,10 @@ impl SegmentBounds {
                 return;
             }
             let (value, slope) = out.split_at_mut(n);
+            let (kv, ks) = s.factors(d);
             for (f, i) in s.current_a.iter().enumerate() {
-                value[f] += FIELD_BOUND_UT_M_PER_A * i / d;
-                slope[f] += SLOPE_BOUND_UT_PER_M_M2_PER_A * i / (d * d);
+                value[f] += kv * i;
+                slope[f] += ks * i;
             }
         }
         if let Some(b) = sampled_ut.filter(|_| slope_valid) {
@@ -240,7 +274,8 @@ impl SegmentBounds {
     /// Per spectral line, upper bounds of the two sums that
     /// [`SegmentBounds::line_bounds_into`] forms for *any* ball that lies
     /// inside the ball of radius `reach_m` around `centre`: the value sum
-    /// `Σ 0.2·|I|/d` into `value` and the slope sum `Σ 0.4·|I|/d²` into
+    /// `Σ 0.2·|I|/d` into `value` and the slope sum `Σ 0.4·|I|/d²` (each
+    /// term the smaller with its short-segment bound) into
     /// `slope` (both cleared first), so one call bounds a whole block of
     /// regions at once.
     ///
@@ -277,9 +312,10 @@ impl SegmentBounds {
             if free.is_nan() || free <= s.radius_m {
                 return false;
             }
+            let (kv, ks) = s.factors(free);
             for (f, i) in s.current_a.iter().enumerate() {
-                value[f] += FIELD_BOUND_UT_M_PER_A * i / free;
-                slope[f] += SLOPE_BOUND_UT_PER_M_M2_PER_A * i / (free * free);
+                value[f] += kv * i;
+                slope[f] += ks * i;
             }
         }
         true

@@ -76,6 +76,11 @@ impl DecisionRule {
     }
 }
 
+/// Accepted band coefficients, µT·Hz^-exponent: with frequencies of 0.1 Hz
+/// to 10 MHz and exponents within ±4 every level then lies between 1e-34
+/// and 1e40 µT, so no ratio overflows or divides by zero.
+pub const COEFFICIENT_RANGE: (f64, f64) = (1e-6, 1e12);
+
 /// One band: `B_RL(f) = coefficient · f^exponent` µT RMS for
 /// `from_hz ≤ f < to_hz` (the last band of a run also includes `to_hz`).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
@@ -88,8 +93,9 @@ pub struct Band {
     /// Upper edge, Hz (greater than from_hz, at most 10 MHz).
     #[cfg_attr(feature = "schema", schema(minimum = 0.1, maximum = 1e7))]
     pub to_hz: f64,
-    /// µT RMS · Hz^-exponent (positive).
-    #[cfg_attr(feature = "schema", schema(exclusive_minimum = 0))]
+    /// µT RMS · Hz^-exponent (1e-6 to 1e12: a level inside the table's
+    /// frequency range then stays a finite, non-zero number).
+    #[cfg_attr(feature = "schema", schema(minimum = 1e-6, maximum = 1e12))]
     pub coefficient: f64,
     /// Power of f (−4 to 4).
     #[cfg_attr(feature = "schema", schema(minimum = -4, maximum = 4))]
@@ -305,8 +311,14 @@ fn check_bands(bands: &[Band], bp: &Pointer, p: &mut Problems) -> bool {
                 ok = false;
             }
         }
-        if b.coefficient.is_finite() && b.coefficient <= 0.0 {
-            p.push(&at_b.key("coefficient"), "coefficient must be positive");
+        if b.coefficient.is_finite() && !(COEFFICIENT_RANGE.0..=COEFFICIENT_RANGE.1).contains(&b.coefficient) {
+            p.push(
+                &at_b.key("coefficient"),
+                format!(
+                    "coefficient must be between {:e} and {:e} µT·Hz^-exponent (positive, and small or large enough that every level stays a finite number)",
+                    COEFFICIENT_RANGE.0, COEFFICIENT_RANGE.1
+                ),
+            );
         }
         if b.exponent.is_finite() && b.exponent.abs() > 4.0 {
             p.push(&at_b.key("exponent"), "exponent must be between -4 and 4");

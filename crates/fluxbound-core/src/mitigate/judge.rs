@@ -347,7 +347,10 @@ impl Judged {
                 }
                 worst.b_ut = worst.b_ut.max(b2.sqrt());
                 for &k in &applicable {
-                    let ratio: f64 = m.iter().zip(&tables.weights[k]).map(|(mh, w)| mh * w).sum();
+                    // A line with no field adds nothing, whatever the table
+                    // says there (as `assess::exposure_ratio`).
+                    let ratio: f64 =
+                        m.iter().zip(&tables.weights[k]).filter(|(mh, _)| **mh > 0.0).map(|(mh, w)| mh * w).sum();
                     if worst.ratio.is_none_or(|r| ratio > r) {
                         worst.ratio = Some(ratio);
                         worst.table = Some(k);

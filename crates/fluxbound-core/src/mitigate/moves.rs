@@ -147,7 +147,7 @@ pub struct MoveResult {
     pub cautions: Vec<String>,
 }
 
-fn check_request(site: &Site, req: &MoveDoc) -> Result<f64, Problems> {
+fn check_request(site: &Site, doc: &SiteDoc, req: &MoveDoc) -> Result<f64, Problems> {
     let mut p = Problems::default();
     let m = &req.moving;
     if m.conductors.is_empty() && m.circuits.is_empty() && m.positions.is_empty() {
@@ -166,6 +166,12 @@ fn check_request(site: &Site, req: &MoveDoc) -> Result<f64, Problems> {
                 );
             }
         }
+    }
+    for l in doc.overhead_lines.iter().filter(|l| line_moves(l, &req.moving).is_none()).map(|l| &l.id) {
+        p.push(
+            &Pointer::root().key("moving").key("circuits"),
+            format!("overhead line '{l}' carries circuits that move and circuits that do not: its circuits hang on the same structures; name them all, or one of its conductors to move the whole line"),
+        );
     }
     let by = Pointer::root().key("by_m");
     if req.by_m.iter().any(|v| !v.is_finite()) {
@@ -242,6 +248,20 @@ pub fn moved(doc: &SiteDoc, moving: &Moving, offset: [f64; 3]) -> SiteDoc {
             }
         }
     }
+    // An overhead line moves whole (structures in plan, attachment heights
+    // by dz, the sag kept) when one of its conductors is named or every
+    // circuit it carries moves ([`line_moves`]).
+    for l in &mut out.overhead_lines {
+        if line_moves(l, moving) == Some(true) {
+            for s in &mut l.structures {
+                s.at[0] += offset[0];
+                s.at[1] += offset[1];
+                for h in &mut s.heights_m {
+                    *h += offset[2];
+                }
+            }
+        }
+    }
     for q in &mut out.positions {
         if moving.positions.contains(&q.id) {
             for (d, c) in q.at.iter_mut().enumerate() {
@@ -250,6 +270,24 @@ pub fn moved(doc: &SiteDoc, moving: &Moving, offset: [f64; 3]) -> SiteDoc {
         }
     }
     out
+}
+
+/// Whether overhead line `l` moves: `Some(true)` when one of its
+/// conductors is named or every circuit it carries moves, `Some(false)`
+/// when none does, `None` when only some of its circuits move (a line's
+/// circuits hang on the same structures and cannot move apart).
+fn line_moves(l: &crate::site::overhead::OverheadLineDoc, moving: &Moving) -> Option<bool> {
+    let prefix = format!("{}-p", l.id);
+    if moving.conductors.iter().any(|c| c.starts_with(&prefix)) {
+        return Some(true);
+    }
+    let on: Vec<&String> = l.phases.iter().map(|p| &p.circuit).collect();
+    let moved = on.iter().filter(|c| moving.circuits.contains(c)).count();
+    match moved {
+        0 => Some(false),
+        n if n == on.len() => Some(true),
+        _ => None,
+    }
 }
 
 /// What one step needs besides the offset.
@@ -321,7 +359,7 @@ pub fn run_move(
     tables: &[ReferenceTable],
     budget: &WhatIfBudget,
 ) -> Result<MoveResult, WhatIfError> {
-    let level = check_request(site, req).map_err(WhatIfError::Request)?;
+    let level = check_request(site, doc, req).map_err(WhatIfError::Request)?;
     let loads = req.load.resolve(site).map_err(WhatIfError::Load)?;
     let passes = u64::from(req.steps) + 1 + u64::from(BISECTIONS) + 1;
     Chosen { positions: &req.positions, areas: &req.areas }

@@ -3,9 +3,10 @@
 
 pub mod bar;
 mod currents;
-pub mod formation;
 pub mod exchange;
+pub mod formation;
 mod model;
+pub mod overhead;
 mod parse;
 mod problem;
 mod strict;
@@ -39,7 +40,7 @@ pub fn parse_site(text: &str) -> Result<Site, Problems> {
 /// the change. False if no section generates a conductor of that id.
 pub fn rephase_generated(doc: &mut wire::SiteDoc, conductor_id: &str, phase: wire::Phase) -> bool {
     // Each generating section adds its arm here.
-    if formation::rephase(doc, conductor_id, phase) {
+    if formation::rephase(doc, conductor_id, phase) || overhead::rephase(doc, conductor_id, phase) {
         return true;
     }
     let _ = (doc, conductor_id, phase);

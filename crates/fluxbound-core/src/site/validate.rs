@@ -51,6 +51,7 @@ pub fn validate_site(doc: &SiteDoc) -> Result<Site, Problems> {
         &listed,
         &mut p,
     ));
+    let conductors = super::overhead::expand_lines(doc, conductors, &mut p, &mut notes);
     let positions = check_positions(&doc.positions, &root.key("positions"), &mut p);
     let areas = check_areas(&doc.areas, &root.key("areas"), &mut p, &mut notes);
     if let Some(g) = &doc.georeference {
@@ -103,7 +104,7 @@ pub(crate) fn check_frequency(f_hz: f64, at: &Pointer, p: &mut Problems) {
 }
 
 /// Range check with one message shape for every bounded number.
-fn check_range(v: f64, (lo, hi): (f64, f64), unit: &str, at: &Pointer, p: &mut Problems) -> bool {
+pub(crate) fn check_range(v: f64, (lo, hi): (f64, f64), unit: &str, at: &Pointer, p: &mut Problems) -> bool {
     if !v.is_finite() {
         p.push(at, "must be a finite number");
         false
@@ -150,7 +151,7 @@ fn check_occupancy(v: Option<f64>, at: &Pointer, p: &mut Problems) {
 }
 
 /// Ids: non-empty, short, printable, unique within their list.
-pub(super) fn check_ids<'a>(ids: impl Iterator<Item = &'a str>, list: &Pointer, what: &str, p: &mut Problems) {
+pub(crate) fn check_ids<'a>(ids: impl Iterator<Item = &'a str>, list: &Pointer, what: &str, p: &mut Problems) {
     let mut seen: HashMap<&str, usize> = HashMap::new();
     for (i, id) in ids.enumerate() {
         // Built only for a problem: a valid list allocates no pointer.

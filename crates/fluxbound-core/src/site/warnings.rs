@@ -210,8 +210,11 @@ fn truncate(mut out: Vec<Warning>) -> Vec<Warning> {
 /// The vertex list of a conductor in the document: its own `path`, or
 /// the route of the section that generates it (a bar's filaments point at
 /// the bar).
-fn vertices_at(c: &Conductor) -> Pointer {
-    c.source.key(c.vertices_key)
+/// Where vertex `i` of `c` is stated: in its vertex list, or (a generated
+/// conductor whose vertices the document does not list one for one, such as
+/// an overhead line's chords, with an empty `vertices_key`) its source.
+fn vertex_at(c: &Conductor, i: usize) -> Pointer {
+    if c.vertices_key.is_empty() { c.source.clone() } else { c.source.key(c.vertices_key).index(i) }
 }
 
 fn xyz(p: &Point3<f64>) -> String {
@@ -244,7 +247,7 @@ fn open_ends(conductors: &[Conductor], end_met: &[[bool; 2]]) -> Vec<Warning> {
             }
             out.push(Warning {
                 code: WarningCode::OpenEnd,
-                pointer: vertices_at(c).index(vertex).to_string(),
+                pointer: vertex_at(c, vertex).to_string(),
                 detail: format!(
                     "the {word} of conductor '{}' at {} m meets no other conductor: its current flows into free space there and the field near this end is an artefact; connect it, or set continues.{word} if the conductor goes on beyond the model",
                     c.id,
@@ -324,11 +327,11 @@ fn overlaps(conductors: &[Conductor], found: &HashMap<(usize, usize), Overlap>) 
         .map(|&(a, b)| {
             let o = &found[&(a, b)];
             let (ca, cb) = (&conductors[a], &conductors[b]);
-            let other = vertices_at(cb).index(o.seg_b);
+            let other = vertex_at(cb, o.seg_b);
             let whom = if a == b { "itself".to_string() } else { format!("conductor '{}'", cb.id) };
             Warning {
                 code: WarningCode::ConductorsOverlap,
-                pointer: vertices_at(ca).index(o.seg_a).to_string(),
+                pointer: vertex_at(ca, o.seg_a).to_string(),
                 detail: format!(
                     "conductor '{}' (segment from vertex {}) and {whom} (segment from vertex {}, {other}) come within {:.4} m of each other's axis, less than the sum of their radii {:.4} m: they overlap or cross, which real conductors cannot; move them apart (conductors laid touching, at exactly the sum of their radii, are fine)",
                     ca.id,
@@ -386,7 +389,7 @@ fn conductors_below_ground(conductors: &[Conductor]) -> Vec<Warning> {
             let first = c.path.iter().position(|p| p.z < 0.0)?;
             let count = c.path.iter().filter(|p| p.z < 0.0).count();
             let lowest = c.path.iter().map(|p| p.z).fold(f64::INFINITY, f64::min);
-            let at = vertices_at(c).index(first).to_string();
+            let at = vertex_at(c, first).to_string();
             Some(below_ground(
                 &at,
                 &format!("conductor '{}' has {count} vertex(es) with z < 0 (lowest z = {lowest} m)", c.id),

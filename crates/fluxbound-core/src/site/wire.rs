@@ -6,6 +6,8 @@
 
 use serde::{Deserialize, Serialize};
 
+pub use super::overhead::{BundleDoc, LinePhaseDoc, OverheadLineDoc, StructureDoc};
+
 /// A site: conductors carrying currents, and where people work.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[cfg_attr(feature = "schema", derive(utoipa::ToSchema))]
@@ -41,6 +43,10 @@ pub struct SiteDoc {
     /// one conductor per cable (see `site::formation`).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub formations: Vec<FormationDoc>,
+    /// Overhead lines given as structures, phases and sag; each expands
+    /// into one conductor per span, phase position and sub-conductor.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub overhead_lines: Vec<OverheadLineDoc>,
 }
 
 pub use super::formation::{CableSetDoc, FormationDoc, Layout};

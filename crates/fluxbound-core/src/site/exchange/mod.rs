@@ -180,6 +180,7 @@ impl Collector {
             tables: Vec::new(),
             georeference: None,
             formations: Vec::new(),
+            overhead_lines: Vec::new(),
         };
         Collector { site, skipped: Vec::new(), notes: Vec::new() }
     }

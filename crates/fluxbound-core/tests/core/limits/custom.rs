@@ -200,10 +200,17 @@ fn a_band_whose_start_is_not_below_its_end_is_rejected_at_its_to_hz() {
 }
 
 #[test]
-fn a_zero_or_negative_coefficient_is_rejected() {
-    for c in [0.0, -500.0] {
+fn a_zero_negative_or_out_of_range_coefficient_is_rejected() {
+    for c in [0.0, -500.0, 5e-324, 1e-7, 1e13] {
         let doc = with("/bands/1/coefficient", json!(c));
-        assert_eq!(problems(&doc), one("/bands/1/coefficient", "coefficient must be positive"), "coefficient {c}");
+        assert_eq!(
+            problems(&doc),
+            one(
+                "/bands/1/coefficient",
+                "coefficient must be between 1e-6 and 1e12 µT·Hz^-exponent (positive, and small or large enough that every level stays a finite number)"
+            ),
+            "coefficient {c}"
+        );
     }
 }
 
@@ -312,7 +319,7 @@ fn several_problems_are_all_reported_in_document_order() {
             ("/id".to_string(), "table id must be 1–64 characters of letters, digits, '.', '-' or '_'".to_string()),
             ("/title".to_string(), "title must not be empty".to_string()),
             ("/source".to_string(), "give the full citation of the source".to_string()),
-            ("/bands/0/coefficient".to_string(), "coefficient must be positive".to_string()),
+            ("/bands/0/coefficient".to_string(), "coefficient must be between 1e-6 and 1e12 µT·Hz^-exponent (positive, and small or large enough that every level stays a finite number)".to_string()),
             ("/bands/0/exponent".to_string(), "exponent must be between -4 and 4".to_string()),
             ("/bands/2".to_string(), "bands must lie between 0.1 Hz and 1e7 Hz".to_string()),
         ]

@@ -420,3 +420,38 @@ fn a_loop_through_a_judged_point_or_enclosing_no_area_is_refused() {
         other => panic!("{other:?}"),
     }
 }
+
+#[test]
+fn raising_an_overhead_line_moves_its_structures_with_the_sag_kept() {
+    // The depot example's line carries one circuit: moving the circuit by
+    // dz raises every attachment by dz (the sag kept), so the revision's
+    // heights are the example's plus 2 m exactly.
+    let text =
+        std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/../../examples/site-depot-overhead-line.json"))
+            .unwrap();
+    let v: Value = serde_json::from_str(&text).unwrap();
+    let req = MoveDoc {
+        moving: Moving { circuits: vec!["yard-crossing-110kv".into()], ..Moving::default() },
+        by_m: [0.0, 0.0, 2.0],
+        steps: 1,
+        level: Some(1e-6),
+        measure: Measure::BUt,
+        load: LoadCase::Present,
+        table: None,
+        positions: Some(vec!["yard-under-first-span".into()]),
+        areas: Some(vec![]),
+    };
+    let r = run_move(&site_of(&v), &doc_of(&v), &req, &[], &move_budget()).unwrap();
+    assert!(r.smallest.is_none(), "1e-6 µT is never reached");
+    let moved = fluxbound_core::mitigate::moves::moved(&doc_of(&v), &req.moving, [0.0, 0.0, 2.0]);
+    for (a, b) in doc_of(&v).overhead_lines[0].structures.iter().zip(&moved.overhead_lines[0].structures) {
+        for (h0, h1) in a.heights_m.iter().zip(&b.heights_m) {
+            assert_eq!(*h1, h0 + 2.0);
+        }
+        assert_eq!(a.at, b.at);
+    }
+    // Raised 2 m, the line is farther from the point under it: lower field.
+    let b0 = r.steps[0].worst.as_ref().unwrap().value;
+    let b1 = r.steps[1].worst.as_ref().unwrap().value;
+    assert!(b1 < b0, "{b0} → {b1}");
+}

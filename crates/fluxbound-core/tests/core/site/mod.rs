@@ -3,8 +3,9 @@
 
 mod bars;
 mod currents;
-mod formations;
 mod exchange;
+mod formations;
+mod overhead;
 mod plain;
 mod validation;
 mod warnings;

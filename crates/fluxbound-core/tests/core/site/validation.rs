@@ -689,6 +689,7 @@ fn wire_site() -> SiteDoc {
         tables: vec![],
         georeference: None,
         formations: vec![],
+        overhead_lines: vec![],
         frequency_hz: 50.0,
         circuits: vec![],
         conductors: vec![ConductorDoc {
