@@ -842,9 +842,12 @@ fn export_command(args: &ExportArgs, out: &mut dyn Write) -> Result<ExitCode, Cl
     match args.format {
         ExportFormat::Geojson => write_json(out, &exchange::export_geojson(&doc))?,
         ExportFormat::Dxf => {
-            out.write_all(&exchange::export_dxf(&doc)).map_err(CliError::Write)?;
+            out.write_all(&exchange::export_dxf(&exchange::flatten(&doc))).map_err(CliError::Write)?;
             if let Some(path) = &args.mapping_out {
-                write_file(path, &format!("{:#}\n", serde_json::json!(exchange::export_mapping(&doc))))?;
+                write_file(
+                    path,
+                    &format!("{:#}\n", serde_json::json!(exchange::export_mapping(&exchange::flatten(&doc)))),
+                )?;
             }
         }
     }

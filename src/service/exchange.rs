@@ -95,7 +95,7 @@ impl Service {
         let v = self.sites_show(caller, id).await?;
         let bytes = match format {
             ExportFormat::Geojson => exchange::export_geojson(&v.doc).to_string().into_bytes(),
-            ExportFormat::Dxf => exchange::export_dxf(&v.doc),
+            ExportFormat::Dxf => exchange::export_dxf(&exchange::flatten(&v.doc)),
         };
         Ok((v.row.revision, bytes))
     }

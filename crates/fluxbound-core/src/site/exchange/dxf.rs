@@ -315,7 +315,7 @@ impl EntityReader {
             share: map.share,
             current: None,
             continues: map.continues,
-            cross_section: None,
+            cross_section: map.cross_section,
         });
     }
 

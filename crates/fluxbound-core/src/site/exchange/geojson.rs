@@ -3,7 +3,7 @@
 //! In: LineString and MultiLineString features become conductors (one per
 //! line), Point features positions, Polygon features areas. Properties
 //! (all optional): `id` (else the feature's own id, else `kind-n`);
-//! conductors `circuit`, `phase`, `share`, `radius_m`, `current`
+//! conductors `circuit`, `phase`, `share`, `radius_m`, `current`, `cross_section`
 //! (`{rms_a, phase_deg}`), `continues` (`{start, end}`); positions
 //! `heights_m`, `body_region`, `group`, `occupancy_h`; areas `height_m`,
 //! `spacing_m`, `occupancy_h`. A Point with three coordinates is a 3-D
@@ -43,6 +43,12 @@ struct SiteMember {
     georeference: Option<GeoreferenceDoc>,
     #[serde(default)]
     tables: Vec<String>,
+    /// Overhead lines and formations, in site-local metres as in the site
+    /// document (they expand into conductors on validation).
+    #[serde(default)]
+    overhead_lines: Vec<crate::site::overhead::OverheadLineDoc>,
+    #[serde(default)]
+    formations: Vec<crate::site::wire::FormationDoc>,
 }
 
 /// How coordinates of this file become site metres.
@@ -88,6 +94,8 @@ pub fn import_geojson(text: &str, mapping: &MappingDoc) -> Result<Imported, Impo
     }
     c.site.name = member.name;
     c.site.tables = member.tables;
+    c.site.overhead_lines = member.overhead_lines;
+    c.site.formations = member.formations;
     c.site.georeference = mapping.georeference.or(member.georeference);
     if let Some(f) = member.frequency_hz {
         c.site.frequency_hz = f;
@@ -164,7 +172,7 @@ fn reader_for(
 }
 
 /// Keys each kind reads from a feature's properties.
-const CONDUCTOR_KEYS: [&str; 6] = ["circuit", "phase", "share", "radius_m", "current", "continues"];
+const CONDUCTOR_KEYS: [&str; 7] = ["circuit", "phase", "share", "radius_m", "current", "continues", "cross_section"];
 const POSITION_KEYS: [&str; 4] = ["heights_m", "body_region", "group", "occupancy_h"];
 const AREA_KEYS: [&str; 3] = ["height_m", "spacing_m", "occupancy_h"];
 
@@ -423,6 +431,14 @@ pub fn export_geojson(site: &SiteDoc) -> Value {
     }
     if !site.tables.is_empty() {
         member["tables"] = json!(site.tables);
+    }
+    // The generating sections travel whole (site-local metres), so that a
+    // round trip keeps them as sections rather than their expansion.
+    if !site.overhead_lines.is_empty() {
+        member["overhead_lines"] = json!(site.overhead_lines);
+    }
+    if !site.formations.is_empty() {
+        member["formations"] = json!(site.formations);
     }
     let mut doc = json!({
         "type": "FeatureCollection",

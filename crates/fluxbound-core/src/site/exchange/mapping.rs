@@ -150,6 +150,10 @@ pub struct LayerMapDoc {
     /// Conductors: radius, m (else `defaults.radius_m`).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub radius_m: Option<f64>,
+    /// Conductors: a bar's rectangular cross-section (the drawing shows
+    /// its axis).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cross_section: Option<crate::site::wire::CrossSectionDoc>,
     /// Positions: body heights above the standing point, m.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub heights_m: Option<Vec<f64>>,
@@ -296,6 +300,7 @@ pub fn export_mapping(site: &SiteDoc) -> MappingDoc {
                 share: c.share,
                 continues: c.continues,
                 radius_m: Some(c.radius_m),
+                cross_section: c.cross_section,
                 ..LayerMapDoc::of(ItemKind::Conductor)
             },
         );
@@ -347,6 +352,7 @@ impl LayerMapDoc {
             share: None,
             continues: None,
             radius_m: None,
+            cross_section: None,
             heights_m: None,
             body_region: None,
             group: None,

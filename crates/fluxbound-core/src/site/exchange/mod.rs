@@ -258,3 +258,41 @@ fn json_words(v: &serde_json::Value) -> &'static str {
         serde_json::Value::Object(_) => "an object",
     }
 }
+
+/// `doc` for a drawing: the conductors that overhead lines and cable
+/// formations generate written out as ordinary conductors (their chords
+/// and cables as drawn, with circuit, phase and share), and those sections
+/// removed, so that a DXF carries every conductor's geometry. A document
+/// that does not validate is returned unchanged (its own problems are
+/// reported where it is used). Bars keep their `cross_section` in the
+/// document; the drawing shows their axis.
+pub fn flatten(doc: &SiteDoc) -> SiteDoc {
+    let Ok(site) = crate::site::validate_site(doc) else { return doc.clone() };
+    let mut out = doc.clone();
+    let listed: std::collections::BTreeSet<&str> = doc.conductors.iter().map(|c| c.id.as_str()).collect();
+    for k in site.conductors() {
+        if listed.contains(k.id.as_str()) {
+            continue;
+        }
+        let (circuit, phase, share) = match k.drive {
+            crate::site::Drive::Phase { circuit, phase, share } => {
+                (Some(site.circuits()[circuit].id.clone()), Some(phase), Some(share))
+            }
+            crate::site::Drive::Explicit { .. } => (None, None, None),
+        };
+        out.conductors.push(crate::site::wire::ConductorDoc {
+            id: k.id.clone(),
+            path: k.path.iter().map(|p| [p.x, p.y, p.z]).collect(),
+            radius_m: k.radius_m,
+            circuit,
+            phase,
+            share,
+            current: None,
+            continues: None,
+            cross_section: None,
+        });
+    }
+    out.overhead_lines.clear();
+    out.formations.clear();
+    out
+}

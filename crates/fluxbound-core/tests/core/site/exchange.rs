@@ -167,7 +167,13 @@ fn a_site_exported_as_geojson_imports_back_within_a_micrometre_in_local_metres_a
     for georeference in
         [None, Some(GeoreferenceDoc { origin_lon_deg: 9.19, origin_lat_deg: 45.46, y_axis_bearing_deg: -12.5 })]
     {
-        for name in ["site-switch-room.json", "site-furnace-feeder.json", "site-control-room-tray.json"] {
+        for name in [
+            "site-switch-room.json",
+            "site-furnace-feeder.json",
+            "site-control-room-tray.json",
+            "site-depot-overhead-line.json",
+            "site-busbar-room.json",
+        ] {
             let mut site = example(name);
             site.georeference = georeference;
             let text = export_geojson(&site).to_string();
@@ -300,5 +306,31 @@ fn a_phase_search_over_an_imported_circuit_writes_a_revision_that_validates_and_
     assert_eq!(before, after, "a re-phasing permutes the phases");
     for (a, b) in doc.conductors.iter().zip(&revision.conductors) {
         assert_eq!((&a.id, &a.path, a.radius_m), (&b.id, &b.path, b.radius_m));
+    }
+}
+
+#[test]
+fn overhead_lines_and_formations_reach_a_drawing_as_the_conductors_they_generate() {
+    // A DXF has no place for a line's structures or a formation's sets: the
+    // export draws what they generate (validate_site's own expansion), and
+    // the drawing reads back as that many conductors at the same vertices.
+    for name in ["site-depot-overhead-line.json", "site-busbar-room.json"] {
+        let site = example(name);
+        let expanded = validate_site(&site).unwrap();
+        let flat = fluxbound_core::site::exchange::flatten(&site);
+        assert!(flat.overhead_lines.is_empty() && flat.formations.is_empty());
+        let drawing = export_dxf(&flat);
+        let back = import(Format::Dxf, &drawing, &export_mapping(&flat)).unwrap();
+        assert!(back.skipped.is_empty(), "{name}: {:?}", back.skipped);
+        let again = validate_site(&back.site).unwrap();
+        // Bars expand again from their cross-section in both; every other
+        // conductor is one polyline either way.
+        assert_eq!(again.conductors().len(), expanded.conductors().len(), "{name}");
+        for (a, b) in expanded.conductors().iter().zip(again.conductors()) {
+            assert_eq!(a.id, b.id, "{name}");
+            for (p, q) in a.path.iter().zip(&b.path) {
+                assert!((p - q).norm() <= 1e-6, "{name} {}: {p} vs {q}", a.id);
+            }
+        }
     }
 }
