@@ -173,3 +173,40 @@ async fn a_passive_loop_over_the_tray_reports_its_current_and_lowers_the_desk() 
     let res = app.post(&path, &key, &thick).await;
     assert_problem(res, 422, "validation", Some("/wire_radius_m")).await;
 }
+
+#[tokio::test]
+async fn sites_with_overhead_lines_bars_and_formations_are_stored_assessed_and_exported() {
+    // The new site sections go through HTTP like any site: stored as
+    // written, expanded on assessment, and carried by the GeoJSON export.
+    let app = spawn_app().await;
+    let key = app.key("org-a", Role::Assessor).await;
+    for (name, section) in
+        [("site-depot-overhead-line.json", "overhead_lines"), ("site-busbar-room.json", "formations")]
+    {
+        let doc = example(name);
+        let id = app.site(&key, &doc).await;
+        let res = app.post(&format!("/v1/sites/{id}/assessments"), &key, &json!({})).await;
+        assert_eq!(res.status(), 201, "{name}");
+        let a: Value = res.json().await.unwrap();
+        assert_eq!(
+            a["result"]["positions"].as_array().unwrap().len(),
+            doc["positions"].as_array().unwrap().len(),
+            "{name}"
+        );
+        let exported: Value = app.get(&format!("/v1/sites/{id}/export.geojson"), &key).await.json().await.unwrap();
+        // Compared as numbers (80 and 80.0 are the same temperature).
+        assert!(same(&exported["site"][section], &doc[section]), "{name}: {exported}");
+    }
+}
+
+/// JSON equality with numbers compared as numbers.
+fn same(a: &Value, b: &Value) -> bool {
+    match (a, b) {
+        (Value::Number(x), Value::Number(y)) => x.as_f64() == y.as_f64(),
+        (Value::Array(x), Value::Array(y)) => x.len() == y.len() && x.iter().zip(y).all(|(p, q)| same(p, q)),
+        (Value::Object(x), Value::Object(y)) => {
+            x.len() == y.len() && x.iter().all(|(k, v)| y.get(k).is_some_and(|w| same(v, w)))
+        }
+        _ => a == b,
+    }
+}
