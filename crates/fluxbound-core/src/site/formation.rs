@@ -147,7 +147,30 @@ pub(super) fn check_formations(
     p: &mut Problems,
 ) -> Vec<Conductor> {
     super::validate::check_ids(docs.iter().map(|f| f.id.as_str()), at, "formation", p);
-    docs.iter().enumerate().flat_map(|(i, f)| check_formation(f, &at.index(i), circuits, taken, p)).collect()
+    let out: Vec<Conductor> =
+        docs.iter().enumerate().flat_map(|(i, f)| check_formation(f, &at.index(i), circuits, taken, p)).collect();
+    long_generated_ids(&out, "formation", p);
+    out
+}
+
+/// Generated conductor ids longer than any id may be (they appear in every
+/// result): the problem is at the generating section's `id`.
+pub(super) fn long_generated_ids(conductors: &[Conductor], what: &str, p: &mut Problems) {
+    let mut seen = std::collections::BTreeSet::new();
+    for c in conductors.iter().filter(|c| c.id.chars().count() > super::validate::MAX_ID_CHARS) {
+        // The section's own pointer: `/formations/0` or `/overhead_lines/0`.
+        let section: String = c.source.to_string().split('/').take(3).collect::<Vec<_>>().join("/");
+        if seen.insert(section.clone()) {
+            p.0.push(super::Problem {
+                pointer: format!("{section}/id"),
+                detail: format!(
+                    "the {what}'s id is too long for the conductor ids made from it ('{}' has more than {} characters): shorten it",
+                    c.id,
+                    super::validate::MAX_ID_CHARS
+                ),
+            });
+        }
+    }
 }
 
 fn check_formation(

@@ -198,6 +198,17 @@ pub(super) fn expand_lines(
             continue;
         }
         let Some(expanded) = expand(line, &checked, &lp, &mut budget, p) else { continue };
+        if let Some(long) = expanded.conductors.iter().find(|c| c.id.chars().count() > super::validate::MAX_ID_CHARS) {
+            p.push(
+                &lp.key("id"),
+                format!(
+                    "the line's id is too long for the conductor ids made from it ('{}' has more than {} characters): shorten it",
+                    long.id,
+                    super::validate::MAX_ID_CHARS
+                ),
+            );
+            continue;
+        }
         if let Some(clash) = expanded.conductors.iter().find(|c| !taken.insert(c.id.clone())) {
             p.push(
                 &lp.key("id"),

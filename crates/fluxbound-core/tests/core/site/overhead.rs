@@ -450,3 +450,26 @@ fn a_line_that_would_expand_past_a_million_segments_is_refused_at_the_line() {
     });
     assert!(has(&problems_of(&v), "/overhead_lines/0", "more than 1000000 segments"));
 }
+
+#[test]
+fn a_section_id_too_long_for_the_ids_it_generates_is_refused_at_its_id() {
+    // Generated ids appear in every result and keep to the 64-character
+    // limit of any id: a 60-character line id would make
+    // `{line}-p0-s0` longer, and a 62-character formation id `{id}-1-1`.
+    let read = |name: &str| -> serde_json::Value {
+        serde_json::from_str(
+            &std::fs::read_to_string(format!("{}/../../examples/{name}", env!("CARGO_MANIFEST_DIR"))).unwrap(),
+        )
+        .unwrap()
+    };
+    let mut line = read("site-depot-overhead-line.json");
+    line["overhead_lines"][0]["id"] = serde_json::json!("L".repeat(60));
+    let doc: fluxbound_core::site::wire::SiteDoc = serde_json::from_value(line).unwrap();
+    let p = fluxbound_core::site::validate_site(&doc).unwrap_err();
+    assert!(p.iter().any(|q| q.pointer == "/overhead_lines/0/id" && q.detail.contains("too long")), "{p:?}");
+    let mut room = read("site-busbar-room.json");
+    room["formations"][0]["id"] = serde_json::json!("F".repeat(62));
+    let doc: fluxbound_core::site::wire::SiteDoc = serde_json::from_value(room).unwrap();
+    let p = fluxbound_core::site::validate_site(&doc).unwrap_err();
+    assert!(p.iter().any(|q| q.pointer == "/formations/0/id" && q.detail.contains("too long")), "{p:?}");
+}
