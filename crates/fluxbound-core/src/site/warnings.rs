@@ -305,15 +305,18 @@ fn net_current_warning(
 ) -> Warning {
     let percent = 100.0 * share;
     let (pointer, what) = if group == explicit {
-        (first.source.key("current").to_string(), "the conductors with explicit currents".to_string())
+        (first.source.key("current").to_string(), "the currents of the conductors with explicit currents".to_string())
     } else {
-        (Pointer::root().key("circuits").index(group).to_string(), format!("circuit '{}'", circuits[group].id))
+        (
+            Pointer::root().key("circuits").index(group).to_string(),
+            format!("the currents of the conductors of circuit '{}'", circuits[group].id),
+        )
     };
     Warning {
         code: WarningCode::NoReturnPath,
         pointer,
         detail: format!(
-            "the currents of {what}'s conductors add up to {percent:.0} % of the largest of them at {hz} Hz instead of zero: no return path is modelled, so the field is that of a current that does not come back; add the return conductor (a neutral, the other phases, or the return leg), unless the return is far enough away to ignore"
+            "{what} add up to {percent:.0} % of the largest of them at {hz} Hz instead of zero: no return path is modelled, so the field is that of a current that does not come back; add the return conductor (a neutral, the other phases, or the return leg), unless the return is far enough away to ignore"
         ),
     }
 }
