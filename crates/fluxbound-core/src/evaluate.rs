@@ -9,7 +9,7 @@
 
 mod output;
 
-pub use output::{COLUMN_NAMES, Column, Evaluated, Output, parse_columns, write_evaluated};
+pub use output::{COLUMN_NAMES, Column, Evaluated, Output, parse_columns, write_compact, write_evaluated};
 
 use crate::cancel::{Cancel, Cancelled};
 use crate::field::{self, FieldPhasor};

@@ -1,19 +1,19 @@
 //! `POST /v1/evaluate`: the stateless document of `fluxbound evaluate`.
 
-use super::json_response_sized;
+use super::json_text_response;
 use crate::http::AppState;
 use crate::http::extract::{ApiJson, Auth};
 use crate::http::problem::ApiError;
 use axum::extract::State;
 use axum::http::StatusCode;
 use axum::response::Response;
-use fluxbound_core::evaluate::{EvaluateAnswer, EvaluateRequest};
+use fluxbound_core::evaluate::{EvaluateAnswer, EvaluateRequest, write_compact};
 
 /// Field of conductors at points (same JSON as the CLI's `evaluate`).
 ///
 /// One object per point by default; with `output.columns`, one array per
-/// column. The answer is serialised once, straight from the computed
-/// phasors into the response's bytes (no intermediate value per point).
+/// column. The answer is written once, straight from the computed phasors
+/// into the response's bytes (no intermediate value per point).
 #[utoipa::path(post, path = "/v1/evaluate", tag = "evaluate", request_body = EvaluateRequest,
     responses(
         (status = 200, description = "Field at every point, in input order, with the cautions: one object per point (`EvaluateResponse`), or one array per column when `output.columns` is given (`EvaluateColumnsResponse`)", body = EvaluateAnswer),
@@ -36,5 +36,8 @@ pub async fn evaluate(
     };
     let capacity = (16 * 1024 + per_point * req.points.len()).min(8 << 20);
     let out = s.service.evaluate(&caller, req).await?;
-    Ok(json_response_sized(StatusCode::OK, &out, None, None, capacity))
+    let mut body = Vec::with_capacity(capacity);
+    write_compact(&mut body, &out)
+        .map_err(|e| ApiError::from(crate::service::ServiceError::Internal(e.to_string())))?;
+    Ok(json_text_response(StatusCode::OK, body, None, None))
 }

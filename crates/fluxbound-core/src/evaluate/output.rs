@@ -308,13 +308,108 @@ impl Serialize for OneColumn<'_> {
     }
 }
 
+/// The compact JSON text of `value` written to `out`: byte for byte what
+/// `serde_json::to_writer` writes (tested in `tests/core/evaluate/output.rs`),
+/// but the per-point form is written straight from the phasors, with its
+/// fixed keys as literal bytes. The generic serializer escapes every key and
+/// calls the writer for every piece; on the HTTP evaluate path (100 points,
+/// 17 keys each) that was a quarter of the server's time (`perf record`,
+/// 2026-12-03). The column form and the tail (cautions, warnings) go
+/// through serde.
+pub fn write_compact<W: io::Write + ?Sized>(out: &mut W, value: &Evaluated) -> io::Result<()> {
+    if !matches!(value.ev.output, Output::Points) {
+        return Ok(serde_json::to_writer(out, value)?);
+    }
+    out.write_all(b"{\"frequency_hz\":")?;
+    number(out, value.ev.frequency_hz)?;
+    out.write_all(b",\"points\":[")?;
+    for i in 0..value.ev.points.len() {
+        if i > 0 {
+            out.write_all(b",")?;
+        }
+        compact_point(out, value, i)?;
+    }
+    out.write_all(b"],\"segment_point_pairs\":")?;
+    serde_json::to_writer(&mut *out, &value.pair_count())?;
+    out.write_all(b",\"cautions\":")?;
+    serde_json::to_writer(&mut *out, &crate::cautions::CAUTIONS)?;
+    out.write_all(b",\"warnings\":")?;
+    serde_json::to_writer(&mut *out, &value.warnings)?;
+    out.write_all(b"}")?;
+    Ok(())
+}
+
+/// A number as serde_json writes it: the shortest text that reads back to
+/// the same `f64`, `null` if not finite.
+fn number<W: io::Write + ?Sized>(out: &mut W, v: f64) -> io::Result<()> {
+    use serde_json::ser::Formatter;
+    if v.is_finite() { serde_json::ser::CompactFormatter.write_f64(out, v) } else { out.write_all(b"null") }
+}
+
+fn optional_number<W: io::Write + ?Sized>(out: &mut W, v: Option<f64>) -> io::Result<()> {
+    match v {
+        Some(v) => number(out, v),
+        None => out.write_all(b"null"),
+    }
+}
+
+/// One point of the per-point form, in the keys and order of [`OnePoint`].
+fn compact_point<W: io::Write + ?Sized>(out: &mut W, e: &Evaluated, i: usize) -> io::Result<()> {
+    let [x, y, z] = e.at(i);
+    out.write_all(b"{\"at\":[")?;
+    number(out, x)?;
+    out.write_all(b",")?;
+    number(out, y)?;
+    out.write_all(b",")?;
+    number(out, z)?;
+    out.write_all(b"],\"resultant_ut\":")?;
+    optional_number(out, e.resultant_ut(i))?;
+    out.write_all(b",\"maximum_ut\":")?;
+    optional_number(out, e.maximum_ut(i))?;
+    out.write_all(b",\"frequencies\":[")?;
+    for (f, line) in e.line_results(i).enumerate() {
+        if f > 0 {
+            out.write_all(b",")?;
+        }
+        out.write_all(b"{\"order\":")?;
+        serde_json::to_writer(&mut *out, &line.order)?;
+        out.write_all(b",\"frequency_hz\":")?;
+        number(out, line.frequency_hz)?;
+        if let Some(r) = line.resultant_ut {
+            out.write_all(b",\"resultant_ut\":")?;
+            number(out, r)?;
+        }
+        if let Some(m) = line.maximum_ut {
+            out.write_all(b",\"maximum_ut\":")?;
+            number(out, m)?;
+        }
+        let c = &line.components_ut;
+        for (key, v) in [(&b",\"components_ut\":{\"x\":"[..], c.x), (b",\"y\":", c.y), (b",\"z\":", c.z)] {
+            out.write_all(key)?;
+            out.write_all(b"{\"re\":")?;
+            number(out, v.re)?;
+            out.write_all(b",\"im\":")?;
+            number(out, v.im)?;
+            out.write_all(b"}")?;
+        }
+        out.write_all(b"}}")?;
+    }
+    out.write_all(b"],\"inside_conductors\":")?;
+    serde_json::to_writer(&mut *out, &Inside(e, i))?;
+    out.write_all(b"}")?;
+    Ok(())
+}
+
 /// Writes `value` as JSON to `out`: on one line when `compact`, else
 /// indented. The column form keeps each column's array on one line (a
 /// number per line would only lengthen the text); the per-point form is
 /// indented throughout.
 pub fn write_evaluated(out: &mut dyn io::Write, value: &Evaluated, compact: bool) -> io::Result<()> {
     let result = match (compact, &value.ev.output) {
-        (true, _) => serde_json::to_writer(&mut *out, value),
+        (true, _) => {
+            write_compact(&mut *out, value)?;
+            return out.write_all(b"\n");
+        }
         (false, Output::Points) => serde_json::to_writer_pretty(&mut *out, value),
         (false, Output::Columns(_)) => {
             let mut ser = serde_json::Serializer::with_formatter(&mut *out, InlineArrays::default());

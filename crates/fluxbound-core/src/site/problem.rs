@@ -57,18 +57,52 @@ impl Pointer {
         Pointer(String::new())
     }
     /// Appends an object key, escaping `~` as `~0` and `/` as `~1`.
+    ///
+    /// One allocation of the exact size: validation builds a pointer for
+    /// every conductor it walks, so this is on the path of every request.
     pub fn key(&self, key: &str) -> Self {
-        let escaped = key.replace('~', "~0").replace('/', "~1");
-        Pointer(format!("{}/{}", self.0, escaped))
+        let extra = key.bytes().filter(|b| matches!(b, b'~' | b'/')).count();
+        let mut out = String::with_capacity(self.0.len() + 1 + key.len() + extra);
+        out.push_str(&self.0);
+        out.push('/');
+        if extra == 0 {
+            out.push_str(key);
+        } else {
+            for c in key.chars() {
+                match c {
+                    '~' => out.push_str("~0"),
+                    '/' => out.push_str("~1"),
+                    c => out.push(c),
+                }
+            }
+        }
+        Pointer(out)
     }
     /// The pointer to a sibling key: `/a/b` → `/a/key`.
     pub fn parent_key(self, key: &str) -> Self {
         let cut = self.0.rfind('/').unwrap_or(0);
         Pointer(self.0[..cut].to_string()).key(key)
     }
-    /// Appends an array index.
+    /// Appends an array index (one allocation of the exact size).
     pub fn index(&self, i: usize) -> Self {
-        Pointer(format!("{}/{}", self.0, i))
+        let mut digits = [0u8; 20];
+        let mut n = digits.len();
+        let mut v = i;
+        loop {
+            n -= 1;
+            digits[n] = b'0' + (v % 10) as u8;
+            v /= 10;
+            if v == 0 {
+                break;
+            }
+        }
+        let mut out = String::with_capacity(self.0.len() + 1 + digits.len() - n);
+        out.push_str(&self.0);
+        out.push('/');
+        for &d in &digits[n..] {
+            out.push(char::from(d));
+        }
+        Pointer(out)
     }
 }
 

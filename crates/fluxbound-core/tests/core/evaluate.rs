@@ -54,6 +54,28 @@ fn the_streamed_per_point_form_is_the_in_memory_answer_bit_for_bit() {
 }
 
 #[test]
+fn the_hand_written_compact_text_is_serde_json_s_byte_for_byte() {
+    // The HTTP answer is written by `write_compact`, with literal keys; it
+    // must be the text serde_json writes for the typed answer, to the byte
+    // (numbers in their shortest round-trip form, nulls inside a conductor,
+    // the per-frequency summaries only with harmonics).
+    let columns = {
+        let mut d = single_line();
+        d["output"] = json!({"columns": ["resultant_ut", "inside_conductors"]});
+        d
+    };
+    for (doc, per_point) in [(single_line(), true), (with_harmonic(single_line()), true), (columns, false)] {
+        let e = computed(&doc);
+        let mut ours = Vec::new();
+        evaluate::write_compact(&mut ours, &e).unwrap();
+        assert_eq!(String::from_utf8(ours.clone()).unwrap(), serde_json::to_string(&e).unwrap());
+        if per_point {
+            assert_eq!(String::from_utf8(ours).unwrap(), serde_json::to_string(&e.to_response()).unwrap());
+        }
+    }
+}
+
+#[test]
 fn a_single_line_document_does_not_repeat_the_resultant_and_maximum_per_frequency() {
     let v = streamed(&computed(&single_line()), true);
     let p = &v["points"][0];
