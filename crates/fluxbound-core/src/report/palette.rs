@@ -4,6 +4,29 @@
 //! lightness keeps it readable in grey print and for the common forms of
 //! colour-vision deficiency.
 
+/// Number of fixed colour bands of a map.
+pub const BANDS: usize = 6;
+
+/// sRGB colour of band `k` (0 = lowest, lightest), our own: in CIE LCh(ab)
+/// at t = k / (BANDS − 1), lightness 96 − 78·t (15.6 between neighbours),
+/// chroma 40 + 30·sin(πt), hue 110° − 90·t (pale lemon through ochre and
+/// orange to a dark red-brown). Chosen by a search over such ramps for the
+/// largest lightness step that survives simulated protan, deutan and tritan
+/// vision (at least 13 L* units between neighbours; the test in
+/// `tests/core/report/mod.rs` checks 12.5) while keeping colour.
+pub fn band_colour(k: usize) -> [u8; 3] {
+    let t = k.min(BANDS - 1) as f64 / (BANDS - 1) as f64;
+    let c = 40.0 + 30.0 * (std::f64::consts::PI * t).sin();
+    let h = (110.0 - 90.0 * t).to_radians();
+    lab_to_srgb(96.0 - 78.0 * t, c * h.cos(), c * h.sin())
+}
+
+/// Hex string `#rrggbb` of [`band_colour`].
+pub fn band_hex(k: usize) -> String {
+    let [r, g, b] = band_colour(k);
+    format!("#{r:02x}{g:02x}{b:02x}")
+}
+
 /// sRGB colour of position `t` in [0, 1] (0 = low field, light).
 pub fn colour(t: f64) -> [u8; 3] {
     let t = if t.is_finite() { t.clamp(0.0, 1.0) } else { 0.0 };

@@ -1,5 +1,6 @@
-//! SVG field map of one area: cells coloured by the resultant on a log
-//! scale, contour lines at each table's level and review fraction,
+//! SVG field map of one area: cells coloured in fixed bands (of the
+//! exposure ratio to the map's first table, or of B in decades of µT
+//! without one), the same colour for the same band on every map; contour lines at each table's level and review fraction,
 //! conductors, positions with verdicts, legend, scale bar, north arrow,
 //! title block and the cautions. Line styles (solid / dashed) and labels,
 //! not colour, tell the contours apart, so a grey printout still reads.
@@ -21,34 +22,54 @@ fn esc(s: &str) -> String {
     s.replace('&', "&amp;").replace('<', "&lt;").replace('>', "&gt;").replace('"', "&quot;")
 }
 
-/// Log-scale range of the colour bar: from the lowest to the highest
-/// in-area value, at least a factor 10 wide.
-pub fn colour_range(map: &AreaMap) -> (f64, f64) {
-    let vals = map
-        .b_ut
-        .iter()
-        .zip(&map.in_area)
-        .zip(&map.inside_conductor)
-        .filter(|((_, a), c)| **a && !**c)
-        .map(|((b, _), _)| *b);
-    let (mut lo, mut hi) = (f64::INFINITY, 0.0f64);
-    for v in vals.filter(|v| *v > 0.0) {
-        lo = lo.min(v);
-        hi = hi.max(v);
-    }
-    if !lo.is_finite() || hi <= 0.0 {
-        return (0.1, 1.0);
-    }
-    let lo = lo.max(hi * 1e-4);
-    if hi / lo < 10.0 { (hi / 10.0, hi) } else { (lo, hi) }
+/// Upper edges of the ratio bands: < 0.1, 0.1–0.25, 0.25–0.5, 0.5–1, 1–2,
+/// ≥ 2. Fixed, so a colour means the same ratio on every map; the top two
+/// are over the level. (Band edges: our choice, common practice, no source.)
+pub const RATIO_BAND_EDGES: [f64; palette::BANDS - 1] = [0.1, 0.25, 0.5, 1.0, 2.0];
+/// Upper edges of the µT bands used when no table covers the map: decades
+/// from 0.1 µT to 1 mT.
+pub const UT_BAND_EDGES: [f64; palette::BANDS - 1] = [0.1, 1.0, 10.0, 100.0, 1000.0];
+
+/// How a map's cells are coloured: by the exposure ratio to one table (the
+/// first of the map's tables that covers every frequency at every node),
+/// or by the resultant B when none does.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Banding {
+    /// Index of the table in `map.tables`, or `None` for µT decades.
+    pub table: Option<usize>,
+    pub edges: [f64; palette::BANDS - 1],
 }
 
-/// Position on the colour scale (0–1) of `b_ut` in `range` (log).
-pub fn scale_position(b_ut: f64, (lo, hi): (f64, f64)) -> f64 {
-    if b_ut <= 0.0 {
-        return 0.0;
+/// The banding of `map` (see [`Banding`]).
+pub fn banding(map: &AreaMap) -> Banding {
+    match map.tables.iter().position(|t| t.ratio.iter().all(Option::is_some)) {
+        Some(t) => Banding { table: Some(t), edges: RATIO_BAND_EDGES },
+        None => Banding { table: None, edges: UT_BAND_EDGES },
     }
-    ((b_ut.ln() - lo.ln()) / (hi.ln() - lo.ln())).clamp(0.0, 1.0)
+}
+
+impl Banding {
+    /// Band of a value, 0 the lowest. A value on an edge belongs to the band
+    /// above it, and a value that is not a number to the top band: where in
+    /// doubt, the higher band (the optimistic error is the dangerous one).
+    pub fn band(&self, v: f64) -> usize {
+        if v.is_nan() {
+            return palette::BANDS - 1;
+        }
+        self.edges.iter().take_while(|e| v >= **e).count()
+    }
+
+    /// Band of node `k` of `map`; `None` inside a conductor (hatched).
+    pub fn band_of_node(&self, map: &AreaMap, k: usize) -> Option<usize> {
+        if map.inside_conductor[k] {
+            return None;
+        }
+        let v = match self.table {
+            Some(t) => map.tables[t].ratio[k].unwrap_or(f64::NAN),
+            None => map.b_ut[k],
+        };
+        Some(self.band(v))
+    }
 }
 
 /// Plan frame drawn: the area's grid with a margin, so nearby conductors and
@@ -104,17 +125,17 @@ pub fn area_map_svg(site: &Site, a: &Assessment, map: &AreaMap) -> String {
     // The page grows with a tall map; the space below holds the scale bar,
     // north arrow and cautions.
     let bottom = (MAP_Y + v.h_px).max(560.0);
-    let range = colour_range(map);
+    let banding = banding(map);
     let footer = provenance_lines(a);
     open_document(&mut s, map, &v, bottom + FOOTER_TOP + FOOTER_LINE * footer.len() as f64 + 10.0);
     provenance_metadata(&mut s, a);
     title_block(&mut s, a, map);
-    cells(&mut s, map, &v, range);
+    cells(&mut s, map, &v, &banding);
     area_outline(&mut s, map, &v);
     contours(&mut s, a, map, &v);
     conductors(&mut s, site, &v);
     positions(&mut s, site, a, &v);
-    legend(&mut s, a, map, range);
+    legend(&mut s, a, map, &banding);
     scale_bar_and_north(&mut s, site, &v, bottom);
     cautions(&mut s, bottom);
     provenance_footer(&mut s, &footer, bottom);
@@ -176,18 +197,11 @@ fn title_block(s: &mut String, a: &Assessment, map: &AreaMap) {
     );
 }
 
-/// Colour steps of the cell fill (and of the legend's bar).
-const COLOUR_STEPS: f64 = 64.0;
-
-/// Cells, run-length encoded by colour step along each row (fewer
-/// elements), clipped to the area.
-fn cells(s: &mut String, map: &AreaMap, v: &View, range: (f64, f64)) {
+/// Cells, run-length encoded by band along each row (fewer elements),
+/// clipped to the area.
+fn cells(s: &mut String, map: &AreaMap, v: &View, banding: &Banding) {
     let g = &map.grid;
-    let steps = COLOUR_STEPS;
-    // Colour step of cell k; −1 marks a cell inside a conductor (hatched).
-    let key = |k: usize| {
-        if map.inside_conductor[k] { -1 } else { (scale_position(map.b_ut[k], range) * (steps - 1.0)).round() as i64 }
-    };
+    let key = |k: usize| banding.band_of_node(map, k);
     let _ = writeln!(s, r#"<g clip-path="url(#area)" shape-rendering="crispEdges">"#);
     for j in 0..g.ny {
         let mut i = 0;
@@ -200,7 +214,7 @@ fn cells(s: &mut String, map: &AreaMap, v: &View, range: (f64, f64)) {
             }
             let (x, y) = (g.x0_m + i as f64 * g.spacing_m, g.y0_m + (j + 1) as f64 * g.spacing_m);
             let (px, py) = v.px(x, y);
-            let fill = if c < 0 { "url(#inside)".to_string() } else { palette::hex(c as f64 / (steps - 1.0)) };
+            let fill = c.map_or_else(|| "url(#inside)".to_string(), palette::band_hex);
             // 0.3 px overlap hides hairline seams between runs in viewers.
             let _ = writeln!(
                 s,
@@ -344,77 +358,84 @@ fn positions(s: &mut String, site: &Site, a: &Assessment, v: &View) {
     }
 }
 
-/// Legend position: left edge and top of the colour bar, and its height, px.
+/// Legend position: left edge and top of the band swatches, and the
+/// height of one swatch, px.
 const LEGEND_X: f64 = MAP_X + MAP_W + 60.0;
 const LEGEND_Y: f64 = MAP_Y + 20.0;
-const LEGEND_H: f64 = 300.0;
+const SWATCH_H: f64 = 30.0;
 
-/// The colour bar (log scale) with 1-2-5 ticks, the highest value in the
+/// The bands, highest on top, each with its range (in ratio and in µT at
+/// the fundamental when coloured by a table), the highest value in the
 /// area, and each table's level.
-fn legend(s: &mut String, a: &Assessment, map: &AreaMap, range: (f64, f64)) {
-    let (lx, ly, lh) = (LEGEND_X, LEGEND_Y, LEGEND_H);
-    let _ = writeln!(
-        s,
-        r#"<text x="{lx}" y="{:.1}" font-size="12" font-weight="bold">Resultant flux density</text>"#,
-        ly - 22.0
-    );
-    let _ = writeln!(s, r#"<text x="{lx}" y="{:.1}" font-size="11">µT RMS, log scale</text>"#, ly - 8.0);
-    for k in 0..64 {
-        let t = k as f64 / 63.0;
-        let y = ly + lh * (1.0 - t) - lh / 64.0;
+fn legend(s: &mut String, a: &Assessment, map: &AreaMap, banding: &Banding) {
+    let (lx, ly) = (LEGEND_X, LEGEND_Y);
+    let table = banding.table.map(|t| (t, &map.tables[t]));
+    let (title, subtitle) = match table {
+        Some((t, _)) => (format!("Exposure ratio to T{}", t + 1), format!("fixed bands; µT at {} Hz", a.frequency_hz)),
+        None => ("Resultant flux density".to_string(), "µT RMS, fixed decades".to_string()),
+    };
+    let _ =
+        writeln!(s, r#"<text x="{lx}" y="{:.1}" font-size="12" font-weight="bold">{}</text>"#, ly - 22.0, esc(&title));
+    let _ = writeln!(s, r#"<text x="{lx}" y="{:.1}" font-size="11">{}</text>"#, ly - 8.0, esc(&subtitle));
+    let edges = banding.edges;
+    // Edges print as written (0.1, 0.25, 1000): they are round by choice.
+    let num = |v: f64| format!("{v}");
+    for band in 0..palette::BANDS {
+        let y = ly + SWATCH_H * (palette::BANDS - 1 - band) as f64;
         let _ = writeln!(
             s,
-            r#"<rect x="{lx}" y="{y:.2}" width="24" height="{:.2}" fill="{}"/>"#,
-            lh / 64.0 + 0.4,
-            palette::hex(t)
+            r##"<rect x="{lx}" y="{y:.1}" width="24" height="{SWATCH_H}" fill="{}" stroke="#000000" stroke-width="0.6"/>"##,
+            palette::band_hex(band)
         );
-    }
-    let _ = writeln!(s, r##"<rect x="{lx}" y="{ly}" width="24" height="{lh}" fill="none" stroke="#000000"/>"##);
-    for t in legend_ticks(range) {
-        let y = ly + lh * (1.0 - scale_position(t, range));
+        let range = match band {
+            0 => format!("< {}", num(edges[0])),
+            b if b == palette::BANDS - 1 => format!("≥ {}", num(edges[b - 1])),
+            b => format!("{} – {}", num(edges[b - 1]), num(edges[b])),
+        };
+        let in_ut = match table.and_then(|(_, t)| t.level_ut) {
+            Some(level) => match band {
+                0 => format!("  (< {} µT)", fmt_ut(edges[0] * level)),
+                b if b == palette::BANDS - 1 => format!("  (≥ {} µT)", fmt_ut(edges[b - 1] * level)),
+                b => format!("  ({} – {} µT)", fmt_ut(edges[b - 1] * level), fmt_ut(edges[b] * level)),
+            },
+            None if table.is_none() => " µT".to_string(),
+            None => String::new(),
+        };
         let _ = writeln!(
             s,
-            r##"<line x1="{:.1}" y1="{y:.1}" x2="{:.1}" y2="{y:.1}" stroke="#000000"/>"##,
-            lx + 24.0,
-            lx + 30.0
+            r#"<text x="{:.1}" y="{:.1}" font-size="11">{}</text>"#,
+            lx + 32.0,
+            y + SWATCH_H / 2.0 + 4.0,
+            esc(&format!("{range}{in_ut}"))
         );
-        let _ = writeln!(s, r#"<text x="{:.1}" y="{:.1}" font-size="11">{}</text>"#, lx + 34.0, y + 4.0, fmt_ut(t));
     }
+    let below = ly + SWATCH_H * palette::BANDS as f64;
+    let highest = map
+        .b_ut
+        .iter()
+        .zip(&map.in_area)
+        .zip(&map.inside_conductor)
+        .filter(|((_, a), c)| **a && !**c)
+        .map(|((b, _), _)| *b)
+        .fold(0.0f64, f64::max);
     let _ = writeln!(
         s,
         r#"<text x="{lx}" y="{:.1}" font-size="11">highest in area: {} µT</text>"#,
-        ly + lh + 22.0,
-        fmt_ut(range.1)
+        below + 22.0,
+        fmt_ut(highest)
     );
     for (i, t) in map.tables.iter().enumerate() {
         if let Some(l) = t.level_ut {
             let _ = writeln!(
                 s,
                 r#"<text x="{lx}" y="{:.1}" font-size="11">T{}: level {} µT at {} Hz</text>"#,
-                ly + lh + 42.0 + 16.0 * i as f64,
+                below + 42.0 + 16.0 * i as f64,
                 i + 1,
                 fmt_ut(l),
                 a.frequency_hz
             );
         }
     }
-}
-
-/// Tick values 1, 2 and 5 × 10ⁿ µT within `range` (with a 1e-4 relative
-/// allowance so an end that is itself a tick value is kept).
-fn legend_ticks((lo, hi): (f64, f64)) -> Vec<f64> {
-    let mut ticks = Vec::new();
-    let mut d = 10f64.powf(lo.log10().floor());
-    while d <= hi * 1.0001 {
-        for m in [1.0, 2.0, 5.0] {
-            let t = d * m;
-            if t >= lo * 0.9999 && t <= hi * 1.0001 {
-                ticks.push(t);
-            }
-        }
-        d *= 10.0;
-    }
-    ticks
 }
 
 /// A scale bar of a round length about a quarter of the map's width, and a

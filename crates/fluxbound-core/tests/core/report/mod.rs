@@ -171,48 +171,145 @@ fn the_distance_to_a_level_from_a_go_and_return_pair_follows_the_exact_two_wire_
     assert!((r.distance_m.unwrap() - expected).abs() < 2e-4, "{} vs {expected}", r.distance_m.unwrap());
 }
 
-#[test]
-fn the_svg_map_renders_with_the_high_colour_near_the_wire_and_the_low_colour_far_away() {
-    let site = vertical_wire_site(5000.0, 2.0, 0.05);
-    let (map, result) = map_and_result(&site, &["icnirp-2010-occupational"]);
-    let text = svg::area_map_svg(&site, &result, &map);
-    assert!(text.contains("Resultant flux density") && text.contains("µT RMS, log scale"), "legend");
-    assert!(text.contains("licensed or otherwise qualified assessors"), "cautions");
-    assert!(text.contains("near: exceeds"), "position verdicts");
-    let tree = resvg::usvg::Tree::from_str(&text, &resvg::usvg::Options::default()).expect("the SVG parses");
+/// The map rendered by resvg, and a reader of the pixel at a plan point.
+fn rendered(text: &str) -> resvg::tiny_skia::Pixmap {
+    let tree = resvg::usvg::Tree::from_str(text, &resvg::usvg::Options::default()).expect("the SVG parses");
     let size = tree.size().to_int_size();
     let mut pixmap = resvg::tiny_skia::Pixmap::new(size.width(), size.height()).unwrap();
     resvg::render(&tree, resvg::tiny_skia::Transform::default(), &mut pixmap.as_mut());
-    let range = svg::colour_range(&map);
-    let pixel = |x: f64, y: f64| {
-        let (px, py) = svg::plan_to_px(&map, x, y);
-        let c = pixmap.pixel(px.round() as u32, py.round() as u32).unwrap();
-        [c.red(), c.green(), c.blue()]
-    };
-    let close = |a: [u8; 3], b: [u8; 3]| a.iter().zip(b).all(|(x, y)| (i16::from(*x) - i16::from(y)).abs() <= 12);
-    // Far corner: the lowest field of the area, the scale's low end.
-    let low = pixel(1.95, 1.95 - 0.5);
-    let b_low = 1000.0 / 1.95f64.hypot(1.45);
-    assert!(close(low, palette::colour(svg::scale_position(b_low, range))), "{low:?}");
-    assert!(svg::scale_position(b_low, range) < 0.1);
-    // Next to the wire (0.1 m off the axis, outside its 0.02 m radius): the high end.
-    let high = pixel(0.1, 0.12);
-    let b_high = 1000.0 / 0.1f64.hypot(0.12);
-    assert!(close(high, palette::colour(svg::scale_position(b_high, range))), "{high:?}");
-    assert!(svg::scale_position(b_high, range) > 0.5);
-    assert!(palette::luminance(high) < 0.5 * palette::luminance(low), "high field is drawn darker");
-    // Independently of the scale's own functions: the far corner renders
-    // light and the cell next to the wire dark (relative luminance, IEC
-    // 61966-2-1 weights).
-    assert!(palette::luminance(low) > 0.6, "{low:?}");
-    assert!(palette::luminance(high) < 0.3, "{high:?}");
+    pixmap
+}
+
+fn pixel_at(pixmap: &resvg::tiny_skia::Pixmap, map: &AreaMap, x: f64, y: f64) -> [u8; 3] {
+    let (px, py) = svg::plan_to_px(map, x, y);
+    let c = pixmap.pixel(px.round() as u32, py.round() as u32).unwrap();
+    [c.red(), c.green(), c.blue()]
+}
+
+fn close(a: [u8; 3], b: [u8; 3]) -> bool {
+    a.iter().zip(b).all(|(x, y)| (i16::from(*x) - i16::from(y)).abs() <= 3)
 }
 
 #[test]
-fn the_colour_scale_gets_darker_steadily_so_it_reads_in_grey() {
-    let lum: Vec<f64> = (0..=100).map(|k| palette::luminance(palette::colour(k as f64 / 100.0))).collect();
-    assert!(lum.windows(2).all(|w| w[1] < w[0]), "luminance falls monotonically");
-    assert!(lum[0] > 0.8 && lum[100] < 0.05);
+fn the_svg_map_renders_the_band_of_each_cell_dark_near_the_wire_and_light_far_away() {
+    // 5000 A: B = 0.2 · 5000 / r = 1000 / r µT (long straight wire,
+    // OpenStax University Physics II §12.2); ICNIRP 2010 occupational
+    // level 1000 µT at 50 Hz, so the ratio is 1 / r.
+    let site = vertical_wire_site(5000.0, 2.0, 0.05);
+    let (map, result) = map_and_result(&site, &["icnirp-2010-occupational"]);
+    let text = svg::area_map_svg(&site, &result, &map);
+    assert!(text.contains("Exposure ratio to T1") && text.contains("fixed bands"), "legend title");
+    assert!(text.contains("licensed or otherwise qualified assessors"), "cautions");
+    assert!(text.contains("near: exceeds"), "position verdicts");
+    // Each band's range in ratio and in µT at 50 Hz (edges × 1000 µT).
+    for label in ["&lt; 0.1  (&lt; 100 µT)", "0.5 – 1  (500 – 1000 µT)", "≥ 2  (≥ 2000 µT)"] {
+        assert!(text.contains(label), "legend label {label}");
+    }
+    let pixmap = rendered(&text);
+    // Far corner: r = 2.69 m, ratio 0.37 → band 0.25–0.5 (the third).
+    assert!(close(pixel_at(&pixmap, &map, 1.95, -1.95), palette::band_colour(2)));
+    // 0.39 m off the axis: ratio 2.6 → the top band (≥ 2).
+    assert!(close(pixel_at(&pixmap, &map, 0.25, -0.3), palette::band_colour(5)));
+    // 0.71 m: ratio 1.41 → 1–2.
+    assert!(close(pixel_at(&pixmap, &map, -0.5, -0.5), palette::band_colour(4)));
+    // Independently of the palette's own functions: the far corner renders
+    // light and the top band dark (relative luminance, IEC 61966-2-1).
+    assert!(palette::luminance(pixel_at(&pixmap, &map, 1.95, -1.95)) > 0.3);
+    assert!(palette::luminance(pixel_at(&pixmap, &map, 0.25, -0.3)) < 0.06);
+}
+
+#[test]
+fn a_cell_at_ratio_0_6_has_the_same_colour_on_maps_of_very_different_currents() {
+    // Two invented sites, 5000 A and 500 A on the same wire: at r = 0.2·I /
+    // (0.6 · 1000 µT) the ratio is 0.6 (long-wire law, OpenStax §12.2), at
+    // 1.667 m and 0.167 m. Before fixed bands each map rescaled its own
+    // colours, so the two cells differed.
+    let mut seen = Vec::new();
+    for (current, half) in [(5000.0, 2.0), (500.0, 0.4)] {
+        let site = vertical_wire_site(current, half, half / 40.0);
+        let (map, result) = map_and_result(&site, &["icnirp-2010-occupational"]);
+        let r = 0.2 * current / 600.0;
+        let (x, y) = (r * 0.6, r * 0.8);
+        let pixmap = rendered(&svg::area_map_svg(&site, &result, &map));
+        seen.push(pixel_at(&pixmap, &map, x, y));
+    }
+    assert!(close(seen[0], seen[1]), "{seen:?}");
+    assert!(close(seen[0], palette::band_colour(3)), "band 0.5–1: {seen:?}");
+}
+
+#[test]
+fn without_a_table_the_map_is_banded_in_decades_of_micro_tesla() {
+    let site = vertical_wire_site(5000.0, 2.0, 0.05);
+    let (mut map, result) = map_and_result(&site, &["icnirp-2010-occupational"]);
+    map.tables.clear();
+    let banding = svg::banding(&map);
+    assert_eq!(banding.table, None);
+    let text = svg::area_map_svg(&site, &result, &map);
+    assert!(text.contains("µT RMS, fixed decades"));
+    assert!(text.contains("100 – 1000 µT") && text.contains("≥ 1000 µT"), "decade labels");
+    // 1000 / 2.69 = 372 µT in the far corner: the 100–1000 µT decade.
+    assert!(close(pixel_at(&rendered(&text), &map, 1.95, -1.95), palette::band_colour(4)));
+}
+
+#[test]
+fn a_value_on_a_band_edge_or_not_a_number_goes_to_the_higher_band() {
+    let site = vertical_wire_site(5000.0, 2.0, 0.25);
+    let (map, _) = map_and_result(&site, &["icnirp-2010-occupational"]);
+    let b = svg::banding(&map);
+    assert_eq!(b.band(0.099), 0);
+    assert_eq!(b.band(0.1), 1);
+    assert_eq!(b.band(0.999), 3);
+    assert_eq!(b.band(1.0), 4);
+    assert_eq!(b.band(2.0), 5);
+    assert_eq!(b.band(1e9), 5);
+    assert_eq!(b.band(f64::NAN), 5);
+}
+
+/// Simulated colour-vision deficiencies: the matrices of Machado, Oliveira
+/// & Fernandes, "A physiologically-based model for simulation of color
+/// vision deficiency", IEEE TVCG 15(6), 2009, severity 1.0, applied to
+/// linear sRGB (values from memory).
+const PROTAN: [[f64; 3]; 3] =
+    [[0.152286, 1.052583, -0.204868], [0.114503, 0.786281, 0.099216], [-0.003882, -0.048116, 1.051998]];
+const DEUTAN: [[f64; 3]; 3] =
+    [[0.367322, 0.860646, -0.227968], [0.280085, 0.672501, 0.047413], [-0.011820, 0.042940, 0.968881]];
+const TRITAN: [[f64; 3]; 3] =
+    [[1.255528, -0.076749, -0.178779], [-0.078411, 0.930809, 0.147602], [0.004733, 0.691367, 0.303900]];
+
+/// CIE L*a*b* (D65) of linear sRGB (IEC 61966-2-1 matrix, CIE 15 formulas).
+fn lab(lin: [f64; 3]) -> [f64; 3] {
+    let [r, g, b] = lin.map(|v| v.clamp(0.0, 1.0));
+    let x = (0.4124 * r + 0.3576 * g + 0.1805 * b) / 0.95047;
+    let y = 0.2126 * r + 0.7152 * g + 0.0722 * b;
+    let z = (0.0193 * r + 0.1192 * g + 0.9505 * b) / 1.08883;
+    let f = |t: f64| if t > 216.0 / 24389.0 { t.cbrt() } else { (24389.0 / 27.0 * t + 16.0) / 116.0 };
+    [116.0 * f(y) - 16.0, 500.0 * (f(x) - f(y)), 200.0 * (f(y) - f(z))]
+}
+
+fn linear([r, g, b]: [u8; 3]) -> [f64; 3] {
+    [r, g, b].map(|v| {
+        let c = f64::from(v) / 255.0;
+        if c <= 0.04045 { c / 12.92 } else { ((c + 0.055) / 1.055).powf(2.4) }
+    })
+}
+
+#[test]
+fn the_bands_stay_apart_in_grey_and_under_simulated_colour_vision_deficiencies() {
+    let identity = [[1.0, 0.0, 0.0], [0.0, 1.0, 0.0], [0.0, 0.0, 1.0]];
+    for (name, m) in [("normal", identity), ("protan", PROTAN), ("deutan", DEUTAN), ("tritan", TRITAN)] {
+        let labs: Vec<[f64; 3]> = (0..palette::BANDS)
+            .map(|k| {
+                let c = linear(palette::band_colour(k));
+                lab(m.map(|row| row[0] * c[0] + row[1] * c[1] + row[2] * c[2]))
+            })
+            .collect();
+        for w in labs.windows(2) {
+            // Lightness alone orders the bands (so a grey print reads), by
+            // at least 12.5 L* units between neighbours (a step anyone sees;
+            // threshold our choice, common practice, no source).
+            assert!(w[0][0] - w[1][0] >= 12.5, "{name}: L* {:.1} then {:.1}", w[0][0], w[1][0]);
+        }
+    }
 }
 
 #[test]
