@@ -16,8 +16,9 @@ fn typed(body: String, content_type: &'static str) -> Response {
     res
 }
 
-/// Field map of one area as SVG (log colour scale, contours at each table's
-/// level and review fraction, conductors, positions, cautions).
+/// Field map of one area as SVG (cells in fixed bands of the exposure
+/// ratio to the first table, or decades of µT without one; contours at each
+/// table's level and review fraction, conductors, positions, cautions).
 #[utoipa::path(get, path = "/v1/assessments/{assessment_id}/areas/{area_id}/map.svg", tag = "reports",
     params(("assessment_id" = String, Path, description = "Assessment id"), ("area_id" = String, Path, description = "Area id in the site")),
     responses(
