@@ -181,6 +181,11 @@ pub struct AssessArgs {
     /// Where to write the map (SVG).
     #[arg(long, value_name = "FILE", requires = "map")]
     pub out: Option<PathBuf>,
+    /// Band the map by the exposure ratio to this table (one of the
+    /// assessment's whole-body tables; default: the first that covers the
+    /// map, else decades of µT).
+    #[arg(long, value_name = "TABLE_ID", requires = "map")]
+    pub map_table: Option<String>,
     /// Also write the position results as CSV to this file.
     #[arg(long, value_name = "FILE")]
     pub csv: Option<PathBuf>,
@@ -703,6 +708,7 @@ fn problem_lines(e: UseCaseError) -> Vec<String> {
         UseCaseError::Survey(p) | UseCaseError::Evaluate(p) | UseCaseError::OverBudget(p) => in_file(p),
         UseCaseError::WhatIf(p) => p.iter().map(whatif_line).collect(),
         UseCaseError::UnknownArea(id) => vec![format!("--map: the site has no area '{id}'")],
+        UseCaseError::MapTable(detail) => vec![format!("--map-table: {detail}")],
         UseCaseError::Distance { arg, detail } | UseCaseError::DistanceOverBudget { arg, detail } => {
             vec![format!("--{}: {detail}", arg.name().replace('_', "-"))]
         }
@@ -1023,7 +1029,8 @@ fn assess_command(args: &AssessArgs, out: &mut dyn Write) -> Result<ExitCode, Cl
         .with_provenance(crate::service::provenance_now(&doc, None, Some(file_label(&args.site))));
     let result = if regimes.is_empty() { result } else { result.with_regimes(&regimes) };
     if let (Some(area_id), Some(path)) = (&args.map, &args.out) {
-        write_file(path, &usecase::area_map_svg(&site, &result, &load, &tables, area_id, &budget)?)?;
+        let band = args.map_table.as_deref();
+        write_file(path, &usecase::area_map_svg(&site, &result, &load, &tables, area_id, band, &budget)?)?;
     }
     if let Some(path) = &args.csv {
         write_file(path, &usecase::export_csv(&result))?;

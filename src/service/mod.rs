@@ -152,6 +152,7 @@ impl From<UseCaseError> for ServiceError {
             U::Load(l) => ServiceError::Validation(l.into_problems("/load")),
             U::Survey(p) | U::Evaluate(p) | U::WhatIf(p) => ServiceError::Validation(p),
             U::UnknownArea(_) => ServiceError::NotFound("area"),
+            U::MapTable(detail) => ServiceError::Validation(one_problem("/table".to_string(), detail)),
             U::Distance { arg, detail } => ServiceError::Validation(one_problem(format!("/{}", arg.name()), detail)),
             U::OverBudget(p) => ServiceError::TooBig(p),
             U::DistanceOverBudget { arg, detail } => {

@@ -48,7 +48,13 @@ impl Service {
     }
 
     #[tracing::instrument(name = "reports_map", skip_all, fields(org = %caller.org_id, assessment = %id, area = %area_id))]
-    pub async fn reports_map_svg(&self, caller: &Caller, id: &AssessmentId, area_id: &str) -> Result<String> {
+    pub async fn reports_map_svg(
+        &self,
+        caller: &Caller,
+        id: &AssessmentId,
+        area_id: &str,
+        band_table: Option<String>,
+    ) -> Result<String> {
         let ctx = self.report_context(caller, id).await?;
         if !ctx.site.areas().iter().any(|a| a.id == area_id) {
             return Err(ServiceError::NotFound("area"));
@@ -56,7 +62,8 @@ impl Service {
         let area_id = area_id.to_string();
         let svg = self
             .compute(move |budget| {
-                usecase::area_map_svg(&ctx.site, &ctx.result, &ctx.request.load, &ctx.tables, &area_id, budget)
+                let band = band_table.as_deref();
+                usecase::area_map_svg(&ctx.site, &ctx.result, &ctx.request.load, &ctx.tables, &area_id, band, budget)
             })
             .await??;
         Ok(svg)

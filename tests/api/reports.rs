@@ -27,6 +27,19 @@ async fn an_assessment_serves_its_area_map_csv_and_geojson_with_their_media_type
     );
     assert_problem(app.get(&format!("/v1/assessments/{id}/areas/nope/map.svg"), &key).await, 404, "not-found", None)
         .await;
+    // Banded by the first table unless another of the assessment's is asked for.
+    assert!(svg.contains("Exposure ratio to T1"));
+    let by_high =
+        app.get(&format!("/v1/assessments/{id}/areas/maintenance-walkway/map.svg?table=eu-2013-35-high"), &key).await;
+    assert_eq!(by_high.status(), 200);
+    assert!(by_high.text().await.unwrap().contains("Exposure ratio to T3"));
+    assert_problem(
+        app.get(&format!("/v1/assessments/{id}/areas/maintenance-walkway/map.svg?table=nope"), &key).await,
+        422,
+        "validation",
+        Some("/table"),
+    )
+    .await;
 
     let csv = app.get(&format!("/v1/assessments/{id}/positions.csv"), &key).await;
     assert_eq!(csv.headers()["content-type"], "text/csv; charset=utf-8");

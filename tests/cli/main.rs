@@ -902,6 +902,14 @@ fn assess_writes_the_area_map_csv_and_geojson_files_it_is_asked_for() {
     assert_eq!(out.status.code(), Some(1));
     assert!(String::from_utf8_lossy(&out.stderr).contains("--map: the site has no area 'nope'"));
     assert!(!missing.exists());
+    // The banding table is one of the assessment's whole-body tables.
+    let out = fluxbound(
+        &["assess", FURNACE, "--map", "maintenance-walkway", "--out", missing.to_str().unwrap(), "--map-table", "nope"],
+        None,
+    );
+    assert_eq!(out.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("--map-table: the map can be banded by a whole-body table"));
+    assert!(!missing.exists());
 }
 
 #[test]

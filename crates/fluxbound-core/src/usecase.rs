@@ -127,6 +127,9 @@ pub enum UseCaseError {
     /// The site has no area of that id.
     #[error("the site has no area '{0}'")]
     UnknownArea(String),
+    /// The table asked to band a map by cannot band it (why, in words).
+    #[error("{0}")]
+    MapTable(String),
     /// A stateless evaluation document's problems, pointers into it.
     #[error("the evaluation document has problems")]
     Evaluate(Problems),
@@ -334,13 +337,15 @@ pub fn area_maps(
 }
 
 /// The field map of the area `area_id` of an assessed site as SVG, within
-/// the pair budget.
+/// the pair budget, banded by the ratio to `band_table` (by default the
+/// first whole-body table that covers the map, else decades of µT).
 pub fn area_map_svg(
     site: &Site,
     assessment: &Assessment,
     load: &LoadCase,
     tables: &[ReferenceTable],
     area_id: &str,
+    band_table: Option<&str>,
     budget: &Budget,
 ) -> Result<String, UseCaseError> {
     let k = site
@@ -351,7 +356,11 @@ pub fn area_map_svg(
     let loads = resolve_load(site, load)?;
     check_map_budget(site, &[k], budget)?;
     let map = assess::try_area_map(site, &loads, tables, &site.areas()[k], budget.map_max_cells, &budget.cancel)?;
-    Ok(svg::area_map_svg(site, assessment, &map))
+    let banding = match band_table {
+        Some(id) => svg::banding_by(&map, id).map_err(UseCaseError::MapTable)?,
+        None => svg::banding(&map),
+    };
+    Ok(svg::area_map_svg_banded(site, assessment, &map, &banding))
 }
 
 /// An assessment's position results as CSV (RFC 4180).

@@ -16,15 +16,27 @@ fn typed(body: String, content_type: &'static str) -> Response {
     res
 }
 
+/// Which table bands a map.
+#[derive(Debug, serde::Deserialize, utoipa::IntoParams)]
+#[serde(deny_unknown_fields)]
+#[into_params(parameter_in = Query)]
+pub struct MapQuery {
+    /// Band the cells by the exposure ratio to this table: one of the
+    /// assessment's whole-body tables. Default: the first of them that
+    /// covers every frequency of the site, else decades of µT.
+    pub table: Option<String>,
+}
+
 /// Field map of one area as SVG (cells in fixed bands of the exposure
-/// ratio to the first table, or decades of µT without one; contours at each
+/// ratio to a table, or decades of µT without one; contours at each
 /// table's level and review fraction, conductors, positions, cautions).
 #[utoipa::path(get, path = "/v1/assessments/{assessment_id}/areas/{area_id}/map.svg", tag = "reports",
-    params(("assessment_id" = String, Path, description = "Assessment id"), ("area_id" = String, Path, description = "Area id in the site")),
+    params(("assessment_id" = String, Path, description = "Assessment id"), ("area_id" = String, Path, description = "Area id in the site"), MapQuery),
     responses(
         (status = 200, description = "SVG image", body = String, content_type = "image/svg+xml"),
+        (status = 400, description = "An unknown query parameter"),
         (status = 404, description = "No such assessment or area"),
-        (status = 422, description = "The map exceeds the compute budget (`budget-exceeded` at the area's `spacing_m` in the assessed site)"),
+        (status = 422, description = "The map exceeds the compute budget (`budget-exceeded` at the area's `spacing_m` in the assessed site), or `table` cannot band it (pointer `/table`)"),
     ),
     extensions(("x-computes" = json!(true))),
     security(("bearer" = [])))]
@@ -32,9 +44,11 @@ pub async fn reports_map(
     State(s): State<AppState>,
     Auth(caller): Auth,
     Path((id, area)): Path<(String, String)>,
+    uri: Uri,
 ) -> Result<Response, ApiError> {
     let id: AssessmentId = parse_id(&id, "assessment")?;
-    Ok(typed(s.service.reports_map_svg(&caller, &id, &area).await?, "image/svg+xml"))
+    let q: MapQuery = crate::http::extract::query_params(&uri)?;
+    Ok(typed(s.service.reports_map_svg(&caller, &id, &area, q.table).await?, "image/svg+xml"))
 }
 
 /// Position results as CSV: one row per position, height and table; units in the headers

@@ -48,6 +48,26 @@ pub fn banding(map: &AreaMap) -> Banding {
     }
 }
 
+/// The banding of `map` by the ratio to the table `table_id`, or why it
+/// cannot be: the table is not among the map's (whole-body tables of the
+/// assessment), or it does not cover every frequency at every node, so its
+/// ratio is not known everywhere.
+pub fn banding_by(map: &AreaMap, table_id: &str) -> Result<Banding, String> {
+    let Some(t) = map.tables.iter().position(|t| t.table_id == table_id) else {
+        let ids: Vec<&str> = map.tables.iter().map(|t| t.table_id.as_str()).collect();
+        return Err(format!(
+            "the map can be banded by a whole-body table of the assessment ({}); '{table_id}' is not one of them",
+            if ids.is_empty() { "it has none".to_string() } else { ids.join(", ") }
+        ));
+    };
+    if map.tables[t].ratio.iter().any(Option::is_none) {
+        return Err(format!(
+            "table '{table_id}' does not cover every frequency of the site, so its ratio is not known at every cell: choose another table"
+        ));
+    }
+    Ok(Banding { table: Some(t), edges: RATIO_BAND_EDGES })
+}
+
 impl Banding {
     /// Band of a value, 0 the lowest. A value on an edge belongs to the band
     /// above it, and a value that is not a number to the top band: where in
@@ -118,24 +138,30 @@ pub fn plan_to_px(map: &AreaMap, x: f64, y: f64) -> (f64, f64) {
     View::new(map).px(x, y)
 }
 
-/// The field map of `map` as an SVG document.
+/// The field map of `map` as an SVG document, banded by its first table
+/// that covers it ([`banding`]).
 pub fn area_map_svg(site: &Site, a: &Assessment, map: &AreaMap) -> String {
+    area_map_svg_banded(site, a, map, &banding(map))
+}
+
+/// The field map of `map` as an SVG document, its cells in the bands of
+/// `banding`.
+pub fn area_map_svg_banded(site: &Site, a: &Assessment, map: &AreaMap, banding: &Banding) -> String {
     let mut s = String::new();
     let v = View::new(map);
     // The page grows with a tall map; the space below holds the scale bar,
     // north arrow and cautions.
     let bottom = (MAP_Y + v.h_px).max(560.0);
-    let banding = banding(map);
     let footer = provenance_lines(a);
     open_document(&mut s, map, &v, bottom + FOOTER_TOP + FOOTER_LINE * footer.len() as f64 + 10.0);
     provenance_metadata(&mut s, a);
     title_block(&mut s, a, map);
-    cells(&mut s, map, &v, &banding);
+    cells(&mut s, map, &v, banding);
     area_outline(&mut s, map, &v);
     contours(&mut s, a, map, &v);
     conductors(&mut s, site, &v);
     positions(&mut s, site, a, &v);
-    legend(&mut s, a, map, &banding);
+    legend(&mut s, a, map, banding);
     scale_bar_and_north(&mut s, site, &v, bottom);
     cautions(&mut s, bottom);
     provenance_footer(&mut s, &footer, bottom);

@@ -47,7 +47,7 @@ fn every_use_case_whose_flag_is_set_before_it_starts_returns_cancelled() {
 
     let c = cancelled();
     assert_eq!(usecase::assess_site(&site, &load, &t, rf, &c).unwrap_err(), UseCaseError::Cancelled);
-    assert_eq!(usecase::area_map_svg(&site, &a, &load, &t, &area, &c).unwrap_err(), UseCaseError::Cancelled);
+    assert_eq!(usecase::area_map_svg(&site, &a, &load, &t, &area, None, &c).unwrap_err(), UseCaseError::Cancelled);
     assert_eq!(usecase::export_geojson(&site, &a, &load, &t, &c).unwrap_err(), UseCaseError::Cancelled);
     assert_eq!(usecase::analyse_survey(&survey, &t, rf, &c).unwrap_err(), UseCaseError::Cancelled);
     assert_eq!(usecase::evaluate_points(&req, &c).unwrap_err(), UseCaseError::Cancelled);
@@ -122,7 +122,7 @@ fn a_map_over_the_pairs_budget_is_refused_at_its_areas_spacing_before_any_field_
     let area = &site.areas()[0];
     let needed = usecase::map_pairs(&site, area, &Budget::offline());
     let budget = Budget { max_pairs: needed - 1, ..cancelled() };
-    let err = usecase::area_map_svg(&site, &a, &LoadCase::Present, &t, &area.id, &budget).unwrap_err();
+    let err = usecase::area_map_svg(&site, &a, &LoadCase::Present, &t, &area.id, None, &budget).unwrap_err();
     let UseCaseError::OverBudget(p) = err else { panic!("{err:?}") };
     assert_eq!(p.0[0].pointer, "/areas/0/spacing_m");
     assert!(p.0[0].detail.contains(&format!("{needed} segment-point pairs")), "{}", p.0[0].detail);
@@ -130,7 +130,7 @@ fn a_map_over_the_pairs_budget_is_refused_at_its_areas_spacing_before_any_field_
     assert!(matches!(err, UseCaseError::OverBudget(_)), "{err:?}");
     // The budget check comes first: the flag (set) is never reached.
     let budget = Budget { max_pairs: needed, ..cancelled() };
-    let err = usecase::area_map_svg(&site, &a, &LoadCase::Present, &t, &area.id, &budget).unwrap_err();
+    let err = usecase::area_map_svg(&site, &a, &LoadCase::Present, &t, &area.id, None, &budget).unwrap_err();
     assert_eq!(err, UseCaseError::Cancelled);
 }
 

@@ -66,9 +66,9 @@ fn a_map_of_an_area_the_site_does_not_have_is_a_typed_error_naming_it() {
     let site = site_with_area(1.0);
     let t = tables(&["eu-2013-35-low"]);
     let a = usecase::assess_site(&site, &LoadCase::Present, &t, ReviewFraction::DEFAULT, &Budget::offline()).unwrap();
-    let err = usecase::area_map_svg(&site, &a, &LoadCase::Present, &t, "roof", &Budget::offline()).unwrap_err();
+    let err = usecase::area_map_svg(&site, &a, &LoadCase::Present, &t, "roof", None, &Budget::offline()).unwrap_err();
     assert_eq!(err, UseCaseError::UnknownArea("roof".into()));
-    let svg = usecase::area_map_svg(&site, &a, &LoadCase::Present, &t, "floor", &Budget::offline()).unwrap();
+    let svg = usecase::area_map_svg(&site, &a, &LoadCase::Present, &t, "floor", None, &Budget::offline()).unwrap();
     assert!(svg.starts_with("<svg"));
 }
 

@@ -252,6 +252,23 @@ fn without_a_table_the_map_is_banded_in_decades_of_micro_tesla() {
 }
 
 #[test]
+fn a_map_can_be_banded_by_any_of_its_tables_and_says_why_not_by_another() {
+    // ICNIRP 2010 occupational 1000 µT, 2013/35/EU high action level
+    // 6000 µT at 50 Hz: at r = 0.3 m (B = 3333 µT) the ratios are 3.33 and
+    // 0.56, so the two bandings put the node in the top band and in 0.5–1.
+    let site = vertical_wire_site(5000.0, 2.0, 0.1);
+    let (map, result) = map_and_result(&site, &["icnirp-2010-occupational", "eu-2013-35-high"]);
+    let by_high = svg::banding_by(&map, "eu-2013-35-high").unwrap();
+    assert_eq!(by_high.table, Some(1));
+    assert_eq!(svg::banding(&map).band(3.33), 5);
+    assert_eq!(by_high.band(3333.0 / 6000.0), 3);
+    let text = svg::area_map_svg_banded(&site, &result, &map, &by_high);
+    assert!(text.contains("Exposure ratio to T2") && text.contains("(3000 – 6000 µT)"), "legend in T2's µT");
+    let err = svg::banding_by(&map, "ieee-c95-1-2019-public").unwrap_err();
+    assert!(err.contains("icnirp-2010-occupational, eu-2013-35-high"), "{err}");
+}
+
+#[test]
 fn a_value_on_a_band_edge_or_not_a_number_goes_to_the_higher_band() {
     let site = vertical_wire_site(5000.0, 2.0, 0.25);
     let (map, _) = map_and_result(&site, &["icnirp-2010-occupational"]);
