@@ -5,6 +5,7 @@ pub mod contour;
 pub mod csv;
 pub mod geo;
 pub mod geojson;
+pub mod labels;
 pub mod palette;
 pub mod svg;
 pub mod text;

@@ -6,6 +6,7 @@
 //! not colour, tell the contours apart, so a grey printout still reads.
 
 use super::contour;
+use super::labels;
 use super::palette;
 use crate::assess::{AreaMap, Assessment};
 use crate::cautions::CAUTIONS;
@@ -160,7 +161,8 @@ pub fn area_map_svg_banded(site: &Site, a: &Assessment, map: &AreaMap, banding: 
     area_outline(&mut s, map, &v);
     contours(&mut s, a, map, &v);
     conductors(&mut s, site, &v);
-    positions(&mut s, site, a, &v);
+    positions(&mut s, site, &v);
+    draw_labels(&mut s, &labels_of(site, a, map), &v);
     legend(&mut s, a, map, banding);
     scale_bar_and_north(&mut s, site, &v, bottom);
     cautions(&mut s, bottom);
@@ -325,15 +327,14 @@ fn contour_level(s: &mut String, map: &AreaMap, v: &View, ratio: &[f64], level_u
     }
 }
 
-/// Conductors in plan with their ids, clipped to the frame; one seen end-on
-/// (under 2 px long in plan) is a small square.
+/// Conductors in plan, clipped to the frame; one seen end-on (under 2 px
+/// long in plan) is a small square. Labels are placed by [`labels_of`].
 fn conductors(s: &mut String, site: &Site, v: &View) {
     let _ = writeln!(s, r#"<g clip-path="url(#frame)">"#);
     // A bar once, along its axis.
     for c in crate::site::bar::drawn(site.conductors()) {
         let pts: Vec<(f64, f64)> = c.path.iter().map(|p| v.px(p.x, p.y)).collect();
-        let len: f64 = pts.windows(2).map(|w| ((w[1].0 - w[0].0).powi(2) + (w[1].1 - w[0].1).powi(2)).sqrt()).sum();
-        if len < 2.0 {
+        if end_on(&pts) {
             let (x, y) = pts[0];
             let _ =
                 writeln!(s, r##"<rect x="{:.1}" y="{:.1}" width="5" height="5" fill="#000000"/>"##, x - 2.5, y - 2.5);
@@ -345,41 +346,156 @@ fn conductors(s: &mut String, site: &Site, v: &View) {
                 text.join(" ")
             );
         }
-        let (x, y) = pts[pts.len() / 2];
-        let _ = writeln!(
-            s,
-            r##"<text x="{:.1}" y="{:.1}" font-size="9" fill="#000000" stroke="#ffffff" stroke-width="2.5" paint-order="stroke">{}</text>"##,
-            x + 3.0,
-            y - 3.0,
-            esc(&c.id)
-        );
     }
     let _ = writeln!(s, "</g>");
 }
 
-/// Positions inside the frame, each with its verdict.
-fn positions(s: &mut String, site: &Site, a: &Assessment, v: &View) {
-    for (q, r) in site.positions().iter().zip(&a.positions) {
-        let (x, y) = match &q.placement {
-            crate::site::Placement::Standing { x_m, y_m, .. } => (*x_m, *y_m),
-            crate::site::Placement::Point(p) => (p.x, p.y),
-        };
+/// True if a conductor's drawn path is under 2 px long (seen end-on).
+fn end_on(pts: &[(f64, f64)]) -> bool {
+    pts.windows(2).map(|w| (w[1].0 - w[0].0).hypot(w[1].1 - w[0].1)).sum::<f64>() < 2.0
+}
+
+/// The plan point of a position (its standing spot or its point).
+fn position_xy(q: &crate::site::Position) -> (f64, f64) {
+    match &q.placement {
+        crate::site::Placement::Standing { x_m, y_m, .. } => (*x_m, *y_m),
+        crate::site::Placement::Point(p) => (p.x, p.y),
+    }
+}
+
+/// The frame of the plan of `map` in the SVG, px: labels stay inside it.
+pub fn frame_px(map: &AreaMap) -> labels::Rect {
+    frame(&View::new(map))
+}
+
+/// The frame of the plan, px.
+fn frame(v: &View) -> labels::Rect {
+    labels::Rect { x: MAP_X, y: MAP_Y, w: v.w_px, h: v.h_px }
+}
+
+/// Positions inside the frame, as markers (their labels are placed by
+/// [`labels_of`]).
+fn positions(s: &mut String, site: &Site, v: &View) {
+    let f = frame(v);
+    for q in site.positions() {
+        let (x, y) = position_xy(q);
         let (px, py) = v.px(x, y);
-        if !(MAP_X..=MAP_X + v.w_px).contains(&px) || !(MAP_Y..=MAP_Y + v.h_px).contains(&py) {
+        if labels::Rect::around((px, py), 0.0).inside(&f) {
+            let _ = writeln!(
+                s,
+                r##"<circle cx="{px:.1}" cy="{py:.1}" r="5" fill="#ffffff" stroke="#000000" stroke-width="2"/>"##
+            );
+        }
+    }
+}
+
+/// Labels of the map: each position inside the frame with its verdict
+/// (first, they matter most), then the conductors, those whose label
+/// points lie within 10 px of each other (a bundle, a bar's phases seen
+/// end-on) as one group listing its members; all placed inside the frame,
+/// off each other and off the position markers (see [`labels`]).
+pub fn labels_of(site: &Site, a: &Assessment, map: &AreaMap) -> Vec<labels::Placed> {
+    let v = View::new(map);
+    let f = frame(&v);
+    let mut requests = Vec::new();
+    let mut obstacles = Vec::new();
+    for (q, r) in site.positions().iter().zip(&a.positions) {
+        let (x, y) = position_xy(q);
+        let anchor = v.px(x, y);
+        if !labels::Rect::around(anchor, 0.0).inside(&f) {
             continue;
         }
-        let verdict = r.verdict.word();
-        let _ = writeln!(
+        obstacles.push(labels::Rect::around(anchor, 6.5));
+        let line = format!("{}: {}", q.id, r.verdict.word());
+        requests.push(labels::Request { lines: vec![line], size: 11.0, bold: true, anchor });
+    }
+    // Conductors: the label point is the middle of the drawn path's part
+    // inside the frame (sampled), so a conductor crossing the frame is
+    // named where it is seen.
+    // A conductor joins the group with a member within 10 px (single
+    // linkage); the group is labelled at its first member's point.
+    struct Group {
+        anchor: (f64, f64),
+        members: Vec<(f64, f64)>,
+        ids: Vec<String>,
+    }
+    let mut groups: Vec<Group> = Vec::new();
+    for c in crate::site::bar::drawn(site.conductors()) {
+        let pts: Vec<(f64, f64)> = c.path.iter().map(|p| v.px(p.x, p.y)).collect();
+        let mut seen: Vec<(f64, f64)> = Vec::new();
+        for w in pts.windows(2) {
+            for k in 0..=32 {
+                let t = f64::from(k) / 32.0;
+                let p = (w[0].0 + t * (w[1].0 - w[0].0), w[0].1 + t * (w[1].1 - w[0].1));
+                if labels::Rect::around(p, 0.0).inside(&f) {
+                    seen.push(p);
+                }
+            }
+        }
+        if pts.len() == 1 && labels::Rect::around(pts[0], 0.0).inside(&f) {
+            seen.push(pts[0]);
+        }
+        let Some(&anchor) = seen.get(seen.len() / 2) else { continue };
+        if end_on(&pts) {
+            obstacles.push(labels::Rect::around(anchor, 3.0));
+        }
+        let near = |m: &(f64, f64)| (m.0 - anchor.0).hypot(m.1 - anchor.1) <= 10.0;
+        match groups.iter_mut().find(|g| g.members.iter().any(near)) {
+            Some(g) => {
+                g.members.push(anchor);
+                g.ids.push(c.id.clone());
+            }
+            None => groups.push(Group { anchor, members: vec![anchor], ids: vec![c.id.clone()] }),
+        }
+    }
+    for g in groups {
+        let ids: Vec<&str> = g.ids.iter().map(String::as_str).collect();
+        requests.push(labels::Request { lines: labels::wrap_list(&ids, 28), size: 9.0, bold: false, anchor: g.anchor });
+    }
+    labels::place(&requests, f, &obstacles)
+}
+
+/// Draws placed labels (white halo, leader lines where moved away), and
+/// lists under the frame those that found no room.
+fn draw_labels(s: &mut String, placed: &[labels::Placed], v: &View) {
+    let mut unplaced = Vec::new();
+    for p in placed {
+        let r = &p.request;
+        let Some(b) = p.rect else {
+            unplaced.push(r.lines.join(" "));
+            continue;
+        };
+        if p.leader {
+            let cx = r.anchor.0.clamp(b.x, b.x + b.w);
+            let cy = r.anchor.1.clamp(b.y, b.y + b.h);
+            let _ = writeln!(
+                s,
+                r##"<line x1="{:.1}" y1="{:.1}" x2="{cx:.1}" y2="{cy:.1}" stroke="#555555" stroke-width="0.8"/>"##,
+                r.anchor.0, r.anchor.1
+            );
+        }
+        let weight = if r.bold { r#" font-weight="bold""# } else { "" };
+        let _ = write!(
             s,
-            r##"<circle cx="{px:.1}" cy="{py:.1}" r="5" fill="#ffffff" stroke="#000000" stroke-width="2"/>"##
+            r##"<text x="{:.1}" y="{:.1}" font-size="{}"{weight} fill="#000000" stroke="#ffffff" stroke-width="2.5" paint-order="stroke">"##,
+            b.x + 1.0,
+            b.y,
+            r.size
         );
+        let line_h = labels::LINE_EM * r.size;
+        for (i, line) in r.lines.iter().enumerate() {
+            // Baseline at 0.9 of each line's box.
+            let dy = if i == 0 { 0.9 * line_h } else { line_h };
+            let _ = write!(s, r#"<tspan x="{:.1}" dy="{dy:.1}">{}</tspan>"#, b.x + 1.0, esc(line));
+        }
+        let _ = writeln!(s, "</text>");
+    }
+    if !unplaced.is_empty() {
         let _ = writeln!(
             s,
-            r##"<text x="{:.1}" y="{:.1}" font-size="11" font-weight="bold" stroke="#ffffff" stroke-width="3" paint-order="stroke">{}: {}</text>"##,
-            px + 8.0,
-            py + 4.0,
-            esc(&q.id),
-            esc(verdict)
+            r#"<text x="{MAP_X}" y="{:.1}" font-size="10">Not labelled on the plan for lack of room: {}</text>"#,
+            MAP_Y + v.h_px + 14.0,
+            esc(&unplaced.join("; "))
         );
     }
 }
