@@ -97,22 +97,7 @@ pub fn place(requests: &[Request], frame: Rect, obstacles: &[Rect]) -> Vec<Place
                 let (dx, dy) = (radius * angle.cos(), -radius * angle.sin());
                 // The box on the side of the offset: to the right of a point
                 // right of the anchor, above a point above it, and so on.
-                let x = r.anchor.0 + dx
-                    - if dx < -0.5 {
-                        w
-                    } else if dx > 0.5 {
-                        0.0
-                    } else {
-                        w / 2.0
-                    };
-                let y = r.anchor.1 + dy
-                    - if dy < -0.5 {
-                        h
-                    } else if dy > 0.5 {
-                        0.0
-                    } else {
-                        h / 2.0
-                    };
+                let (x, y) = (r.anchor.0 + dx - lead(dx, w), r.anchor.1 + dy - lead(dy, h));
                 let b = Rect { x, y, w, h };
                 if free(&b, &taken) {
                     chosen = Some(b);
@@ -153,6 +138,19 @@ pub fn place(requests: &[Request], frame: Rect, obstacles: &[Rect]) -> Vec<Place
         out.push(Placed { request: r.clone(), rect: chosen, leader });
     }
     out
+}
+
+/// How far a box of `extent` starts before its offset `d` from the anchor:
+/// all of it on the negative side, none on the positive, half when the
+/// offset is (nearly) zero.
+fn lead(d: f64, extent: f64) -> f64 {
+    if d < -0.5 {
+        extent
+    } else if d > 0.5 {
+        0.0
+    } else {
+        extent / 2.0
+    }
 }
 
 /// Splits `ids` joined by ", " into lines of at most `width` characters
