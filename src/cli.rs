@@ -1398,16 +1398,9 @@ fn read_input_bytes(path: &Path) -> Result<Vec<u8>, CliError> {
 }
 
 fn read_input(path: &Path) -> Result<String, CliError> {
-    let name = path.display().to_string();
-    let err = |source| CliError::Read { path: name.clone(), source };
-    let mut text = String::new();
-    if path == Path::new("-") {
-        std::io::stdin().take(MAX_INPUT_BYTES + 1).read_to_string(&mut text).map_err(err)?;
-    } else {
-        std::fs::File::open(path).and_then(|f| f.take(MAX_INPUT_BYTES + 1).read_to_string(&mut text)).map_err(err)?;
-    }
-    if text.len() as u64 > MAX_INPUT_BYTES {
-        return Err(err(std::io::Error::other("input is larger than 256 MiB")));
-    }
-    Ok(text)
+    let bytes = read_input_bytes(path)?;
+    String::from_utf8(bytes).map_err(|e| CliError::Read {
+        path: path.display().to_string(),
+        source: std::io::Error::new(std::io::ErrorKind::InvalidData, e.utf8_error()),
+    })
 }

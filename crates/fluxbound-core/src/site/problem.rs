@@ -83,25 +83,13 @@ impl Pointer {
         let cut = self.0.rfind('/').unwrap_or(0);
         Pointer(self.0[..cut].to_string()).key(key)
     }
-    /// Appends an array index (one allocation of the exact size).
+    /// Appends an array index (one allocation, sized for any index).
     pub fn index(&self, i: usize) -> Self {
-        let mut digits = [0u8; 20];
-        let mut n = digits.len();
-        let mut v = i;
-        loop {
-            n -= 1;
-            digits[n] = b'0' + (v % 10) as u8;
-            v /= 10;
-            if v == 0 {
-                break;
-            }
-        }
-        let mut out = String::with_capacity(self.0.len() + 1 + digits.len() - n);
+        use std::fmt::Write;
+        let mut out = String::with_capacity(self.0.len() + 21);
         out.push_str(&self.0);
-        out.push('/');
-        for &d in &digits[n..] {
-            out.push(char::from(d));
-        }
+        // Writing to a String cannot fail.
+        let _ = write!(out, "/{i}");
         Pointer(out)
     }
 }
